@@ -1,0 +1,1 @@
+"""case layer (see package docstring)."""

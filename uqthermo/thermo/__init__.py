@@ -1,0 +1,1 @@
+"""thermo layer (see package docstring)."""

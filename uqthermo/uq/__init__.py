@@ -1,0 +1,1 @@
+"""uq layer (see package docstring)."""
