@@ -80,19 +80,24 @@ class Phase:
         Standard molar enthalpy of formation at ``T_ref``, J/mol.
     standard_entropy : float or None
         Standard molar entropy at ``T_ref``, J/(mol K).
+    nasa_anchor : bool
+        If True (default) a NASA-7 phase without a formation enthalpy (standard entropy)
+        anchors itself with its a6 (a7) constants; set False to route it from another
+        phase through the transitions instead.
     """
 
     symbol: str
     cp: CpModel | None = None
     formation_enthalpy: float | None = None
     standard_entropy: float | None = None
+    nasa_anchor: bool = True
 
     def anchor(self, quantity: str = "enthalpy") -> str | None:
         """How this phase is anchored: ``"formation"`` (given value), ``"nasa7"`` (a6/a7) or None."""
         given = self.formation_enthalpy if quantity == "enthalpy" else self.standard_entropy
         if given is not None:
             return "formation"
-        if isinstance(self.cp, Nasa7Cp):
+        if self.nasa_anchor and isinstance(self.cp, Nasa7Cp):
             return "nasa7"
         return None
 
