@@ -212,10 +212,18 @@ def _coef_value(text: str) -> float:
     return float(text)
 
 
-def _split_side(side: str) -> list[str]:
-    if re.search(r"\s\+\s", side):
-        return re.split(r"\s+\+\s+", side.strip())
-    return side.split("+")
+# a '+' that is a charge sign, not a separator: followed by '(' (state), another '+', the end,
+# or digits then '(' / end ("Fe+3(aq)")
+_SEP_PLUS_RE = re.compile(r"\+(?!\s*$)(?!\(|\+|\d+(?:\.\d+)?\s*(?:\(|$))")
+
+
+def _split_side(side: str, equation: str) -> list[str]:
+    s = side.strip()
+    if re.search(r"(^|\s)\+$", s) or re.match(r"^\+(\s|$)", s):
+        raise PhysicsError(f"equation '{equation}': empty term (check the '+' signs)")
+    if re.search(r"\s\+\s", s):
+        return re.split(r"\s+\+\s+", s)
+    return _SEP_PLUS_RE.split(s)
 
 
 def _parse_term(term: str, equation: str) -> tuple[float, str, str | None]:
@@ -268,7 +276,7 @@ def parse_equation(text: str) -> list[Participant]:
     for side, sign in ((left, -1.0), (right, 1.0)):
         if not side.strip():
             raise PhysicsError(f"equation '{text}' has an empty {'left' if sign < 0 else 'right'} side")
-        for term in _split_side(side):
+        for term in _split_side(side, text):
             coef, name, phase = _parse_term(term, text)
             out.append(Participant(sign * coef, name, phase))
     return out
