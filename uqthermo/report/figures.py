@@ -1,0 +1,540 @@
+"""Figures of the report (matplotlib, Agg backend), drawn from the results dict alone.
+
+Figures, each written as ``NAME.png`` and ``NAME.svg``:
+
+* ``distribution-<output>`` — the Monte Carlo histogram (``monte_carlo.histogram``) of
+  the headline point, the coverage interval shaded, the linear (GUM) approximation
+  overlaid as a normal or scaled-and-shifted t density (GUM G.6.2), and the limit
+  when the output has one;
+* ``curve-<output>`` — for outputs with more than one point: estimate against
+  temperature with the Monte Carlo coverage band and the linear interval, phase
+  changes marked as labelled vertical lines; a lower panel shows u(y) for both methods;
+* ``drivers-<output>`` — horizontal bars of the variance shares of the headline point
+  with their confidence intervals (``share_ci``) and the net correlation part;
+* ``convergence`` — u(y) against the number of Monte Carlo trials, one panel per
+  output in ``results["convergence"]``, with the final value ± the validation tolerance;
+* ``plan-front`` — the planner's cost–uncertainty front (see :mod:`uqthermo.report`
+  for the ``plan`` section's shape).
+
+All user text reaching matplotlib goes through :func:`~uqthermo.report.style.mpl_text`.
+"""
+
+from __future__ import annotations
+
+import io
+import math
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from . import style
+from .style import ROLE, mpl_text
+from .tables import (
+    coverage_probability, fmt_fixed, fmt_probability, fmt_temperature, headline_index, kind_symbol,
+    limit_on_output, num, outputs, pair, pct_label, points, slugs, text, uncertainty_decimals,
+)
+
+import matplotlib.pyplot as plt  # noqa: E402  (style sets the Agg backend first)
+from matplotlib.figure import Figure  # noqa: E402
+
+
+@dataclass
+class FigureSpec:
+    """A figure to draw: ``draw()`` returns a matplotlib Figure."""
+
+    name: str
+    section: str          # "output" | "convergence" | "plan"
+    output_index: int | None
+    title: str            # plain text (escaped by the templates)
+    caption: str          # plain text (escaped by the templates)
+    draw: Callable[[], Figure]
+
+
+@dataclass
+class RenderedFigure:
+    name: str
+    section: str
+    output_index: int | None
+    title: str
+    caption: str
+    png: bytes
+    svg: bytes
+
+
+SYMBOLS = {
+    "reaction_enthalpy": r"$\Delta_\mathrm{r}H$",
+    "heating_enthalpy": r"$\Delta H$",
+    "heat_release": r"$\dot{Q}$",
+    "adiabatic_temperature_rise": r"$\Delta T_\mathrm{ad}$",
+    "reaction_gibbs_energy": r"$\Delta_\mathrm{r}G$",
+    "equilibrium_constant": r"$K$",
+}
+
+
+def _sym(kind) -> str:
+    return SYMBOLS.get(kind or "", "$y$")
+
+
+def _titles(fig: Figure, main: str, sub: str | None = None) -> None:
+    """Figure title at the top left (already-escaped text), optional grey subtitle."""
+    import textwrap
+
+    main = "\n".join(textwrap.wrap(main, 90)) or main
+    if sub:
+        fig.suptitle(main + "\n", x=0.008, ha="left", fontsize=10.5, fontweight="bold", color=style.INK, linespacing=1.5)
+        fig.text(0.008, 1.0, "\n" + sub, ha="left", va="top", fontsize=8.5, color=style.GREY,
+                 transform=fig.transFigure, linespacing=2.1)
+    else:
+        fig.suptitle(main, x=0.008, ha="left", fontsize=10.5, fontweight="bold", color=style.INK)
+
+
+def _axis_label(symbol: str, unit: str) -> str:
+    unit = mpl_text(unit or "1")
+    if unit == "1":
+        return symbol
+    if "/" in unit or " " in unit:
+        return f"{symbol} / ({unit})"
+    return f"{symbol} / {unit}"
+
+
+def _nu(lin: Mapping) -> float:
+    v = lin.get("effective_dof")
+    if isinstance(v, str):
+        return math.inf
+    v = num(v)
+    return math.inf if v is None or v > 1e6 else v
+
+
+# ---------------------------------------------------------------------------
+# (1) output distribution
+# ---------------------------------------------------------------------------
+
+def _draw_distribution(results: Mapping, output: Mapping, point: Mapping) -> Figure:
+    from scipy import stats
+
+    mc = point.get("monte_carlo") or {}
+    lin = point.get("linear") or {}
+    hist = mc.get("histogram") or {}
+    edges = np.asarray(hist.get("edges") or [], dtype=float)
+    counts = np.asarray(hist.get("counts") or [], dtype=float)
+    unit = text(output.get("unit"))
+    p_cov = coverage_probability(results, point)
+    u = num(mc.get("standard_uncertainty")) or num(lin.get("standard_uncertainty"))
+    dec = uncertainty_decimals(u)
+
+    fig, ax = plt.subplots(figsize=(style.FIG_WIDTH_IN, 3.5), layout="constrained")
+    lo_x, hi_x = (edges[0], edges[-1]) if edges.size else (None, None)
+    if edges.size >= 2 and counts.size == edges.size - 1 and counts.sum() > 0:
+        widths = np.diff(edges)
+        dens = counts / (counts.sum() * widths)
+        ax.stairs(dens, edges, fill=True, color="#DCE9F4", label=f"Monte Carlo, N = {int(num(mc.get('samples')) or counts.sum())}")
+        lo, hi = pair(mc.get("coverage_interval"))
+        if lo is not None and hi is not None:
+            ax.stairs(dens, np.clip(edges, lo, hi), fill=True, color=ROLE["mc_band"])
+        lim = limit_on_output(output, point)
+        if lim is not None and lim < edges[-1]:
+            ax.stairs(dens, np.clip(edges, lim, edges[-1]), fill=True, color=ROLE["limit"], alpha=0.45, hatch="////",
+                      label="exceeds the limit")
+        ax.stairs(dens, edges, color=ROLE["mc"], linewidth=0.9)
+        ymax = dens.max()
+    else:
+        ymax = 1.0
+    lo, hi = pair(mc.get("coverage_interval"))
+    if lo is not None and hi is not None:
+        for x in (lo, hi):
+            ax.axvline(x, color=ROLE["mc"], linewidth=1.2, linestyle="-")
+        ax.plot([], [], color=ROLE["mc"], linewidth=1.2,
+                label=f"{pct_label(p_cov)} interval (MC) [{fmt_fixed(lo, dec)}, {fmt_fixed(hi, dec)}]")
+    y_lin, u_lin = num(lin.get("estimate")), num(lin.get("standard_uncertainty"))
+    if y_lin is not None and u_lin and u_lin > 0:
+        nu = _nu(lin)
+        a = lo_x if lo_x is not None else y_lin - 5 * u_lin
+        b = hi_x if hi_x is not None else y_lin + 5 * u_lin
+        xs = np.linspace(min(a, y_lin - 4.5 * u_lin), max(b, y_lin + 4.5 * u_lin), 600)
+        if math.isfinite(nu) and nu > 0:
+            pdf = stats.t.pdf((xs - y_lin) / u_lin, nu) / u_lin
+            lab = rf"linear (GUM): scaled $t$, $\nu_\mathrm{{eff}}$ = {int(round(nu))}"
+        else:
+            pdf = stats.norm.pdf(xs, y_lin, u_lin)
+            lab = "linear (GUM): normal"
+        ax.plot(xs, pdf, color=ROLE["linear"], linewidth=1.6, linestyle="--", label=lab)
+        ymax = max(ymax, pdf.max())
+        llo, lhi = pair(lin.get("coverage_interval"))
+        if llo is not None and lhi is not None:
+            for x in (llo, lhi):
+                ax.axvline(x, color=ROLE["linear"], linewidth=1.0, linestyle=":")
+            ax.plot([], [], color=ROLE["linear"], linewidth=1.0, linestyle=":",
+                    label=f"{pct_label(p_cov)} interval (linear) [{fmt_fixed(llo, dec)}, {fmt_fixed(lhi, dec)}]")
+        if lo_x is None:
+            lo_x, hi_x = xs[0], xs[-1]
+    lim = limit_on_output(output, point)
+    if lim is not None:
+        ax.axvline(lim, color=ROLE["limit"], linewidth=1.8, linestyle="-.")
+        pe = point.get("exceedance_probability")
+        lab = f"limit {fmt_temperature(output.get('limit_K'))} K"
+        if output.get("kind") == "adiabatic_temperature_rise" and output.get("limit_applies_to", "final_temperature") != "rise":
+            lab += " (final T)"
+        if pe is not None:
+            lab += f": P(exceed) = {fmt_probability(pe, point.get('exceedance_standard_error'))}"
+        ax.plot([], [], color=ROLE["limit"], linewidth=1.8, linestyle="-.", label=mpl_text(lab))
+        if lo_x is not None:
+            span = hi_x - lo_x
+            lo_x, hi_x = min(lo_x, lim - 0.03 * span), max(hi_x, lim + 0.03 * span)
+    if lo_x is not None:
+        ax.set_xlim(lo_x, hi_x)
+    ax.set_ylim(0, ymax * 1.32)
+    ax.set_xlabel(_axis_label(_sym(output.get("kind")), unit))
+    ax.set_ylabel("probability density")
+    _titles(fig, f"{mpl_text(text(output.get('name')))}: output distribution at T = {fmt_temperature(point.get('temperature_K'))} K")
+    ax.legend(loc="upper left", ncols=2, fontsize=8)
+    ax.grid(axis="x", visible=False)
+    return fig
+
+
+# ---------------------------------------------------------------------------
+# (2) curve outputs
+# ---------------------------------------------------------------------------
+
+def _draw_curve(results: Mapping, output: Mapping) -> Figure:
+    pts = sorted(points(output), key=lambda p: num(p.get("temperature_K")) or 0.0)
+    T = np.array([num(p.get("temperature_K")) or np.nan for p in pts])
+
+    def arr(getter):
+        return np.array([v if (v := getter(p)) is not None else np.nan for p in pts], dtype=float)
+
+    mc_y = arr(lambda p: num((p.get("monte_carlo") or {}).get("mean")))
+    mc_u = arr(lambda p: num((p.get("monte_carlo") or {}).get("standard_uncertainty")))
+    mc_lo = arr(lambda p: pair((p.get("monte_carlo") or {}).get("coverage_interval"))[0])
+    mc_hi = arr(lambda p: pair((p.get("monte_carlo") or {}).get("coverage_interval"))[1])
+    li_y = arr(lambda p: num((p.get("linear") or {}).get("estimate")))
+    li_u = arr(lambda p: num((p.get("linear") or {}).get("standard_uncertainty")))
+    li_lo = arr(lambda p: pair((p.get("linear") or {}).get("coverage_interval"))[0])
+    li_hi = arr(lambda p: pair((p.get("linear") or {}).get("coverage_interval"))[1])
+    not_valid = np.array([p.get("linear_validated") is False for p in pts])
+    p_cov = coverage_probability(results)
+    unit = text(output.get("unit"))
+
+    fig, (ax, axu) = plt.subplots(2, 1, figsize=(style.FIG_WIDTH_IN, 5.0), sharex=True,
+                                  gridspec_kw={"height_ratios": [2.3, 1]}, layout="constrained")
+    have_mc = np.isfinite(mc_y).any()
+    y_main = mc_y if have_mc else li_y
+    if np.isfinite(mc_lo).any():
+        ax.fill_between(T, mc_lo, mc_hi, color=ROLE["mc_band"], alpha=0.75, linewidth=0,
+                        label=f"{pct_label(p_cov)} coverage band (Monte Carlo)")
+    if np.isfinite(li_lo).any():
+        ax.plot(T, li_lo, color=ROLE["linear"], linestyle="--", linewidth=1.2, label=f"{pct_label(p_cov)} interval (linear)")
+        ax.plot(T, li_hi, color=ROLE["linear"], linestyle="--", linewidth=1.2)
+    ax.plot(T, y_main, color=ROLE["mc"], marker="o", markersize=3.8, linewidth=1.8,
+            label="estimate (Monte Carlo mean)" if have_mc else "estimate (linear)")
+    if not_valid.any():
+        ax.plot(T[not_valid], y_main[not_valid], linestyle="none", marker="o", markersize=9, markerfacecolor="none",
+                markeredgecolor=ROLE["linear"], markeredgewidth=1.3, label="linear method not validated")
+    if np.isfinite(mc_u).any():
+        axu.plot(T, mc_u, color=ROLE["mc"], marker="o", markersize=3.5, label="Monte Carlo")
+    if np.isfinite(li_u).any():
+        axu.plot(T, li_u, color=ROLE["linear"], linestyle="--", marker="s", markersize=3, markerfacecolor="white", label="linear (GUM)")
+
+    # phase changes: dashed lines; labels in the headroom, close ones merged
+    pcs = sorted([pc for pc in output.get("phase_changes") or [] if num(pc.get("temperature_K")) is not None],
+                 key=lambda pc: num(pc["temperature_K"]))
+    if pcs:
+        span = (np.nanmax(T) - np.nanmin(T)) or 1.0
+        groups: list[list[dict]] = []
+        for pc in pcs:
+            if groups and num(pc["temperature_K"]) - num(groups[-1][-1]["temperature_K"]) < 0.08 * span:
+                groups[-1].append(pc)
+            else:
+                groups.append([pc])
+        for gi, grp in enumerate(groups):
+            lines = []
+            for pc in grp:
+                tp = num(pc["temperature_K"])
+                for a in (ax, axu):
+                    a.axvline(tp, color=ROLE["phase"], linewidth=1.0, linestyle=(0, (4, 2)), zorder=1)
+                tr = text(pc.get("transition")).replace("-", " → ")
+                lines.append(mpl_text(f"{text(pc.get('species'))} {tr} at {fmt_temperature(tp)} K"))
+            t0 = num(grp[-1]["temperature_K"])
+            right_room = (np.nanmax(T) - t0) > 0.3 * span
+            ax.annotate("\n".join(lines), xy=(t0, 0.985), xycoords=("data", "axes fraction"),
+                        xytext=(5 if right_room else -5, 0), textcoords="offset points", va="top",
+                        ha="left" if right_room else "right", fontsize=7.8, color="#00684A",
+                        bbox=dict(boxstyle="round,pad=0.25", facecolor="white", edgecolor="none", alpha=0.9))
+        ax.plot([], [], color=ROLE["phase"], linewidth=1.0, linestyle=(0, (4, 2)), label="phase change")
+
+    sym = _sym(output.get("kind"))
+    ax.set_ylabel(_axis_label(sym, unit))
+    axu.set_ylabel(_axis_label("$u$", unit))
+    axu.set_xlabel("$T$ / K")
+    _titles(fig, f"{mpl_text(text(output.get('name')))}: {sym} against temperature")
+    ax.legend(loc="lower left", fontsize=8, ncols=2)
+    axu.legend(loc="upper left", fontsize=8, ncols=2)
+    allv = np.r_[mc_lo, li_lo, y_main, mc_hi, li_hi]
+    lo = np.nanmin(allv) if np.isfinite(allv).any() else 0.0
+    hi = np.nanmax(allv) if np.isfinite(allv).any() else 1.0
+    pad = (hi - lo) or 1.0
+    ax.set_ylim(lo - 0.42 * pad, hi + (0.30 if pcs else 0.08) * pad)
+    umax = np.nanmax(np.r_[mc_u, li_u]) if np.isfinite(np.r_[mc_u, li_u]).any() else 1
+    axu.set_ylim(0, umax * 1.45)
+    return fig
+
+
+# ---------------------------------------------------------------------------
+# (3) driver shares
+# ---------------------------------------------------------------------------
+
+MAX_BARS = 10
+
+
+def _draw_drivers(output: Mapping, point: Mapping) -> Figure:
+    drivers = [d for d in point.get("drivers") or [] if num(d.get("share")) is not None]
+    shown = drivers[:MAX_BARS]
+    rest = drivers[MAX_BARS:]
+    labels = [mpl_text(text(d.get("datum"))) for d in shown]
+    vals = [100 * num(d["share"]) for d in shown]
+    los, his = [], []
+    for d, v in zip(shown, vals):
+        lo, hi = pair(d.get("share_ci"))
+        los.append(v - 100 * lo if lo is not None else np.nan)
+        his.append(100 * hi - v if hi is not None else np.nan)
+    colors = [ROLE["driver"]] * len(shown)
+    hatches = [""] * len(shown)
+    if rest:
+        labels.append(f"{len(rest)} other data")
+        vals.append(100 * sum(num(d["share"]) for d in rest))
+        los.append(np.nan); his.append(np.nan)
+        colors.append(style.GREY); hatches.append("")
+    cs = num(point.get("correlation_share"))
+    if cs is not None and cs != 0:
+        labels.append("correlations (net)")
+        vals.append(100 * cs)
+        los.append(np.nan); his.append(np.nan)
+        colors.append(ROLE["correlation"]); hatches.append("////")
+    n = len(vals)
+    fig, ax = plt.subplots(figsize=(style.FIG_WIDTH_IN, 1.25 + 0.34 * max(n, 2)), layout="constrained")
+    y = np.arange(n)[::-1]
+    bars = ax.barh(y, vals, color=colors, height=0.62, edgecolor="white", linewidth=0.5)
+    for b, h in zip(bars, hatches):
+        if h:
+            b.set_hatch(h)
+            b.set_edgecolor("white")
+    err = np.array([los, his], dtype=float)
+    if np.isfinite(err).any():
+        ok = np.isfinite(err).all(axis=0)
+        ax.errorbar(np.asarray(vals)[ok], y[ok], xerr=np.abs(err[:, ok]), fmt="none", ecolor=style.INK,
+                    elinewidth=1.0, capsize=3, label="confidence interval")
+    vmax = max([abs(v) for v in vals] + [1.0])
+    right = [v + (his[i] if np.isfinite(his[i]) else 0) for i, v in enumerate(vals)]
+    for i, (yy, v) in enumerate(zip(y, vals)):
+        x = right[i] if v >= 0 else v
+        ax.text(x + (0.012 * vmax if v >= 0 else -0.012 * vmax), yy, f"{fmt_fixed(v, 1)} %", va="center",
+                ha="left" if v >= 0 else "right", fontsize=8, color=style.INK)
+    ax.set_yticks(y, labels)
+    ax.axvline(0, color=style.GREY, linewidth=0.8)
+    lo_lim = min(0.0, min(vals) * 1.25)
+    ax.set_xlim(lo_lim - (0.02 * vmax if lo_lim < 0 else 0), max(right + [0]) * 1.18 + 0.02 * vmax)
+    ax.grid(axis="y", visible=False)
+    method = point.get("drivers_method")
+    how = {"linear": "linear variance contributions", "sobol": "first-order Sobol indices"}.get(method, text(method) or "shares")
+    ax.set_xlabel("share of the output variance $u^2(y)$ / %")
+    _titles(fig, f"{mpl_text(text(output.get('name')))}: what drives u(y) at T = {fmt_temperature(point.get('temperature_K'))} K",
+            f"ranking by {how}")
+    if np.isfinite(err).any():
+        ax.legend(loc="lower right", fontsize=8)
+    return fig
+
+
+# ---------------------------------------------------------------------------
+# (4) Monte Carlo convergence
+# ---------------------------------------------------------------------------
+
+def _draw_convergence(results: Mapping) -> Figure:
+    conv = results.get("convergence") or {}
+    by_name = {text(o.get("name")): o for o in outputs(results)}
+    items = [(k, v) for k, v in conv.items() if isinstance(v, list) and v]
+    n = len(items)
+    ncols = min(n, 2)
+    nrows = math.ceil(n / ncols)
+    fig, axes = plt.subplots(nrows, ncols, figsize=(style.FIG_WIDTH_IN, 2.7 * nrows + 0.3), layout="constrained", squeeze=False)
+    for ax in axes.flat[n:]:
+        ax.set_visible(False)
+    for ax, (name, hist) in zip(axes.flat, items):
+        arr = np.array([[num(a), num(b)] for a, b in (h[:2] for h in hist if isinstance(h, (list, tuple)) and len(h) >= 2)], dtype=float)
+        arr = arr[np.isfinite(arr).all(axis=1)]
+        o = by_name.get(text(name), {})
+        unit = text(o.get("unit"))
+        if arr.size:
+            final = arr[-1, 1]
+            pts = points(o)
+            tol = None
+            if pts:
+                p = pts[headline_index(o)]
+                tol = num((p.get("validation") or {}).get("tolerance"))
+            if tol:
+                ax.axhspan(final - tol, final + tol, color=ROLE["mc_band"], alpha=0.55, linewidth=0, label="final u ± δ")
+            ax.axhline(final, color=style.GREY, linewidth=0.9, linestyle="--")
+            ax.plot(arr[:, 0], arr[:, 1], color=ROLE["mc"], marker="o", markersize=3.2, label="u(y)")
+            ax.set_xscale("log")
+            spread = max(np.ptp(arr[:, 1]), (tol or 0) * 2, 1e-12 + abs(final) * 1e-3)
+            ax.set_ylim(arr[:, 1].min() - 0.25 * spread, arr[:, 1].max() + 0.45 * spread)
+        ax.set_title(mpl_text(text(name)), fontsize=9.5)
+        ax.set_xlabel("number of Monte Carlo trials $N$")
+        ax.set_ylabel(_axis_label("$u(y)$", unit))
+        ax.legend(loc="upper right", fontsize=7.5)
+    _titles(fig, "Monte Carlo convergence of the standard uncertainty")
+    return fig
+
+
+# ---------------------------------------------------------------------------
+# (5) planner front
+# ---------------------------------------------------------------------------
+
+def _set_label(s) -> str:
+    s = [text(x) for x in (s or [])]
+    return "+".join(s) if s else "now"
+
+
+def _draw_plan(plan: Mapping) -> Figure:
+    front = [f for f in plan.get("front") or [] if num(f.get("cost")) is not None and num(f.get("U")) is not None]
+    front.sort(key=lambda f: num(f["cost"]))
+    evaluated = [e for e in plan.get("evaluated") or [] if num(e.get("cost")) is not None and num(e.get("U")) is not None]
+    tgt = plan.get("target") or {}
+    unit = text(tgt.get("unit"))
+    cur = text(plan.get("currency")) or "cost units"
+    fig, ax = plt.subplots(figsize=(style.FIG_WIDTH_IN, 3.8), layout="constrained")
+    if evaluated:
+        ax.scatter([num(e["cost"]) for e in evaluated], [num(e["U"]) for e in evaluated], s=14, color=style.LIGHT_GREY,
+                   edgecolor=style.GREY, linewidth=0.4, label="other purchase sets", zorder=2)
+    xs = [num(f["cost"]) for f in front]
+    ys = [num(f["U"]) for f in front]
+    if front:
+        ax.step(xs, ys, where="post", color=ROLE["front"], linewidth=1.4, zorder=3)
+        ax.scatter(xs, ys, s=26, color=ROLE["front"], zorder=4, label="cost–uncertainty front")
+        cspan = (max(xs) - min(xs)) or 1.0
+        uspan = (max(ys) - min(ys)) or 1.0
+        last = None
+        for i, f in enumerate(front):
+            if last is not None and abs(xs[i] - xs[last]) < 0.06 * cspan and abs(ys[i] - ys[last]) < 0.06 * uspan:
+                continue  # too close to the previous label; the front table lists every set
+            ax.annotate(mpl_text(_set_label(f.get("set"))), (xs[i], ys[i]), xytext=(5, 4), textcoords="offset points",
+                        fontsize=7.5, color=style.INK, ha="left", va="bottom",
+                        bbox=dict(boxstyle="round,pad=0.15", facecolor="white", edgecolor="none", alpha=0.8))
+            last = i
+    tU = num(tgt.get("U"))
+    if tU is not None:
+        ax.axhline(tU, color=ROLE["limit"], linestyle="-.", linewidth=1.4, label=mpl_text(f"target U = {fmt_fixed(tU, 2)} {unit}"))
+    bud = num(plan.get("budget"))
+    if bud is not None:
+        ax.axvline(bud, color=style.GREY, linestyle=":", linewidth=1.2, label=mpl_text(f"budget {int(bud)}"))
+    best = plan.get("best") or {}
+    if num(best.get("cost")) is not None and num(best.get("U")) is not None:
+        ax.scatter([num(best["cost"])], [num(best["U"])], marker="*", s=190, color=ROLE["best"], edgecolor="white",
+                   linewidth=0.6, zorder=5, label=mpl_text(f"recommended: {_set_label(best.get('set'))}"))
+    ax.set_xlabel(mpl_text(f"cost / {cur}"))
+    ax.set_ylabel(_axis_label(f"$U$ ({pct_label(num(tgt.get('coverage_probability')) or 0.95)})", unit))
+    where = ""
+    if tgt.get("output"):
+        where = f" for {text(tgt.get('output'))}"
+        if num(tgt.get("temperature_K")) is not None:
+            where += f" at {fmt_temperature(tgt.get('temperature_K'))} K"
+    _titles(fig, "Data purchase plan: expanded uncertainty against cost", mpl_text(f"target{where}") if where else None)
+    ax.legend(loc="upper right", fontsize=8)
+    allU = ys + [num(e["U"]) for e in evaluated] + ([tU] if tU is not None else [])
+    if allU:
+        ax.set_ylim(min(allU) * 0.9, max(allU) * 1.08)
+    allc = xs + [num(e["cost"]) for e in evaluated] + ([bud] if bud is not None else [])
+    if allc:
+        ax.set_xlim(-0.03 * max(allc), max(allc) * 1.1)
+    return fig
+
+
+# ---------------------------------------------------------------------------
+# assembly
+# ---------------------------------------------------------------------------
+
+def figure_specs(results: Mapping) -> list[FigureSpec]:
+    """Every figure the results support, in report order."""
+    specs: list[FigureSpec] = []
+    for oi, (o, slug) in enumerate(zip(outputs(results), slugs(results))):
+        pts = points(o)
+        if not pts:
+            continue
+        name = text(o.get("name"))
+        hp = pts[headline_index(o)]
+        tlabel = fmt_temperature(hp.get("temperature_K"))
+        if len(pts) > 1:
+            specs.append(FigureSpec(
+                f"curve-{slug}", "output", oi, f"{name} against temperature",
+                f"{name}: estimate against temperature with the {pct_label(coverage_probability(results))} coverage band from the Monte Carlo method "
+                "(shaded) and the linear interval (dashed); vertical lines mark phase changes. Lower panel: standard uncertainty u(y).",
+                (lambda o=o: _draw_curve(results, o))))
+        hist = (hp.get("monte_carlo") or {}).get("histogram") or {}
+        if hist.get("counts") or (hp.get("linear") or {}).get("standard_uncertainty"):
+            cap = (f"{name} at T = {tlabel} K: Monte Carlo histogram with the probabilistically symmetric coverage interval, and the linear (GUM) "
+                   "approximation as a normal or scaled t density.")
+            if len(pts) > 1:
+                cap += " Shown at the temperature with the largest standard uncertainty."
+            if limit_on_output(o, hp) is not None:
+                cap += " The dash-dotted line is the limit."
+            specs.append(FigureSpec(f"distribution-{slug}", "output", oi, f"{name}: output distribution", cap,
+                                    (lambda o=o, hp=hp: _draw_distribution(results, o, hp))))
+        if hp.get("drivers"):
+            specs.append(FigureSpec(
+                f"drivers-{slug}", "output", oi, f"{name}: drivers",
+                f"{name} at T = {tlabel} K: share of the output variance by datum, with confidence intervals where the method gives them; "
+                "the hatched bar is the net contribution of correlations (negative when correlations reduce the variance).",
+                (lambda o=o, hp=hp: _draw_drivers(o, hp))))
+    conv = results.get("convergence") or {}
+    if any(isinstance(v, list) and v for v in conv.values()):
+        specs.append(FigureSpec("convergence", "convergence", None, "Monte Carlo convergence",
+                                "Standard uncertainty against the number of Monte Carlo trials; the band is the final value ± the numerical "
+                                "tolerance δ used in the validation (JCGM 101 7.9 and §8).",
+                                lambda: _draw_convergence(results)))
+    plan = results.get("plan") or {}
+    if isinstance(plan, Mapping) and plan.get("front"):
+        specs.append(FigureSpec("plan-front", "plan", None, "Data purchase plan",
+                                "Expanded uncertainty against the cost of the data bought: the front joins the purchase sets no other set "
+                                "beats on both cost and U; the star is the recommended set.",
+                                lambda: _draw_plan(plan)))
+    return specs
+
+
+def render_figure(spec: FigureSpec) -> RenderedFigure:
+    """Draw a figure and return its PNG and SVG bytes (the figure is closed)."""
+    with style.figure_style():
+        fig = spec.draw()
+        try:
+            png, svg = io.BytesIO(), io.BytesIO()
+            fig.savefig(png, format="png", dpi=style.PNG_DPI, metadata={"Software": "uqthermo"})
+            fig.savefig(svg, format="svg", metadata={"Creator": "uqthermo", "Date": None})
+        finally:
+            plt.close(fig)
+    return RenderedFigure(spec.name, spec.section, spec.output_index, spec.title, spec.caption, png.getvalue(), svg.getvalue())
+
+
+def render_figures(results: Mapping) -> list[RenderedFigure]:
+    return [render_figure(s) for s in figure_specs(results)]
+
+
+def make_figures(results: Mapping, out_dir: Path, _rendered: list[RenderedFigure] | None = None) -> dict[str, dict[str, Path]]:
+    """Write every figure as ``out_dir/NAME.png`` and ``out_dir/NAME.svg``.
+
+    ``out_dir`` is the figures directory itself (``write_report`` passes
+    ``DIR/figures``); it is created when missing. Returns ``{name: {"png": path,
+    "svg": path}}``. Files are written atomically.
+    """
+    from .render import atomic_write
+
+    out_dir = Path(out_dir)
+    out_dir.mkdir(parents=True, exist_ok=True)
+    rendered = _rendered if _rendered is not None else render_figures(results)
+    written: dict[str, dict[str, Path]] = {}
+    for f in rendered:
+        paths = {}
+        for ext, data in (("png", f.png), ("svg", f.svg)):
+            p = out_dir / f"{f.name}.{ext}"
+            atomic_write(p, data)
+            paths[ext] = p
+        written[f.name] = paths
+    return written

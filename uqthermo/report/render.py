@@ -1,0 +1,558 @@
+"""HTML and Markdown rendering of a results dict, and the report writer.
+
+Both formats are rendered from one context built by :func:`build_context`, so they
+carry the same content and the same rounded numbers (rounding rule:
+:mod:`uqthermo.report.tables`).
+
+Escaping
+--------
+* HTML: Jinja2 with autoescaping; user text is never marked safe. The page also
+  carries a Content-Security-Policy that forbids scripts and any external resource
+  (``default-src 'none'; img-src data:; style-src 'unsafe-inline'``).
+* Markdown: every ``{{ … }}`` expression passes through :func:`md_escape` (the
+  environment's ``finalize``), which backslash-escapes Markdown punctuation, writes
+  ``<`` as ``&lt;``, neutralises entity-like ``&…;`` and line-start block markers,
+  and folds newlines, so user text cannot create markup, links, HTML or tables.
+"""
+
+from __future__ import annotations
+
+import base64
+import math
+import os
+import re
+import tempfile
+from collections.abc import Mapping, Sequence
+from pathlib import Path
+from typing import Any
+
+import jinja2
+from markupsafe import Markup
+
+from . import style
+from . import tables as tb
+from .tables import (
+    DRIVER_WHY, DisplayTable, coverage_probability, fmt_dof, fmt_fixed, fmt_interval, fmt_k, fmt_probability,
+    fmt_temperature, fmt_u, fmt_value, headline_index, kind_label, needs_cautions, num, outputs, pair, pct_label,
+    points, slugs, text, uncertainty_decimals,
+)
+
+_TEMPLATES = Path(__file__).with_name("templates")
+
+DEFAULT_CAUTIONS = [
+    "These estimates support, and never replace, reaction calorimetry of the actual process mixture and a hazard "
+    "review by qualified people.",
+    "Defer to local codes, standards and licensed engineering practice for every design and safety decision.",
+    "The results hold only for the model, the stated data and their stated uncertainties: secondary reactions, "
+    "decomposition, gas evolution, boiling and mixing effects that the case does not describe are not covered.",
+]
+LIMIT_CAUTION = ("An exceedance probability is conditional on the model and the input uncertainties stated in the case; "
+                 "it is not the frequency of an incident and it is not a safety margin by itself.")
+
+
+# ---------------------------------------------------------------------------
+# escaping
+# ---------------------------------------------------------------------------
+
+_MD_ESCAPE_CHARS = set("\\`*_[]{}|~$")
+# block markers that matter at the start of a line (CommonMark 4.x/5.x): list items,
+# ATX headings, block quotes, ordered lists, setext underlines / thematic breaks
+_LINE_START = re.compile(r"^(\s*)(?:[-+*](?=\s|$)|#{1,6}(?=\s|$)|>|\d{1,9}[.)](?=\s|$)|[-=_*](?=[-=_*\s]*$))")
+_ENTITY = re.compile(r"&(?=#?[A-Za-z0-9]+;)")
+
+
+def md_escape(value: Any) -> str:
+    """Escape text for Markdown (CommonMark/GFM) so it renders literally.
+
+    Backslash-escapes ``\\ ` * _ [ ] { } | ~ $``, writes ``<`` as ``&lt;``, turns an
+    entity-like ``&name;`` into ``&amp;name;``, escapes a leading block marker
+    (``- ``, ``+ ``, ``# ``, ``>``, ``1. ``, a line of ``-``/``=``) and folds all
+    whitespace (newlines included) to single spaces. Numbers such as ``-205.3``
+    are left alone.
+    """
+    if isinstance(value, Markup):
+        return str(value)
+    s = " ".join(str(value).split())
+    s = _ENTITY.sub("&amp;", s)
+    out = []
+    for ch in s:
+        if ch in _MD_ESCAPE_CHARS:
+            out.append("\\" + ch)
+        elif ch == "<":
+            out.append("&lt;")
+        else:
+            out.append(ch)
+    s = "".join(out)
+    m = _LINE_START.match(s)
+    if m:
+        i = m.end(1)
+        while i < len(s) and s[i].isdigit():  # ordered list: escape the "." or ")" after the digits
+            i += 1
+        s = s[:i] + "\\" + s[i:]
+    return s
+
+
+def _md_finalize(value: Any) -> Any:
+    if value is None:
+        return ""
+    if isinstance(value, Markup):
+        return value
+    return md_escape(value)
+
+
+def _environment(kind: str) -> jinja2.Environment:
+    loader = jinja2.FileSystemLoader(str(_TEMPLATES))
+    if kind == "html":
+        env = jinja2.Environment(loader=loader, autoescape=True, trim_blocks=True, lstrip_blocks=True,
+                                 undefined=jinja2.StrictUndefined)
+    else:
+        env = jinja2.Environment(loader=loader, autoescape=False, finalize=_md_finalize, trim_blocks=True,
+                                 lstrip_blocks=True, keep_trailing_newline=True, undefined=jinja2.StrictUndefined)
+        env.filters["md"] = md_escape
+    return env
+
+
+# ---------------------------------------------------------------------------
+# atomic writes
+# ---------------------------------------------------------------------------
+
+def atomic_write(path: Path, data: bytes | str) -> Path:
+    """Write ``data`` to ``path`` atomically (temp file in the same directory, then ``os.replace``)."""
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    if isinstance(data, str):
+        data = data.encode("utf-8")
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=str(path.parent))
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, path)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except OSError:
+            pass
+        raise
+    return path
+
+
+# ---------------------------------------------------------------------------
+# context
+# ---------------------------------------------------------------------------
+
+class _Numbering:
+    def __init__(self) -> None:
+        self.fig = 0
+        self.tab = 0
+
+    def figure(self) -> int:
+        self.fig += 1
+        return self.fig
+
+    def table(self, t: DisplayTable) -> dict:
+        self.tab += 1
+        return {"n": self.tab, "t": t}
+
+
+def _run_method(run: Mapping) -> tuple[bool, bool]:
+    m = str(run.get("method") or "both").lower().replace("_", "-")
+    return m in {"linear", "both"}, m in {"monte-carlo", "montecarlo", "mc", "both"}
+
+
+def _sampling_text(sampling: str | None) -> str:
+    return {
+        "sobol": "scrambled Sobol' low-discrepancy sequence (quasi-random), mapped to the input distributions by their "
+                 "inverse distribution functions",
+        "random": "independent pseudo-random numbers (JCGM 101 annex C), mapped by the inverse distribution functions",
+        "latin-hypercube": "Latin hypercube sampling (one draw per equal-probability stratum of every input), mapped by "
+                           "the inverse distribution functions",
+    }.get((sampling or "").lower(), text(sampling) or "not stated")
+
+
+def _span_text(o: Mapping) -> str:
+    ts = [num(p.get("temperature_K")) for p in points(o)]
+    ts = [t for t in ts if t is not None]
+    if not ts:
+        return ""
+    if len(ts) == 1:
+        return f"at {fmt_temperature(ts[0])} K"
+    return f"from {fmt_temperature(min(ts))} to {fmt_temperature(max(ts))} K ({len(ts)} temperatures)"
+
+
+def job_sentence(results: Mapping) -> str:
+    """The job of the report in one sentence (plain text)."""
+    run = results.get("run") or {}
+    parts = []
+    said: set[str] = set()
+    for o in outputs(results):
+        s = f"the {kind_label(o.get('kind'))} “{text(o.get('name'))}”"
+        eq = text(o.get("equation") or o.get("reaction"))
+        if eq and eq not in said:
+            s += f" of {eq}"
+            said.add(eq)
+        elif eq:
+            s += " of the same reaction"
+        sp = _span_text(o)
+        if sp:
+            if o.get("kind") in ("adiabatic_temperature_rise", "heating_enthalpy"):
+                sp = sp.replace("at ", "from ", 1) if o.get("kind") == "adiabatic_temperature_rise" else sp
+            s += " " + sp
+        if num(o.get("limit_K")) is not None:
+            s += f", with the probability of exceeding {fmt_temperature(o.get('limit_K'))} K"
+        parts.append(s)
+    if not parts:
+        what = "no outputs"
+    elif len(parts) == 1:
+        what = parts[0]
+    else:
+        what = ", ".join(parts[:-1]) + " and " + parts[-1]
+    lin, mc = _run_method(run)
+    how = []
+    if lin:
+        how.append("the GUM law of propagation of uncertainty")
+    if mc:
+        n = run.get("samples")
+        how.append(f"a JCGM 101 Monte Carlo simulation ({'adaptive' if run.get('adaptive') or n == 'adaptive' else fmt_value(n) + ' trials'})")
+    return (f"This report estimates {what} by Kirchhoff's law, with standard and expanded uncertainties from "
+            f"{' and '.join(how) or 'the stated method'}, and ranks the input data that drive the spread.")
+
+
+def _case_rows(results: Mapping) -> list[dict]:
+    case = results.get("case") or {}
+    run = results.get("run") or {}
+    rows = [
+        ("Title", case.get("title"), False),
+        ("Description", case.get("description"), False),
+        ("Case file", case.get("file"), True),
+        ("SHA-256 of the case file", case.get("sha256"), True),
+        ("Run date", run.get("date"), False),
+        ("uqthermo version", run.get("version"), False),
+        ("Seed", run.get("seed"), True),
+        ("Method", {"both": "linear (GUM) and Monte Carlo (JCGM 101)", "linear": "linear (GUM) only",
+                    "monte-carlo": "Monte Carlo (JCGM 101) only"}.get(str(run.get("method") or "").lower(), run.get("method")), False),
+        ("Monte Carlo trials N", ("adaptive (JCGM 101 7.9)" + (f", {fmt_value(run.get('samples'))} used" if isinstance(run.get("samples"), (int, float)) else ""))
+         if run.get("adaptive") else (fmt_value(run.get("samples")) if run.get("samples") is not None else None), False),
+        ("Sampling", run.get("sampling"), False),
+        ("Coverage probability", pct_label(coverage_probability(results)), False),
+        ("Reference temperature", f"{fmt_temperature(run.get('reference_temperature_K'))} K" if run.get("reference_temperature_K") is not None else None, False),
+        ("Engine", run.get("engine"), False),
+        ("Run time", f"{fmt_fixed(run.get('duration_s'), 1)} s" if num(run.get("duration_s")) is not None else None, False),
+        ("Python / numpy", " / ".join(text(x) for x in (run.get("python"), run.get("numpy")) if x), False),
+        ("Results format", results.get("format"), True),
+    ]
+    return [{"label": a, "value": text(b), "mono": m} for a, b, m in rows if b not in (None, "")]
+
+
+def _method(results: Mapping) -> dict:
+    run = results.get("run") or {}
+    lin, mc = _run_method(run)
+    tref = run.get("reference_temperature_K")
+    n = run.get("samples")
+    adaptive = bool(run.get("adaptive")) or n == "adaptive"
+    kinds = {o.get("kind") for o in outputs(results)}
+    has_pc = any(o.get("phase_changes") for o in outputs(results))
+    methods = sorted({str(p.get("drivers_method")) for o in outputs(results) for p in points(o) if p.get("drivers_method")})
+    return {
+        "linear": lin, "mc": mc, "adaptive": adaptive,
+        "samples": fmt_value(n) if isinstance(n, (int, float)) else "",
+        "sampling": _sampling_text(run.get("sampling")),
+        "sampling_name": text(run.get("sampling")),
+        "tref": fmt_temperature(tref) if tref is not None else "298.15",
+        "p": pct_label(coverage_probability(results)),
+        "has_phase_changes": has_pc,
+        "safety_kinds": bool(kinds & tb.SAFETY_KINDS),
+        "drivers_methods": methods,
+    }
+
+
+def _headline(results: Mapping, o: Mapping, p: Mapping) -> dict:
+    mc = p.get("monte_carlo") or {}
+    lin = p.get("linear") or {}
+    unit = text(o.get("unit"))
+    p_cov = pct_label(coverage_probability(results, p))
+    items = []
+    if mc:
+        d = uncertainty_decimals(mc.get("standard_uncertainty"))
+        items.append({
+            "label": "Monte Carlo (JCGM 101)",
+            "value": f"{fmt_fixed(mc.get('mean'), d)} {unit}",
+            "detail": f"u = {fmt_u(mc.get('standard_uncertainty'))} {unit}; {p_cov} interval {fmt_interval(mc.get('coverage_interval'), d)}",
+            "badge": None,
+        })
+    if lin:
+        d = uncertainty_decimals(lin.get("standard_uncertainty"))
+        v = p.get("linear_validated")
+        items.append({
+            "label": "Linear (GUM)",
+            "value": f"{fmt_fixed(lin.get('estimate'), d)} {unit}",
+            "detail": f"u = {fmt_u(lin.get('standard_uncertainty'))} {unit}; U = {fmt_fixed(lin.get('expanded_uncertainty'), d)} {unit} "
+                      f"(k = {fmt_k(lin.get('coverage_factor'))}); {p_cov} interval {fmt_interval(lin.get('coverage_interval'), d)}",
+            "badge": ("ok", "validated") if v is True else (("no", "not validated") if v is False else ("na", "not checked")),
+        })
+    if p.get("exceedance_probability") is not None:
+        lim = o.get("limit_K")
+        on = " (final temperature)" if o.get("kind") == "adiabatic_temperature_rise" and o.get("limit_applies_to", "final_temperature") != "rise" else ""
+        items.append({
+            "label": f"Probability of exceeding {fmt_temperature(lim)} K{on}",
+            "value": fmt_probability(p.get("exceedance_probability"), p.get("exceedance_standard_error")),
+            "detail": (f"standard error {fmt_probability(p.get('exceedance_standard_error'), p.get('exceedance_standard_error'))}"
+                       if num(p.get("exceedance_standard_error")) is not None else "Monte Carlo estimate"),
+            "badge": ("no", "limit") if (num(p.get("exceedance_probability")) or 0) > 0 else ("ok", "limit"),
+        })
+    return {"T": fmt_temperature(p.get("temperature_K")), "items": items}
+
+
+def _summary_card(results: Mapping, o: Mapping, p: Mapping) -> dict:
+    mc = p.get("monte_carlo") or {}
+    lin = p.get("linear") or {}
+    unit = text(o.get("unit"))
+    u = tb.point_u(p)
+    d = uncertainty_decimals(u)
+    src = "Monte Carlo" if num(mc.get("mean")) is not None else "linear"
+    iv = mc.get("coverage_interval") if src == "Monte Carlo" else lin.get("coverage_interval")
+    details = [f"u = {fmt_u(u)} {unit} · {pct_label(coverage_probability(results, p))} interval {fmt_interval(iv, d)} ({src})"]
+    if num(lin.get("expanded_uncertainty")) is not None:
+        dl = uncertainty_decimals(lin.get("standard_uncertainty"))
+        details.append(f"linear: U = {fmt_fixed(lin.get('expanded_uncertainty'), dl)} {unit} (k = {fmt_k(lin.get('coverage_factor'))})")
+    if p.get("exceedance_probability") is not None:
+        what = "final T" if o.get("kind") == "adiabatic_temperature_rise" and o.get("limit_applies_to", "final_temperature") != "rise" else "output"
+        details.append(f"P({what} > {fmt_temperature(o.get('limit_K'))} K) = "
+                       f"{fmt_probability(p.get('exceedance_probability'), p.get('exceedance_standard_error'))}")
+    v = p.get("linear_validated")
+    badge = ("ok", "linear validated") if v is True else (("no", "linear not validated") if v is False else None)
+    return {"T": fmt_temperature(p.get("temperature_K")), "value": f"{fmt_fixed(tb.point_estimate(p), d)} {unit}",
+            "details": details, "badge": badge}
+
+
+def _figure_entry(name: str, rendered: Mapping[str, Any] | None, spec_titles: Mapping[str, tuple[str, str]], numbering: _Numbering) -> dict | None:
+    if name not in spec_titles:
+        return None
+    title, caption = spec_titles[name]
+    e = {"name": name, "n": numbering.figure(), "title": title, "caption": caption, "path": f"figures/{name}.png", "src": None}
+    if rendered is not None and name in rendered:
+        e["src"] = "data:image/png;base64," + base64.b64encode(rendered[name].png).decode("ascii")
+    return e
+
+
+def build_context(results: Mapping, figures: bool = True, rendered: Sequence | None = None) -> dict:
+    """Everything the templates print, as plain strings (escaping is the template's job).
+
+    ``figures``: include figure entries; ``rendered``: list of
+    :class:`~uqthermo.report.figures.RenderedFigure` to embed (HTML); without it
+    the entries carry only their relative path ``figures/NAME.png`` (Markdown).
+    """
+    from .figures import figure_specs
+
+    if not isinstance(results, Mapping):
+        from ..errors import InputError
+
+        raise InputError("results must be a mapping (the parsed results.json)", key="results")
+    numbering = _Numbering()
+    specs = figure_specs(results) if figures else []
+    spec_titles = {s.name: (s.title, s.caption) for s in specs}
+    rmap = {f.name: f for f in rendered} if rendered is not None else None
+    case = results.get("case") or {}
+    run = results.get("run") or {}
+    p_cov = coverage_probability(results)
+
+    ctx: dict[str, Any] = {
+        "title": text(case.get("title")) or "Uncertainty report",
+        "job": job_sentence(results),
+        "case_rows": _case_rows(results),
+        "method": _method(results),
+        "version": text(run.get("version")),
+        "date": text(run.get("date")),
+        "p_label": pct_label(p_cov),
+        "css": Markup(style.REPORT_CSS),
+    }
+    ctx["summary"] = numbering.table(tb.summary_table(results))
+    ctx["inputs"] = numbering.table(tb.inputs_table(results))
+    corr = tb.correlations_table(results)
+    ctx["correlations"] = numbering.table(corr) if corr else None
+    reac = tb.reactions_table(results)
+    ctx["reactions"] = numbering.table(reac) if reac else None
+
+    outs = []
+    for oi, (o, slug) in enumerate(zip(outputs(results), slugs(results))):
+        pts = points(o)
+        entry: dict[str, Any] = {
+            "anchor": f"out-{oi + 1}", "number": oi + 1, "name": text(o.get("name")), "kind": kind_label(o.get("kind")),
+            "unit": text(o.get("unit")), "description": text(o.get("description")), "reaction": text(o.get("reaction")),
+            "equation": text(o.get("equation")), "span": _span_text(o), "first": oi == 0,
+            "figures": [], "tables": [], "headline": None, "summary_card": None, "drivers_note": "", "limit": "", "phase_changes": [],
+        }
+        for pc in o.get("phase_changes") or []:
+            entry["phase_changes"].append(f"{text(pc.get('species'))} {text(pc.get('transition')).replace('-', ' → ')} at {fmt_temperature(pc.get('temperature_K'))} K")
+        if num(o.get("limit_K")) is not None:
+            if o.get("kind") == "adiabatic_temperature_rise" and o.get("limit_applies_to", "final_temperature") != "rise":
+                start = num(o.get("start_temperature_K"))
+                if start is None and pts:
+                    start = num(pts[0].get("temperature_K"))
+                entry["limit"] = (f"Limit: the final temperature (start {fmt_temperature(start)} K + rise) must stay below "
+                                  f"{fmt_temperature(o.get('limit_K'))} K, i.e. a rise of at most {fmt_temperature((num(o.get('limit_K')) or 0) - (start or 0))} K.")
+            else:
+                entry["limit"] = f"Limit: {fmt_temperature(o.get('limit_K'))} K."
+        if pts:
+            hi = headline_index(o)
+            hp = pts[hi]
+            entry["headline"] = _headline(results, o, hp)
+            entry["summary_card"] = _summary_card(results, o, hp)
+            entry["headline_note"] = ("" if len(pts) == 1 else
+                                      f"Headline values at {fmt_temperature(hp.get('temperature_K'))} K, the temperature with the largest standard uncertainty.")
+            for fname in (f"curve-{slug}", f"distribution-{slug}"):
+                f = _figure_entry(fname, rmap, spec_titles, numbering)
+                if f:
+                    entry["figures"].append(f)
+            for t in (tb.mc_table(results, o, f"mc-{slug}"), tb.linear_table(results, o, f"linear-{slug}"),
+                      tb.bounds_table(results, o, f"bounds-{slug}"), tb.exceedance_table(results, o, f"exceedance-{slug}")):
+                if t:
+                    entry["tables"].append(numbering.table(t))
+            method = hp.get("drivers_method")
+            sens = hp.get("sensitivity") or {}
+            note = text(hp.get("drivers_reason")) or DRIVER_WHY.get(str(method), "")
+            if sens.get("method"):
+                note += f" Estimator: {text(sens.get('method'))}."
+            entry["drivers_note"] = note.strip()
+            entry["drivers_figure"] = _figure_entry(f"drivers-{slug}", rmap, spec_titles, numbering)
+            dt = tb.drivers_table(o, hp, f"drivers-{slug}")
+            entry["drivers_table"] = numbering.table(dt) if dt else None
+            wt = tb.whatif_table(o, hp, f"whatif-{slug}", coverage_probability(results, hp))
+            entry["whatif_table"] = numbering.table(wt) if wt else None
+            entry["not_validated"] = [fmt_temperature(p.get("temperature_K")) for p in pts if p.get("linear_validated") is False]
+        outs.append(entry)
+    ctx["outputs"] = outs
+    ctx["convergence_figure"] = _figure_entry("convergence", rmap, spec_titles, numbering)
+
+    plan = results.get("plan")
+    ctx["plan"] = None
+    if isinstance(plan, Mapping) and plan:
+        tgt = plan.get("target") or {}
+        best = plan.get("best") or {}
+        unit = text(tgt.get("unit"))
+        cur = text(plan.get("currency")) or "cost units"
+        lines = []
+        if num(tgt.get("U")) is not None:
+            s = f"Target: U ≤ {tb.fmt_sig(tgt.get('U'), 3)} {unit} ({pct_label(num(tgt.get('coverage_probability')) or p_cov)})"
+            if tgt.get("output"):
+                s += f" for {text(tgt.get('output'))}"
+            if num(tgt.get("temperature_K")) is not None:
+                s += f" at {fmt_temperature(tgt.get('temperature_K'))} K"
+            lines.append(s + ".")
+        if num(plan.get("U_now")) is not None:
+            lines.append(f"Now: U = {tb.fmt_sig(plan.get('U_now'), 3)} {unit}.")
+        if num(plan.get("budget")) is not None:
+            lines.append(f"Budget: {tb.fmt_cost(plan.get('budget'))} {cur}.")
+        rec = None
+        if best:
+            st = " + ".join(text(x) for x in best.get("set") or []) or "no purchase"
+            meets = best.get("meets_target")
+            rec = (f"Recommended: {st}, cost {tb.fmt_cost(best.get('cost'))} {cur}, giving U = {tb.fmt_sig(best.get('U'), 3)} {unit}"
+                   + ("" if meets is None else (" (meets the target)." if meets else " (the target is not reached within the candidates).")))
+            if meets is None:
+                rec += "."
+        cand = tb.plan_candidates_table(plan)
+        front = tb.plan_front_table(plan)
+        ctx["plan"] = {
+            "lines": lines, "recommendation": rec,
+            "method": text(plan.get("method")),
+            "figure": _figure_entry("plan-front", rmap, spec_titles, numbering),
+            "candidates": numbering.table(cand) if cand else None,
+            "front": numbering.table(front) if front else None,
+        }
+
+    ctx["warnings"] = [text(w) for w in results.get("warnings") or [] if text(w)]
+    notes = []
+    for e in outs:
+        said = any(e["name"] and e["name"] in w and "validat" in w for w in ctx["warnings"])
+        if e.get("not_validated") and not said:
+            notes.append(f"{e['name']}: the linear method is not validated at {len(e['not_validated'])} of "
+                         f"{len(points(outputs(results)[e['number'] - 1]))} point(s) (T = {', '.join(e['not_validated'])} K); use the Monte Carlo results there.")
+    ctx["auto_notes"] = notes
+    ctx["cautions_needed"] = needs_cautions(results)
+    cautions = [text(c) for c in results.get("cautions") or [] if text(c)]
+    extra = list(DEFAULT_CAUTIONS)
+    if any(num(o.get("limit_K")) is not None or any(p.get("exceedance_probability") is not None for p in points(o)) for o in outputs(results)):
+        extra.append(LIMIT_CAUTION)
+    ctx["cautions"] = cautions + [c for c in extra if c not in cautions]
+
+    toc = [("summary", "Summary"), ("case", "Case and provenance"), ("method", "Method"), ("inputs", "Input data"),
+           ("results", "Results")]
+    if ctx["plan"]:
+        toc.append(("plan", "Data purchase plan"))
+    toc.append(("warnings", "Warnings and notes"))
+    if ctx["cautions_needed"]:
+        toc.append(("cautions", "Cautions for safety use"))
+    ctx["toc"] = [{"id": a, "n": i + 1, "label": b} for i, (a, b) in enumerate(toc)]
+    ctx["sec"] = {t["id"]: t["n"] for t in ctx["toc"]}
+    return ctx
+
+
+# ---------------------------------------------------------------------------
+# public entry points
+# ---------------------------------------------------------------------------
+
+def render_html(results: Mapping, figures: bool = True, _rendered: Sequence | None = None) -> str:
+    """The report as one self-contained HTML page (figures embedded as base64 PNG).
+
+    Parameters
+    ----------
+    results : dict
+        A results dict (format ``uqthermo.results/1``).
+    figures : bool
+        Draw and embed the figures (default True).
+    """
+    if figures and _rendered is None:
+        from .figures import render_figures
+
+        _rendered = render_figures(results)
+    ctx = build_context(results, figures=figures, rendered=_rendered if figures else None)
+    return _environment("html").get_template("report.html.j2").render(**ctx)
+
+
+def render_markdown(results: Mapping, figures: bool = True) -> str:
+    """The report as Markdown; figures are referenced as ``figures/NAME.png``."""
+    ctx = build_context(results, figures=figures, rendered=None)
+    return _environment("md").get_template("report.md.j2").render(**ctx)
+
+
+def write_report(results: Mapping, out_dir: Path, formats: Sequence[str] = ("html", "md"), figures: bool = True) -> dict[str, Path]:
+    """Write the report files into ``out_dir``.
+
+    Writes ``report.html`` (self-contained), ``report.md``, ``figures/*.png`` and
+    ``figures/*.svg`` (when ``figures``), and ``tables/*.csv`` (inputs, results per
+    output, drivers, what-if, plan). Every file is written atomically.
+
+    Returns
+    -------
+    dict[str, Path]
+        Path of every file written, keyed by its path relative to ``out_dir``
+        (e.g. ``"report.html"``, ``"figures/curve-R1.png"``, ``"tables/inputs.csv"``).
+    """
+    from ..errors import InputError
+    from .figures import make_figures, render_figures
+
+    formats = tuple(formats)
+    bad = [f for f in formats if f not in ("html", "md")]
+    if bad:
+        raise InputError(f"unknown report format(s) {', '.join(map(str, bad))}; use 'html' and/or 'md'", key="formats")
+    out_dir = Path(out_dir)
+    out_dir.mkdir(parents=True, exist_ok=True)
+    written: dict[str, Path] = {}
+    rendered = render_figures(results) if figures else None
+    if figures:
+        for name, paths in make_figures(results, out_dir / "figures", _rendered=rendered).items():
+            for ext, p in paths.items():
+                written[f"figures/{name}.{ext}"] = p
+    for stem, df in tb.frames(results).items():
+        p = atomic_write(out_dir / "tables" / f"{stem}.csv", tb.csv_safe(df).to_csv(index=False, lineterminator="\n"))
+        written[f"tables/{stem}.csv"] = p
+    if "html" in formats:
+        written["report.html"] = atomic_write(out_dir / "report.html", render_html(results, figures=figures, _rendered=rendered))
+    if "md" in formats:
+        written["report.md"] = atomic_write(out_dir / "report.md", render_markdown(results, figures=figures))
+    return written
+
+
+__all__ = ["render_html", "render_markdown", "write_report", "build_context", "md_escape", "atomic_write", "job_sentence"]

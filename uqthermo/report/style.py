@@ -1,0 +1,211 @@
+"""Visual style of the report: colour palette, matplotlib settings, report CSS.
+
+The palette is the eight-colour set of Okabe & Ito, *Color Universal Design* (2008),
+which stays distinguishable under the common forms of colour-vision deficiency.
+Every figure is drawn inside :func:`figure_style` so that the global matplotlib state
+of the caller (e.g. a notebook) is left untouched.
+
+User-supplied text (titles, datum ids, species names) goes through :func:`mpl_text`
+before it reaches matplotlib: a ``$`` would otherwise switch on mathtext parsing.
+"""
+
+from __future__ import annotations
+
+import contextlib
+from collections.abc import Iterator
+
+import matplotlib
+
+matplotlib.use("Agg", force=False)  # no display; the report layer only writes files
+
+import matplotlib.pyplot as plt  # noqa: E402
+
+# Okabe & Ito (2008) palette, in the order the figures use it.
+PALETTE: dict[str, str] = {
+    "blue": "#0072B2",
+    "orange": "#E69F00",
+    "sky": "#56B4E9",
+    "green": "#009E73",
+    "vermillion": "#D55E00",
+    "purple": "#CC79A7",
+    "yellow": "#F0E442",
+    "black": "#000000",
+}
+GREY = "#6E6E6E"
+LIGHT_GREY = "#D9D9D9"
+INK = "#1F2328"
+
+#: roles → colours, so every figure uses the same colour for the same thing
+ROLE = {
+    "mc": PALETTE["blue"],           # Monte Carlo results
+    "mc_band": "#A6CDE8",            # Monte Carlo coverage band (light blue)
+    "linear": PALETTE["vermillion"],  # GUM linear results
+    "phase": PALETTE["green"],        # phase changes
+    "limit": PALETTE["purple"],       # limits / targets
+    "driver": PALETTE["blue"],
+    "correlation": PALETTE["orange"],
+    "front": PALETTE["blue"],
+    "best": PALETTE["vermillion"],
+    "other": LIGHT_GREY,
+}
+
+FIG_WIDTH_IN = 7.2  # fits an A4 page between 18 mm margins at 100 %
+PNG_DPI = 160
+
+_RC = {
+    "font.family": "DejaVu Sans",
+    "font.size": 9.5,
+    "axes.titlesize": 10.5,
+    "axes.titleweight": "bold",
+    "axes.titlelocation": "left",
+    "axes.labelsize": 9.5,
+    "axes.labelcolor": INK,
+    "axes.edgecolor": "#8C8C8C",
+    "axes.linewidth": 0.8,
+    "axes.grid": True,
+    "axes.axisbelow": True,
+    "axes.spines.top": False,
+    "axes.spines.right": False,
+    "axes.prop_cycle": matplotlib.cycler(color=list(PALETTE.values())),
+    "grid.color": "#E6E6E6",
+    "grid.linewidth": 0.7,
+    "xtick.color": "#4D4D4D",
+    "ytick.color": "#4D4D4D",
+    "xtick.labelsize": 8.5,
+    "ytick.labelsize": 8.5,
+    "legend.fontsize": 8.5,
+    "legend.frameon": True,
+    "legend.framealpha": 0.88,
+    "legend.facecolor": "white",
+    "legend.edgecolor": "none",
+    "legend.borderpad": 0.35,
+    "figure.dpi": 100,
+    "figure.facecolor": "white",
+    "savefig.facecolor": "white",
+    "savefig.dpi": PNG_DPI,
+    "svg.fonttype": "path",  # text as outlines: no font needed, no text nodes in the SVG
+    "svg.hashsalt": "uqthermo",  # deterministic SVG ids
+    "lines.linewidth": 1.6,
+    "axes.formatter.useoffset": False,
+    "axes.formatter.limits": (-4, 6),
+}
+
+
+@contextlib.contextmanager
+def figure_style() -> Iterator[None]:
+    """Apply the report's matplotlib style for the duration of a ``with`` block."""
+    with plt.rc_context(_RC):
+        yield
+
+
+def mpl_text(text: object) -> str:
+    """Make user text safe for a matplotlib label.
+
+    Escapes ``$`` (mathtext switch) so that e.g. a title ``"cost $ 5"`` is drawn
+    literally; newlines are folded so a label cannot break a layout.
+    """
+    s = "" if text is None else str(text)
+    s = s.replace("\r", " ").replace("\n", " ")
+    return s.replace("$", r"\$")
+
+
+# ---------------------------------------------------------------------------
+# Report CSS (inlined into report.html; no external resources)
+# ---------------------------------------------------------------------------
+REPORT_CSS = """
+:root {
+  --ink: #1f2328; --muted: #59636e; --rule: #d0d7de; --soft: #f6f8fa;
+  --accent: #0072B2; --warn: #9a6700; --warn-bg: #fff8c5; --crit: #a40e26; --crit-bg: #ffebe9;
+  --ok: #1a7f37; --ok-bg: #dafbe1;
+}
+* { box-sizing: border-box; }
+html { font-size: 15px; }
+body {
+  margin: 0; color: var(--ink); background: #fff;
+  font-family: "Segoe UI", "Helvetica Neue", Arial, "Liberation Sans", "DejaVu Sans", sans-serif;
+  line-height: 1.5;
+}
+main { max-width: 1040px; margin: 0 auto; padding: 28px 36px 60px; }
+header.report-head { border-bottom: 3px solid var(--accent); padding-bottom: 14px; margin-bottom: 18px; }
+header.report-head .kicker { text-transform: uppercase; letter-spacing: .08em; font-size: .78rem; color: var(--accent); font-weight: 600; }
+h1 { font-size: 1.75rem; line-height: 1.25; margin: .2em 0 .3em; }
+h2 { font-size: 1.3rem; margin: 2.0em 0 .6em; padding-bottom: .25em; border-bottom: 1px solid var(--rule); }
+h3 { font-size: 1.1rem; margin: 1.6em 0 .5em; }
+h4 { font-size: .98rem; margin: 1.3em 0 .4em; color: var(--muted); }
+p { margin: .5em 0 .8em; }
+.lead { font-size: 1.07rem; }
+.muted { color: var(--muted); }
+.small { font-size: .85rem; }
+code, .mono { font-family: "DejaVu Sans Mono", "Consolas", "Liberation Mono", monospace; font-size: .86em; }
+code { background: var(--soft); padding: .05em .3em; border-radius: 3px; word-break: break-all; }
+nav.toc { background: var(--soft); border: 1px solid var(--rule); border-radius: 6px; padding: 10px 18px; margin: 16px 0; font-size: .9rem; }
+nav.toc ol { margin: .3em 0; padding-left: 1.3em; columns: 2; }
+nav.toc a { color: var(--accent); text-decoration: none; }
+dl.meta { display: grid; grid-template-columns: max-content 1fr; gap: 3px 18px; margin: .6em 0 1em; font-size: .92rem; }
+dl.meta dt { color: var(--muted); }
+dl.meta dd { margin: 0; word-break: break-word; }
+.cards { display: grid; grid-template-columns: repeat(auto-fill, minmax(290px, 1fr)); gap: 12px; margin: 12px 0 18px; }
+.card { border: 1px solid var(--rule); border-left: 4px solid var(--accent); border-radius: 6px; padding: 10px 14px; background: #fff; break-inside: avoid; }
+.card .name { font-weight: 600; }
+.card .value { font-size: 1.25rem; font-variant-numeric: tabular-nums; margin: .15em 0; }
+.card .detail { font-size: .84rem; color: var(--muted); }
+.badge { display: inline-block; font-size: .75rem; font-weight: 600; padding: .05em .55em; border-radius: 999px; vertical-align: middle; white-space: nowrap; }
+.badge.ok { color: var(--ok); background: var(--ok-bg); }
+.badge.no { color: var(--crit); background: var(--crit-bg); }
+.badge.na { color: var(--muted); background: var(--soft); }
+.callout { border-radius: 6px; padding: 10px 14px; margin: 12px 0; border: 1px solid; break-inside: avoid; }
+.callout.warn { background: var(--warn-bg); border-color: #d4a72c; }
+.callout.crit { background: var(--crit-bg); border-color: #ff8182; }
+.callout.info { background: var(--soft); border-color: var(--rule); }
+.callout h3, .callout h4 { margin-top: .2em; }
+.callout ul { margin: .3em 0; padding-left: 1.3em; }
+.table-wrap { overflow-x: auto; margin: .4em 0 1.2em; }
+table { border-collapse: collapse; font-size: .86rem; width: auto; min-width: 50%; }
+caption { caption-side: top; text-align: left; font-weight: 600; font-size: .9rem; padding: 0 0 6px; color: var(--ink); }
+th, td { padding: 4px 10px; border-bottom: 1px solid #e4e8ec; vertical-align: top; }
+thead th { border-bottom: 2px solid #8c959f; text-align: left; background: var(--soft); font-weight: 600; white-space: nowrap; }
+td.r, th.r { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+td.c, th.c { text-align: center; }
+td.l { white-space: nowrap; }
+td.w { min-width: 7em; overflow-wrap: break-word; }
+tbody tr:nth-child(even) td { background: #fbfcfd; }
+.table-note { font-size: .8rem; color: var(--muted); margin: -0.8em 0 1.2em; }
+figure { margin: 14px 0 20px; break-inside: avoid; page-break-inside: avoid; }
+figure img { display: block; width: 100%; max-width: 900px; height: auto; border: 1px solid #eef0f2; }
+figcaption { font-size: .84rem; color: var(--muted); margin-top: 6px; max-width: 900px; }
+figcaption b { color: var(--ink); }
+.formula { font-family: "Cambria Math", "STIX Two Math", "DejaVu Serif", serif; background: var(--soft); border-left: 3px solid var(--rule); padding: 6px 12px; margin: .5em 0 .8em; overflow-x: auto; }
+section.output { border-top: 1px dashed var(--rule); margin-top: 1.6em; }
+section.output.first-output { border-top: 0; margin-top: 0; }
+footer { margin-top: 48px; padding-top: 10px; border-top: 1px solid var(--rule); font-size: .8rem; color: var(--muted); }
+@media print {
+  html { font-size: 10.5pt; }
+  main { max-width: none; padding: 0; }
+  nav.toc { display: none; }
+  a { color: inherit; text-decoration: none; }
+  h2 { break-before: page; page-break-before: always; }
+  h2.keep, section.first h2 { break-before: auto; page-break-before: auto; }
+  h2, h3, h4, caption { break-after: avoid; page-break-after: avoid; }
+  section.output { break-before: page; page-break-before: always; border-top: 0; }
+  section.output.first-output { break-before: auto; page-break-before: auto; }
+  table, figure, .card, .callout { break-inside: avoid; page-break-inside: avoid; }
+  thead { display: table-header-group; }
+  tr { break-inside: avoid; page-break-inside: avoid; }
+  .table-wrap { overflow: visible; }
+  figure img { max-width: 100%; border: 0; }
+  tbody tr:nth-child(even) td { background: none; }
+}
+@page { size: A4; margin: 16mm 15mm 18mm; }
+"""
+
+#: CSS for the compact notebook view (scoped under .uqt-view so it cannot leak)
+NOTEBOOK_CSS = """
+.uqt-view { font-family: "Segoe UI", "Helvetica Neue", Arial, "DejaVu Sans", sans-serif; font-size: 13px; color: #1f2328; }
+.uqt-view .uqt-title { font-weight: 600; font-size: 14px; margin-bottom: 4px; }
+.uqt-view .uqt-meta { color: #59636e; font-size: 12px; margin-bottom: 6px; }
+.uqt-view table { border-collapse: collapse; }
+.uqt-view th, .uqt-view td { padding: 3px 9px; border-bottom: 1px solid #e4e8ec; text-align: left; }
+.uqt-view thead th { border-bottom: 2px solid #8c959f; background: #f6f8fa; }
+.uqt-view td.r, .uqt-view th.r { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+.uqt-view .uqt-warn { color: #9a6700; font-size: 12px; margin-top: 6px; }
+"""
