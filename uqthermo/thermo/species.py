@@ -57,7 +57,7 @@ from typing import Mapping
 
 import numpy as np
 
-from ..errors import PathError, PhysicsError, ValidityError
+from ..errors import PathError, ValidityError
 from .cp import CpModel, Nasa7Cp, _as_temperature, _fmt
 
 __all__ = ["Phase", "Transition", "Species", "Segment"]
