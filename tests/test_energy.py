@@ -138,6 +138,8 @@ def test_bad_arguments():
         solve_final_temperature(h, np.nan, 300.0, 400.0)
     with pytest.raises(PhysicsError):
         solve_final_temperature(lambda T: T * np.nan, 1.0, 300.0, 400.0)
+    with pytest.raises(PhysicsError, match="one enthalpy per sample"):
+        solve_final_temperature(lambda T: np.ones((3, 2)), np.ones(3), 300.0, 400.0)
 
 
 def test_methane_combustion_against_cantera():

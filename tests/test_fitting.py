@@ -160,6 +160,22 @@ def test_case_toml_round_trip():
     assert doc["u"][4] == 0.0 and len(doc["correlation"]) == 5
 
 
+def test_to_cp_model_reproduces_fit():
+    # The fitted curve handed to thermo.cp must evaluate identically (same basis functions).
+    rng = np.random.default_rng(4)
+    T = np.linspace(300.0, 900.0, 20)
+    u = np.full(T.size, 0.05)
+    for model, terms, f, p in [("shomate", None, _shomate, H2O_G_SHOMATE),
+                               ("polynomial", "abce", _poly_abce, (25.0, 0.012, -2.0e-6, 1.1e5))]:
+        fit = fit_cp(T, _synthetic(rng, T, f, p, u), u, model=model, terms=terms)
+        m = fit.to_cp_model()
+        grid = np.linspace(300.0, 900.0, 7)
+        np.testing.assert_allclose(m.cp(grid), fit.predict(grid), rtol=1e-13)
+        assert (m.t_min, m.t_max) == (300.0, 900.0)
+        V = fit.full_covariance()
+        assert V.shape == (5, 5) and np.allclose(V, V.T)
+
+
 def test_coverage_warning():
     T = np.linspace(300.0, 800.0, 10)
     fit = fit_cp(T, 30 + 0.01 * T, terms="ab")

@@ -77,6 +77,9 @@ def test_webbook_shomate_h2o_gas():
     ref = chem_hc.WebBook_Shomate_gases["7732-18-5"]
     for T in (500.0, 800.0, 1500.0, 2500.0, 5000.0):
         assert float(c.cp(np.array([T]))[0]) == pytest.approx(ref.force_calculate(T), rel=1e-12)
+    m = c.to_cp_model()  # thermo.cp ShomateCp from the same ranges
+    np.testing.assert_allclose(m.cp(np.array([800.0, 2500.0])), [ref.force_calculate(800.0), ref.force_calculate(2500.0)],
+                               rtol=1e-12)
     d = c.to_case_dict()
     assert d["ranges"][0]["T"] == ["500 K", "1700 K"] and len(d["ranges"][0]["coefficients"]) == 5
 

@@ -631,6 +631,12 @@ class LibraryCp:
             out[m] = A + B * t + C * t * t + D * t**3 + E / (t * t)
         return out
 
+    def to_cp_model(self, allow_extrapolation: bool = False):
+        """The curve as a :class:`uqthermo.thermo.cp.ShomateCp`."""
+        from uqthermo.thermo.cp import ShomateCp
+
+        return ShomateCp(self.ranges, allow_extrapolation=allow_extrapolation)
+
     def to_case_dict(self) -> dict:
         """The ``heat_capacity`` table of the case format (without uncertainties)."""
         return {

@@ -124,7 +124,7 @@ def solve_final_temperature(
     T0 : array_like, shape (N,) or scalar
         Start temperature, K.
     T_hi_max : array_like or float
-        Upper end of the search for q > 0 (e.g. the top of the Cp data's validity), K.
+        Upper end of the search for q > 0 (e.g. the top of the Cp data's validity), K; finite.
     tol : float
         Absolute tolerance on Tf, K (bracket width at convergence).
     max_iter : int
@@ -173,7 +173,12 @@ def solve_final_temperature(
 
     def h(T):
         val = np.asarray(h_of_T(T), dtype=float)
-        val = np.broadcast_to(val, (n,))
+        try:
+            val = np.broadcast_to(val, (n,))
+        except ValueError:
+            raise PhysicsError(
+                f"h_of_T must return one enthalpy per sample, shape ({n},); got shape {val.shape}"
+            ) from None
         if not np.all(np.isfinite(val)):
             raise PhysicsError("the charge enthalpy h_of_T returned non-finite values")
         return val

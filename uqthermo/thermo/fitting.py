@@ -206,6 +206,31 @@ class CpFit:
             out[names.index(t)] = v
         return out
 
+    def full_covariance(self) -> np.ndarray:
+        """5x5 covariance of all five coefficients in canonical order (zero rows/columns for the
+        terms not fitted, which are exactly 0)."""
+        names = SHOMATE_TERMS if self.model == "shomate" else POLYNOMIAL_TERMS
+        idx = [names.index(t) for t in self.terms]
+        V = np.zeros((5, 5))
+        V[np.ix_(idx, idx)] = self.covariance
+        return V
+
+    def to_cp_model(self, allow_extrapolation: bool = False):
+        """The fitted curve as a :mod:`uqthermo.thermo.cp` model, valid over the data range.
+
+        Returns
+        -------
+        PolynomialCp or ShomateCp
+            Coefficient vector in the model's canonical order (:meth:`full_coefficients`); its
+            covariance is :meth:`full_covariance`.
+        """
+        from uqthermo.thermo import cp as cpm
+
+        c = self.full_coefficients()
+        if self.model == "shomate":
+            return cpm.ShomateCp([(self.T_min, self.T_max, c)], allow_extrapolation=allow_extrapolation)
+        return cpm.PolynomialCp(*c, t_min=self.T_min, t_max=self.T_max, allow_extrapolation=allow_extrapolation)
+
     def coefficient_units(self) -> list[str]:
         """Units of the coefficients (polynomial: SI with T in K; Shomate: NIST form)."""
         if self.model == "shomate":
