@@ -1,0 +1,487 @@
+"""Named uncertain inputs, their grouping into data, and their joint (correlated) distribution.
+
+A *variable* is one scalar input column of the model (e.g. ``"CH4.g.heat_capacity[A]"``);
+a *datum* is one sourced property and may hold several variables (all coefficients of one
+Cp curve). Contributions and sensitivity indices are reported by datum.
+
+The joint distribution is built from the marginals and a correlation matrix R through a
+Gaussian copula (e.g. Nelsen, *An Introduction to Copulas*, 2nd ed., §2.3 and §5.1;
+JCGM 101 §6.4.8 for the all-normal case, where it is exactly the multivariate normal
+N(x̂, diag(u) R diag(u))).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable, Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+from scipy import special
+
+from ..errors import CorrelationError, StatisticsError
+from .distributions import Distribution
+
+__all__ = ["InputVariable", "InputSet", "Datum", "check_correlation"]
+
+#: tolerances of the matrix checks
+SYMMETRY_TOL = 1e-10
+PSD_TOL = 1e-10
+#: uniforms are clipped to [U_CLIP, 1 - U_CLIP] before Φ⁻¹ (2⁻⁵³: the resolution of doubles near 1)
+U_CLIP = 2.0**-53
+
+
+@dataclass(frozen=True)
+class InputVariable:
+    """One scalar model input.
+
+    Attributes
+    ----------
+    name : str
+        Column name, unique within an :class:`InputSet` (e.g. ``"CH4.g.heat_capacity[A]"``).
+    datum : str
+        Id of the datum (group) the variable belongs to (e.g. ``"CH4.g.heat_capacity"``).
+    distribution : Distribution
+        The assigned probability distribution.
+    """
+
+    name: str
+    datum: str
+    distribution: Distribution
+
+    def __post_init__(self):
+        if not isinstance(self.name, str) or not self.name:
+            raise StatisticsError(f"input variable name must be a non-empty string, got {self.name!r}")
+        if not isinstance(self.datum, str) or not self.datum:
+            raise StatisticsError(f"datum id of {self.name!r} must be a non-empty string", key=self.name)
+        if not isinstance(self.distribution, Distribution):
+            raise StatisticsError(f"{self.name}: distribution must be a Distribution, got "
+                                  f"{type(self.distribution).__name__}", key=self.datum)
+
+
+@dataclass
+class Datum:
+    """One datum for :meth:`InputSet.from_data`.
+
+    Attributes
+    ----------
+    id : str
+        Datum id (key path, e.g. ``"CH4.g.heat_capacity"``).
+    variables : list of InputVariable or (name, Distribution) pairs
+        Its variables; for ``InputVariable`` the ``datum`` field must equal ``id``.
+    correlation : array (n, n), optional
+        Correlation matrix of the datum's variables.
+    covariance : array (n, n), optional
+        Covariance matrix instead (its diagonal must equal the variables' u²; rows of exact
+        variables must be zero). Give at most one of the two.
+    """
+
+    id: str
+    variables: list = field(default_factory=list)
+    correlation: Any = None
+    covariance: Any = None
+
+
+def _fmt_pair(a: str, b: str, r: float) -> str:
+    return f"{a} ~ {b} (r = {r:.4g})"
+
+
+def check_correlation(R: Any, names: Sequence[str], what: str = "correlation matrix") -> np.ndarray:
+    """Validate a correlation matrix and return it as a float array.
+
+    Checks (in this order): square shape matching ``names``; finite entries; symmetry
+    (|R_ij − R_ji| ≤ 1e-10); unit diagonal; |R_ij| ≤ 1; positive semidefiniteness
+    (smallest eigenvalue ≥ −1e-10·max(1, D)). A failure raises
+    :class:`~uqthermo.errors.CorrelationError` naming the offending entries; for a
+    matrix that is not positive semidefinite these are the entries among the variables
+    that carry the eigenvector of the most negative eigenvalue (components ≥ 10 % of the
+    largest one). Nothing is ever "repaired".
+
+    The error object carries ``.entries`` (list of (name_a, name_b, r)) and ``.variables``.
+    """
+    names = list(names)
+    d = len(names)
+    try:
+        R = np.array(R, dtype=float)
+    except (TypeError, ValueError):
+        raise CorrelationError(f"{what} must be a numeric matrix") from None
+    if R.shape != (d, d):
+        raise CorrelationError(f"{what} has shape {R.shape}, expected ({d}, {d}) for {d} variables")
+    if d == 0:
+        return R
+
+    def fail(msg: str, pairs: list[tuple[int, int]], variables: Iterable[int] | None = None):
+        ents = [(names[i], names[j], float(R[i, j])) for i, j in pairs]
+        err = CorrelationError(msg, key=names[pairs[0][0]] if pairs else None)
+        err.entries = ents  # type: ignore[attr-defined]
+        err.variables = [names[i] for i in (variables if variables is not None else
+                                            sorted({k for p in pairs for k in p}))]  # type: ignore[attr-defined]
+        raise err
+
+    bad = np.argwhere(~np.isfinite(R))
+    if bad.size:
+        pairs = [(int(i), int(j)) for i, j in bad[:5]]
+        fail(f"{what} has non-finite entries: " + ", ".join(f"{names[i]} ~ {names[j]}" for i, j in pairs), pairs)
+    asym = np.argwhere(np.triu(np.abs(R - R.T) > SYMMETRY_TOL, 1))
+    if asym.size:
+        pairs = [(int(i), int(j)) for i, j in asym[:5]]
+        fail(f"{what} is not symmetric: " + ", ".join(
+            f"{names[i]} ~ {names[j]} ({R[i, j]:.4g} vs {R[j, i]:.4g})" for i, j in pairs), pairs)
+    diag = np.flatnonzero(np.abs(np.diag(R) - 1.0) > SYMMETRY_TOL)
+    if diag.size:
+        pairs = [(int(i), int(i)) for i in diag[:5]]
+        fail(f"{what} must have a unit diagonal: " + ", ".join(
+            f"{names[i]} ({R[i, i]:.4g})" for i, _ in pairs), pairs)
+    over = np.argwhere(np.triu(np.abs(R) > 1.0 + SYMMETRY_TOL, 1))
+    if over.size:
+        pairs = [(int(i), int(j)) for i, j in over[:5]]
+        fail(f"{what} has coefficients with |r| > 1: " + ", ".join(
+            _fmt_pair(names[i], names[j], R[i, j]) for i, j in pairs), pairs)
+    R = 0.5 * (R + R.T)
+    np.fill_diagonal(R, 1.0)
+    if d > 1:
+        w, V = np.linalg.eigh(R)
+        tol = PSD_TOL * max(1.0, d)
+        if w[0] < -tol:
+            v = np.abs(V[:, 0])
+            idx = [int(i) for i in np.flatnonzero(v >= 0.1 * v.max())]
+            pairs = [(i, j) for a, i in enumerate(idx) for j in idx[a + 1:] if R[i, j] != 0.0]
+            ents = ", ".join(_fmt_pair(names[i], names[j], R[i, j]) for i, j in pairs[:10])
+            more = f" and {len(pairs) - 10} more" if len(pairs) > 10 else ""
+            fail(f"{what} is not positive semidefinite (smallest eigenvalue {w[0]:.3g}); "
+                 f"inconsistent coefficients among {', '.join(names[i] for i in idx)}: {ents}{more}",
+                 pairs, idx)
+    return R
+
+
+class InputSet:
+    """Named inputs with marginal distributions and a full correlation matrix.
+
+    Parameters
+    ----------
+    variables : sequence of InputVariable
+        The model inputs, in the column order of the model's X[N, D].
+    correlation : array (D, D), optional
+        Correlation matrix (default: identity). Validated with :func:`check_correlation`.
+
+    Attributes
+    ----------
+    variables : list[InputVariable]
+    correlation : ndarray (D, D)
+    names : list[str]            variable names (column order)
+    data : list[str]             datum ids, unique, in order of first appearance
+    groups : dict[str, list[int]] datum id → column indices
+    estimates, stds, dofs : ndarray (D,)
+    """
+
+    def __init__(self, variables: Sequence[InputVariable], correlation: Any = None):
+        variables = list(variables)
+        for v in variables:
+            if not isinstance(v, InputVariable):
+                raise StatisticsError(f"expected InputVariable, got {type(v).__name__}")
+        names = [v.name for v in variables]
+        seen: set[str] = set()
+        for n in names:
+            if n in seen:
+                raise StatisticsError(f"duplicate input variable name {n!r}", key=n)
+            seen.add(n)
+        d = len(variables)
+        self.variables: list[InputVariable] = variables
+        self.names: list[str] = names
+        if correlation is None:
+            R = np.eye(d)
+        else:
+            R = check_correlation(correlation, names)
+        self.correlation: np.ndarray = R
+        self.correlation.setflags(write=False)
+        self.groups: dict[str, list[int]] = {}
+        for i, v in enumerate(variables):
+            self.groups.setdefault(v.datum, []).append(i)
+        self.data: list[str] = list(self.groups)
+        self.estimates = np.array([v.distribution.estimate for v in variables], dtype=float)
+        self.stds = np.array([v.distribution.std for v in variables], dtype=float)
+        self.dofs = np.array([v.distribution.dof for v in variables], dtype=float)
+        for a in (self.estimates, self.stds, self.dofs):
+            a.setflags(write=False)
+        self._factor = None  # lazily computed copula factor
+
+    # -- builders -------------------------------------------------------------------------
+    @classmethod
+    def from_data(cls, data: Sequence[Datum | Mapping[str, Any]],
+                  pairwise: Mapping[tuple[str, str], float] | Iterable[tuple[str, str, float]] | None = None
+                  ) -> InputSet:
+        """Assemble an input set from data with within-datum and datum-to-datum correlations.
+
+        Parameters
+        ----------
+        data : sequence of :class:`Datum` (or mappings with keys ``id``, ``variables``,
+            optional ``correlation`` / ``covariance``)
+        pairwise : mapping ``(a, b) -> r`` or iterable of ``(a, b, r)``
+            Correlation coefficients between data. ``a`` and ``b`` may be datum ids or
+            variable names. **Rule for multi-variable data:** a datum-to-datum coefficient
+            is accepted only between single-variable data (it is then the correlation of
+            the two variables). For a datum with several variables there is no unique
+            meaning, so it is rejected with a :class:`CorrelationError` asking for
+            variable-level coefficients (e.g. between ``"A.g.heat_capacity[a]"`` and
+            ``"B.g.heat_capacity[a]"``). Repeated pairs with different values and
+            self-correlations are rejected too.
+
+        The assembled matrix is validated as a whole (PSD check names the entries).
+        """
+        variables: list[InputVariable] = []
+        blocks: list[tuple[list[int], np.ndarray]] = []
+        datum_cols: dict[str, list[int]] = {}
+        for item in data:
+            if isinstance(item, Mapping):
+                try:
+                    item = Datum(item["id"], list(item.get("variables", [])),
+                                 item.get("correlation"), item.get("covariance"))
+                except KeyError:
+                    raise StatisticsError("each datum needs an 'id'") from None
+            if not isinstance(item, Datum):
+                raise StatisticsError(f"expected Datum, got {type(item).__name__}")
+            if item.id in datum_cols:
+                raise StatisticsError(f"duplicate datum id {item.id!r}", key=item.id)
+            if not item.variables:
+                raise StatisticsError(f"datum {item.id!r} has no variables", key=item.id)
+            cols = []
+            for v in item.variables:
+                if isinstance(v, InputVariable):
+                    if v.datum != item.id:
+                        raise StatisticsError(f"variable {v.name!r} belongs to datum {v.datum!r}, "
+                                              f"not {item.id!r}", key=item.id)
+                else:
+                    try:
+                        name, dist = v
+                    except (TypeError, ValueError):
+                        raise StatisticsError(f"datum {item.id!r}: variables must be InputVariable or "
+                                              "(name, Distribution) pairs", key=item.id) from None
+                    v = InputVariable(name, item.id, dist)
+                cols.append(len(variables))
+                variables.append(v)
+            datum_cols[item.id] = cols
+            vnames = [variables[c].name for c in cols]
+            if item.correlation is not None and item.covariance is not None:
+                raise CorrelationError(f"datum {item.id!r}: give a correlation or a covariance matrix, not both",
+                                       key=item.id)
+            if item.covariance is not None:
+                R = _covariance_to_correlation(item.covariance, [variables[c] for c in cols], item.id)
+                blocks.append((cols, R))
+            elif item.correlation is not None:
+                R = check_correlation(item.correlation, vnames, f"correlation matrix of {item.id}")
+                blocks.append((cols, R))
+        names = [v.name for v in variables]
+        index = {n: i for i, n in enumerate(names)}
+        if len(index) != len(names):
+            dup = next(n for n in names if names.count(n) > 1)
+            raise StatisticsError(f"duplicate input variable name {dup!r}", key=dup)
+        d = len(variables)
+        R = np.eye(d)
+        for cols, block in blocks:
+            R[np.ix_(cols, cols)] = block
+        if pairwise is not None:
+            items = pairwise.items() if isinstance(pairwise, Mapping) else pairwise
+            given: dict[tuple[int, int], float] = {}
+            for entry in items:
+                try:
+                    if isinstance(pairwise, Mapping):
+                        (a, b), r = entry
+                    else:
+                        a, b, r = entry
+                except (TypeError, ValueError):
+                    raise CorrelationError("pairwise correlations must be (a, b, r) entries") from None
+                i, j = (_resolve(a, index, datum_cols), _resolve(b, index, datum_cols))
+                try:
+                    r = float(r)
+                except (TypeError, ValueError):
+                    raise CorrelationError(f"correlation between {a} and {b} must be a number, got {r!r}",
+                                           key=str(a)) from None
+                if not math.isfinite(r) or abs(r) > 1.0:
+                    raise CorrelationError(f"correlation between {a} and {b} must lie in [-1, 1], got {r:g}",
+                                           key=str(a))
+                if i == j:
+                    raise CorrelationError(f"correlation of {a} with itself is not allowed", key=str(a))
+                if variables[i].datum == variables[j].datum:
+                    raise CorrelationError(
+                        f"{a} and {b} belong to the same datum {variables[i].datum!r}: give its "
+                        "correlation matrix instead", key=str(a))
+                k = (min(i, j), max(i, j))
+                if k in given and given[k] != r:
+                    raise CorrelationError(f"correlation between {a} and {b} given twice "
+                                           f"({given[k]:g} and {r:g})", key=str(a))
+                given[k] = r
+                R[i, j] = R[j, i] = r
+        return cls(variables, R)
+
+    # -- basic properties -----------------------------------------------------------------
+    def __len__(self) -> int:
+        return len(self.variables)
+
+    @property
+    def distributions(self) -> list[Distribution]:
+        return [v.distribution for v in self.variables]
+
+    def index(self, name: str) -> int:
+        """Column index of a variable."""
+        try:
+            return self.names.index(name)
+        except ValueError:
+            raise StatisticsError(f"unknown input variable {name!r}", key=name) from None
+
+    def covariance(self) -> np.ndarray:
+        """Covariance matrix Σ = diag(u) R diag(u), shape (D, D) (GUM 5.2.2)."""
+        s = np.asarray(self.stds)
+        if not np.all(np.isfinite(s)):
+            bad = [self.names[i] for i in np.flatnonzero(~np.isfinite(s))]
+            raise StatisticsError(f"infinite standard uncertainty for {', '.join(bad)} "
+                                  "(Student t with dof <= 2)", key=bad[0])
+        return s[:, None] * self.correlation * s[None, :]
+
+    def correlated_pairs(self, tol: float = 0.0) -> list[tuple[str, str, float]]:
+        """Off-diagonal correlations with |r| > tol as (name_a, name_b, r), upper triangle."""
+        iu = np.argwhere(np.triu(np.abs(self.correlation) > tol, 1))
+        return [(self.names[i], self.names[j], float(self.correlation[i, j])) for i, j in iu]
+
+    def datum_correlations(self) -> list[tuple[str, str, float]]:
+        """Correlations between *different* data (upper triangle, variable names)."""
+        d = [v.datum for v in self.variables]
+        return [(a, b, r) for a, b, r in self.correlated_pairs()
+                if d[self.names.index(a)] != d[self.names.index(b)]]
+
+    def with_scaled_uncertainty(self, factors: Mapping[str, float]) -> InputSet:
+        """A copy with the uncertainty of the named data scaled (datum id → factor ≥ 0).
+
+        Each variable's distribution is replaced by ``distribution.scaled(factor)``
+        (0 → :class:`Exact` at the estimate). Correlations are kept. Unknown datum ids
+        raise :class:`StatisticsError`.
+        """
+        for k in factors:
+            if k not in self.groups:
+                raise StatisticsError(f"unknown datum {k!r}", key=str(k))
+        new = []
+        for v in self.variables:
+            f = factors.get(v.datum)
+            new.append(v if f is None else InputVariable(v.name, v.datum, v.distribution.scaled(f)))
+        out = InputSet(new, None)
+        out.correlation = self.correlation  # already validated; identical matrix
+        return out
+
+    def subset(self, data: Iterable[str]) -> list[int]:
+        """Column indices of the given data (in column order)."""
+        cols: list[int] = []
+        for k in data:
+            if k not in self.groups:
+                raise StatisticsError(f"unknown datum {k!r}", key=str(k))
+            cols.extend(self.groups[k])
+        return sorted(cols)
+
+    # -- sampling -------------------------------------------------------------------------
+    def _copula_factor(self):
+        """(columns that need the copula, lower factor L with L Lᵀ = R_sub) — cached."""
+        if self._factor is None:
+            unc = np.flatnonzero(self.stds > 0)
+            R = self.correlation[np.ix_(unc, unc)]
+            off = R - np.eye(len(unc))
+            linked = unc[np.any(off != 0.0, axis=1)] if len(unc) else unc
+            if len(linked) == 0:
+                self._factor = (linked, None)
+            else:
+                Rs = self.correlation[np.ix_(linked, linked)]
+                try:
+                    L = np.linalg.cholesky(Rs)
+                except np.linalg.LinAlgError:
+                    # positive semidefinite but singular (e.g. r = ±1): symmetric square root
+                    w, V = np.linalg.eigh(Rs)
+                    L = V * np.sqrt(np.clip(w, 0.0, None))[None, :]
+                self._factor = (linked, L)
+        return self._factor
+
+    def from_uniform(self, U: np.ndarray) -> np.ndarray:
+        """Map independent uniforms U[N, D] to input samples X[N, D].
+
+        Independent uncertain variables: x_j = G_j⁻¹(u_j) (JCGM 101 §6.3, inverse-CDF
+        sampling). Correlated variables (Gaussian copula): z = Φ⁻¹(u) (u clipped to
+        [2⁻⁵³, 1 − 2⁻⁵³]), z' = z Lᵀ with L Lᵀ = R (Cholesky; eigen square root when R is
+        singular), x_j = G_j⁻¹(Φ(z'_j)). For normal (and lognormal) marginals the last
+        step is done exactly as x̂ + u·z' (resp. exp(μ + σz')), so all-normal inputs are
+        exactly multivariate normal (JCGM 101 §6.4.8). Exact inputs are constant columns
+        and are left out of the factorisation.
+        """
+        U = np.asarray(U, dtype=float)
+        d = len(self.variables)
+        if U.ndim != 2 or U.shape[1] != d:
+            raise StatisticsError(f"uniform sample must have shape (N, {d}), got {U.shape}")
+        n = U.shape[0]
+        X = np.empty((n, d), dtype=float)
+        linked, L = self._copula_factor()
+        linked_set = set(int(i) for i in linked)
+        for j, v in enumerate(self.variables):
+            if j in linked_set:
+                continue
+            dist = v.distribution
+            if dist.std == 0.0:
+                X[:, j] = dist.estimate
+            else:
+                X[:, j] = dist.ppf(np.clip(U[:, j], U_CLIP, 1.0 - U_CLIP))
+        if L is not None:
+            Z = special.ndtri(np.clip(U[:, linked], U_CLIP, 1.0 - U_CLIP))
+            Zc = Z @ L.T
+            for k, j in enumerate(linked):
+                X[:, j] = self.variables[j].distribution.from_standard_normal(Zc[:, k])
+        return X
+
+    def describe(self) -> list[dict[str, Any]]:
+        """One row per variable: name, datum, distribution text, estimate, u, dof."""
+        return [{"name": v.name, "datum": v.datum, "distribution": v.distribution.describe(),
+                 "estimate": v.distribution.estimate, "standard_uncertainty": v.distribution.std,
+                 "dof": v.distribution.dof} for v in self.variables]
+
+    def __repr__(self) -> str:
+        return f"InputSet({len(self.variables)} variables in {len(self.data)} data)"
+
+
+def _resolve(key: Any, index: Mapping[str, int], datum_cols: Mapping[str, list[int]]) -> int:
+    key = str(key)
+    if key in datum_cols:
+        cols = datum_cols[key]
+        if len(cols) != 1:
+            raise CorrelationError(
+                f"datum {key!r} has {len(cols)} variables: a datum-to-datum correlation is only defined "
+                "between single-variable data; correlate its variables individually", key=key)
+        return cols[0]
+    if key in index:
+        return index[key]
+    raise StatisticsError(f"correlation refers to unknown datum or variable {key!r}", key=key)
+
+
+def _covariance_to_correlation(cov: Any, variables: list[InputVariable], datum: str) -> np.ndarray:
+    names = [v.name for v in variables]
+    n = len(variables)
+    try:
+        C = np.array(cov, dtype=float)
+    except (TypeError, ValueError):
+        raise CorrelationError(f"covariance matrix of {datum} must be numeric", key=datum) from None
+    if C.shape != (n, n):
+        raise CorrelationError(f"covariance matrix of {datum} has shape {C.shape}, expected ({n}, {n})", key=datum)
+    if not np.all(np.isfinite(C)):
+        raise CorrelationError(f"covariance matrix of {datum} has non-finite entries", key=datum)
+    u = np.array([v.distribution.std for v in variables])
+    diag = np.diag(C)
+    for i in range(n):
+        if diag[i] < 0:
+            raise CorrelationError(f"covariance matrix of {datum}: negative variance for {names[i]}", key=datum)
+        if not math.isclose(math.sqrt(diag[i]), u[i], rel_tol=1e-6, abs_tol=0.0):
+            raise CorrelationError(
+                f"covariance matrix of {datum}: sqrt(variance) of {names[i]} is {math.sqrt(diag[i]):.6g} but its "
+                f"distribution has u = {u[i]:.6g}", key=datum)
+    s = np.where(u > 0, u, 1.0)
+    R = C / s[:, None] / s[None, :]
+    zero = u == 0
+    if np.any(np.abs(C[zero]) > 0):
+        raise CorrelationError(f"covariance matrix of {datum}: exact variables must have zero rows", key=datum)
+    R[zero, :] = 0.0
+    R[:, zero] = 0.0
+    np.fill_diagonal(R, 1.0)
+    return check_correlation(R, names, f"covariance matrix of {datum}")
+
