@@ -455,6 +455,9 @@ def _draw_plan(plan: Mapping) -> Figure:
 
 def figure_specs(results: Mapping) -> list[FigureSpec]:
     """Every figure the results support, in report order."""
+    from .tables import check_results
+
+    check_results(results)
     specs: list[FigureSpec] = []
     for oi, (o, slug) in enumerate(zip(outputs(results), slugs(results))):
         pts = points(o)

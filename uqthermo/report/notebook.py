@@ -21,11 +21,7 @@ class ResultsView:
     """
 
     def __init__(self, results: Mapping):
-        if not isinstance(results, Mapping):
-            from ..errors import InputError
-
-            raise InputError("results must be a mapping (the parsed results.json)", key="results")
-        self.results = results
+        self.results = tb.check_results(results)
 
     def to_dataframe(self) -> pd.DataFrame:
         """One row per output point (full precision)."""

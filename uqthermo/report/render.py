@@ -27,13 +27,13 @@ from pathlib import Path
 from typing import Any
 
 import jinja2
-from markupsafe import Markup
+from markupsafe import Markup, escape
 
 from . import style
 from . import tables as tb
 from .tables import (
-    DRIVER_WHY, DisplayTable, coverage_probability, fmt_dof, fmt_fixed, fmt_interval, fmt_k, fmt_probability,
-    fmt_temperature, fmt_u, fmt_value, headline_index, kind_label, needs_cautions, num, outputs, pair, pct_label,
+    DisplayTable, coverage_probability, fmt_dof, fmt_fixed, fmt_interval, fmt_k, fmt_probability,
+    fmt_temperature, fmt_u, fmt_value, headline_index, kind_label, num, outputs, pair, pct_label,
     points, slugs, text, uncertainty_decimals,
 )
 
@@ -100,11 +100,21 @@ def _md_finalize(value: Any) -> Any:
     return md_escape(value)
 
 
+def html_breakable(value: Any) -> Markup:
+    """HTML-escape ``value``, then allow line breaks after ``.``, ``_`` and ``/`` (``<wbr>``).
+
+    Long datum ids such as ``C6H12.transition.l-g.enthalpy`` can then wrap in narrow
+    (printed) tables. Escaping happens first, so no user markup survives.
+    """
+    return Markup(re.sub(r"([._/])", r"\1<wbr>", str(escape(text(value)))))
+
+
 def _environment(kind: str) -> jinja2.Environment:
     loader = jinja2.FileSystemLoader(str(_TEMPLATES))
     if kind == "html":
         env = jinja2.Environment(loader=loader, autoescape=True, trim_blocks=True, lstrip_blocks=True,
                                  undefined=jinja2.StrictUndefined)
+        env.filters["breakable"] = html_breakable
     else:
         env = jinja2.Environment(loader=loader, autoescape=False, finalize=_md_finalize, trim_blocks=True,
                                  lstrip_blocks=True, keep_trailing_newline=True, undefined=jinja2.StrictUndefined)
@@ -234,12 +244,20 @@ def _case_rows(results: Mapping) -> list[dict]:
                     "monte-carlo": "Monte Carlo (JCGM 101) only"}.get(str(run.get("method") or "").lower(), run.get("method")), False),
         ("Monte Carlo trials N", ("adaptive (JCGM 101 7.9)" + (f", {fmt_value(run.get('samples'))} used" if isinstance(run.get("samples"), (int, float)) else ""))
          if run.get("adaptive") else (fmt_value(run.get("samples")) if run.get("samples") is not None else None), False),
+        ("Trials requested", fmt_value(run.get("samples_requested"))
+         if isinstance(run.get("samples_requested"), (int, float)) and run.get("samples_requested") != run.get("samples") else None, False),
+        ("Adaptive run converged", run.get("mc_converged") if run.get("adaptive") else None, False),
         ("Sampling", run.get("sampling"), False),
+        ("Quantiles", run.get("quantile_method"), False),
+        ("Significant digits for the validation tolerance", run.get("significant_digits"), False),
+        ("Uncertain data / input variables",
+         f"{fmt_value(run.get('n_data'))} / {fmt_value(run.get('n_variables'))}" if run.get("n_data") is not None else None, False),
         ("Coverage probability", pct_label(coverage_probability(results)), False),
         ("Reference temperature", f"{fmt_temperature(run.get('reference_temperature_K'))} K" if run.get("reference_temperature_K") is not None else None, False),
         ("Engine", run.get("engine"), False),
         ("Run time", f"{fmt_fixed(run.get('duration_s'), 1)} s" if num(run.get("duration_s")) is not None else None, False),
         ("Python / numpy", " / ".join(text(x) for x in (run.get("python"), run.get("numpy")) if x), False),
+        ("Platform", run.get("platform"), False),
         ("Results format", results.get("format"), True),
     ]
     return [{"label": a, "value": text(b), "mono": m} for a, b, m in rows if b not in (None, "")]
@@ -345,10 +363,7 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
     """
     from .figures import figure_specs
 
-    if not isinstance(results, Mapping):
-        from ..errors import InputError
-
-        raise InputError("results must be a mapping (the parsed results.json)", key="results")
+    tb.check_results(results)
     numbering = _Numbering()
     specs = figure_specs(results) if figures else []
     spec_titles = {s.name: (s.title, s.caption) for s in specs}
@@ -406,15 +421,11 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
                 if f:
                     entry["figures"].append(f)
             for t in (tb.mc_table(results, o, f"mc-{slug}"), tb.linear_table(results, o, f"linear-{slug}"),
-                      tb.bounds_table(results, o, f"bounds-{slug}"), tb.exceedance_table(results, o, f"exceedance-{slug}")):
+                      tb.bounds_table(results, o, f"bounds-{slug}"), tb.exceedance_table(results, o, f"exceedance-{slug}"),
+                      tb.safety_table(results, o, f"safety-{slug}")):
                 if t:
                     entry["tables"].append(numbering.table(t))
-            method = hp.get("drivers_method")
-            sens = hp.get("sensitivity") or {}
-            note = text(hp.get("drivers_reason")) or DRIVER_WHY.get(str(method), "")
-            if sens.get("method"):
-                note += f" Estimator: {text(sens.get('method'))}."
-            entry["drivers_note"] = note.strip()
+            entry["drivers_note"] = tb.drivers_note(results, hp)
             entry["drivers_figure"] = _figure_entry(f"drivers-{slug}", rmap, spec_titles, numbering)
             dt = tb.drivers_table(o, hp, f"drivers-{slug}")
             entry["drivers_table"] = numbering.table(dt) if dt else None
@@ -427,6 +438,10 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
 
     plan = results.get("plan")
     ctx["plan"] = None
+    if not (isinstance(plan, Mapping) and plan) and results.get("candidates"):
+        plan = {"candidates": results.get("candidates")}   # candidates stated, planner not run
+    elif isinstance(plan, Mapping) and plan and not plan.get("candidates") and results.get("candidates"):
+        plan = dict(plan, candidates=results.get("candidates"))
     if isinstance(plan, Mapping) and plan:
         tgt = plan.get("target") or {}
         best = plan.get("best") or {}
@@ -470,12 +485,21 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
             notes.append(f"{e['name']}: the linear method is not validated at {len(e['not_validated'])} of "
                          f"{len(points(outputs(results)[e['number'] - 1]))} point(s) (T = {', '.join(e['not_validated'])} K); use the Monte Carlo results there.")
     ctx["auto_notes"] = notes
-    ctx["cautions_needed"] = needs_cautions(results)
+    safety = tb.safety_relevant(results)
     cautions = [text(c) for c in results.get("cautions") or [] if text(c)]
-    extra = list(DEFAULT_CAUTIONS)
-    if any(num(o.get("limit_K")) is not None or any(p.get("exceedance_probability") is not None for p in points(o)) for o in outputs(results)):
-        extra.append(LIMIT_CAUTION)
-    ctx["cautions"] = cautions + [c for c in extra if c not in cautions]
+    ctx["safety"] = safety
+    ctx["cautions_needed"] = safety or bool(cautions)
+    if safety:
+        # defaults, unless the run's own cautions already say the same thing
+        low = " ".join(cautions).lower()
+        for c, word in zip(DEFAULT_CAUTIONS, ("calorimetry", "codes", "model")):
+            if word not in low:
+                cautions.append(c)
+        if any(num(o.get("limit_K")) is not None or any(p.get("exceedance_probability") is not None for p in points(o))
+               for o in outputs(results)) and "exceedance" not in low:
+            cautions.append(LIMIT_CAUTION)
+    ctx["cautions"] = cautions
+    ctx["cautions_title"] = "Cautions for safety use" if safety else "Cautions"
 
     toc = [("summary", "Summary"), ("case", "Case and provenance"), ("method", "Method"), ("inputs", "Input data"),
            ("results", "Results")]
@@ -483,7 +507,7 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
         toc.append(("plan", "Data purchase plan"))
     toc.append(("warnings", "Warnings and notes"))
     if ctx["cautions_needed"]:
-        toc.append(("cautions", "Cautions for safety use"))
+        toc.append(("cautions", ctx["cautions_title"]))
     ctx["toc"] = [{"id": a, "n": i + 1, "label": b} for i, (a, b) in enumerate(toc)]
     ctx["sec"] = {t["id"]: t["n"] for t in ctx["toc"]}
     return ctx
@@ -503,6 +527,7 @@ def render_html(results: Mapping, figures: bool = True, _rendered: Sequence | No
     figures : bool
         Draw and embed the figures (default True).
     """
+    tb.check_results(results)
     if figures and _rendered is None:
         from .figures import render_figures
 
@@ -533,6 +558,7 @@ def write_report(results: Mapping, out_dir: Path, formats: Sequence[str] = ("htm
     from ..errors import InputError
     from .figures import make_figures, render_figures
 
+    tb.check_results(results)
     formats = tuple(formats)
     bad = [f for f in formats if f not in ("html", "md")]
     if bad:

@@ -192,6 +192,10 @@ footer { margin-top: 48px; padding-top: 10px; border-top: 1px solid var(--rule);
   thead { display: table-header-group; }
   tr { break-inside: avoid; page-break-inside: avoid; }
   .table-wrap { overflow: visible; }
+  table { font-size: 7.6pt; }
+  th, td { padding: 2px 5px; }
+  td.l { white-space: normal; }
+  td.w { min-width: 5em; }
   figure img { max-width: 100%; border: 0; }
   tbody tr:nth-child(even) td { background: none; }
 }

@@ -86,6 +86,15 @@ def kind_symbol(kind: str | None) -> str:
     return KIND_LABELS.get(kind or "", ("", "y"))[1]
 
 
+def check_results(results: Any) -> Mapping:
+    """Raise InputError unless ``results`` is a mapping (the parsed results.json)."""
+    if not isinstance(results, Mapping):
+        from ..errors import InputError
+
+        raise InputError(f"results must be a mapping (the parsed results.json), not {type(results).__name__}", key="results")
+    return results
+
+
 def outputs(results: Mapping) -> list[dict]:
     return [o for o in (results.get("outputs") or []) if isinstance(o, Mapping)]
 
@@ -175,10 +184,8 @@ def slugs(results: Mapping) -> list[str]:
     return out
 
 
-def needs_cautions(results: Mapping) -> bool:
-    """True when a safety cautions section must be printed."""
-    if results.get("cautions"):
-        return True
+def safety_relevant(results: Mapping) -> bool:
+    """True when results may feed safety decisions (heat release, adiabatic rise, or a limit)."""
     for o in outputs(results):
         if o.get("kind") in SAFETY_KINDS:
             return True
@@ -451,6 +458,8 @@ def inputs_table(results: Mapping) -> DisplayTable:
             value, ustr = f"{len(est)} coefficients †", "per coefficient †"
             t.notes.append(f"† {text(i.get('datum'))}: coefficients (value ± u) {'; '.join(parts)}"
                            + (f" [{text(i.get('unit'))}]" if i.get("unit") else "") + ".")
+        elif est is None and (num(i.get("n_parameters")) or 1) > 1:
+            value, ustr = f"{int(num(i.get('n_parameters')))} coefficients", "per coefficient"
         else:
             d = uncertainty_decimals(u)
             value = fmt_fixed(est, d) if d is not None else fmt_value(est)
@@ -460,10 +469,15 @@ def inputs_table(results: Mapping) -> DisplayTable:
         if lib not in (None, False, ""):
             lib_s = "data library" if lib is True else f"data library: {text(lib)}"
             source = f"{source} ({lib_s})" if source else lib_s
+        stated_s = text(i.get("stated")) or "—"
+        if i.get("assumed"):
+            stated_s += " (assumed)"
         t.rows.append([
-            text(i.get("datum")), text(i.get("quantity")), value, text(i.get("stated")) or "—", ustr,
+            text(i.get("datum")), text(i.get("quantity")), value, stated_s, ustr,
             text(i.get("unit")), text(i.get("distribution")) or "—", source or "—",
         ])
+    if any(i.get("assumed") for i in rows):
+        t.notes.append("(assumed): no uncertainty was stated in the case; the tool's default for that kind of datum was used.")
     n_multi = [i for i in rows if (num(i.get("n_parameters")) or 1) > 1]
     if n_multi:
         t.notes.append("Heat-capacity data with several coefficients count as one datum in the driver ranking; their parameter count is in tables/inputs.csv.")
@@ -540,26 +554,98 @@ def linear_table(results: Mapping, output: Mapping, key: str) -> DisplayTable:
     return t
 
 
+def _bounds(point: Mapping) -> tuple[dict, str]:
+    """One-sided bounds {P01, P05, P95, P99} and their basis, from ``margins`` or ``monte_carlo.one_sided``.
+
+    ``margins`` (as written by the run) names bounds by confidence level:
+    ``lower_P95`` is the 5th percentile, ``upper_P95`` the 95th, ``upper_P95_margin``
+    = upper_P95 − estimate, ``lower_P95_margin`` = estimate − lower_P95.
+    """
+    mg = point.get("margins") or {}
+    os_ = (point.get("monte_carlo") or {}).get("one_sided") or {}
+    b = {
+        "P01": num(mg.get("lower_P99")), "P05": num(mg.get("lower_P95")),
+        "P95": num(mg.get("upper_P95")), "P99": num(mg.get("upper_P99")),
+    }
+    for k in b:
+        if b[k] is None:
+            b[k] = num(os_.get(k))
+    basis = text(mg.get("basis")) or ("Monte Carlo quantiles" if os_ else "")
+    return b, basis
+
+
 def bounds_table(results: Mapping, output: Mapping, key: str) -> DisplayTable:
     unit = _unit(output)
     t = DisplayTable(
-        key, f"One-sided bounds and design margins (Monte Carlo), in {unit}",
-        ["T / K", "P01", "P05", "P95", "P99", "Margin P95", "Margin P99"],
-        ["r"] * 7,
+        key, f"One-sided bounds and design margins, in {unit}",
+        ["T / K", "P01", "P05", "P95", "P99", "y − P05", "P95 − y", "y − P01", "P99 − y"],
+        ["r"] * 9,
     )
+    bases = set()
     for p in points(output):
-        mc = p.get("monte_carlo") or {}
-        os_ = mc.get("one_sided") or {}
-        mg = p.get("margins") or {}
-        if not os_ and not mg:
+        b, basis = _bounds(p)
+        if all(v is None for v in b.values()):
             continue
-        dec = uncertainty_decimals(mc.get("standard_uncertainty") or (p.get("linear") or {}).get("standard_uncertainty"))
+        bases.add(basis)
+        mg = p.get("margins") or {}
+        y = point_estimate(p)
+        dec = uncertainty_decimals(point_u(p))
+
+        def margin(key: str, bound: float | None, upper: bool) -> str:
+            m = num(mg.get(key))
+            if m is None and bound is not None and y is not None:
+                m = bound - y if upper else y - bound
+            return fmt_fixed(m, dec)
+
         t.rows.append([fmt_temperature(p.get("temperature_K"))]
-                      + [fmt_fixed(os_.get(k), dec) for k in ("P01", "P05", "P95", "P99")]
-                      + [fmt_fixed(mg.get(k), dec) for k in ("P95", "P99")])
+                      + [fmt_fixed(b[k], dec) for k in ("P01", "P05", "P95", "P99")]
+                      + [margin("lower_P95_margin", b["P05"], False), margin("upper_P95_margin", b["P95"], True),
+                         margin("lower_P99_margin", b["P01"], False), margin("upper_P99_margin", b["P99"], True)])
     if t.rows:
-        t.notes.append("Pxx is the xx-th percentile of the output distribution (one-sided bound). "
-                       "The margin is the percentile minus the estimate: what to add to the estimate for a one-sided design value.")
+        t.notes.append("Pxx is the xx-th percentile of the output distribution: P05 and P95 are one-sided 95 % bounds, P01 and P99 "
+                       "one-sided 99 % bounds. The margins are their distances from the estimate y: what to subtract from or add "
+                       "to y for a one-sided design value." + (f" Basis: {', '.join(sorted(x for x in bases if x))}." if any(bases) else ""))
+    dv = [num((p.get("margins") or {}).get("design_value")) for p in points(output)]
+    dv = [d for d in dv if d is not None]
+    if dv:
+        t.notes.append(f"Design value stated in the case: {fmt_value(dv[0])} {unit}; compare it with the one-sided bounds.")
+    return t
+
+
+def safety_table(results: Mapping, output: Mapping, key: str) -> DisplayTable:
+    """Thermal-safety indicators of an adiabatic output (final temperature, MTSR, criticality class)."""
+    t = DisplayTable(key, "Thermal-safety indicators (estimates; see the cautions)", ["Indicator", "Value"], ["w", "r"])
+    pts = points(output)
+    if output.get("kind") != "adiabatic_temperature_rise" or not pts:
+        return t
+    p = pts[0]
+    dec = uncertainty_decimals(point_u(p))
+
+    def add(label: str, value: str) -> None:
+        if value not in ("—", ""):
+            t.rows.append([label, value])
+
+    add("Start temperature / K", fmt_temperature(output.get("start_temperature_K")))
+    add("Final temperature T_start + ΔT_ad / K", fmt_fixed(p.get("final_temperature_K"), dec))
+    add("Limit / K", fmt_temperature(output.get("limit_K") if output.get("limit_K") is not None else p.get("limit_K")))
+    if p.get("exceedance_probability") is not None:
+        add("P(final temperature > limit)", fmt_probability(p.get("exceedance_probability"), p.get("exceedance_standard_error")))
+    add("Process temperature / K", fmt_temperature(output.get("process_temperature_K")))
+    if num(output.get("accumulation")) is not None:
+        add("Accumulation of unreacted material", fmt_sig(output.get("accumulation"), 3))
+    add("Maximum temperature of the synthesis reaction (MTSR) / K", fmt_fixed(p.get("mtsr_K"), dec))
+    add("Maximum technical temperature (MTT) / K", fmt_temperature(output.get("mtt_K")))
+    add("T_D24 (24 h time to maximum rate) / K", fmt_temperature(output.get("td24_K")))
+    if p.get("criticality_class") is not None:
+        add("Criticality class (1 = lowest, 5 = highest)", text(p.get("criticality_class")))
+    probs = p.get("criticality_class_probabilities")
+    if isinstance(probs, Mapping) and probs:
+        add("Probability of each criticality class", "; ".join(f"{text(k)}: {fmt_fixed(100 * (num(v) or 0), 1)} %" for k, v in probs.items()))
+    for k, lab in (("p_mtsr_above_mtt", "P(MTSR > MTT)"), ("p_mtsr_above_td24", "P(MTSR > T_D24)")):
+        if p.get(k) is not None:
+            add(lab, fmt_probability(p.get(k), p.get(k + "_standard_error")))
+    if len(t.rows) <= 1:
+        t.rows = []
     return t
 
 
@@ -579,14 +665,41 @@ def exceedance_table(results: Mapping, output: Mapping, key: str) -> DisplayTabl
     return t
 
 
-DRIVER_WHY = {
+DRIVER_WHAT = {
     "linear": ("Shares are the linear variance contributions c_i² u²(x_i) / u²(y) (GUM 5.1.3), summed over the "
-               "coefficients of each datum; the linear method was adequate here, so these shares are additive and exact "
-               "for the linearised model."),
-    "sobol": ("Shares are variance-based (Sobol) indices estimated from the Monte Carlo sample, because the linear "
-              "method was not adequate (not validated, or the model is markedly non-linear); they capture non-linear "
-              "effects that the linear contributions miss."),
+               "coefficients of each datum, with the net effect of correlations as a separate entry."),
+    "sobol": ("Shares are first-order variance-based (Sobol) indices of each datum, estimated by sampling the model; "
+              "the total-order indices ST also count interactions."),
 }
+DRIVER_WHY = {
+    "linear": "the linear method is adequate for this output, so the shares are additive",
+    "sobol": "the linear method is not adequate here (non-linear model or non-normal inputs), and variance-based indices capture what linear contributions miss",
+}
+
+
+def drivers_note(results: Mapping, point: Mapping) -> str:
+    """What the driver shares are and why that method was used (plain text)."""
+    run = results.get("run") or {}
+    method = str(point.get("drivers_method") or run.get("drivers_method") or "")
+    reason = text(point.get("drivers_reason")) or (text(run.get("drivers_reason")) if run.get("drivers_reason") != "per point" else "")
+    parts = [DRIVER_WHAT.get(method, f"Ranking method: {text(method) or 'not stated'}.")]
+    why = reason or DRIVER_WHY.get(method, "")
+    if why:
+        parts.append(f"Method chosen because {why}.")
+    sens = point.get("sensitivity") or {}
+    if str(sens.get("method")) == "sobol":
+        est = []
+        if num(sens.get("n_base")) is not None:
+            est.append(f"N_base = {fmt_value(sens.get('n_base'))}")
+        if num(sens.get("conf_level")) is not None:
+            est.append(f"{pct_label(num(sens.get('conf_level')))} confidence intervals")
+        if est:
+            parts.append("Sobol estimator: " + ", ".join(est) + ".")
+        if sens.get("independent_data") is False:
+            parts.append("Correlations between data were left out of the Sobol sample; the linear shares show their effect.")
+        for n in sens.get("notes") or []:
+            parts.append(text(n))
+    return " ".join(parts)
 
 
 def drivers_table(output: Mapping, point: Mapping, key: str) -> DisplayTable:
@@ -641,11 +754,18 @@ def whatif_table(output: Mapping, point: Mapping, key: str, p_cov: float) -> Dis
     )
     lin_u = num((point.get("linear") or {}).get("standard_uncertainty"))
     dec = uncertainty_decimals(lin_u if lin_u is not None else point_u(point))
+    stated = any(num(w.get("U_stated")) is not None for w in point.get("whatif") or [])
+    if stated:
+        t.columns.insert(4, "U with candidate purchase")
+        t.align.insert(4, "r")
     for w in point.get("whatif") or []:
         now = num(w.get("U_now"))
         rem = num(w.get("U_removed"))
         red = fmt_fixed(100 * (1 - rem / now), 1) if now and rem is not None else "—"
-        t.rows.append([text(w.get("datum")), fmt_fixed(now, dec), fmt_fixed(w.get("U_halved"), dec), fmt_fixed(rem, dec), red])
+        row = [text(w.get("datum")), fmt_fixed(now, dec), fmt_fixed(w.get("U_halved"), dec), fmt_fixed(rem, dec), red]
+        if stated:
+            row.insert(4, fmt_fixed(w.get("U_stated"), dec))
+        t.rows.append(row)
     return t
 
 
@@ -655,7 +775,9 @@ def plan_candidates_table(plan: Mapping) -> DisplayTable:
     for c in plan.get("candidates") or []:
         if not isinstance(c, Mapping):
             continue
-        t.rows.append([text(c.get("id")), text(c.get("datum")), text(c.get("action")) or "—", fmt_sig(c.get("factor"), 2), fmt_cost(c.get("cost"))])
+        factor = fmt_sig(c.get("factor"), 2) if num(c.get("factor")) is not None else (
+            f"u → {fmt_sig(c.get('u'), 2)}" if num(c.get("u")) is not None else "—")
+        t.rows.append([text(c.get("id")) or "—", text(c.get("datum")), text(c.get("action") or c.get("note")) or "—", factor, fmt_cost(c.get("cost"))])
     return t
 
 
@@ -691,6 +813,7 @@ def results_table(results: Mapping) -> pd.DataFrame:
     exceedance_probability, exceedance_standard_error, top_driver, top_driver_share,
     correlation_share, drivers_method.
     """
+    check_results(results)
     rows = []
     for o in outputs(results):
         for p in points(o):
@@ -802,8 +925,8 @@ def csv_safe(df: pd.DataFrame) -> pd.DataFrame:
     """Guard text cells against spreadsheet formula injection (OWASP "CSV injection")."""
     out = df.copy()
     for c in out.columns:
-        if out[c].dtype == object:
-            out[c] = out[c].map(_csv_cell)
+        if out[c].dtype == object or pd.api.types.is_string_dtype(out[c]):
+            out[c] = out[c].map(_csv_cell).astype(object)
     return out
 
 
