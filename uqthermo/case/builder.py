@@ -1,0 +1,358 @@
+"""Turn a :class:`~uqthermo.case.schema.Case` into a vectorised model and its uncertain inputs.
+
+The model is one function ``f(X[N, D]) -> Y[N, M]``: each row of ``X`` is one draw of
+all uncertain inputs (the columns of the :class:`~uqthermo.uq.inputs.InputSet`), each
+column of ``Y`` one output point (an output at one temperature) in report units. The
+physics is evaluated for all ``N`` rows at once — no per-sample loop — by handing the
+thermo layer arrays of shape ``(N, 1)`` (scalars) and ``(N, 1, P)`` (Cp coefficient
+vectors) that broadcast against the temperature grid ``(M,)``.
+
+Auxiliary columns (indicators such as "final temperature above the limit") follow the
+reported columns; their Monte Carlo mean is an exceedance probability.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Callable
+
+import numpy as np
+
+from ..errors import InputError, Problem, UqthermoError, ValidityError
+from ..thermo import reaction as rx
+from ..thermo.energy import solve_final_temperature
+from ..uq.inputs import InputSet, InputVariable
+from .schema import Case, OutputSpec
+
+LN10 = math.log(10.0)
+
+UNITS = {
+    "reaction_enthalpy": "kJ/mol",
+    "reaction_gibbs_energy": "kJ/mol",
+    "equilibrium_constant": "1",
+    "heating_enthalpy": "kJ/mol",
+    "heat_release": "kW",
+    "adiabatic_temperature_rise": "K",
+}
+QUANTITY = {
+    "reaction_enthalpy": "ΔrH",
+    "reaction_gibbs_energy": "ΔrG",
+    "equilibrium_constant": "log10 K",
+    "heating_enthalpy": "ΔH",
+    "heat_release": "Q",
+    "adiabatic_temperature_rise": "ΔT_ad",
+}
+
+
+@dataclass
+class Column:
+    output: int            # index into case.outputs
+    temperature: float     # K (nominal for uncertain temperatures)
+
+
+@dataclass
+class Aux:
+    output: int
+    name: str              # "exceedance" | "mtsr_above_mtt" | "mtsr_above_td24"
+    column: int
+
+
+@dataclass
+class Model:
+    case: Case
+    inputs: InputSet
+    columns: list[Column]
+    aux: list[Aux]
+    units: list[str]                       # per output
+    evaluate: Callable[[np.ndarray], np.ndarray] = field(repr=False)
+    n_reported: int = 0
+    linear_in_inputs: list[bool] = field(default_factory=list)   # per output: exactly linear model?
+
+    def f(self, X: np.ndarray) -> np.ndarray:
+        """All columns (reported + auxiliary)."""
+        return self.evaluate(X)
+
+    def f_reported(self, X: np.ndarray) -> np.ndarray:
+        return self.evaluate(X)[:, : self.n_reported]
+
+    def output_columns(self, i: int) -> list[int]:
+        return [j for j, col in enumerate(self.columns) if col.output == i]
+
+
+def build_inputs(case: Case) -> tuple[InputSet, dict[str, list[int]]]:
+    """The uncertain inputs (exact data get no column) and each datum's columns."""
+    variables: list[InputVariable] = []
+    cols: dict[str, list[int]] = {}
+    blocks: list[tuple[list[int], np.ndarray | None]] = []
+    for d in case.data.values():
+        if not d.uncertain:
+            continue
+        idx = list(range(len(variables), len(variables) + len(d.distributions)))
+        for name, dist in zip(d.variable_names, d.distributions):
+            variables.append(InputVariable(name=name, datum=d.id, distribution=dist))
+        cols[d.id] = idx
+        blocks.append((idx, d.correlation))
+    D = len(variables)
+    R = np.eye(D)
+    for idx, corr in blocks:
+        if corr is not None and len(idx) > 1:
+            R[np.ix_(idx, idx)] = corr
+    for a, b, r in case.correlations:
+        ia, ib = cols[a][0], cols[b][0]
+        R[ia, ib] = R[ib, ia] = r
+    try:
+        inputs = InputSet(variables, R)
+    except UqthermoError as e:
+        raise InputError([Problem(case.path, "correlation", e.message)]) from None
+    return inputs, cols
+
+
+def _values_factory(case: Case, cols: dict[str, list[int]]):
+    """Return ``decode(X) -> (species_values, other_values)`` with broadcastable arrays."""
+    species_items = []   # (species, relative key, datum, columns)
+    other_items = []     # (datum id, columns)
+    for did, c in cols.items():
+        d = case.data[did]
+        if d.species and did.startswith(d.species + ".") and did.split(".")[1] in case.species.get(d.species).phases \
+                or (d.species and ".transition." in did):
+            rel = did[len(d.species) + 1:]
+            species_items.append((d.species, rel, d, c))
+        else:
+            other_items.append((did, c))
+
+    def decode(X: np.ndarray):
+        n = X.shape[0]
+        sv: dict[str, dict[str, np.ndarray]] = {}
+        for sp, rel, d, c in species_items:
+            if d.kind == "scale" and not d.positions:
+                arr = np.asarray(d.nominal, dtype=float)[None, None, :] * X[:, c[0]][:, None, None]
+            elif d.kind == "scale":   # scale only the heat-capacity coefficients (NASA-7: not a6, a7)
+                arr = np.broadcast_to(np.asarray(d.nominal, dtype=float), (n, 1, len(d.nominal))).copy()
+                arr[:, 0, d.positions] *= X[:, c[0]][:, None]
+            elif d.kind == "coefficients":
+                arr = np.broadcast_to(np.asarray(d.nominal, dtype=float), (n, 1, len(d.nominal))).copy()
+                arr[:, 0, d.positions] = X[:, c]
+            else:
+                arr = X[:, c[0]][:, None]
+            sv.setdefault(sp, {})[rel] = arr
+        ov = {did: X[:, c[0]][:, None] for did, c in other_items}
+        return sv, ov
+
+    return decode
+
+
+def _nominal(case: Case, did: str) -> float:
+    return float(case.data[did].nominal)
+
+
+def build_model(case: Case) -> Model:
+    """Build the vectorised model of a validated case (see module docstring)."""
+    inputs, cols = build_inputs(case)
+    decode = _values_factory(case, cols)
+    Tref = case.settings.reference_temperature
+    species = case.species
+    columns: list[Column] = []
+    aux_specs: list[tuple[int, str]] = []
+    for i, o in enumerate(case.outputs):
+        temps = o.temperatures if o.temperatures is not None else np.array([o.temperature_nominal])
+        columns += [Column(i, float(t)) for t in temps]
+        if o.kind == "adiabatic_temperature_rise":
+            if o.limit is not None:
+                aux_specs.append((i, "exceedance"))
+            if o.process_temperature is not None and o.mtt is not None:
+                aux_specs.append((i, "mtsr_above_mtt"))
+            if o.process_temperature is not None and o.td24 is not None:
+                aux_specs.append((i, "mtsr_above_td24"))
+    n_rep = len(columns)
+    t_hi = {o.name: o.max_temperature or _charge_t_max(case, o) for o in case.outputs
+            if o.kind == "adiabatic_temperature_rise"}
+    aux = [Aux(i, name, n_rep + k) for k, (i, name) in enumerate(aux_specs)]
+
+    def value(ov: dict, did: str, n: int) -> np.ndarray:
+        if did in ov:
+            return ov[did]
+        return np.full((n, 1), _nominal(case, did))
+
+    def temperature(o: OutputSpec, ov: dict, n: int):
+        if o.temperature_datum:
+            return ov[o.temperature_datum] if o.temperature_datum in ov else np.full((n, 1), o.temperature_nominal)
+        return o.temperatures
+
+    def reaction_values(sv: dict, ov: dict, reaction: str) -> dict:
+        vals = dict(sv)
+        key = f"reaction.{reaction}.measured_enthalpy"
+        if key in ov:
+            vals[key] = ov[key]
+        return vals
+
+    def adiabatic(o: OutputSpec, sv: dict, ov: dict, n: int) -> np.ndarray:
+        reaction = case.reactions[o.reaction]
+        dH = rx.reaction_enthalpy(reaction, species, o.start_temperature, Tref, reaction_values(sv, ov, o.reaction))
+        dH = np.broadcast_to(np.asarray(dH, dtype=float), (n, 1))[:, 0]
+        xi = value(ov, o.extent_datum, n)[:, 0]
+        target = -xi * dH                                   # J absorbed by the charge
+        amounts = [(sp, ph, value(ov, did, n)[:, 0]) for (sp, ph), did in o.charge.items()]
+
+        def h_of_T(T):
+            T = np.asarray(T, dtype=float).reshape(-1)
+            total = np.zeros_like(T)
+            if T.shape[0] != n:     # the solver may hand a subset; evaluate nominal-free per element
+                raise ValueError("solver must evaluate the whole sample")
+            for sp, ph, amt in amounts:
+                dh = species[sp].heating_enthalpy(ph, o.start_temperature, T[:, None], sv.get(sp))
+                total = total + amt * np.broadcast_to(np.asarray(dh, dtype=float), (n, 1))[:, 0]
+            return total
+
+        Tf = solve_final_temperature(h_of_T, target, o.start_temperature, t_hi[o.name])
+        return np.asarray(Tf, dtype=float) - o.start_temperature
+
+    def evaluate(X: np.ndarray) -> np.ndarray:
+        X = np.asarray(X, dtype=float)
+        if X.ndim != 2:
+            raise ValueError("X must be 2-D")
+        n = X.shape[0]
+        sv, ov = decode(X)
+        parts = []
+        extra = []
+        for o in case.outputs:
+            k = o.kind
+            if k in ("reaction_enthalpy", "reaction_gibbs_energy", "equilibrium_constant"):
+                reaction = case.reactions[o.reaction]
+                T = temperature(o, ov, n)
+                vals = reaction_values(sv, ov, o.reaction)
+                if k == "reaction_enthalpy":
+                    y = rx.reaction_enthalpy(reaction, species, T, Tref, vals) / 1e3
+                elif k == "reaction_gibbs_energy":
+                    y = rx.reaction_gibbs_energy(reaction, species, T, Tref, vals) / 1e3
+                else:
+                    y = rx.ln_equilibrium_constant(reaction, species, T, Tref, vals) / LN10
+            elif k == "heating_enthalpy":
+                if o.species:
+                    y = species[o.species].heating_enthalpy(o.phase, o.t_from, o.t_to, sv.get(o.species)) / 1e3
+                else:
+                    y = 0.0
+                    for (sp, ph), did in o.mixture.items():
+                        y = y + value(ov, did, n) * species[sp].heating_enthalpy(ph, o.t_from, o.t_to, sv.get(sp)) / 1e3
+            elif k == "heat_release":
+                T = temperature(o, ov, n)
+                y = 0.0
+                for rname, dids in o.extent_rates.items():
+                    rate = value(ov, dids[0], n)
+                    for did in dids[1:]:
+                        rate = rate * value(ov, did, n)
+                    rate = rate / o.extent_divisor.get(rname, 1.0)
+                    dH = rx.reaction_enthalpy(case.reactions[rname], species, T, Tref, reaction_values(sv, ov, rname))
+                    y = y + rate * (-dH) / 1e3
+            else:
+                dT = adiabatic(o, sv, ov, n)
+                y = dT[:, None]
+                Tf = o.start_temperature + dT
+                if o.limit is not None:
+                    extra.append((Tf > o.limit).astype(float))
+                if o.process_temperature is not None:
+                    acc = 1.0 if o.accumulation is None else o.accumulation
+                    mtsr = o.process_temperature + acc * dT
+                    if o.mtt is not None:
+                        extra.append((mtsr > o.mtt).astype(float))
+                    if o.td24 is not None:
+                        extra.append((mtsr > o.td24).astype(float))
+            ncol = len(o.temperatures) if o.temperatures is not None else 1
+            parts.append(np.broadcast_to(np.asarray(y, dtype=float), (n, ncol)))
+        Y = np.concatenate(parts + [e[:, None] for e in extra], axis=1) if extra else np.concatenate(parts, axis=1)
+        return np.ascontiguousarray(Y)
+
+    units = [UNITS[o.kind] if not (o.kind == "heating_enthalpy" and o.mixture) else "kJ" for o in case.outputs]
+    linear = [_is_linear(case, o) for o in case.outputs]
+    return Model(case=case, inputs=inputs, columns=columns, aux=aux, units=units, evaluate=evaluate,
+                 n_reported=n_rep, linear_in_inputs=linear)
+
+
+def _charge_t_max(case: Case, o: OutputSpec) -> float:
+    """Highest temperature the charge's heat-capacity data reach (search bound of the energy balance).
+
+    For each species of the charge, the phase reached on heating (after its transitions)
+    bounds the search by its Cp validity, unless that curve may be extrapolated.
+    """
+    bound = max(3000.0, o.start_temperature + 2000.0)
+    for (sp, ph) in o.charge:
+        s = case.species[sp]
+        try:
+            top = s.final_phase(ph, o.start_temperature, 1e5)
+        except UqthermoError:
+            continue
+        cp = s.phases[top].cp
+        if cp is not None and not cp.allow_extrapolation and math.isfinite(cp.t_max):
+            bound = min(bound, float(cp.t_max))
+    return bound
+
+
+def _is_linear(case: Case, o: OutputSpec) -> bool:
+    """True when the output is exactly linear in its uncertain inputs.
+
+    Enthalpies, entropies, Gibbs energies and ln K at exact temperatures are linear in
+    formation data, transition enthalpies and Cp coefficients (every Cp model is linear
+    in its coefficients). Uncertain temperatures (of the output or of a transition),
+    amounts multiplying an enthalpy, extents and rates make the model nonlinear.
+    """
+    if o.kind not in ("reaction_enthalpy", "heating_enthalpy", "reaction_gibbs_energy", "equilibrium_constant"):
+        return False
+    if o.temperature_datum or o.mixture:
+        return False
+    return not any(d.uncertain and d.quantity == "transition temperature" for d in case.data.values())
+
+
+def check_model(case: Case, model: Model) -> list[str]:
+    """Evaluate the model at the best estimates, output by output.
+
+    Raises :class:`InputError` for outputs whose path leaves a correlation's validity
+    range (when extrapolation is not allowed) or that the physics cannot evaluate;
+    returns warnings for extrapolated paths (when allowed) and non-finite results.
+    """
+    problems: list[Problem] = []
+    warnings: list[str] = []
+    x0 = np.asarray(model.inputs.estimates, dtype=float)[None, :]
+    cps = [(sp, ph, p.cp) for sp, s in case.species.items() for ph, p in s.phases.items() if p.cp is not None]
+    # 1) with extrapolation switched off everywhere: what would leave a validity range?
+    saved = [cp.allow_extrapolation for _, _, cp in cps]
+    try:
+        for _, _, cp in cps:
+            cp.allow_extrapolation = False
+        strict_errors = _try_outputs(case, model, x0)
+    finally:
+        for (_, _, cp), a in zip(cps, saved):
+            cp.allow_extrapolation = a
+    allowed_errors = _try_outputs(case, model, x0) if strict_errors else {}
+    for i, o in enumerate(case.outputs):
+        err = allowed_errors.get(i) if strict_errors else None
+        strict = strict_errors.get(i)
+        if err is not None:
+            msg = err.message if isinstance(err, UqthermoError) else str(err)
+            if isinstance(err, ValidityError) and err.key:
+                msg = f"{msg} (datum {err.key}; allow with extrapolate = true on that heat_capacity or settings.allow_extrapolation = true)"
+            problems.append(Problem(case.path, o.key, msg))
+        elif strict is not None:
+            warnings.append(f"{o.key}: extrapolated beyond a correlation's validity range — {strict.message if isinstance(strict, UqthermoError) else strict}")
+    if problems:
+        raise InputError(problems)
+    y = model.evaluate(x0)
+    bad = [case.outputs[c.output].key for j, c in enumerate(model.columns) if not np.isfinite(y[0, j])]
+    if bad:
+        raise InputError([Problem(case.path, k, "the model gives a non-finite value at the best estimates; check the data")
+                          for k in dict.fromkeys(bad)])
+    return warnings
+
+
+def _try_outputs(case: Case, model: Model, x0: np.ndarray) -> dict[int, Exception]:
+    """Evaluate each output alone at x0; map output index → the error it raised."""
+    errors: dict[int, Exception] = {}
+    for i, o in enumerate(case.outputs):
+        sub = Case(**{**case.__dict__, "outputs": [o]})
+        try:
+            m = build_model(sub)
+            m.evaluate(np.asarray(m.inputs.estimates, dtype=float)[None, :])
+        except UqthermoError as e:
+            errors[i] = e
+        except (ValueError, FloatingPointError, ZeroDivisionError) as e:
+            errors[i] = e
+    return errors

@@ -1,0 +1,328 @@
+"""Read ``[[output]]`` tables: what the engineer wants computed (contract §2, output kinds)."""
+
+from __future__ import annotations
+
+import difflib
+import math
+import re
+from typing import Any
+
+import numpy as np
+
+from .loader import (
+    OUTPUT_KINDS,
+    Collector,
+    _check_name,
+    _is_table,
+    _quantity,
+    _temperature,
+    make_datum,
+    read_uncertain,
+    register,
+)
+from .reactions_reader import resolve_phase
+from .schema import Datum, OutputSpec, Settings
+
+_REF = re.compile(r"^\s*([A-Za-z][A-Za-z0-9_+\-]*)\s*\(\s*([a-z]+)\s*\)\s*$")
+MAX_CURVE_POINTS = 2000
+
+COMMON = {"name", "kind", "description", "design_value"}
+KEYS = {
+    "reaction_enthalpy": COMMON | {"reaction", "temperature", "temperatures"},
+    "reaction_gibbs_energy": COMMON | {"reaction", "temperature", "temperatures"},
+    "equilibrium_constant": COMMON | {"reaction", "temperature", "temperatures"},
+    "heating_enthalpy": COMMON | {"species", "mixture", "from", "to"},
+    "heat_release": COMMON | {"temperature", "extent_rate"},
+    "adiabatic_temperature_rise": COMMON | {"reaction", "start_temperature", "extent", "charge", "limit",
+                                            "process_temperature", "accumulation", "mtt", "td24", "max_temperature"},
+}
+
+
+def _species_ref(c: Collector, text: Any, key: str, species: dict) -> tuple[str, str] | None:
+    if not isinstance(text, str):
+        c.add(key, "write a species with its state, e.g. \"H2O(l)\"")
+        return None
+    m = _REF.match(text)
+    if not m:
+        c.add(key, f"cannot read {text!r}; write a species with its state, e.g. \"H2O(l)\"")
+        return None
+    name, ph = m.group(1), m.group(2)
+    if name not in species:
+        close = difflib.get_close_matches(name, list(species), n=1)
+        c.add(key, f"unknown species {name!r}" + (f" (did you mean {close[0]!r}?)" if close else ""))
+        return None
+    phase = resolve_phase(species[name], ph)
+    if phase not in species[name].phases:
+        c.add(key, f"{name}({ph}) has no phase data; known phases: {', '.join(species[name].phases)}")
+        return None
+    return name, phase
+
+
+def _temperatures(c: Collector, o: dict, key: str, out: OutputSpec, data: dict, allow_uncertain: bool = True) -> bool:
+    has_t, has_ts = "temperature" in o, "temperatures" in o
+    if has_t == has_ts:
+        c.add(key, "give either temperature (one point, may be uncertain) or temperatures = { from, to, step }")
+        return False
+    if has_t:
+        node = o["temperature"]
+        if _is_table(node) and allow_uncertain:
+            parsed = read_uncertain(c, node, f"{key}.temperature", "temperature", temperature=True)
+            if parsed is None:
+                return False
+            did = f"output.{out.name}.temperature"
+            register(c, data, make_datum(did, "temperature", "temperature", parsed), f"{key}.temperature")
+            out.temperature_nominal = parsed[0]
+            if data[did].uncertain:
+                out.temperature_datum = did
+                out.temperatures = None
+            else:
+                out.temperatures = np.array([parsed[0]])
+            return True
+        t = _temperature(c, node, f"{key}.temperature")
+        if t is None:
+            return False
+        out.temperatures = np.array([t])
+        out.temperature_nominal = t
+        return True
+    node = o["temperatures"]
+    if isinstance(node, list):
+        ts = [_temperature(c, v, f"{key}.temperatures[{i}]") for i, v in enumerate(node)]
+        if not ts or any(t is None for t in ts):
+            if not ts:
+                c.add(f"{key}.temperatures", "empty list of temperatures")
+            return False
+        out.temperatures = np.array(sorted(set(ts)))
+    else:
+        if not _is_table(node) or not {"from", "to", "step"} <= set(node):
+            c.add(f"{key}.temperatures", "must be { from = \"...\", to = \"...\", step = \"...\" } or a list of temperatures")
+            return False
+        c.unknown_keys(node, {"from", "to", "step"}, f"{key}.temperatures")
+        lo = _temperature(c, node["from"], f"{key}.temperatures.from")
+        hi = _temperature(c, node["to"], f"{key}.temperatures.to")
+        step = _quantity(c, node["step"], f"{key}.temperatures.step", "temperature", difference=True)
+        if lo is None or hi is None or step is None:
+            return False
+        if step <= 0:
+            c.add(f"{key}.temperatures.step", "step must be positive")
+            return False
+        if hi < lo:
+            c.add(f"{key}.temperatures", "'to' must not be below 'from'")
+            return False
+        n = int(math.floor((hi - lo) / step + 1e-9)) + 1
+        if n > MAX_CURVE_POINTS:
+            c.add(f"{key}.temperatures.step", f"{n} temperatures is too many for one curve (at most {MAX_CURVE_POINTS}); use a larger step")
+            return False
+        ts = lo + step * np.arange(n)
+        if hi - ts[-1] > 1e-6 * step:
+            ts = np.append(ts, hi)
+        out.temperatures = ts
+    out.temperature_nominal = float(out.temperatures[0])
+    return True
+
+
+def _reaction(c: Collector, o: dict, key: str, reactions: dict) -> str | None:
+    r = o.get("reaction")
+    if not isinstance(r, str):
+        c.add(f"{key}.reaction", "name the reaction, e.g. reaction = \"R1\"")
+        return None
+    if r not in reactions:
+        close = difflib.get_close_matches(r, list(reactions), n=1)
+        c.add(f"{key}.reaction", f"unknown reaction {r!r}" + (f" (did you mean {close[0]!r}?)" if close else ""))
+        return None
+    return r
+
+
+def _amounts(c: Collector, node: Any, key: str, species: dict, data: dict, prefix: str) -> dict[tuple[str, str], str] | None:
+    if not _is_table(node) or not node:
+        c.add(key, "must be a table of amounts, e.g. { \"S(l)\" = \"8 mol\" }")
+        return None
+    out: dict[tuple[str, str], str] = {}
+    ok = True
+    for ref, amount in node.items():
+        k = f"{key}.{ref}"
+        sp = _species_ref(c, ref, k, species)
+        parsed = read_uncertain(c, amount, k, "amount")
+        if sp is None or parsed is None:
+            ok = False
+            continue
+        if parsed[0] < 0:
+            c.add(k, "amount must not be negative")
+            ok = False
+            continue
+        if parsed[0] > 1e9:
+            c.add(k, "amount is implausibly large (> 1e9 mol); give the charge per batch in mol or kmol")
+            ok = False
+            continue
+        did = f"{prefix}.{sp[0]}.{sp[1]}"
+        register(c, data, make_datum(did, "amount", "amount", parsed, species=sp[0], phase=sp[1]), k)
+        if sp in out:
+            c.add(k, "species listed twice")
+            ok = False
+        out[sp] = did
+    return out if ok else None
+
+
+def read_outputs(c: Collector, node: Any, species: dict, reactions: dict, data: dict[str, Datum],
+                 settings: Settings) -> list[OutputSpec]:
+    outs: list[OutputSpec] = []
+    if node is None:
+        c.add("output", "no outputs requested; add at least one [[output]] with name and kind")
+        return outs
+    if not isinstance(node, list) or not node:
+        c.add("output", "must be an array of tables ([[output]])")
+        return outs
+    names: set[str] = set()
+    for i, o in enumerate(node):
+        key = f"output[{i}]"
+        if not _is_table(o):
+            c.add(key, "must be a table with name and kind")
+            continue
+        name = o.get("name")
+        if not isinstance(name, str) or not _check_name(c, name, f"{key}.name"):
+            if not isinstance(name, str):
+                c.add(f"{key}.name", "give the output a name")
+            continue
+        key = f"output.{name}"
+        if name in names:
+            c.add(f"{key}.name", f"output name {name!r} is used twice")
+            continue
+        names.add(name)
+        kind = o.get("kind")
+        if kind not in OUTPUT_KINDS:
+            close = difflib.get_close_matches(str(kind), OUTPUT_KINDS, n=1)
+            c.add(f"{key}.kind", f"unknown kind {kind!r}" + (f" (did you mean {close[0]!r}?)" if close else
+                                                             f"; use one of {', '.join(OUTPUT_KINDS)}"))
+            continue
+        c.unknown_keys(o, KEYS[kind], key)
+        desc = o.get("description", "")
+        out = OutputSpec(name=name, kind=kind, key=key, description=desc if isinstance(desc, str) else "")
+        if "design_value" in o:
+            dv = o["design_value"]
+            if isinstance(dv, bool) or not isinstance(dv, (int, float)) or not math.isfinite(dv):
+                c.add(f"{key}.design_value", "must be a number in the output's unit")
+            else:
+                out.design_value = float(dv)
+        ok = _read_kind(c, o, key, out, species, reactions, data)
+        if ok:
+            outs.append(out)
+    return outs
+
+
+def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
+    kind = out.kind
+    if kind in ("reaction_enthalpy", "reaction_gibbs_energy", "equilibrium_constant"):
+        r = _reaction(c, o, key, reactions)
+        ok = _temperatures(c, o, key, out, data)
+        if r is None or not ok:
+            return False
+        out.reaction = r
+        return True
+    if kind == "heating_enthalpy":
+        if ("species" in o) == ("mixture" in o):
+            c.add(key, "give either species = \"X(l)\" (per mole) or mixture = { \"X(l)\" = \"2 mol\", ... }")
+            return False
+        t1 = _temperature(c, o.get("from"), f"{key}.from") if "from" in o else None
+        t2 = _temperature(c, o.get("to"), f"{key}.to") if "to" in o else None
+        if "from" not in o or "to" not in o:
+            c.add(key, "give from and to temperatures")
+            return False
+        if t1 is None or t2 is None:
+            return False
+        out.t_from, out.t_to = t1, t2
+        out.temperatures = np.array([t2])
+        out.temperature_nominal = t2
+        if "species" in o:
+            sp = _species_ref(c, o["species"], f"{key}.species", species)
+            if sp is None:
+                return False
+            out.species, out.phase = sp
+            return True
+        mix = _amounts(c, o["mixture"], f"{key}.mixture", species, data, f"output.{out.name}.mixture")
+        if mix is None:
+            return False
+        out.mixture = mix
+        return True
+    if kind == "heat_release":
+        t = _temperatures(c, {"temperature": o.get("temperature")} if "temperature" in o else {}, key, out, data)
+        er = o.get("extent_rate")
+        if not _is_table(er) or not er:
+            c.add(f"{key}.extent_rate", "give extent rates per reaction, e.g. { R1 = \"2 mol/s\" } or "
+                                        "{ R1 = { feed = \"5 kmol/h\", conversion = { value = 0.9, u = 0.02 } } }")
+            return False
+        ok = t
+        for rname, rate in er.items():
+            rk = f"{key}.extent_rate.{rname}"
+            if rname not in reactions:
+                close = difflib.get_close_matches(rname, list(reactions), n=1)
+                c.add(rk, f"unknown reaction {rname!r}" + (f" (did you mean {close[0]!r}?)" if close else ""))
+                ok = False
+                continue
+            did = f"output.{out.name}.extent_rate.{rname}"
+            if _is_table(rate) and "feed" in rate:
+                c.unknown_keys(rate, {"feed", "conversion", "key", "source"}, rk)
+                feed = read_uncertain(c, rate["feed"], f"{rk}.feed", "amount_rate", positive=True)
+                conv = read_uncertain(c, rate.get("conversion", 1.0), f"{rk}.conversion", "dimensionless")
+                if feed is None or conv is None:
+                    ok = False
+                    continue
+                if not (0 <= conv[0] <= 1):
+                    c.add(f"{rk}.conversion", f"conversion must lie in [0, 1], got {conv[0]:g}")
+                    ok = False
+                    continue
+                divisor = 1.0
+                if "key" in rate:
+                    kref = rate["key"]
+                    nus = {p.species: p.nu for p in reactions[rname].participants}
+                    if kref not in nus:
+                        c.add(f"{rk}.key", f"{kref!r} does not take part in reaction {rname}")
+                        ok = False
+                        continue
+                    divisor = abs(nus[kref])
+                register(c, data, make_datum(f"{did}.feed", "feed rate", "amount_rate", feed), f"{rk}.feed")
+                register(c, data, make_datum(f"{did}.conversion", "conversion", "dimensionless", conv), f"{rk}.conversion")
+                out.extent_rates[rname] = [f"{did}.feed", f"{did}.conversion"]
+                out.extent_divisor[rname] = divisor
+            else:
+                parsed = read_uncertain(c, rate, rk, "amount_rate")
+                if parsed is None:
+                    ok = False
+                    continue
+                register(c, data, make_datum(did, "extent rate", "amount_rate", parsed), rk)
+                out.extent_rates[rname] = [did]
+                out.extent_divisor[rname] = 1.0
+        return ok
+    # adiabatic_temperature_rise
+    r = _reaction(c, o, key, reactions)
+    t0 = _temperature(c, o.get("start_temperature"), f"{key}.start_temperature") if "start_temperature" in o else None
+    if "start_temperature" not in o:
+        c.add(f"{key}.start_temperature", "give the temperature at which the reaction starts (e.g. \"60 degC\")")
+    ext = read_uncertain(c, o["extent"], f"{key}.extent", "amount", positive=True) if "extent" in o else None
+    if "extent" not in o:
+        c.add(f"{key}.extent", "give the extent of reaction in mol (may be uncertain)")
+    charge = _amounts(c, o["charge"], f"{key}.charge", species, data, f"output.{out.name}.charge") if "charge" in o else None
+    if "charge" not in o:
+        c.add(f"{key}.charge", "give the charge that absorbs the heat, e.g. { \"S(l)\" = \"8 mol\" }")
+    if r is None or t0 is None or ext is None or charge is None:
+        return False
+    out.reaction, out.start_temperature, out.charge = r, t0, charge
+    out.temperatures = np.array([t0])
+    out.temperature_nominal = t0
+    did = f"output.{out.name}.extent"
+    register(c, data, make_datum(did, "extent of reaction", "amount", ext), f"{key}.extent")
+    out.extent_datum = did
+    for k in ("limit", "process_temperature", "mtt", "td24", "max_temperature"):
+        if k in o:
+            v = _temperature(c, o[k], f"{key}.{k}")
+            if v is None:
+                return False
+            setattr(out, k if k != "limit" else "limit", v)
+    if out.max_temperature and out.max_temperature <= t0:
+        c.add(f"{key}.max_temperature", "must exceed the start temperature")
+        return False
+    if "accumulation" in o:
+        a = o["accumulation"]
+        if isinstance(a, bool) or not isinstance(a, (int, float)) or not (0 <= a <= 1):
+            c.add(f"{key}.accumulation", "must be a fraction in [0, 1] (1 = batch, all reactant accumulated)")
+            return False
+        out.accumulation = float(a)
+    return True

@@ -1,0 +1,153 @@
+"""Typed form of a case file, after parsing and unit conversion (engine units throughout).
+
+The loader (:mod:`uqthermo.case.loader`) turns the TOML text into these objects; the
+builder (:mod:`uqthermo.case.builder`) turns them into a vectorised model and an
+:class:`~uqthermo.uq.inputs.InputSet`. Nothing here computes anything.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+SETTINGS_DEFAULTS: dict[str, Any] = {
+    "reference_temperature": 298.15,
+    "coverage_probability": 0.95,
+    "samples": 200_000,
+    "sampling": "sobol",
+    "seed": 20261202,
+    "method": "both",
+    "allow_extrapolation": False,
+    "significant_digits": 2,
+    "max_samples": 10_000_000,
+    "sensitivity": "auto",
+    "sobol_samples": 2048,
+    "design_probabilities": [0.95, 0.99],
+    "what_if": True,
+}
+
+SAMPLING_METHODS = ("random", "latin-hypercube", "sobol")
+METHODS = ("linear", "monte-carlo", "both")
+OUTPUT_KINDS = (
+    "reaction_enthalpy",
+    "heating_enthalpy",
+    "heat_release",
+    "adiabatic_temperature_rise",
+    "reaction_gibbs_energy",
+    "equilibrium_constant",
+)
+SAFETY_KINDS = ("heat_release", "adiabatic_temperature_rise")
+
+
+@dataclass
+class Settings:
+    reference_temperature: float = 298.15
+    coverage_probability: float = 0.95
+    samples: int | str = 200_000
+    sampling: str = "sobol"
+    seed: int = 20261202
+    method: str = "both"
+    allow_extrapolation: bool = False
+    significant_digits: int = 2
+    max_samples: int = 10_000_000
+    sensitivity: str = "auto"
+    sobol_samples: int = 2048
+    design_probabilities: list[float] = field(default_factory=lambda: [0.95, 0.99])
+    what_if: bool = True
+
+
+@dataclass
+class Datum:
+    """One sourced, possibly uncertain property: the unit of ranking and planning.
+
+    ``kind`` tells the builder how the datum's input columns become physical values:
+
+    * ``"scalar"`` — one variable, the quantity itself (engine units);
+    * ``"scale"`` — one variable, a dimensionless factor on a whole Cp curve
+      (every coefficient is multiplied by it: the models are linear in their coefficients);
+    * ``"coefficients"`` — several variables, the Cp coefficients at ``positions`` of the
+      model's coefficient vector (the others stay at their nominal values).
+    """
+
+    id: str
+    quantity: str
+    unit: str                          # report unit of the value (kJ/mol, J/(mol*K), K, ...)
+    to_report: float                   # factor engine unit → report unit
+    kind: str                          # "scalar" | "scale" | "coefficients"
+    distributions: list[Any]           # uq Distribution objects (one per variable)
+    variable_names: list[str]
+    correlation: np.ndarray | None     # within-datum correlation (coefficients)
+    stated: str                        # uncertainty as the user stated it
+    source: str = ""
+    species: str = ""
+    phase: str = ""
+    library: str = ""
+    positions: list[int] = field(default_factory=list)
+    nominal: np.ndarray | float | None = None
+    assumed: bool = False
+
+    @property
+    def uncertain(self) -> bool:
+        return any(getattr(d, "std", 0.0) > 0 for d in self.distributions)
+
+
+@dataclass
+class OutputSpec:
+    name: str
+    kind: str
+    key: str                            # key path, e.g. "output[2]" or "output.duty"
+    reaction: str = ""
+    temperatures: np.ndarray | None = None      # exact temperatures (K), or None when uncertain
+    temperature_datum: str = ""                  # datum id when the temperature is uncertain
+    temperature_nominal: float = 0.0
+    species: str = ""                            # heating_enthalpy single species name
+    phase: str = ""
+    mixture: dict[tuple[str, str], str] = field(default_factory=dict)   # (species, phase) -> datum id of amount
+    t_from: float = 0.0
+    t_to: float = 0.0
+    extent_rates: dict[str, list[str]] = field(default_factory=dict)   # reaction -> datum ids multiplied (and divisor)
+    extent_divisor: dict[str, float] = field(default_factory=dict)
+    extent_datum: str = ""
+    charge: dict[tuple[str, str], str] = field(default_factory=dict)
+    start_temperature: float = 0.0
+    limit: float | None = None
+    process_temperature: float | None = None
+    accumulation: float | None = None
+    mtt: float | None = None
+    td24: float | None = None
+    max_temperature: float = 0.0
+    description: str = ""
+    design_value: float | None = None
+
+
+@dataclass
+class Candidate:
+    datum: str
+    u: float | None            # achievable standard uncertainty, report units (None when factor)
+    factor: float | None       # or a factor on the present u
+    cost: float
+    lead_time: str = ""
+    note: str = ""
+
+
+@dataclass
+class Case:
+    path: str
+    sha256: str
+    title: str
+    description: str
+    settings: Settings
+    species: dict[str, Any]            # name -> thermo.Species (nominal values)
+    data: dict[str, Datum]             # datum id -> Datum (insertion order = table order)
+    reactions: dict[str, Any]          # name -> thermo.Reaction
+    outputs: list[OutputSpec]
+    correlations: list[tuple[str, str, float]]
+    candidates: list[Candidate]
+    warnings: list[str]
+    raw: dict[str, Any]
+
+    @property
+    def safety_relevant(self) -> bool:
+        return any(o.kind in SAFETY_KINDS or o.limit is not None for o in self.outputs)

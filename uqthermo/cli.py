@@ -1,0 +1,164 @@
+"""The ``uqthermo`` command line.
+
+Commands: ``run`` (the main job), ``check``, ``plan``, ``fit``, ``data``, ``report``.
+Exit codes: 0 success; 2 bad input (one line per problem on stderr: file, key path,
+message; nothing written); 1 any other failure; 130 interrupted (nothing half-written).
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import signal
+import sys
+from pathlib import Path
+
+from . import __version__
+from .errors import InputError, UqthermoError
+
+EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_INTERRUPT = 0, 1, 2, 130
+
+
+class _Terminated(BaseException):
+    """Raised from the SIGTERM handler so clean-up code runs (like Ctrl-C)."""
+
+
+def _on_sigterm(signum, frame):  # pragma: no cover - exercised through a subprocess test
+    raise _Terminated()
+
+
+def _samples_arg(text: str):
+    if text == "adaptive":
+        return "adaptive"
+    try:
+        n = int(float(text)) if "e" in text.lower() else int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"--samples must be a whole number or 'adaptive', got {text!r}") from None
+    if n < 100:
+        raise argparse.ArgumentTypeError("--samples must be at least 100")
+    return n
+
+
+def _seed_arg(text: str) -> int:
+    try:
+        s = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"--seed must be a non-negative whole number, got {text!r}") from None
+    if s < 0:
+        raise argparse.ArgumentTypeError("--seed must be non-negative")
+    return s
+
+
+def build_parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(
+        prog="uqthermo",
+        description="Reaction enthalpy at operating temperature with a defensible uncertainty: Kirchhoff's law "
+                    "with phase changes, GUM linear propagation and JCGM 101 Monte Carlo, driver ranking, "
+                    "data-purchase planning and report sections.",
+    )
+    p.add_argument("--version", action="version", version=f"uqthermo {__version__}")
+    sub = p.add_subparsers(dest="command", metavar="COMMAND")
+
+    r = sub.add_parser("run", help="run a case: results.json, report.html/md, figures and tables",
+                       description="Run a case file and write results.json, report.html, report.md, figures (PNG, SVG) "
+                                   "and CSV tables into --out.")
+    r.add_argument("case", help="case file (TOML)")
+    r.add_argument("--out", required=True, help="output folder (must not exist or be empty, unless --force)")
+    r.add_argument("--samples", type=_samples_arg, help="Monte Carlo trials, or 'adaptive' (JCGM 101 7.9)")
+    r.add_argument("--seed", type=_seed_arg, help="random seed (recorded in results.json)")
+    r.add_argument("--method", choices=["linear", "monte-carlo", "both"], help="propagation method (default: both)")
+    r.add_argument("--sampling", choices=["random", "latin-hypercube", "sobol"], help="sampling scheme")
+    r.add_argument("--engine", choices=["local", "dask"], default="local", help="where Monte Carlo runs")
+    r.add_argument("--scheduler", help="Dask scheduler address (with --engine dask; default: a local cluster)")
+    r.add_argument("--force", action="store_true", help="replace an existing output folder")
+    r.add_argument("--no-report", action="store_true", help="write results.json and tables only")
+    r.add_argument("--quiet", action="store_true", help="no progress bar or summary table")
+
+    c = sub.add_parser("check", help="validate case files without running them",
+                       description="Validate one or more case files and list every problem found.")
+    c.add_argument("cases", nargs="+", help="case file(s)")
+
+    pl = sub.add_parser("plan", help="cheapest data purchases that meet an uncertainty target",
+                        description="Find the cheapest set of candidate measurements ([[candidate]] in the case) that "
+                                    "meets a target on the expanded uncertainty, and the cost–uncertainty Pareto front.")
+    pl.add_argument("case", help="case file (TOML) with [[candidate]] entries")
+    g = pl.add_mutually_exclusive_group(required=True)
+    g.add_argument("--target", help="e.g. \"U95 <= 2 kJ/mol\" (U95: expanded uncertainty at 95 %%; also u, halfwidth)")
+    g.add_argument("--budget", type=float, help="spend at most this much; minimise the expanded uncertainty")
+    pl.add_argument("--output", dest="output_name", help="plan for this output only (default: all outputs)")
+    pl.add_argument("--out", help="folder for plan.json, plan.csv and the front figure")
+    pl.add_argument("--force", action="store_true", help="replace an existing output folder")
+
+    f = sub.add_parser("fit", help="fit a heat-capacity curve with coefficient covariance to measured points",
+                       description="Fit Cp(T) to measured (T, Cp[, u]) points by weighted least squares and print the "
+                                   "heat_capacity table (with coefficient uncertainties and correlation) for a case.")
+    f.add_argument("data", help="CSV with columns T, Cp[, u]; units in the header, e.g. 'T [K],Cp [J/(mol*K)],u [J/(mol*K)]'")
+    f.add_argument("--model", choices=["polynomial", "shomate"], default="polynomial")
+    f.add_argument("--terms", default="auto", help="polynomial terms, e.g. a,b,c (default: choose by BIC)")
+    f.add_argument("--species", default="X", help="species name for the printed table")
+    f.add_argument("--phase", default="g", help="phase symbol for the printed table")
+    f.add_argument("--range", nargs=2, metavar=("T_LO", "T_HI"), help="temperature range the curve will be used over")
+    f.add_argument("--out", help="write the TOML snippet and fit report here (a folder)")
+
+    d = sub.add_parser("data", help="search the built-in data library",
+                       description="List species matching SEARCH (formula, name or CAS number) in the datasets shipped "
+                                   "with the chemicals package (ATcT, JANAF, NIST WebBook Shomate).")
+    d.add_argument("search", help="formula, name or CAS number")
+    d.add_argument("--limit", type=int, default=20)
+
+    rp = sub.add_parser("report", help="re-render a report from results.json",
+                        description="Render report.html, report.md, figures and tables from an existing results.json.")
+    rp.add_argument("results", help="results.json written by 'uqthermo run'")
+    rp.add_argument("--out", required=True, help="output folder")
+    rp.add_argument("--force", action="store_true", help="replace an existing output folder")
+    return p
+
+
+def _print_problems(err: InputError) -> None:
+    for prob in err.problems:
+        print(str(prob).replace("\n", " "), file=sys.stderr)
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = build_parser()
+    try:
+        args = parser.parse_args(argv)
+    except SystemExit as e:  # argparse: --help (0) or usage error (2)
+        return int(e.code or 0)
+    if not args.command:
+        parser.print_help()
+        return EXIT_INPUT
+    old = signal.getsignal(signal.SIGTERM)
+    try:
+        signal.signal(signal.SIGTERM, _on_sigterm)
+    except ValueError:  # not the main thread
+        old = None
+    try:
+        from . import commands
+
+        return getattr(commands, f"cmd_{args.command}")(args)
+    except InputError as e:
+        _print_problems(e)
+        return EXIT_INPUT
+    except UqthermoError as e:
+        print(f"uqthermo: error: {e.message}", file=sys.stderr)
+        return EXIT_FAIL
+    except (KeyboardInterrupt, _Terminated):
+        print("uqthermo: interrupted; nothing was written (any partial output was removed)", file=sys.stderr)
+        return EXIT_INTERRUPT
+    except MemoryError:
+        print("uqthermo: error: out of memory; use fewer samples or 'adaptive'", file=sys.stderr)
+        return EXIT_FAIL
+    except Exception as e:  # noqa: BLE001 - last line of defence: never a traceback for users
+        if os.environ.get("UQTHERMO_DEBUG"):
+            raise
+        print(f"uqthermo: internal error: {type(e).__name__}: {e} (set UQTHERMO_DEBUG=1 for a traceback; please report it)",
+              file=sys.stderr)
+        return EXIT_FAIL
+    finally:
+        if old is not None:
+            signal.signal(signal.SIGTERM, old)
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

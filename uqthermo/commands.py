@@ -1,0 +1,163 @@
+"""Implementations of the CLI commands (argument parsing lives in :mod:`uqthermo.cli`)."""
+
+from __future__ import annotations
+
+import json
+import sys
+from pathlib import Path
+
+from .errors import InputError, Problem, UqthermoError
+from .run import SAFETY_CAUTIONS, prepare_out_dir, publish_dir, run_case, write_json_atomic, write_outputs
+
+
+def _console(stderr: bool = False):
+    from rich.console import Console
+
+    return Console(stderr=stderr, highlight=False, soft_wrap=True)
+
+
+def _sig(x: float | None, u: float | None = None, digits: int = 2) -> str:
+    """Round ``x`` to match ``u`` given to ``digits`` significant digits (GUM 7.2.6)."""
+    from .report.tables import format_value
+
+    return format_value(x, u, digits) if x is not None else "—"
+
+
+def print_summary(results: dict, console=None) -> None:
+    """The compact terminal table: estimate, u, coverage interval, top drivers per output point."""
+    from rich.table import Table
+
+    console = console or _console()
+    p = None
+    table = Table(title=results["case"]["title"], title_justify="left", header_style="bold", show_lines=False)
+    for col in ("output", "T / K", "estimate", "u", "coverage interval", "linear ok", "top drivers (share)"):
+        table.add_column(col, justify="right" if col in ("T / K", "estimate", "u") else "left")
+    for out in results["outputs"]:
+        pts = out["points"]
+        show = pts if len(pts) <= 6 else [pts[0], pts[len(pts) // 2], pts[-1]]
+        for pt in show:
+            p = pt.get("coverage_probability", 0.95)
+            src = pt.get("monte_carlo") or pt.get("linear") or {}
+            est = src.get("mean", src.get("estimate"))
+            u = src.get("standard_uncertainty")
+            ci = src.get("coverage_interval") or [None, None]
+            ok = pt.get("linear_validated")
+            drivers = ", ".join(f"{d['datum']} ({100 * d['share']:.0f} %)" for d in pt.get("drivers", [])[:3])
+            table.add_row(f"{out['name']} [{out['unit']}]", f"{pt['temperature_K']:.2f}", _sig(est, u), _sig(u, u),
+                          f"[{_sig(ci[0], u)}, {_sig(ci[1], u)}]",
+                          "—" if ok is None else ("yes" if ok else "NO"), drivers)
+            if "exceedance_probability" in pt and pt["exceedance_probability"] is not None:
+                table.add_row("", "", "", "", f"P(T_final > {out.get('limit_K'):.1f} K) = "
+                              f"{pt['exceedance_probability']:.3g} ± {pt.get('exceedance_standard_error', 0):.1g}", "", "")
+        if len(pts) > len(show):
+            table.add_row(f"  … {len(pts) - len(show)} more temperatures in results.json", "", "", "", "", "", "")
+    console.print(table)
+    if p is not None:
+        console.print(f"coverage probability {p:g}; estimate and u from Monte Carlo where run "
+                      f"({results['run']['samples']} trials, {results['run']['sampling']}), else the linear method")
+    for w in results.get("warnings", []):
+        console.print(f"[yellow]warning:[/yellow] {w}")
+    if results.get("cautions"):
+        console.print("[bold]caution:[/bold] " + results["cautions"][0])
+
+
+def cmd_run(args) -> int:
+    out = prepare_out_dir(args.out, args.force)
+    quiet = args.quiet or not sys.stderr.isatty()
+    progress = None
+    bar = None
+    if not args.quiet:
+        from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeRemainingColumn
+
+        bar = Progress(TextColumn("Monte Carlo"), BarColumn(), MofNCompleteColumn(), TimeRemainingColumn(),
+                       console=_console(stderr=True), transient=True, disable=quiet)
+        task = bar.add_task("mc", total=None)
+
+        def progress(done: int, total: int | None) -> None:
+            bar.update(task, completed=done, total=total)
+
+    if bar is not None:
+        bar.start()
+    try:
+        result = run_case(args.case, samples=args.samples, seed=args.seed, method=args.method, sampling=args.sampling,
+                          engine=args.engine, scheduler=args.scheduler, progress=progress)
+    finally:
+        if bar is not None:
+            bar.stop()
+    write_outputs(result, out, force=args.force, report=not args.no_report)
+    if not args.quiet:
+        print_summary(result.results)
+        _console().print(f"wrote {out}/results.json" + ("" if args.no_report else f", {out}/report.html, {out}/report.md, "
+                                                                                    f"figures/ and tables/"))
+    return 0
+
+
+def cmd_check(args) -> int:
+    from .case.builder import build_model, check_model
+    from .case.loader import load_case
+
+    problems: list[Problem] = []
+    console = _console()
+    for path in args.cases:
+        try:
+            case = load_case(path)
+            model = build_model(case)
+            warnings = case.warnings + check_model(case, model)
+        except InputError as e:
+            problems += e.problems
+            continue
+        n_unc = sum(1 for d in case.data.values() if d.uncertain)
+        console.print(f"{path}: OK — {len(case.species)} species, {len(case.reactions)} reactions, "
+                      f"{len(case.outputs)} outputs, {n_unc} uncertain data ({len(model.inputs.variables)} variables)")
+        for w in warnings:
+            console.print(f"{path}: warning: {w}")
+    if problems:
+        for p in problems:
+            print(str(p), file=sys.stderr)
+        print(f"{len(problems)} problem(s) found", file=sys.stderr)
+        return 2
+    return 0
+
+
+def cmd_plan(args) -> int:
+    from .planning_cli import run_plan
+
+    return run_plan(args)
+
+
+def cmd_fit(args) -> int:
+    from .fit_cli import run_fit
+
+    return run_fit(args)
+
+
+def cmd_data(args) -> int:
+    from .data_cli import run_data
+
+    return run_data(args)
+
+
+def cmd_report(args) -> int:
+    path = Path(args.results)
+    try:
+        doc = json.loads(path.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise InputError([Problem(str(path), "", "file not found")]) from None
+    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as e:
+        raise InputError([Problem(str(path), "", f"not a readable results.json ({e})")]) from None
+    if not isinstance(doc, dict) or doc.get("format") != "uqthermo.results/1":
+        raise InputError([Problem(str(path), "format", "not a uqthermo results file (format uqthermo.results/1)")])
+    out = prepare_out_dir(args.out, args.force)
+    from .report import write_report
+
+    def build(tmp: Path):
+        write_json_atomic(tmp / "results.json", doc)
+        return write_report(doc, tmp)
+
+    publish_dir(build, out, args.force)
+    _console().print(f"wrote {out}/report.html and {out}/report.md")
+    return 0
+
+
+__all__ = ["cmd_run", "cmd_check", "cmd_plan", "cmd_fit", "cmd_data", "cmd_report", "print_summary", "SAFETY_CAUTIONS",
+           "UqthermoError"]

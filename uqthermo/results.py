@@ -1,0 +1,322 @@
+"""Assemble the results.json document (contract §3 plus extensions) from a finished run.
+
+Pure bookkeeping: it takes the case, the model's column layout and the statistics
+results and arranges them per output and point; the only computations here are the
+cheap post-processing steps that need the column layout (driver ranking, what-if
+scenarios, design margins, exceedance probabilities, criticality classes).
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+import numpy as np
+
+from . import __version__
+from .case.builder import QUANTITY, Model
+from .case.schema import Case
+
+ONE_SIDED = (0.01, 0.05, 0.95, 0.99)
+HISTOGRAM_BINS = 48
+SKEW_WARNING = 0.5
+
+
+def _f(x) -> float | None:
+    if x is None:
+        return None
+    x = float(x)
+    return x if math.isfinite(x) else None
+
+
+def _inputs_table(case: Case) -> list[dict]:
+    rows = []
+    for d in case.data.values():
+        dist = d.distributions[0] if d.distributions else None
+        single = len(d.distributions) == 1
+        if d.kind == "scale":
+            est, u, unit = 1.0, float(dist.std), "factor on the curve"
+        elif d.kind == "coefficients" and not single:
+            est, u, unit = None, None, "coefficients"
+        else:
+            est = float(dist.estimate) * d.to_report if single else None
+            u = float(dist.std) * d.to_report if single else None
+            unit = d.unit
+            if d.kind == "coefficients":
+                unit = "J/(mol*K)"
+        rows.append({
+            "datum": d.id, "quantity": d.quantity, "species": d.species, "phase": d.phase,
+            "stated": d.stated,
+            "distribution": (dist.describe() if single and dist is not None else
+                             f"multivariate normal over {len(d.distributions)} coefficients"),
+            "estimate": est, "standard_uncertainty": u, "unit": unit, "source": d.source,
+            "n_parameters": len(d.distributions), "library": d.library or None, "assumed": bool(d.assumed),
+            "uncertain": d.uncertain,
+        })
+    return rows
+
+
+def _phase_changes(case: Case, o, lo: float, hi: float) -> list[dict]:
+    names: set[str] = set()
+    if o.reaction:
+        names |= {p.species for p in case.reactions[o.reaction].participants}
+    if o.kind == "heat_release":
+        for r in o.extent_rates:
+            names |= {p.species for p in case.reactions[r].participants}
+    if o.species:
+        names.add(o.species)
+    names |= {sp for sp, _ in o.mixture} | {sp for sp, _ in o.charge}
+    out = []
+    for n in sorted(names):
+        for t in case.species[n].transitions:
+            if lo - 1e-9 <= t.temperature <= hi + 1e-9:
+                out.append({"species": n, "transition": f"{t.from_phase}-{t.to_phase}", "temperature_K": t.temperature})
+    return out
+
+
+def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warnings: list[str],
+             duration: float, engine: str) -> dict:
+    """Build the results.json document (see the module docstring)."""
+    from .run import SAFETY_CAUTIONS, environment, now_iso
+
+    s = case.settings
+    p = s.coverage_probability
+    inputs = model.inputs
+    warnings = list(warnings)
+    ranking = whatif = None
+    if lin is not None or mc is not None:
+        ranking, whatif = _drivers_and_whatif(case, model, lin, warnings)
+    mc_q = None
+    if mc is not None:
+        mc_q = np.atleast_2d(mc.quantile(list(ONE_SIDED)))           # (4, M_all)
+        design_q = np.atleast_2d(mc.quantile(sorted(set(s.design_probabilities) | {1 - q for q in s.design_probabilities})))
+        warnings += [w for w in mc.warnings]
+    outputs = []
+    for i, o in enumerate(case.outputs):
+        cols = model.output_columns(i)
+        temps = [model.columns[j].temperature for j in cols]
+        out: dict[str, Any] = {"name": o.name, "kind": o.kind, "unit": model.units[i], "quantity": QUANTITY[o.kind],
+                               "description": o.description, "reaction": o.reaction or None,
+                               "equation": case.reactions[o.reaction].equation if o.reaction else None,
+                               "linear_model": model.linear_in_inputs[i]}
+        if o.kind == "adiabatic_temperature_rise":
+            out.update(start_temperature_K=o.start_temperature, limit_K=o.limit, process_temperature_K=o.process_temperature,
+                       accumulation=o.accumulation, mtt_K=o.mtt, td24_K=o.td24)
+            lo, hi = o.start_temperature, o.max_temperature
+        elif o.kind == "heating_enthalpy":
+            out.update(from_K=o.t_from, to_K=o.t_to, species=f"{o.species}({o.phase})" if o.species else None)
+            lo, hi = min(o.t_from, o.t_to), max(o.t_from, o.t_to)
+        else:
+            lo, hi = min(temps + [s.reference_temperature]), max(temps)
+        if o.temperature_datum:
+            out["temperature_uncertain"] = o.temperature_datum
+        out["phase_changes"] = _phase_changes(case, o, lo, hi)
+        points = []
+        for j in cols:
+            pt: dict[str, Any] = {"temperature_K": model.columns[j].temperature}
+            if lin is not None:
+                pt["linear"] = {
+                    "estimate": _f(lin.estimate[j]), "standard_uncertainty": _f(lin.standard_uncertainty[j]),
+                    "coverage_interval": [_f(lin.coverage_interval[j, 0]), _f(lin.coverage_interval[j, 1])],
+                    "expanded_uncertainty": _f(lin.expanded_uncertainty[j]), "coverage_factor": _f(lin.coverage_factor[j]),
+                    "effective_dof": _f(lin.effective_dof[j]) if np.isfinite(lin.effective_dof[j]) else None,
+                }
+            elif inputs.variables == [] or len(inputs.variables) == 0:
+                pt["linear"] = {"estimate": _f(y0[j]), "standard_uncertainty": 0.0,
+                                "coverage_interval": [_f(y0[j]), _f(y0[j])], "expanded_uncertainty": 0.0,
+                                "coverage_factor": None, "effective_dof": None}
+            if mc is not None:
+                kept = mc.Y_kept[:, j]
+                kept = kept[np.isfinite(kept)]
+                counts, edges = np.histogram(kept, bins=HISTOGRAM_BINS) if kept.size else (np.array([]), np.array([]))
+                pt["monte_carlo"] = {
+                    "mean": _f(mc.mean[j]), "standard_uncertainty": _f(mc.standard_uncertainty[j]),
+                    "coverage_interval": [_f(mc.coverage_interval[j, 0]), _f(mc.coverage_interval[j, 1])],
+                    "shortest_coverage_interval": [_f(mc.shortest_interval[j, 0]), _f(mc.shortest_interval[j, 1])],
+                    "samples": int(mc.samples_used), "median": _f(mc.median[j]), "skewness": _f(mc.skewness[j]),
+                    "one_sided": {f"P{round(100 * q):02d}": _f(mc_q[k, j]) for k, q in enumerate(ONE_SIDED)},
+                    "histogram": {"edges": edges.tolist(), "counts": counts.astype(int).tolist(),
+                                  "samples": int(kept.size)},
+                }
+                if mc.skewness[j] is not None and abs(mc.skewness[j]) > SKEW_WARNING:
+                    warnings.append(f"output.{o.name} at {model.columns[j].temperature:.2f} K: the Monte Carlo distribution "
+                                    f"is skewed (skewness {mc.skewness[j]:.2f}); use the Monte Carlo interval, not ±U")
+            pt["coverage_probability"] = p
+            if validation is not None:
+                v = validation[j]
+                pt["linear_validated"] = bool(v.linear_validated)
+                pt["validation"] = v.as_dict()
+                if not v.linear_validated:
+                    warnings.append(f"output.{o.name} at {model.columns[j].temperature:.2f} K: the linear (GUM) interval is "
+                                    f"not validated by Monte Carlo (JCGM 101 §8, δ = {v.tolerance:.2g}); report the Monte Carlo result")
+            else:
+                pt["linear_validated"] = None
+            if ranking is not None:
+                pt.update(ranking.point(j))
+            else:
+                pt["drivers"] = []
+            if whatif is not None:
+                pt["whatif"] = whatif.rows(j)
+            pt["margins"] = _margins(pt, s.design_probabilities, o.design_value)
+            points.append(pt)
+        if o.kind == "adiabatic_temperature_rise" and points:
+            _safety_point(case, model, o, i, points[0], mc)
+        outputs.append(out | {"points": points})
+    convergence = {}
+    if mc is not None:
+        for i, o in enumerate(case.outputs):
+            cols = model.output_columns(i)
+            jmax = max(cols, key=lambda j: float(mc.standard_uncertainty[j]))
+            convergence[o.name] = [[int(n), _f(u)] for n, u in mc.convergence[jmax]]
+    run = {
+        "seed": s.seed, "samples": int(mc.samples_used) if mc is not None else 0,
+        "samples_requested": s.samples, "sampling": s.sampling, "version": __version__, "method": s.method,
+        "date": now_iso(), "engine": engine, "duration_s": round(duration, 3),
+        "reference_temperature_K": s.reference_temperature, "coverage_probability": p,
+        "adaptive": s.samples == "adaptive", "significant_digits": s.significant_digits,
+        "n_variables": len(inputs.variables), "n_data": sum(1 for d in case.data.values() if d.uncertain),
+        **environment(),
+    }
+    if mc is not None:
+        run.update(mc_converged=bool(mc.converged), mc_batches=int(mc.batches), quantile_method=mc.quantile_method)
+    if ranking is not None:
+        run["drivers_method"] = ranking.method
+        run["drivers_reason"] = ranking.reason
+    cautions = list(SAFETY_CAUTIONS) if case.safety_relevant else [SAFETY_CAUTIONS[2]]
+    doc = {
+        "format": "uqthermo.results/1",
+        "case": {"title": case.title, "sha256": case.sha256, "file": case.path, "description": case.description.strip()},
+        "run": run,
+        "inputs": _inputs_table(case),
+        "correlations": [{"between": [a, b], "coefficient": r} for a, b, r in case.correlations],
+        "reactions": [{"name": r.name, "equation": r.equation,
+                       "anchor": "measured" if r.measured_enthalpy else "formation"} for r in case.reactions.values()],
+        "outputs": outputs,
+        "convergence": convergence,
+        "candidates": [{"datum": c.datum, "u": c.u, "factor": c.factor, "cost": c.cost, "lead_time": c.lead_time,
+                        "note": c.note} for c in case.candidates],
+        "warnings": list(dict.fromkeys(warnings)),
+        "cautions": cautions,
+    }
+    return doc
+
+
+def _drivers_and_whatif(case: Case, model: Model, lin, warnings: list[str]):
+    from .uq.sensitivity import rank_drivers
+    from .uq.whatif import Scenario, standard_scenarios, what_if
+
+    s = case.settings
+    inputs = model.inputs
+    f = model.f_reported
+    ranking = None
+    if s.sensitivity != "none":
+        nonlinear = not all(model.linear_in_inputs)
+        ranking = rank_drivers(f, inputs, linear=lin, method=s.sensitivity, n_base=s.sobol_samples, seed=s.seed,
+                               nonlinear_hint=True if nonlinear else None)
+        warnings += list(ranking.warnings)
+    whatif = None
+    if s.what_if:
+        scenarios = list(standard_scenarios(inputs))
+        for c in case.candidates:
+            if c.datum not in inputs.groups:
+                continue
+            d = case.data[c.datum]
+            if c.u is not None:
+                scenarios.append(Scenario.stated(c.datum, c.u / d.to_report))
+            elif c.factor is not None:
+                scenarios.append(Scenario.scaled(c.datum, c.factor))
+        if all(model.linear_in_inputs):
+            whatif = what_if(f, inputs, scenarios, method="linear", coverage=s.coverage_probability, linear=lin)
+        else:
+            whatif = what_if(f, inputs, scenarios, method="monte-carlo", coverage=s.coverage_probability,
+                             samples=min(2**14, int(s.samples) if s.samples != "adaptive" else 2**14),
+                             sampling="sobol" if s.sampling == "sobol" else "random", seed=s.seed)
+    return ranking, whatif
+
+
+def _margins(pt: dict, probs: list[float], design_value: float | None) -> dict:
+    """One-sided bounds at the design probabilities and the margin to the estimate (and design value)."""
+    mc = pt.get("monte_carlo")
+    lin = pt.get("linear")
+    out: dict[str, Any] = {}
+    est = (mc or lin or {}).get("mean", (lin or {}).get("estimate"))
+    if mc is not None and mc.get("one_sided"):
+        src = mc["one_sided"]
+        for q in probs:
+            up = src.get(f"P{round(100 * q):02d}")
+            lo = src.get(f"P{round(100 * (1 - q)):02d}")
+            if up is not None:
+                out[f"upper_P{round(100 * q):02d}"] = up
+                out[f"upper_P{round(100 * q):02d}_margin"] = None if est is None else up - est
+            if lo is not None:
+                out[f"lower_P{round(100 * q):02d}"] = lo
+                out[f"lower_P{round(100 * q):02d}_margin"] = None if est is None else est - lo
+        out["basis"] = "Monte Carlo quantiles"
+    elif lin is not None and lin.get("standard_uncertainty") is not None:
+        from scipy import stats
+
+        u = lin["standard_uncertainty"]
+        dof = lin.get("effective_dof") or math.inf
+        for q in probs:
+            k = float(stats.t.ppf(q, dof)) if math.isfinite(dof) else float(stats.norm.ppf(q))
+            out[f"upper_P{round(100 * q):02d}"] = est + k * u
+            out[f"upper_P{round(100 * q):02d}_margin"] = k * u
+            out[f"lower_P{round(100 * q):02d}"] = est - k * u
+            out[f"lower_P{round(100 * q):02d}_margin"] = k * u
+        out["basis"] = "linear (normal/t) approximation"
+    # compatibility keys of the brief: P95/P99 = upper bounds
+    for q in probs:
+        key = f"upper_P{round(100 * q):02d}"
+        if key in out:
+            out[f"P{round(100 * q):02d}"] = out[key]
+    if design_value is not None:
+        out["design_value"] = design_value
+        if mc is not None:
+            hist = mc.get("histogram") or {}
+            out["design_value_note"] = "compare with the one-sided bounds above"
+    return out
+
+
+def _safety_point(case: Case, model: Model, o, i: int, pt: dict, mc) -> None:
+    """Exceedance probability of the limit, MTSR and Stoessel criticality class for an adiabatic output."""
+    from .thermo.energy import criticality_class, criticality_class_probabilities, mtsr
+
+    est = (pt.get("monte_carlo") or pt.get("linear") or {})
+    dT = est.get("mean", est.get("estimate"))
+    if dT is None:
+        return
+    pt["final_temperature_K"] = o.start_temperature + dT
+    aux = {a.name: a.column for a in model.aux if a.output == i}
+    n = int(mc.samples_used) if mc is not None else 0
+    if o.limit is not None:
+        if mc is not None and "exceedance" in aux:
+            pe = float(mc.mean[aux["exceedance"]])
+            pt["exceedance_probability"] = pe
+            pt["exceedance_standard_error"] = math.sqrt(max(pe * (1 - pe), 0.0) / max(n, 1))
+        else:
+            lin = pt.get("linear") or {}
+            u = lin.get("standard_uncertainty") or 0.0
+            from scipy import stats
+
+            z = (o.limit - o.start_temperature - dT) / u if u > 0 else (math.inf if o.limit > o.start_temperature + dT else -math.inf)
+            pt["exceedance_probability"] = float(stats.norm.sf(z))
+            pt["exceedance_standard_error"] = None
+            pt["exceedance_basis"] = "linear normal approximation"
+        pt["limit_K"] = o.limit
+    if o.process_temperature is not None:
+        acc = 1.0 if o.accumulation is None else o.accumulation
+        m = float(mtsr(o.process_temperature, dT, acc))
+        pt["mtsr_K"] = m
+        if o.mtt is not None and o.td24 is not None:
+            pt["criticality_class"] = int(np.asarray(criticality_class(o.process_temperature, m, o.mtt, o.td24)).ravel()[0])
+            if mc is not None:
+                samples = o.process_temperature + acc * mc.Y_kept[:, model.output_columns(i)[0]]
+                classes = criticality_class(o.process_temperature, samples, o.mtt, o.td24)
+                probs = criticality_class_probabilities(classes)
+                pt["criticality_class_probabilities"] = {str(k): float(v) for k, v in
+                                                         (probs.items() if isinstance(probs, dict) else enumerate(probs, 1))}
+        for name, key in (("mtsr_above_mtt", "p_mtsr_above_mtt"), ("mtsr_above_td24", "p_mtsr_above_td24")):
+            if mc is not None and name in aux:
+                pv = float(mc.mean[aux[name]])
+                pt[key] = pv
+                pt[key + "_standard_error"] = math.sqrt(max(pv * (1 - pv), 0.0) / max(n, 1))
