@@ -61,7 +61,8 @@ def _contract(B: np.ndarray, c: np.ndarray) -> np.ndarray:
         return c @ B
     if B.ndim == 2 and c.shape[-2] == 1:
         return c[..., 0, :] @ B.T
-    return np.einsum("...p,...p->...", B, c)
+    B, c = np.broadcast_arrays(B, c)
+    return np.matmul(B[..., None, :], c[..., :, None])[..., 0, 0]   # batched dot: much faster than einsum here
 
 
 def _as_temperature(T, name: str = "T") -> np.ndarray:
