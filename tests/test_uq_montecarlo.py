@@ -1,0 +1,181 @@
+"""Monte Carlo propagation (JCGM 101): reproducibility, chunking, memory bound, summaries, validation."""
+
+import numpy as np
+import pytest
+from scipy import stats
+
+from uqthermo.errors import StatisticsError
+from uqthermo.uq import (
+    InputSet,
+    InputVariable,
+    LogNormal,
+    Normal,
+    Rectangular,
+    numerical_tolerance,
+    propagate_linear,
+    propagate_monte_carlo,
+    validate_linear,
+)
+from uqthermo.uq.stats import Moments, intervals_from_sorted
+
+
+def _inputs():
+    R = np.array([[1.0, 0.4, 0.0], [0.4, 1.0, -0.3], [0.0, -0.3, 1.0]])
+    return InputSet([InputVariable("a", "a", Normal(1.0, 0.1)), InputVariable("b", "b", Rectangular(2.0, 0.3)),
+                     InputVariable("c", "c", LogNormal(0.5, 0.05))], R)
+
+
+def model(X):
+    return np.stack([X[:, 0] * X[:, 1] + X[:, 2], np.exp(X[:, 0]) - X[:, 2] ** 2], axis=1)
+
+
+@pytest.mark.parametrize("method", ["random", "sobol", "latin-hypercube"])
+def test_bit_identical_with_same_seed(method):
+    a = propagate_monte_carlo(model, _inputs(), samples=20_000, sampling=method, seed=77)
+    b = propagate_monte_carlo(model, _inputs(), samples=20_000, sampling=method, seed=77)
+    for name in ("mean", "standard_uncertainty", "coverage_interval", "shortest_interval", "skewness",
+                 "Y_kept", "X_kept"):
+        assert getattr(a, name).tobytes() == getattr(b, name).tobytes(), name
+    c = propagate_monte_carlo(model, _inputs(), samples=20_000, sampling=method, seed=78)
+    assert not np.array_equal(a.Y_kept, c.Y_kept)
+
+
+@pytest.mark.parametrize("method", ["random", "sobol", "latin-hypercube"])
+def test_chunk_size_does_not_change_results(method):
+    a = propagate_monte_carlo(model, _inputs(), samples=30_000, sampling=method, seed=5, chunk_size=30_000)
+    b = propagate_monte_carlo(model, _inputs(), samples=30_000, sampling=method, seed=5, chunk_size=777)
+    assert a.coverage_interval.tobytes() == b.coverage_interval.tobytes()
+    assert a.shortest_interval.tobytes() == b.shortest_interval.tobytes()
+    assert a.Y_kept.tobytes() == b.Y_kept.tobytes()
+    np.testing.assert_allclose(a.mean, b.mean, rtol=1e-13)
+    np.testing.assert_allclose(a.standard_uncertainty, b.standard_uncertainty, rtol=1e-12)
+    assert [n for n, _ in a.convergence[0]] == [n for n, _ in b.convergence[0]]
+
+
+@pytest.mark.parametrize("method", ["random", "sobol", "latin-hypercube"])
+def test_adaptive_chunk_size_independent(method):
+    kw = dict(samples="adaptive", sampling=method, seed=3, ndigits=2)
+    a = propagate_monte_carlo(model, _inputs(), chunk_size=10_000, **kw)
+    b = propagate_monte_carlo(model, _inputs(), chunk_size=70_000, **kw)
+    assert a.converged and b.converged
+    assert a.samples_used == b.samples_used and a.samples_used % 10_000 == 0
+    assert a.coverage_interval.tobytes() == b.coverage_interval.tobytes()
+    assert a.batch_size == 10_000  # JCGM 101 7.9.4 b): max(100/(1-p), 10^4) for p = 0.95
+    # stability holds 2s per quantity (JCGM 101 7.9.4 k): none exceeds delta
+    assert all(s2 <= t for v in a.stability.values() for s2, t in zip(v, a.tolerance))
+
+
+def test_histogram_mode_matches_exact_mode():
+    kw = dict(samples=300_000, sampling="random", seed=12)
+    exact = propagate_monte_carlo(model, _inputs(), **kw)
+    binned = propagate_monte_carlo(model, _inputs(), max_stored_values=200_000, chunk_size=7_000, **kw)
+    assert not binned.warnings
+    assert exact.quantile_method == "exact" and binned.quantile_method == "histogram"
+    res = binned.quantile_resolution
+    assert np.all(res < 0.1 * binned.tolerance)
+    np.testing.assert_allclose(binned.coverage_interval, exact.coverage_interval, atol=2 * res.max())
+    np.testing.assert_allclose(binned.quantile([0.05, 0.5, 0.95]), exact.quantile([0.05, 0.5, 0.95]),
+                               atol=2 * res.max())
+    np.testing.assert_allclose(binned.shortest_interval, exact.shortest_interval, atol=0.2 * binned.tolerance.max())
+    np.testing.assert_allclose(binned.standard_uncertainty, exact.standard_uncertainty, rtol=1e-12)
+    pa, _ = exact.probability_above(exact.median)
+    pb, _ = binned.probability_above(exact.median)
+    np.testing.assert_allclose(pa, 0.5, atol=1e-4)
+    np.testing.assert_allclose(pb, 0.5, atol=1e-3)
+    e1, c1 = binned.histogram(0, 20)
+    assert len(e1) == 21 and abs(c1.sum() - 300_000) < 300
+
+
+def test_summaries_for_a_normal_output():
+    s = InputSet([InputVariable("x", "x", Normal(10.0, 2.0))])
+    seen = []
+    mc = propagate_monte_carlo(lambda X: X, s, samples=2**17, sampling="sobol", seed=1,
+                               progress=lambda done, total: seen.append((done, total)))
+    assert seen[-1] == (2**17, 2**17)
+    # reference: exact normal quantiles (scipy.stats.norm)
+    np.testing.assert_allclose(mc.coverage_interval[0], stats.norm.ppf([0.025, 0.975], 10, 2), atol=0.01)
+    np.testing.assert_allclose(mc.quantile(0.99), stats.norm.ppf(0.99, 10, 2), atol=0.01)
+    p, se = mc.probability_above(14.0)
+    assert p[0] == pytest.approx(stats.norm.sf(2.0), abs=3 * se[0])
+    assert abs(mc.skewness[0]) < 0.02
+    n, u = mc.history(0)
+    assert n[-1] == 2**17 and u[-1] == mc.standard_uncertainty[0]
+    assert mc.Y_kept.shape == (65_536, 1) and mc.X_kept.shape == (65_536, 1)
+
+
+def test_intervals_from_sorted_rules():
+    # JCGM 101 7.7.1: q = pM (or int(pM + 1/2)); symmetric r = (M - q)/2 or int((M - q + 1)/2)
+    ys = np.arange(1.0, 21.0)[:, None]
+    sym, short = intervals_from_sorted(ys, 0.9)  # q = 18, r = 1
+    assert sym.tolist() == [[1.0, 19.0]]
+    sym, _ = intervals_from_sorted(ys, 0.85)  # q = 17, r = int(4/2) = 2
+    assert sym.tolist() == [[2.0, 19.0]]
+    skewed = np.sort(np.array([0, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 5, 9.0]))[:, None]
+    _, short = intervals_from_sorted(skewed, 0.7)  # q = 7: narrowest window of 8 points
+    assert short.tolist() == [[0.0, 0.7]]
+
+
+def test_numerical_tolerance_jcgm101_792():
+    # JCGM 101 7.9.2: z = c x 10^l with c an ndig-digit integer, delta = 10^l / 2
+    assert numerical_tolerance(2.0, 2) == pytest.approx(0.05)
+    assert numerical_tolerance(2.0, 1) == pytest.approx(0.5)
+    assert numerical_tolerance(0.0123, 2) == pytest.approx(0.0005)
+    assert numerical_tolerance(9.96, 2) == pytest.approx(0.5)  # rounds to 10 -> c = 10, l = 0
+    assert numerical_tolerance(0.0, 2) == 0.0
+
+
+def test_moments_merge_is_chunk_independent():
+    rng = np.random.default_rng(0)
+    y = rng.lognormal(size=(10_001, 2))
+    m1, m2 = Moments(2), Moments(2)
+    m1.add(y)
+    for i in range(0, len(y), 333):
+        m2.add(y[i:i + 333])
+    np.testing.assert_allclose(m2.mean, y.mean(axis=0), rtol=1e-13)
+    np.testing.assert_allclose(m2.std, y.std(axis=0, ddof=1), rtol=1e-12)
+    np.testing.assert_allclose(m2.skewness, stats.skew(y, axis=0), rtol=1e-10)  # reference: scipy.stats.skew
+    np.testing.assert_allclose(m1.skewness, m2.skewness, rtol=1e-10)
+
+
+def test_validation_flags():
+    lin_in = InputSet([InputVariable(f"x{i}", f"x{i}", Normal(0.0, 1.0)) for i in range(4)])
+    f = lambda X: np.stack([X.sum(axis=1), np.exp(X[:, 0])], axis=1)  # linear / strongly skewed output
+    lin = propagate_linear(f, lin_in)
+    mc = propagate_monte_carlo(f, lin_in, samples=200_000, seed=2)
+    v = validate_linear(lin, mc, ndigits=2)
+    assert v[0].linear_validated and not v[1].linear_validated
+    y, U = lin.estimate[1], lin.expanded_uncertainty[1]
+    assert v[1].d_low == pytest.approx(abs(y - U - mc.coverage_interval[1, 0]))
+    assert v[1].d_high == pytest.approx(abs(y + U - mc.coverage_interval[1, 1]))
+    assert v[0].tolerance == pytest.approx(0.05)
+    assert set(v[0].as_dict()) == {"tolerance", "d_low", "d_high"}
+
+
+def test_errors_and_warnings():
+    s = InputSet([InputVariable("x", "x", Normal(0.0, 1.0))])
+    with pytest.raises(StatisticsError, match="non-finite"):
+        with np.errstate(invalid="ignore"):
+            propagate_monte_carlo(lambda X: np.log(X), s, samples=1000, seed=1)
+    with pytest.raises(StatisticsError):
+        propagate_monte_carlo(lambda X: X, s, samples="lots", seed=1)
+    with pytest.raises(StatisticsError):
+        propagate_monte_carlo(lambda X: X, s, samples=1000, sampling="grid", seed=1)
+    small = propagate_monte_carlo(lambda X: X, s, samples=500, seed=1)
+    assert small.warnings and "trials" in small.warnings[0]
+    capped = propagate_monte_carlo(lambda X: X, s, samples="adaptive", seed=1, ndigits=4, max_samples=30_000,
+                                   sampling="random")
+    assert not capped.converged and capped.samples_used == 30_000 and capped.warnings
+
+
+def test_constant_output_converges():
+    s = InputSet([InputVariable("x", "x", Normal(0.0, 1.0))])
+    mc = propagate_monte_carlo(lambda X: np.stack([X[:, 0], np.zeros(len(X))], axis=1), s, samples="adaptive",
+                               seed=4)
+    assert mc.converged and mc.standard_uncertainty[1] == 0.0
+
+
+def test_seed_recorded_when_not_given():
+    s = InputSet([InputVariable("x", "x", Normal(0.0, 1.0))])
+    a = propagate_monte_carlo(lambda X: X, s, samples=1000)
+    b = propagate_monte_carlo(lambda X: X, s, samples=1000, seed=a.seed)
+    assert a.Y_kept.tobytes() == b.Y_kept.tobytes()

@@ -1,0 +1,448 @@
+"""Propagation of distributions by the Monte Carlo method (JCGM 101:2008).
+
+Input samples come from :class:`~uqthermo.uq.sampling.UniformStream` mapped through
+:meth:`~uqthermo.uq.inputs.InputSet.from_uniform`; the vectorised model is evaluated
+chunk by chunk so memory stays bounded for any number of trials.
+
+Summary of the output distribution (JCGM 101 §7.5–7.7), per output:
+
+* estimate y = mean of the model values, standard uncertainty u(y) = their standard
+  deviation (divisor N − 1) (§7.6), sample skewness;
+* probabilistically symmetric and shortest 100p % coverage intervals (§7.7);
+* ``quantile(p)`` from the §7.5.2 distribution function, for one-sided design bounds;
+* exceedance probabilities P(Y > limit).
+
+**Fixed N or adaptive (§7.9).** With ``samples="adaptive"`` the §7.9.4 procedure runs
+batches of M = max(J, 10⁴) trials, J the smallest integer ≥ 100/(1 − p); after each batch
+h ≥ 2 it computes the standard deviations of the batch means, batch standard
+deviations and batch interval endpoints, s_z = [Σ_r (z⁽ʳ⁾ − z̄)² / (h(h − 1))]^{1/2},
+and stops when none of 2s_y, 2s_u(y), 2s_ylow, 2s_yhigh exceeds the numerical tolerance δ
+of u(y) from all h·M values (§7.9.2, ``ndigits`` significant digits), for every output.
+Endpoints of both the symmetric and (``check_shortest=True``) the shortest interval are
+checked. Consecutive batches continue one random / Sobol' sequence (a Latin-hypercube
+batch is its own design). Batches may be evaluated several per model call; the stopping
+batch is the same as when evaluating one batch at a time, so results never depend on the
+chunk size.
+
+**Memory.** All model values are kept while N·M ≤ ``max_stored_values`` (default 2·10⁷)
+and the quantities above are computed exactly from the sorted values. Beyond that the
+stored values become the pilot of a fixed fine histogram per output
+(:class:`~uqthermo.uq.stats.BinnedCDF`, up to 10⁵ bins placed at equal pilot
+probabilities); later chunks only add counts. A quantile from it is accurate to within
+one bin width; ``quantile_resolution`` reports the widest bin holding an interval endpoint
+(with the default 2·10⁷-value pilot and 10⁵ bins it is ~10⁻⁴ u(y) at the 2.5 % and 97.5 %
+points of a normal-like output), far below δ, which is at least 0.005 u(y) for two
+significant digits. A warning is added if it ever exceeds δ/10.
+Mean, u(y) and skewness always use all values (mergeable moments).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..errors import StatisticsError
+from .inputs import InputSet
+from .sampling import UniformStream, _method
+from .stats import BinnedCDF, Moments, intervals_from_sorted, numerical_tolerance, quantile_sorted
+
+__all__ = ["MonteCarloResult", "propagate_monte_carlo", "adaptive_batch_size"]
+
+MAX_STORED_VALUES = 20_000_000
+HISTOGRAM_BINS = 100_000
+KEEP_VALUES = 4_000_000
+
+
+def adaptive_batch_size(coverage: float) -> int:
+    """Batch size M = max(J, 10⁴), J = ⌈100/(1 − p)⌉ (JCGM 101 §7.9.4 b)."""
+    j = math.ceil(100.0 / (1.0 - coverage) - 1e-9)
+    return max(j, 10_000)
+
+
+@dataclass
+class MonteCarloResult:
+    """Monte Carlo summary for M outputs.
+
+    Attributes
+    ----------
+    mean : (M,) estimate y (average of the model values)
+    standard_uncertainty : (M,) u(y)
+    coverage_interval : (M, 2) probabilistically symmetric 100p % interval
+    shortest_interval : (M, 2) shortest 100p % interval
+    median : (M,)
+    skewness : (M,)
+    coverage_probability : float
+    samples_used : int (trials in the reported statistics)
+    convergence : list (per output) of [(n, u(y) after n trials), ...]
+    Y_kept : (K, M) the first K model values (K ≤ ``keep``), for sensitivity and figures
+    X_kept : (K, D) the matching input rows
+    adaptive : bool; converged : bool (adaptive only; True for fixed N)
+    tolerance : (M,) δ of u(y) for ``ndigits`` (JCGM 101 §7.9.2)
+    stability : dict name → (M,) 2s for "mean", "u", "low", "high" (and "shortest_low",
+        "shortest_high") from the adaptive batches; empty for fixed N
+    batch_size, batches : adaptive batch size and number of batches (0 for fixed N)
+    seed, sampling : what produced the samples (record them)
+    quantile_method : "exact" (all values kept) or "histogram"
+    quantile_resolution : (M,) 0 for exact, else the widest histogram bin holding an interval endpoint
+    warnings : list[str]
+    """
+
+    mean: np.ndarray
+    standard_uncertainty: np.ndarray
+    coverage_interval: np.ndarray
+    shortest_interval: np.ndarray
+    median: np.ndarray
+    skewness: np.ndarray
+    coverage_probability: float
+    samples_used: int
+    convergence: list
+    Y_kept: np.ndarray
+    X_kept: np.ndarray
+    adaptive: bool
+    converged: bool
+    tolerance: np.ndarray
+    stability: dict
+    batch_size: int
+    batches: int
+    seed: int
+    sampling: str
+    quantile_method: str
+    quantile_resolution: np.ndarray
+    ndigits: int = 2
+    warnings: list = field(default_factory=list)
+    minimum: np.ndarray | None = None
+    maximum: np.ndarray | None = None
+    _sorted: np.ndarray | None = field(default=None, repr=False)
+    _binned: BinnedCDF | None = field(default=None, repr=False)
+
+    @property
+    def n_outputs(self) -> int:
+        return int(self.mean.shape[0])
+
+    @property
+    def estimate(self) -> np.ndarray:
+        """Alias of ``mean`` (JCGM 101 §7.6: the estimate y of Y)."""
+        return self.mean
+
+    def quantile(self, p) -> np.ndarray:
+        """p-quantile of each output (one-sided bound): shape (M,) for scalar p, (len(p), M) otherwise.
+
+        Exact: JCGM 101 §7.5.2 distribution function (plotting positions (r − ½)/N).
+        Histogram mode: inverse of the binned CDF (see module docstring).
+        """
+        pa = np.asarray(p, dtype=float)
+        if np.any((pa < 0) | (pa > 1)) or np.any(np.isnan(pa)):
+            raise StatisticsError(f"probability must lie in [0, 1], got {p!r}")
+        if self._sorted is not None:
+            return quantile_sorted(self._sorted, pa)
+        return self._binned.quantile(pa)
+
+    def probability_above(self, limit) -> tuple[np.ndarray, np.ndarray]:
+        """P(Y > limit) per output and its binomial standard error √(P(1 − P)/N).
+
+        ``limit`` scalar or (M,). The standard error is the pseudo-random one (for
+        Sobol' or Latin-hypercube sampling it is an upper bound in practice). With no
+        exceedance among N trials, 3/N is a 95 % upper bound (rule of three, common practice).
+        """
+        lim = np.broadcast_to(np.asarray(limit, dtype=float), (self.n_outputs,))
+        n = self.samples_used
+        if self._sorted is not None:
+            below = np.array([np.searchsorted(self._sorted[:, j], lim[j], side="right")
+                              for j in range(self.n_outputs)], dtype=float)
+            pr = 1.0 - below / n
+        else:
+            pr = 1.0 - self._binned.cdf(lim)
+        pr = np.clip(pr, 0.0, 1.0)
+        return pr, np.sqrt(pr * (1.0 - pr) / n)
+
+    def histogram(self, output: int = 0, bins: int = 50, range_p: tuple[float, float] = (0.0, 1.0)):
+        """(edges (bins+1,), counts (bins,)) of one output over its quantile range ``range_p``."""
+        if self._sorted is not None:
+            col = self._sorted[:, output]
+            lo, hi = quantile_sorted(col[:, None], range_p[0])[0], quantile_sorted(col[:, None], range_p[1])[0]
+            if not hi > lo:
+                lo, hi = lo - 0.5, hi + 0.5
+            counts, edges = np.histogram(col, bins=bins, range=(lo, hi))
+            return edges, counts
+        return self._binned.histogram(output, bins, range_p)
+
+    def history(self, output: int = 0) -> tuple[np.ndarray, np.ndarray]:
+        """Convergence history of one output as arrays (n, u)."""
+        h = self.convergence[output]
+        return np.array([a for a, _ in h], dtype=np.int64), np.array([b for _, b in h], dtype=float)
+
+
+class _Collector:
+    """Accumulates model values: moments always; values (or a fixed histogram); a kept subsample."""
+
+    def __init__(self, m: int, d: int, keep: int, cap: int, bins: int):
+        self.m = m
+        self.moments = Moments(m)
+        self.stored: list[np.ndarray] | None = []
+        self.n_stored = 0
+        self.binned: BinnedCDF | None = None
+        self.cap = cap
+        self.bins = int(min(bins, max(2000, cap // max(1, 2 * m))))
+        self.keep = keep
+        self.X_kept: list[np.ndarray] = []
+        self.Y_kept: list[np.ndarray] = []
+        self.n_kept = 0
+
+    def add(self, X: np.ndarray, Y: np.ndarray) -> None:
+        self.moments.add(Y)
+        if self.n_kept < self.keep:
+            t = min(self.keep - self.n_kept, Y.shape[0])
+            self.X_kept.append(X[:t].copy())
+            self.Y_kept.append(Y[:t].copy())
+            self.n_kept += t
+        if self.binned is None:
+            if (self.n_stored + Y.shape[0]) * self.m <= self.cap:
+                self.stored.append(Y.copy())
+                self.n_stored += Y.shape[0]
+            else:
+                pilot = np.concatenate(self.stored + [Y], axis=0)
+                self.stored = None
+                self.binned = BinnedCDF(pilot, self.bins)
+        else:
+            self.binned.add(Y)
+
+    def kept(self, d: int):
+        if self.n_kept:
+            return np.concatenate(self.X_kept, axis=0), np.concatenate(self.Y_kept, axis=0)
+        return np.empty((0, d)), np.empty((0, self.m))
+
+    def sorted_values(self) -> np.ndarray:
+        ys = np.concatenate(self.stored, axis=0)
+        ys.sort(axis=0)
+        return ys
+
+
+def _batch_summary(Y: np.ndarray, p: float) -> np.ndarray:
+    """(6, M): mean, std, symmetric low/high, shortest low/high of one batch."""
+    ys = np.sort(Y, axis=0)
+    sym, short = intervals_from_sorted(ys, p)
+    return np.stack([Y.mean(axis=0), Y.std(axis=0, ddof=1), sym[:, 0], sym[:, 1], short[:, 0], short[:, 1]])
+
+
+def propagate_monte_carlo(
+    f: Callable[[np.ndarray], np.ndarray],
+    inputs: InputSet,
+    samples: int | str = 200_000,
+    sampling: str = "sobol",
+    seed: int | None = None,
+    coverage: float = 0.95,
+    chunk_size: int | None = None,
+    ndigits: int = 2,
+    progress: Callable[[int, int | None], None] | None = None,
+    *,
+    keep: int = 65_536,
+    max_samples: int = 10_000_000,
+    batch_size: int | None = None,
+    check_shortest: bool = True,
+    max_stored_values: int = MAX_STORED_VALUES,
+    histogram_bins: int = HISTOGRAM_BINS,
+) -> MonteCarloResult:
+    """Propagate the input distributions through f by Monte Carlo (JCGM 101 §7).
+
+    Parameters
+    ----------
+    f : callable
+        Vectorised model ``f(X[N, D]) -> Y[N, M]`` (1-D result = one output). It must act
+        row by row (the value for one input row must not depend on the other rows).
+    inputs : InputSet
+    samples : int or "adaptive"
+        Number of trials N, or the adaptive procedure of JCGM 101 §7.9.
+    sampling : {"sobol", "random", "latin-hypercube"}
+    seed : int, optional
+        Seed; ``None`` draws fresh entropy and records it in ``result.seed``.
+    coverage : float
+        Coverage probability p.
+    chunk_size : int, optional
+        Rows per model call (default 65536, fewer for many inputs).
+    ndigits : int
+        Significant digits of u(y) for the numerical tolerance δ (§7.9.2).
+    progress : callable(done, total), optional
+        Called after each chunk (fixed N: total = N) or batch (adaptive: total = None).
+    keep : int
+        Model values (and input rows) kept in ``Y_kept``/``X_kept`` (reduced so that
+        keep·(D + M) ≤ 4·10⁶).
+    max_samples : int
+        Cap on trials for the adaptive procedure (``converged = False`` and a warning if hit).
+    batch_size : int, optional
+        Adaptive batch size (default max(⌈100/(1 − p)⌉, 10⁴), §7.9.4 b).
+    check_shortest : bool
+        Adaptive stopping also requires stable shortest-interval endpoints.
+    max_stored_values, histogram_bins : int
+        Memory bound and histogram resolution (see module docstring).
+
+    Returns
+    -------
+    MonteCarloResult
+    """
+    if not isinstance(inputs, InputSet):
+        raise StatisticsError("inputs must be an InputSet")
+    p = float(coverage)
+    if not 0.0 < p < 1.0:
+        raise StatisticsError(f"coverage probability must lie in (0, 1), got {coverage!r}")
+    if int(ndigits) != ndigits or ndigits < 1:
+        raise StatisticsError(f"ndigits must be a positive integer, got {ndigits!r}")
+    method = _method(sampling)
+    if seed is None:
+        seed = int(np.random.SeedSequence().entropy % (2**63))
+    d = len(inputs)
+    if chunk_size is None:
+        chunk_size = 65_536 if d <= 64 else max(1024, 2**22 // d)
+    if int(chunk_size) != chunk_size or chunk_size < 1:
+        raise StatisticsError(f"chunk size must be a positive integer, got {chunk_size!r}")
+    chunk_size = int(chunk_size)
+    adaptive = isinstance(samples, str)
+    if adaptive:
+        if samples.lower() != "adaptive":
+            raise StatisticsError(f"samples must be a positive integer or \"adaptive\", got {samples!r}")
+    else:
+        if isinstance(samples, bool) or int(samples) != samples or samples < 2:
+            raise StatisticsError(f"samples must be an integer >= 2 or \"adaptive\", got {samples!r}")
+        samples = int(samples)
+    stream = UniformStream(d, method, seed)
+    warnings: list[str] = []
+    state = {"m": None}
+
+    def evaluate(U: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        X = inputs.from_uniform(U)
+        Y = np.asarray(f(X), dtype=float)
+        if Y.ndim == 1:
+            Y = Y[:, None]
+        if Y.ndim != 2 or Y.shape[0] != X.shape[0]:
+            raise StatisticsError(f"model must return shape (N, M) for N = {X.shape[0]} input rows, got {Y.shape}")
+        if state["m"] is None:
+            state["m"] = Y.shape[1]
+        elif Y.shape[1] != state["m"]:
+            raise StatisticsError(f"model returned {Y.shape[1]} outputs, earlier {state['m']}")
+        bad = ~np.all(np.isfinite(Y), axis=1)
+        if np.any(bad):
+            raise StatisticsError(f"model returned non-finite values for {int(bad.sum())} of {Y.shape[0]} "
+                                  f"samples in a chunk (first at input row {int(np.flatnonzero(bad)[0])})")
+        return X, Y
+
+    def make_collector(m: int) -> _Collector:
+        kp = int(max(0, min(keep, max(1000, KEEP_VALUES // max(1, d + m)))))
+        return _Collector(m, d, kp, int(max_stored_values), int(histogram_bins))
+
+    conv_n: list[int] = []
+    conv_u: list[np.ndarray] = []
+    stability: dict = {}
+    converged = True
+    batches = 0
+    M_b = 0
+    collector: _Collector | None = None
+
+    if not adaptive:
+        n_total = samples
+        if n_total < max(math.ceil(100 / (1 - p)), 10_000):
+            warnings.append(f"only {n_total} Monte Carlo trials: coverage-interval endpoints may be unreliable "
+                            f"(JCGM 101 §7.2.1 asks for many more than 1/(1 - p) = {1 / (1 - p):.0f})")
+        checkpoints = sorted({int(round(n_total * 2 ** (-j / 2))) for j in range(60)} | {n_total})
+        checkpoints = [c for c in checkpoints if c >= min(100, n_total)]
+        ci = 0
+        done = 0
+        for U in stream.chunks(n_total, chunk_size):
+            X, Y = evaluate(U)
+            if collector is None:
+                collector = make_collector(Y.shape[1])
+            pos = 0
+            while pos < Y.shape[0]:
+                stop = min(Y.shape[0], pos + checkpoints[ci] - done) if ci < len(checkpoints) else Y.shape[0]
+                collector.add(X[pos:stop], Y[pos:stop])
+                done += stop - pos
+                pos = stop
+                if ci < len(checkpoints) and done == checkpoints[ci]:
+                    conv_n.append(done)
+                    conv_u.append(collector.moments.std.copy())
+                    ci += 1
+            if progress is not None:
+                progress(done, n_total)
+    else:
+        M_b = int(batch_size) if batch_size is not None else adaptive_batch_size(p)
+        if M_b < 2:
+            raise StatisticsError(f"batch size must be at least 2, got {batch_size!r}")
+        per_call = max(1, chunk_size // M_b)
+        summaries: list[np.ndarray] = []
+        converged = False
+        done = 0
+        while not converged and done < max_samples:
+            group = min(per_call, max(1, (max_samples - done) // M_b))
+            U = np.concatenate([stream.draw(M_b) for _ in range(group)], axis=0)
+            parts = [evaluate(U[i:i + chunk_size]) for i in range(0, U.shape[0], chunk_size)]
+            X = np.concatenate([a for a, _ in parts], axis=0)
+            Y = np.concatenate([b for _, b in parts], axis=0)
+            if collector is None:
+                collector = make_collector(Y.shape[1])
+            for g in range(group):
+                Yb = Y[g * M_b:(g + 1) * M_b]
+                collector.add(X[g * M_b:(g + 1) * M_b], Yb)
+                done += M_b
+                batches += 1
+                summaries.append(_batch_summary(Yb, p))
+                u_all = collector.moments.std
+                conv_n.append(done)
+                conv_u.append(u_all.copy())
+                if progress is not None:
+                    progress(done, None)
+                if batches < 2:
+                    continue
+                S = np.stack(summaries)  # (h, 6, M)
+                h = S.shape[0]
+                s = np.sqrt(np.var(S, axis=0, ddof=1) / h)  # (6, M): std of the average of h batch values
+                delta = numerical_tolerance(u_all, ndigits)
+                rows = [0, 1, 2, 3] + ([4, 5] if check_shortest else [])
+                exceed = np.any(2.0 * s[rows] > delta[None, :], axis=0) & (u_all > 0)
+                if not np.any(exceed):
+                    converged = True
+                    keys = ["mean", "u", "low", "high", "shortest_low", "shortest_high"]
+                    stability = {keys[r]: 2.0 * s[r] for r in rows}
+                    break
+                if done >= max_samples:
+                    keys = ["mean", "u", "low", "high", "shortest_low", "shortest_high"]
+                    stability = {keys[r]: 2.0 * s[r] for r in rows}
+                    break
+        if not converged:
+            warnings.append(f"adaptive Monte Carlo stopped at the cap of {done} trials before u(y) and the "
+                            f"interval endpoints were stable to {ndigits} significant digits")
+
+    assert collector is not None
+    mom = collector.moments
+    n_used = mom.n
+    mean = mom.mean.copy()
+    u = mom.std.copy()
+    skew = mom.skewness
+    if collector.binned is None:
+        ys = collector.sorted_values()
+        sym, short = intervals_from_sorted(ys, p)
+        median = quantile_sorted(ys, 0.5)
+        qmethod, resolution, binned = "exact", np.zeros_like(mean), None
+    else:
+        ys = None
+        binned = collector.binned
+        sym, short = binned.intervals(p)
+        median = binned.quantile(0.5)
+        qmethod = "histogram"
+        resolution = binned.resolution(np.concatenate([sym.T, short.T], axis=0))
+    tol = np.atleast_1d(numerical_tolerance(u, ndigits))
+    if qmethod == "histogram" and np.any(resolution > 0.1 * tol):
+        warnings.append("quantile histogram bins are not much finer than the numerical tolerance; "
+                        "raise max_stored_values or histogram_bins")
+    Xk, Yk = collector.kept(d)
+    m = mean.shape[0]
+    convergence = [[(int(n), float(uu[j])) for n, uu in zip(conv_n, conv_u)] for j in range(m)]
+    return MonteCarloResult(
+        mean=mean, standard_uncertainty=u, coverage_interval=sym, shortest_interval=short, median=median,
+        skewness=skew, coverage_probability=p, samples_used=int(n_used), convergence=convergence,
+        Y_kept=Yk, X_kept=Xk, adaptive=adaptive, converged=converged,
+        tolerance=tol, stability=stability,
+        batch_size=M_b, batches=batches, seed=int(seed), sampling=method, quantile_method=qmethod,
+        quantile_resolution=resolution, ndigits=int(ndigits), warnings=warnings,
+        minimum=mom.min.copy(), maximum=mom.max.copy(), _sorted=ys, _binned=binned,
+    )
