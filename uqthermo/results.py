@@ -211,7 +211,10 @@ def _drivers_and_whatif(case: Case, model: Model, lin, warnings: list[str]):
     ranking = None
     if s.sensitivity != "none":
         nonlinear = not all(model.linear_in_inputs)
-        ranking = rank_drivers(f, inputs, linear=lin, method=s.sensitivity, n_base=s.sobol_samples, seed=s.seed,
+        n_groups = max(1, len(inputs.groups))
+        budget = int(s.samples) if s.samples != "adaptive" else s.max_samples
+        n_base = int(min(s.sobol_samples, max(256, budget // (2 * n_groups + 2))))
+        ranking = rank_drivers(f, inputs, linear=lin, method=s.sensitivity, n_base=n_base, seed=s.seed,
                                nonlinear_hint=True if nonlinear else None)
         warnings += list(ranking.warnings)
     whatif = None
@@ -229,7 +232,7 @@ def _drivers_and_whatif(case: Case, model: Model, lin, warnings: list[str]):
             whatif = what_if(f, inputs, scenarios, method="linear", coverage=s.coverage_probability, linear=lin)
         else:
             whatif = what_if(f, inputs, scenarios, method="monte-carlo", coverage=s.coverage_probability,
-                             samples=min(2**14, int(s.samples) if s.samples != "adaptive" else 2**14),
+                             samples=min(2**13, int(s.samples) if s.samples != "adaptive" else 2**13),
                              sampling="sobol" if s.sampling == "sobol" else "random", seed=s.seed)
     return ranking, whatif
 

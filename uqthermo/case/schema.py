@@ -23,7 +23,7 @@ SETTINGS_DEFAULTS: dict[str, Any] = {
     "significant_digits": 2,
     "max_samples": 10_000_000,
     "sensitivity": "auto",
-    "sobol_samples": 2048,
+    "sobol_samples": 1024,
     "design_probabilities": [0.95, 0.99],
     "what_if": True,
 }
@@ -53,7 +53,7 @@ class Settings:
     significant_digits: int = 2
     max_samples: int = 10_000_000
     sensitivity: str = "auto"
-    sobol_samples: int = 2048
+    sobol_samples: int = 1024
     design_probabilities: list[float] = field(default_factory=lambda: [0.95, 0.99])
     what_if: bool = True
 

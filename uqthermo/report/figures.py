@@ -124,15 +124,17 @@ def _draw_distribution(results: Mapping, output: Mapping, point: Mapping) -> Fig
     u = num(mc.get("standard_uncertainty")) or num(lin.get("standard_uncertainty"))
     dec = uncertainty_decimals(u)
 
-    fig, ax = plt.subplots(figsize=(style.FIG_WIDTH_IN, 3.5), layout="constrained")
+    fig, ax = plt.subplots(figsize=(style.FIG_WIDTH_IN, 3.9), layout="constrained")
     lo_x, hi_x = (edges[0], edges[-1]) if edges.size else (None, None)
     if edges.size >= 2 and counts.size == edges.size - 1 and counts.sum() > 0:
         widths = np.diff(edges)
         dens = counts / (counts.sum() * widths)
-        ax.stairs(dens, edges, fill=True, color="#DCE9F4", label=f"Monte Carlo, N = {int(num(mc.get('samples')) or counts.sum())}")
+        n_lab = f"Monte Carlo histogram, N = {int(num(mc.get('samples')) or counts.sum())}"
         lo, hi = pair(mc.get("coverage_interval"))
-        if lo is not None and hi is not None:
-            ax.stairs(dens, np.clip(edges, lo, hi), fill=True, color=ROLE["mc_band"])
+        inside = lo is not None and hi is not None
+        ax.stairs(dens, edges, fill=True, color="#DCE9F4", label=None if inside else n_lab)
+        if inside:
+            ax.stairs(dens, np.clip(edges, lo, hi), fill=True, color=ROLE["mc_band"], label=n_lab)
         lim = limit_on_output(output, point)
         if lim is not None and lim < edges[-1]:
             ax.stairs(dens, np.clip(edges, lim, edges[-1]), fill=True, color=ROLE["limit"], alpha=0.45, hatch="////",
@@ -184,11 +186,11 @@ def _draw_distribution(results: Mapping, output: Mapping, point: Mapping) -> Fig
             lo_x, hi_x = min(lo_x, lim - 0.03 * span), max(hi_x, lim + 0.03 * span)
     if lo_x is not None:
         ax.set_xlim(lo_x, hi_x)
-    ax.set_ylim(0, ymax * 1.32)
+    ax.set_ylim(0, ymax * 1.08)
     ax.set_xlabel(_axis_label(_sym(output.get("kind")), unit))
     ax.set_ylabel("probability density")
     _titles(fig, f"{mpl_text(text(output.get('name')))}: output distribution at T = {fmt_temperature(point.get('temperature_K'))} K")
-    ax.legend(loc="upper left", ncols=2, fontsize=8)
+    fig.legend(*ax.get_legend_handles_labels(), loc="outside lower center", ncols=3, fontsize=8, frameon=False)
     ax.grid(axis="x", visible=False)
     return fig
 
@@ -485,8 +487,9 @@ def figure_specs(results: Mapping) -> list[FigureSpec]:
         if hp.get("drivers"):
             specs.append(FigureSpec(
                 f"drivers-{slug}", "output", oi, f"{name}: drivers",
-                f"{name} at T = {tlabel} K: share of the output variance by datum, with confidence intervals where the method gives them; "
-                "the hatched bar is the net contribution of correlations (negative when correlations reduce the variance).",
+                f"{name} at T = {tlabel} K: share of the output variance by datum, with confidence intervals where the method gives them"
+                + ("; the hatched bar is the net contribution of correlations (negative when correlations reduce the variance)."
+                   if num(hp.get("correlation_share")) else "."),
                 (lambda o=o, hp=hp: _draw_drivers(o, hp))))
     conv = results.get("convergence") or {}
     if any(isinstance(v, list) and v for v in conv.values()):
