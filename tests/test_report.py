@@ -495,3 +495,28 @@ def test_bad_arguments_raise_project_errors(results, tmp_path):
         write_report(results, tmp_path, formats=("pdf",))
     with pytest.raises(InputError):
         render_html("not a dict")  # type: ignore[arg-type]
+
+
+def test_edge_cases_render(tmp_path):
+    # exact output (u = 0), a huge equilibrium constant, missing pieces everywhere, Monte Carlo only
+    r = {"run": {"method": "monte-carlo", "samples": "adaptive", "adaptive": True, "coverage_probability": 0.99},
+         "outputs": [
+             {"name": "exact", "kind": "heating_enthalpy", "unit": "kJ/mol", "points": [
+                 {"temperature_K": 350.0, "linear": {"estimate": 2.5, "standard_uncertainty": 0.0, "coverage_interval": [2.5, 2.5],
+                                                      "expanded_uncertainty": 0.0, "coverage_factor": None, "effective_dof": None}}]},
+             {"name": "K_eq", "kind": "equilibrium_constant", "unit": "1", "phase_changes": [{"species": "X"}], "points": [
+                 {"temperature_K": 500.0 + 10 * i,
+                  "monte_carlo": {"mean": 1.234e12 * (1 + i), "standard_uncertainty": 3.1e10, "coverage_interval": [1.17e12, 1.30e12],
+                                  "samples": 20000, "histogram": {"edges": [], "counts": []}},
+                  "drivers": [{"datum": "A", "share": None}, {"datum": "B", "share": 0.5, "share_ci": [0.4, None]}]}
+                 for i in range(3)]},
+             {"name": "Q", "kind": "heat_release", "unit": "kW", "points": []}],
+         "convergence": {"K_eq": [[1000, 3.0e10], [2000, None], [4000, 3.1e10]], "missing": []},
+         "plan": {"front": [{"cost": 0, "U": 2.0, "set": []}, {"cost": None, "U": 1.0}], "best": {}},
+         "warnings": None, "cautions": None}
+    written = write_report(r, tmp_path)
+    text = written["report.md"].read_text(encoding="utf-8")
+    assert "adaptive" in text and "99 %" in text
+    assert "1.234e+12" in text and "3.1e+10" in text          # e-notation keeps the GUM digits
+    assert "Cautions for safety use" in text                  # heat_release output
+    assert {"curve-K_eq", "convergence", "plan-front"} <= {Path(k).stem for k in written if k.startswith("figures/")}

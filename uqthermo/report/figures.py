@@ -32,7 +32,7 @@ import numpy as np
 from . import style
 from .style import ROLE, mpl_text
 from .tables import (
-    coverage_probability, fmt_fixed, fmt_probability, fmt_temperature, headline_index, kind_symbol,
+    coverage_probability, fmt_fixed, fmt_probability, fmt_temperature, headline_index,
     limit_on_output, num, outputs, pair, pct_label, points, slugs, text, uncertainty_decimals,
 )
 
@@ -443,10 +443,10 @@ def _draw_plan(plan: Mapping) -> Figure:
     _titles(fig, "Data purchase plan: expanded uncertainty against cost", mpl_text(f"target{where}") if where else None)
     ax.legend(loc="upper right", fontsize=8)
     allU = ys + [num(e["U"]) for e in evaluated] + ([tU] if tU is not None else [])
-    if allU:
+    if allU and max(allU) > min(allU):
         ax.set_ylim(min(allU) * 0.9, max(allU) * 1.08)
     allc = xs + [num(e["cost"]) for e in evaluated] + ([bud] if bud is not None else [])
-    if allc:
+    if allc and max(allc) > 0:
         ax.set_xlim(-0.03 * max(allc), max(allc) * 1.1)
     return fig
 

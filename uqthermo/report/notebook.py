@@ -55,5 +55,5 @@ class ResultsView:
         t = tb.summary_table(self.results)
         lines = [f"ResultsView({tb.text((self.results.get('case') or {}).get('title')) or 'untitled'!r})"]
         for r in t.rows:
-            lines.append(f"  {r[0]}: {r[3]} ± {r[4]} {r[6]} at {r[2]} K, {r[5]}")
+            lines.append(f"  {r[0]}: {r[3]} ± {r[4]} {r[6]} at {r[2].rstrip(' *')} K, {r[5]}")
         return "\n".join(lines)

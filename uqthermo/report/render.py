@@ -18,7 +18,6 @@ Escaping
 from __future__ import annotations
 
 import base64
-import math
 import os
 import re
 import tempfile
@@ -32,8 +31,8 @@ from markupsafe import Markup, escape
 from . import style
 from . import tables as tb
 from .tables import (
-    DisplayTable, coverage_probability, fmt_dof, fmt_fixed, fmt_interval, fmt_k, fmt_probability,
-    fmt_temperature, fmt_u, fmt_value, headline_index, kind_label, num, outputs, pair, pct_label,
+    DisplayTable, coverage_probability, fmt_fixed, fmt_interval, fmt_k, fmt_probability,
+    fmt_temperature, fmt_u, fmt_value, headline_index, kind_label, num, outputs, pct_label,
     points, slugs, text, uncertainty_decimals,
 )
 
@@ -288,15 +287,15 @@ def _method(results: Mapping) -> dict:
 def _headline(results: Mapping, o: Mapping, p: Mapping) -> dict:
     mc = p.get("monte_carlo") or {}
     lin = p.get("linear") or {}
-    unit = text(o.get("unit"))
+    unit = tb.unit_suffix(o.get("unit"))
     p_cov = pct_label(coverage_probability(results, p))
     items = []
     if mc:
         d = uncertainty_decimals(mc.get("standard_uncertainty"))
         items.append({
             "label": "Monte Carlo (JCGM 101)",
-            "value": f"{fmt_fixed(mc.get('mean'), d)} {unit}",
-            "detail": f"u = {fmt_u(mc.get('standard_uncertainty'))} {unit}; {p_cov} interval {fmt_interval(mc.get('coverage_interval'), d)}",
+            "value": f"{fmt_fixed(mc.get('mean'), d)}{unit}",
+            "detail": f"u = {fmt_u(mc.get('standard_uncertainty'))}{unit}; {p_cov} interval {fmt_interval(mc.get('coverage_interval'), d)}",
             "badge": None,
         })
     if lin:
@@ -304,8 +303,8 @@ def _headline(results: Mapping, o: Mapping, p: Mapping) -> dict:
         v = p.get("linear_validated")
         items.append({
             "label": "Linear (GUM)",
-            "value": f"{fmt_fixed(lin.get('estimate'), d)} {unit}",
-            "detail": f"u = {fmt_u(lin.get('standard_uncertainty'))} {unit}; U = {fmt_fixed(lin.get('expanded_uncertainty'), d)} {unit} "
+            "value": f"{fmt_fixed(lin.get('estimate'), d)}{unit}",
+            "detail": f"u = {fmt_u(lin.get('standard_uncertainty'))}{unit}; U = {fmt_fixed(lin.get('expanded_uncertainty'), d)}{unit} "
                       f"(k = {fmt_k(lin.get('coverage_factor'))}); {p_cov} interval {fmt_interval(lin.get('coverage_interval'), d)}",
             "badge": ("ok", "validated") if v is True else (("no", "not validated") if v is False else ("na", "not checked")),
         })
@@ -325,22 +324,22 @@ def _headline(results: Mapping, o: Mapping, p: Mapping) -> dict:
 def _summary_card(results: Mapping, o: Mapping, p: Mapping) -> dict:
     mc = p.get("monte_carlo") or {}
     lin = p.get("linear") or {}
-    unit = text(o.get("unit"))
+    unit = tb.unit_suffix(o.get("unit"))
     u = tb.point_u(p)
     d = uncertainty_decimals(u)
     src = "Monte Carlo" if num(mc.get("mean")) is not None else "linear"
     iv = mc.get("coverage_interval") if src == "Monte Carlo" else lin.get("coverage_interval")
-    details = [f"u = {fmt_u(u)} {unit} · {pct_label(coverage_probability(results, p))} interval {fmt_interval(iv, d)} ({src})"]
+    details = [f"u = {fmt_u(u)}{unit} · {pct_label(coverage_probability(results, p))} interval {fmt_interval(iv, d)} ({src})"]
     if num(lin.get("expanded_uncertainty")) is not None:
         dl = uncertainty_decimals(lin.get("standard_uncertainty"))
-        details.append(f"linear: U = {fmt_fixed(lin.get('expanded_uncertainty'), dl)} {unit} (k = {fmt_k(lin.get('coverage_factor'))})")
+        details.append(f"linear: U = {fmt_fixed(lin.get('expanded_uncertainty'), dl)}{unit} (k = {fmt_k(lin.get('coverage_factor'))})")
     if p.get("exceedance_probability") is not None:
         what = "final T" if o.get("kind") == "adiabatic_temperature_rise" and o.get("limit_applies_to", "final_temperature") != "rise" else "output"
         details.append(f"P({what} > {fmt_temperature(o.get('limit_K'))} K) = "
                        f"{fmt_probability(p.get('exceedance_probability'), p.get('exceedance_standard_error'))}")
     v = p.get("linear_validated")
     badge = ("ok", "linear validated") if v is True else (("no", "linear not validated") if v is False else None)
-    return {"T": fmt_temperature(p.get("temperature_K")), "value": f"{fmt_fixed(tb.point_estimate(p), d)} {unit}",
+    return {"T": fmt_temperature(p.get("temperature_K")), "value": f"{fmt_fixed(tb.point_estimate(p), d)}{unit}",
             "details": details, "badge": badge}
 
 
@@ -383,7 +382,8 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
         "css": Markup(style.REPORT_CSS),
     }
     ctx["summary"] = numbering.table(tb.summary_table(results))
-    ctx["inputs"] = numbering.table(tb.inputs_table(results))
+    inp = tb.inputs_table(results)
+    ctx["inputs"] = numbering.table(inp) if inp else None
     corr = tb.correlations_table(results)
     ctx["correlations"] = numbering.table(corr) if corr else None
     reac = tb.reactions_table(results)
@@ -394,11 +394,14 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
         pts = points(o)
         entry: dict[str, Any] = {
             "anchor": f"out-{oi + 1}", "number": oi + 1, "name": text(o.get("name")), "kind": kind_label(o.get("kind")),
-            "unit": text(o.get("unit")), "description": text(o.get("description")), "reaction": text(o.get("reaction")),
+            "unit": tb.unit_suffix(o.get("unit")).strip(), "description": text(o.get("description")), "reaction": text(o.get("reaction")),
             "equation": text(o.get("equation")), "span": _span_text(o), "first": oi == 0,
-            "figures": [], "tables": [], "headline": None, "summary_card": None, "drivers_note": "", "limit": "", "phase_changes": [],
+            "figures": [], "tables": [], "headline": None, "summary_card": None, "headline_note": "",
+            "drivers_table": None, "drivers_figure": None, "whatif_table": None, "not_validated": [], "drivers_note": "", "limit": "", "phase_changes": [],
         }
         for pc in o.get("phase_changes") or []:
+            if not isinstance(pc, Mapping) or num(pc.get("temperature_K")) is None:
+                continue
             entry["phase_changes"].append(f"{text(pc.get('species'))} {text(pc.get('transition')).replace('-', ' → ')} at {fmt_temperature(pc.get('temperature_K'))} K")
         if num(o.get("limit_K")) is not None:
             if o.get("kind") == "adiabatic_temperature_rise" and o.get("limit_applies_to", "final_temperature") != "rise":

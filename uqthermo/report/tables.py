@@ -239,7 +239,7 @@ def fmt_fixed(x: Any, dec: int | None) -> str:
     if not math.isfinite(v):
         return "∞" if v > 0 else "-∞"
     if dec is None:
-        return fmt_sig(v, 6)
+        return fmt_value(v)
     if dec > 6 or abs(v) >= 1e9:
         # significant digits implied by the decimal position
         exp = math.floor(math.log10(abs(v))) if v != 0 else -dec
@@ -336,7 +336,10 @@ def fmt_value(x: Any) -> str:
         return "—"
     if float(v).is_integer() and abs(v) < 1e9:
         return str(int(v))
-    return fmt_sig(v, 6)
+    s = fmt_sig(v, 6)
+    if "." in s and "e" not in s:
+        s = s.rstrip("0").rstrip(".")
+    return s
 
 
 def fmt_temperature(t: Any) -> str:
@@ -391,6 +394,18 @@ class DisplayTable:
 
 def _unit(output: Mapping) -> str:
     return text(output.get("unit")) or "1"
+
+
+def unit_suffix(unit: Any) -> str:
+    """" kJ/mol" for a unit after a number; "" for a dimensionless output ("1" or none)."""
+    u = text(unit)
+    return "" if u in ("", "1") else f" {u}"
+
+
+def in_unit(unit: Any) -> str:
+    """Caption suffix: ", in kJ/mol" or ", dimensionless"."""
+    u = text(unit)
+    return ", dimensionless" if u in ("", "1") else f", in {u}"
 
 
 def summary_table(results: Mapping) -> DisplayTable:
@@ -509,7 +524,7 @@ def mc_table(results: Mapping, output: Mapping, key: str) -> DisplayTable:
     p_cov = coverage_probability(results)
     unit = _unit(output)
     t = DisplayTable(
-        key, f"Monte Carlo results (JCGM 101), in {unit}",
+        key, f"Monte Carlo results (JCGM 101){in_unit(unit)}",
         ["T / K", "Mean", "u", f"{pct_label(p_cov)} interval (prob.-symmetric)", f"{pct_label(p_cov)} shortest interval", "Median", "Skewness", "N"],
         ["r"] * 8,
     )
@@ -530,7 +545,7 @@ def linear_table(results: Mapping, output: Mapping, key: str) -> DisplayTable:
     p_cov = coverage_probability(results)
     unit = _unit(output)
     t = DisplayTable(
-        key, f"Linear propagation (GUM) and its validation (JCGM 101 §8), in {unit}",
+        key, f"Linear propagation (GUM) and its validation (JCGM 101 §8){in_unit(unit)}",
         ["T / K", "Estimate", "u", "ν_eff", "k", "U", f"{pct_label(p_cov)} interval", "δ", "d_low", "d_high", "Linear method"],
         ["r"] * 10 + ["l"],
     )
@@ -577,7 +592,7 @@ def _bounds(point: Mapping) -> tuple[dict, str]:
 def bounds_table(results: Mapping, output: Mapping, key: str) -> DisplayTable:
     unit = _unit(output)
     t = DisplayTable(
-        key, f"One-sided bounds and design margins, in {unit}",
+        key, f"One-sided bounds and design margins{in_unit(unit)}",
         ["T / K", "P01", "P05", "P95", "P99", "y − P05", "P95 − y", "y − P01", "P99 − y"],
         ["r"] * 9,
     )
@@ -608,7 +623,7 @@ def bounds_table(results: Mapping, output: Mapping, key: str) -> DisplayTable:
     dv = [num((p.get("margins") or {}).get("design_value")) for p in points(output)]
     dv = [d for d in dv if d is not None]
     if dv:
-        t.notes.append(f"Design value stated in the case: {fmt_value(dv[0])} {unit}; compare it with the one-sided bounds.")
+        t.notes.append(f"Design value stated in the case: {fmt_value(dv[0])}{unit_suffix(unit)}; compare it with the one-sided bounds.")
     return t
 
 
@@ -748,7 +763,7 @@ def _fmt_index(entry: Any) -> str:
 def whatif_table(output: Mapping, point: Mapping, key: str, p_cov: float) -> DisplayTable:
     unit = _unit(output)
     t = DisplayTable(
-        key, f"What-if: expanded uncertainty U ({pct_label(p_cov)}) at T = {fmt_temperature(point.get('temperature_K'))} K if one datum improved, in {unit}",
+        key, f"What-if: expanded uncertainty U ({pct_label(p_cov)}) at T = {fmt_temperature(point.get('temperature_K'))} K if one datum improved{in_unit(unit)}",
         ["Datum", "U now", "U with u halved", "U with datum exact", "Reduction if exact / %"],
         ["l", "r", "r", "r", "r"],
     )
