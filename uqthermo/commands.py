@@ -11,16 +11,28 @@ from .run import SAFETY_CAUTIONS, prepare_out_dir, publish_dir, run_case, write_
 
 
 def _console(stderr: bool = False):
+    import shutil
+
     from rich.console import Console
 
-    return Console(stderr=stderr, highlight=False, soft_wrap=True)
+    width = max(shutil.get_terminal_size((150, 40)).columns, 120)
+    return Console(stderr=stderr, highlight=False, width=width)
 
 
 def _sig(x: float | None, u: float | None = None, digits: int = 2) -> str:
     """Round ``x`` to match ``u`` given to ``digits`` significant digits (GUM 7.2.6)."""
-    from .report.tables import format_value
+    import math
 
-    return format_value(x, u, digits) if x is not None else "—"
+    if x is None or not isinstance(x, (int, float)) or not math.isfinite(x):
+        return "—"
+    if u is None or not isinstance(u, (int, float)) or not math.isfinite(u) or u <= 0:
+        return f"{x:.{digits + 2}g}"
+    dec = digits - 1 - math.floor(math.log10(u))
+    if round(u, dec) >= 10 ** (digits - dec):   # e.g. 0.0999 with 2 digits rounds to 0.10
+        dec -= 1
+    if dec > 6 or abs(x) >= 1e9:
+        return f"{x:.{max(digits - 1, 0) + max(0, math.floor(math.log10(abs(x) or 1)) - math.floor(math.log10(u)))}e}"
+    return f"{round(x, dec):.{max(dec, 0)}f}"
 
 
 def print_summary(results: dict, console=None) -> None:

@@ -315,9 +315,9 @@ def _safety_point(case: Case, model: Model, o, i: int, pt: dict, mc) -> None:
             if mc is not None:
                 samples = o.process_temperature + acc * mc.Y_kept[:, model.output_columns(i)[0]]
                 classes = criticality_class(o.process_temperature, samples, o.mtt, o.td24)
-                probs = criticality_class_probabilities(classes)
-                pt["criticality_class_probabilities"] = {str(k): float(v) for k, v in
-                                                         (probs.items() if isinstance(probs, dict) else enumerate(probs, 1))}
+                probs, se = criticality_class_probabilities(classes)
+                pt["criticality_class_probabilities"] = {str(k): float(v) for k, v in enumerate(probs, 1)}
+                pt["criticality_class_probabilities_basis"] = f"first {len(samples)} Monte Carlo trials"
         for name, key in (("mtsr_above_mtt", "p_mtsr_above_mtt"), ("mtsr_above_td24", "p_mtsr_above_td24")):
             if mc is not None and name in aux:
                 pv = float(mc.mean[aux[name]])

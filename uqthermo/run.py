@@ -132,7 +132,14 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
         else:
             mc = propagate_monte_carlo(model.f, inputs, **mc_kwargs)
     if lin is not None and mc is not None:
-        validation = validate_linear(lin, mc, ndigits=s.significant_digits)
+        from types import SimpleNamespace
+
+        m = model.n_reported   # auxiliary indicator columns have no linear counterpart
+        reported = SimpleNamespace(mean=mc.mean[:m], coverage_interval=mc.coverage_interval[:m],
+                                   shortest_interval=mc.shortest_interval[:m],
+                                   standard_uncertainty=mc.standard_uncertainty[:m],
+                                   coverage_probability=mc.coverage_probability)
+        validation = validate_linear(lin, reported, ndigits=s.significant_digits)
     y0 = model.evaluate(np.asarray(inputs.estimates, dtype=float)[None, :] if D else np.zeros((1, 0)))[0]
     from .results import assemble
 
