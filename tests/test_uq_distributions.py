@@ -109,6 +109,18 @@ def test_truncated_normal_moments():
         TruncatedNormal(1.0, 1.0, 3.0, 2.0)
 
 
+@pytest.mark.parametrize("lo,hi", [(1.5, None), (None, -1.0), (-1.0, 2.0), (-0.3, None), (3.0, 4.0), (None, 0.5)])
+def test_truncated_normal_quantiles_against_scipy(lo, hi):
+    d = TruncatedNormal(0.0, 1.0, lo, hi)
+    a = -np.inf if lo is None else lo
+    b = np.inf if hi is None else hi
+    ref = stats.truncnorm(a, b)  # reference: scipy.stats.truncnorm
+    q = P[1:-1]
+    np.testing.assert_allclose(d.ppf(q), ref.ppf(q), rtol=1e-9, atol=1e-12)
+    np.testing.assert_allclose(d.isf(q), ref.isf(q), rtol=1e-9, atol=1e-12)
+    assert d.estimate == pytest.approx(ref.mean(), rel=1e-12)
+
+
 @pytest.mark.parametrize("dist", [Normal(0.5, 0.1), Rectangular(0.5, 0.2), Triangular(0.5, 0.2),
                                   LogNormal(0.5, 0.1), StudentT(0.5, 0.1, 4), TruncatedNormal(0.5, 0.2, 0.3)])
 def test_from_standard_normal_both_tails(dist):

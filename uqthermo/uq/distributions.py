@@ -558,11 +558,33 @@ class TruncatedNormal(Distribution):
         self.std = math.sqrt(var)
         self.dof = math.inf
 
+        # retained probability mass, in the numerically better tail form
+        a, b = self._a, self._b
+        self._mass = float(special.ndtr(-a) - special.ndtr(-b)) if a > 0 else float(special.ndtr(b) - special.ndtr(a))
+
     def ppf(self, p):
-        return self._dist.ppf(np.asarray(p, dtype=float))
+        """Inverse CDF: x = μ + σ Φ⁻¹(Φ(α) + p Z) (mirrored form when α > 0 for accuracy)."""
+        p = np.asarray(p, dtype=float)
+        if self._mass < 1e-8:
+            return self._dist.ppf(p)
+        a, mu, s, z = self._a, self.location, self.scale, self._mass
+        if a <= 0:
+            x = mu + s * special.ndtri(special.ndtr(a) + p * z)
+        else:
+            x = mu - s * special.ndtri(special.ndtr(-a) - p * z)
+        return np.clip(x, self.lower, self.upper)
 
     def isf(self, q):
-        return self._dist.isf(np.asarray(q, dtype=float))
+        """Inverse survival function, accurate for small q (mirrored form of :meth:`ppf`)."""
+        q = np.asarray(q, dtype=float)
+        if self._mass < 1e-8:
+            return self._dist.isf(q)
+        b, mu, s, z = self._b, self.location, self.scale, self._mass
+        if b >= 0:
+            x = mu - s * special.ndtri(special.ndtr(-b) + q * z)
+        else:
+            x = mu + s * special.ndtri(special.ndtr(b) - q * z)
+        return np.clip(x, self.lower, self.upper)
 
     def cdf(self, x):
         return self._dist.cdf(np.asarray(x, dtype=float))

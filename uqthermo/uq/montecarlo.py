@@ -342,8 +342,8 @@ def propagate_monte_carlo(
     if not adaptive:
         n_total = samples
         if n_total < max(math.ceil(100 / (1 - p)), 10_000):
-            warnings.append(f"only {n_total} Monte Carlo trials: coverage-interval endpoints may be unreliable "
-                            f"(JCGM 101 §7.2.1 asks for many more than 1/(1 - p) = {1 / (1 - p):.0f})")
+            warnings.append(f"only {n_total} Monte Carlo trials, fewer than one JCGM 101 §7.9 batch "
+                            f"({adaptive_batch_size(p)}): coverage-interval endpoints may be unreliable")
         checkpoints = sorted({int(round(n_total * 2 ** (-j / 2))) for j in range(60)} | {n_total})
         checkpoints = [c for c in checkpoints if c >= min(100, n_total)]
         ci = 0
