@@ -493,6 +493,10 @@ def _sobol_estimates(Y, G, num_resamples, conf_level, seed):
     n_rows, M = Y.shape
     step = G + 2
     N = n_rows // step
+    per = max(1, int(4_000_000 // max(1, N * num_resamples)))  # bound the (N, R, M) bootstrap arrays
+    if M > per:
+        parts = [_sobol_estimates(Y[:, s:s + per], G, num_resamples, conf_level, seed) for s in range(0, M, per)]
+        return tuple(np.concatenate([p[k] for p in parts], axis=0) for k in range(4))
     sd = Y.std(axis=0)
     Yn = (Y - Y.mean(axis=0)) / np.where(sd > 0, sd, 1.0)
     A = Yn[0::step]
