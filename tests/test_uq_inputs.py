@@ -58,6 +58,7 @@ def test_not_psd_only_involved_variables_named():
     with pytest.raises(CorrelationError) as e:
         InputSet(_vars(5), R)
     assert set(e.value.variables) == {"x1", "x2", "x3"}
+    assert set(e.value.data) == {"d1", "d2", "d3"} and e.value.key in {"d1", "d2", "d3"}
 
 
 @pytest.mark.parametrize("R,word", [

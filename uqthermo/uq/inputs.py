@@ -98,7 +98,9 @@ def check_correlation(R: Any, names: Sequence[str], what: str = "correlation mat
     that carry the eigenvector of the most negative eigenvalue (components ≥ 10 % of the
     largest one). Nothing is ever "repaired".
 
-    The error object carries ``.entries`` (list of (name_a, name_b, r)) and ``.variables``.
+    The error object carries ``.entries`` (list of (name_a, name_b, r)) and ``.variables``;
+    raised from :class:`InputSet` it also carries ``.data`` (the datum ids involved) and its
+    ``key`` is the datum of the first offending entry.
     """
     names = list(names)
     d = len(names)
@@ -192,7 +194,16 @@ class InputSet:
         if correlation is None:
             R = np.eye(d)
         else:
-            R = check_correlation(correlation, names)
+            try:
+                R = check_correlation(correlation, names)
+            except CorrelationError as err:
+                # also name the data involved, so the case layer can point at its keys
+                involved = getattr(err, "variables", [])
+                by_name = {v.name: v.datum for v in variables}
+                err.data = list(dict.fromkeys(by_name[n] for n in involved if n in by_name))  # type: ignore[attr-defined]
+                if err.data and err.key in by_name:
+                    err.key = by_name[err.key]
+                raise
         self.correlation: np.ndarray = R
         self.correlation.setflags(write=False)
         self.groups: dict[str, list[int]] = {}
@@ -265,12 +276,17 @@ class InputSet:
             if item.correlation is not None and item.covariance is not None:
                 raise CorrelationError(f"datum {item.id!r}: give a correlation or a covariance matrix, not both",
                                        key=item.id)
-            if item.covariance is not None:
-                R = _covariance_to_correlation(item.covariance, [variables[c] for c in cols], item.id)
-                blocks.append((cols, R))
-            elif item.correlation is not None:
-                R = check_correlation(item.correlation, vnames, f"correlation matrix of {item.id}")
-                blocks.append((cols, R))
+            try:
+                if item.covariance is not None:
+                    R = _covariance_to_correlation(item.covariance, [variables[c] for c in cols], item.id)
+                    blocks.append((cols, R))
+                elif item.correlation is not None:
+                    R = check_correlation(item.correlation, vnames, f"correlation matrix of {item.id}")
+                    blocks.append((cols, R))
+            except CorrelationError as err:
+                err.key = item.id
+                err.data = [item.id]  # type: ignore[attr-defined]
+                raise
         names = [v.name for v in variables]
         index = {n: i for i, n in enumerate(names)}
         if len(index) != len(names):
