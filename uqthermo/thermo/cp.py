@@ -52,8 +52,14 @@ def _fmt(x: float) -> str:
 def _contract(B: np.ndarray, c: np.ndarray) -> np.ndarray:
     """Sum over the last axis of ``B * c`` with broadcasting of the leading axes.
 
-    Uses matrix products where possible so that no ``(N, M, P)`` temporary is built for the
-    common case ``B: (M, P)`` (temperatures) and ``c: (N, 1, P)`` (samples).
+    The common cases are reduced to one matrix product so that no ``(N, M, P)`` temporary
+    is built:
+
+    * ``c: (P,)`` (nominal) -- ``B @ c``;
+    * ``B: (P,)`` (one temperature) -- ``c @ B``;
+    * ``B: (M, P)`` (a temperature grid) and ``c: (..., 1, P)`` (samples) -- ``c[..., 0, :] @ B.T``;
+    * per-sample temperatures, ``B`` and ``c`` both ``(N, ..., P)`` -- an element-wise
+      dot product (``einsum``; measured 2x faster than a batched ``matmul`` of 1x1 products).
     """
     if c.ndim == 1:
         return B @ c
@@ -61,8 +67,12 @@ def _contract(B: np.ndarray, c: np.ndarray) -> np.ndarray:
         return c @ B
     if B.ndim == 2 and c.shape[-2] == 1:
         return c[..., 0, :] @ B.T
-    B, c = np.broadcast_arrays(B, c)
-    return np.matmul(B[..., None, :], c[..., :, None])[..., 0, 0]   # batched dot: much faster than einsum here
+    return np.einsum("...p,...p->...", B, c)
+
+
+#: exact temperature grids up to this size have their bases cached on the model
+_CACHE_MAX_POINTS = 512
+_CACHE_MAX_ENTRIES = 64
 
 
 def _as_temperature(T, name: str = "T") -> np.ndarray:
@@ -129,6 +139,7 @@ class CpModel:
         # inner boundaries, used to pick the range of a temperature (T == boundary -> lower range)
         self._bounds = np.array([hi for _, hi in ranges[:-1]], dtype=float)
         self.coefficient_names = self._make_names()
+        self._basis_cache: dict = {}
 
     # ----------------------------------------------------------------- per-range terms
     def _cp_terms(self, T: np.ndarray) -> np.ndarray:  # (..., n)
@@ -244,24 +255,74 @@ class CpModel:
         T = np.asarray(T, dtype=float)
         return self._blocks(T, self._cp_terms(T))
 
+    def _cached(self, tag: str, T: np.ndarray, build) -> np.ndarray:
+        """``build(T)``, cached for small exact temperature grids (scalars and 1-D arrays).
+
+        A Monte Carlo run evaluates the same grid once per chunk; the basis depends on T
+        only (not on the coefficients), so it is computed once. Cached arrays are read-only.
+        Per-sample temperatures (large arrays) are never cached.
+        """
+        if T.ndim > 1 or T.size > _CACHE_MAX_POINTS:
+            return build(T)
+        cache = self.__dict__.setdefault("_basis_cache", {})
+        key = (tag, T.shape, T.tobytes())
+        B = cache.get(key)
+        if B is None:
+            if len(cache) >= _CACHE_MAX_ENTRIES:
+                cache.clear()
+            B = np.ascontiguousarray(build(T))
+            B.setflags(write=False)
+            cache[key] = B
+        return B
+
     def enthalpy_antiderivative_basis(self, T) -> np.ndarray:
         """Clipped antiderivative G(T) of the :math:`C_p` basis, shape ``T.shape + (P,)``, J/mol.
 
         Differences of it give the piecewise integral (the constant is arbitrary).
         """
-        return self._clipped(np.asarray(T, dtype=float), self._h_terms)
+        T = np.asarray(T, dtype=float)
+        return self._cached("H", T, lambda t: self._clipped(t, self._h_terms))
 
     def entropy_antiderivative_basis(self, T) -> np.ndarray:
         """Clipped antiderivative of the :math:`C_p/T` basis, shape ``T.shape + (P,)``, J/(mol K)."""
-        return self._clipped(np.asarray(T, dtype=float), self._s_terms)
+        T = np.asarray(T, dtype=float)
+        return self._cached("S", T, lambda t: self._clipped(t, self._s_terms))
+
+    def _difference_basis(self, tag: str, T1, T2) -> np.ndarray:
+        """G(T2) - G(T1) for the antiderivative basis ``tag`` ("H" or "S"), cached for exact grids."""
+        T1 = np.asarray(T1, dtype=float)
+        T2 = np.asarray(T2, dtype=float)
+        fn = self._h_terms if tag == "H" else self._s_terms
+        if T1.ndim <= 1 and T2.ndim <= 1 and T1.size * T2.size <= _CACHE_MAX_POINTS:
+            both = np.concatenate([np.atleast_1d(T1).ravel(), [np.nan], np.atleast_1d(T2).ravel()])
+            shape = np.broadcast_shapes(T1.shape, T2.shape)
+            return self._cached("d" + tag + repr((T1.shape, T2.shape)), both,
+                                lambda _: (self._clipped(np.broadcast_to(T2, shape), fn)
+                                           - self._clipped(np.broadcast_to(T1, shape), fn)))
+        return self._clipped(T2, fn) - self._clipped(T1, fn)
 
     def enthalpy_basis(self, T1, T2) -> np.ndarray:
         """Basis of :math:`\\int_{T_1}^{T_2} C_p\\,dT` (J/mol per unit coefficient), shape broadcast(T1, T2) + (P,)."""
-        return self.enthalpy_antiderivative_basis(T2) - self.enthalpy_antiderivative_basis(T1)
+        return self._difference_basis("H", T1, T2)
 
     def entropy_basis(self, T1, T2) -> np.ndarray:
         """Basis of :math:`\\int_{T_1}^{T_2} C_p/T\\,dT` (J/(mol K) per unit coefficient)."""
-        return self.entropy_antiderivative_basis(T2) - self.entropy_antiderivative_basis(T1)
+        return self._difference_basis("S", T1, T2)
+
+    def _change(self, tag: str, T1, T2, c: np.ndarray) -> np.ndarray:
+        """:math:`[G(T_2) - G(T_1)]\\cdot c` with one contraction of the basis difference.
+
+        When T1 and T2 would broadcast to a larger array than either (e.g. per-sample T1
+        (N, 1) with a grid T2 (M,)), the two contractions are taken separately so that no
+        (N, M, P) basis is built.
+        """
+        T1 = np.asarray(T1, dtype=float)
+        T2 = np.asarray(T2, dtype=float)
+        shape = np.broadcast_shapes(T1.shape, T2.shape)
+        if shape in (T1.shape, T2.shape):
+            return _contract(self._difference_basis(tag, T1, T2), c)
+        get = self.enthalpy_antiderivative_basis if tag == "H" else self.entropy_antiderivative_basis
+        return _contract(get(T2), c) - _contract(get(T1), c)
 
     def cp(self, T, coeffs=None, check: bool = True) -> np.ndarray:
         """Isobaric molar heat capacity :math:`C_p(T)`, J/(mol K).
@@ -296,9 +357,7 @@ class CpModel:
         Negative when ``T2 < T1``.
         """
         self._check(T1, T2, check=check)
-        c = self._coeffs(coeffs)
-        return (_contract(self.enthalpy_antiderivative_basis(T2), c)
-                - _contract(self.enthalpy_antiderivative_basis(T1), c))
+        return self._change("H", T1, T2, self._coeffs(coeffs))
 
     def entropy_change(self, T1, T2, coeffs=None, check: bool = True) -> np.ndarray:
         """Entropy change on heating :math:`\\Delta S = \\int_{T_1}^{T_2} C_p/T\\,dT`, J/(mol K).
@@ -307,9 +366,7 @@ class CpModel:
         variation of entropy with temperature").
         """
         self._check(T1, T2, check=check)
-        c = self._coeffs(coeffs)
-        return (_contract(self.entropy_antiderivative_basis(T2), c)
-                - _contract(self.entropy_antiderivative_basis(T1), c))
+        return self._change("S", T1, T2, self._coeffs(coeffs))
 
     def describe(self) -> str:
         """Short description for reports, e.g. ``"shomate, 2 ranges, 500-6000 K"``."""

@@ -300,9 +300,18 @@ class Species:
         return cp.entropy_antiderivative(x, c, check=False)
 
     def _delta(self, q: str, p: str, a, b, vals: Mapping) -> np.ndarray:
-        if self.phases[p].cp is None:
+        """Integral of Cp (q='H') or Cp/T (q='S') of phase p from a to b (no range check).
+
+        One contraction of the basis difference G(b) - G(a) with the coefficients (the
+        bases of exact temperature grids are cached by the model).
+        """
+        cp = self.phases[p].cp
+        if cp is None:
             return np.zeros(())
-        return self._F(q, p, b, vals) - self._F(q, p, a, vals)
+        c = self._coeffs(p, vals)
+        if q == "H":
+            return cp.enthalpy_change(a, b, c, check=False)
+        return cp.entropy_change(a, b, c, check=False)
 
     def _cross(self, q: str, tr: Transition, sign: int, vals: Mapping) -> np.ndarray:
         dh = sign * self._dh(tr, vals)
