@@ -302,3 +302,18 @@ def test_bad_method_raises():
 def test_driver_to_dict():
     d = Driver("A", 0.5, (0.4, 0.6), "sobol")
     assert d.to_dict() == {"datum": "A", "share": 0.5, "share_ci": [0.4, 0.6]}
+
+
+def test_same_seed_gives_identical_indices_even_for_seed_zero():
+    inp = _inputs([("x0", "d0", Rectangular(0.0, 1.0)), ("x1", "d1", Normal(0.0, 0.5))])
+
+    def f(X):
+        return np.column_stack([X[:, 0] ** 2 + X[:, 1], X[:, 0] * X[:, 1]])
+
+    a = sobol_indices(f, inp, n_base=256, seed=0)
+    b = sobol_indices(f, inp, n_base=256, seed=0)
+    for k in ("S1", "S1_conf", "ST", "ST_conf", "delta", "delta_conf"):
+        assert np.array_equal(getattr(a, k), getattr(b, k))
+    state = np.random.get_state()[1].copy()
+    sobol_indices(f, inp, n_base=256, seed=4)
+    assert np.array_equal(np.random.get_state()[1], state)  # numpy's global generator untouched

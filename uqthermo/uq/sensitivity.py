@@ -381,7 +381,8 @@ def sobol_indices(
         ``S_g = mean(B (AB_g − A)) / var([A; B])``, ``ST_g = ½ mean((A − AB_g)²) / var([A; B])``,
         bootstrap half-width ``z · sd`` over ``num_resamples`` resamples drawn exactly as SALib
         draws them for a non-zero seed) vectorised over all outputs — identical numbers,
-        much faster for a curve of many temperatures. ``"auto"``: SALib for M ≤ 4.
+        much faster for a curve of many temperatures, and reproducible for seed 0 too (SALib
+        leaves its bootstrap unseeded for a seed of 0 or None). ``"auto"`` = ``"numpy"``.
         The delta index uses SALib's ``delta.analyze`` only with ``"salib"``; otherwise the
         vectorised :func:`delta_index` (same estimator, ~100× faster).
     delta_outputs : sequence of int, optional
@@ -450,7 +451,7 @@ def sobol_indices(
 
     if engine not in ("auto", "salib", "numpy"):
         raise StatisticsError(f"unknown Sobol' engine {engine!r}; use auto, salib or numpy")
-    use_salib = engine == "salib" or (engine == "auto" and M <= 4)
+    use_salib = engine == "salib"
     flat = [m for m in range(M) if np.ptp(Y[:, m]) <= 1e-12 * max(1.0, float(np.max(np.abs(Y[:, m]))))]
     if use_salib:
         S1 = np.zeros((M, G)); S1c = np.zeros((M, G)); ST = np.zeros((M, G)); STc = np.zeros((M, G))
@@ -923,8 +924,10 @@ def rank_drivers(
             how = "as stated by the caller"
         if odd:
             chosen = "sobol"
-            kinds = sorted({type(v.distribution).__name__ for v in inputs.variables if v.datum in odd})
-            reason = f"non-normal inputs ({', '.join(kinds).lower()}: {', '.join(odd)}); grouped Sobol' indices"
+            kinds = sorted({type(v.distribution).__name__ for v in inputs.variables
+                            if v.datum in odd and not _is_normal(v.distribution)})
+            listed = ", ".join(odd[:4]) + (f" and {len(odd) - 4} more" if len(odd) > 4 else "")
+            reason = f"non-normal inputs ({', '.join(kinds).lower()}: {listed}); grouped Sobol' indices"
         elif not is_linear:
             chosen = "sobol"
             reason = f"the model is nonlinear ({how}); grouped Sobol' indices"
