@@ -211,7 +211,7 @@ def test_mc_margins_against_exact_uniform_quantiles():
 def test_curve_band_worst_temperature_in_window():
     T = np.linspace(300, 800, 11)
     est = 100 - 0.01 * T
-    u = 0.5 + 0.002 * (T - 300)  # spread grows with temperature
+    u = 0.5 + 0.01 * (T - 300)  # spread grows with temperature
     mg = margins_from_linear(est, u)
     band = curve_band(mg, T)
     assert T[band.worst_upper[0]] == 800.0  # the upper bound 100 − 0.01T + 1.645u(T) grows with T
