@@ -144,6 +144,10 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
     from .results import assemble
 
     results = assemble(case, model, lin, mc, validation, y0, warnings, time.perf_counter() - t0, engine)
+    if case.candidates and (s.plan_target or s.plan_budget is not None) and D > 0:
+        from .plan import compute_plan
+
+        results["plan"] = compute_plan(case, model, target=s.plan_target, budget=s.plan_budget, linear=lin)
     return RunResult(results=results, case=case, model=model, linear=lin, monte_carlo=mc)
 
 

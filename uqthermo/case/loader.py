@@ -356,7 +356,7 @@ def _settings(c: Collector, node: Any) -> Settings:
         return s
     allowed = {"reference_temperature", "coverage_probability", "samples", "sampling", "seed", "method",
                "allow_extrapolation", "significant_digits", "max_samples", "sensitivity", "sobol_samples",
-               "design_probabilities", "what_if"}
+               "design_probabilities", "what_if", "plan_target", "plan_budget"}
     c.unknown_keys(node, allowed, "settings")
     if "reference_temperature" in node:
         t = _temperature(c, node["reference_temperature"], "settings.reference_temperature")
@@ -418,6 +418,17 @@ def _settings(c: Collector, node: Any) -> Settings:
             c.add("settings.sensitivity", "use one of auto, linear, sobol, none")
         else:
             s.sensitivity = m
+    if "plan_target" in node:
+        if not isinstance(node["plan_target"], str):
+            c.add("settings.plan_target", "must be text such as \"U95 <= 2 kJ/mol\"")
+        else:
+            s.plan_target = node["plan_target"]
+    if "plan_budget" in node:
+        b = node["plan_budget"]
+        if isinstance(b, bool) or not isinstance(b, (int, float)) or not math.isfinite(b) or b < 0:
+            c.add("settings.plan_budget", "must be a non-negative number")
+        else:
+            s.plan_budget = float(b)
     if "design_probabilities" in node:
         v = node["design_probabilities"]
         if not isinstance(v, list) or not v or not all(isinstance(x, (int, float)) and not isinstance(x, bool)

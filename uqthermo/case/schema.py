@@ -56,6 +56,8 @@ class Settings:
     sobol_samples: int = 1024
     design_probabilities: list[float] = field(default_factory=lambda: [0.95, 0.99])
     what_if: bool = True
+    plan_target: str | None = None       # e.g. "U95 <= 2 kJ/mol": run the purchase planner in `run`
+    plan_budget: float | None = None
 
 
 @dataclass

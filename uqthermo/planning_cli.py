@@ -1,0 +1,102 @@
+"""``uqthermo plan``: print and write the cheapest data purchases that meet a target."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from .case.builder import build_model, check_model
+from .case.loader import load_case
+from .errors import InputError, Problem
+
+
+def _fmt(x, digits: int = 3) -> str:
+    return "—" if x is None else f"{x:.{digits}g}"
+
+
+def run_plan(args) -> int:
+    from rich.console import Console
+    from rich.table import Table
+
+    from .plan import compute_plan
+
+    if args.budget is not None and not (args.budget >= 0):
+        raise InputError([Problem(args.case, "--budget", "must be a non-negative number")])
+    out = None
+    if args.out:
+        from .run import prepare_out_dir
+
+        out = prepare_out_dir(args.out, args.force)
+    case = load_case(args.case)
+    model = build_model(case)
+    check_model(case, model)
+    plan = compute_plan(case, model, target=args.target, budget=args.budget, output_name=args.output_name)
+    console = Console(highlight=False, width=140)
+    unit = plan["target"]["unit"]
+    metric = plan["target"]["metric"]
+    label = {"U": f"U{round(100 * (plan['target']['coverage_probability'] or 0.95))}", "u": "u",
+             "halfwidth": "half-width"}.get(metric, metric)
+    console.print(f"[bold]{case.title}[/bold]")
+    console.print(f"planned for: {plan['target']['output']}  ({plan['method']})")
+    console.print(f"now: worst {label} = {_fmt(plan['U_now'])} {unit} at {plan['target']['worst_point_now']}")
+    if plan["target"]["text"]:
+        console.print(f"target: {plan['target']['text']}")
+    if plan["budget"] is not None:
+        console.print(f"budget: {plan['budget']:g}")
+    cands = Table(title="candidate measurements", title_justify="left")
+    for c in ("id", "datum", "what", "new u / old u", "cost", "lead time (days)"):
+        cands.add_column(c)
+    for c in plan["candidates"]:
+        cands.add_row(c["id"], c["datum"], c["action"], f"{c['factor']:.3g}", f"{c['cost']:g}", _fmt(c["lead_time_days"]))
+    console.print(cands)
+    front = Table(title=f"Pareto front: cost against worst-point {label} ({unit})", title_justify="left")
+    for c in ("cost", label, "buy", "meets target"):
+        front.add_column(c)
+    best = plan["best"]
+    for p in plan["front"]:
+        chosen = best is not None and p["set"] == best["set"] and p["cost"] == best["cost"]
+        meets = "—" if plan["target"]["U"] is None else ("yes" if p["U"] <= plan["target"]["U"] else "no")
+        style = "bold" if chosen else None
+        front.add_row(f"{p['cost']:g}", _fmt(p["U"]), ", ".join(p["set"]) or "(nothing)", meets, style=style)
+    console.print(front)
+    if best is None:
+        console.print("[red]no selection of the candidates meets the target[/red]" if plan["target"]["U"] is not None
+                      else "no selection fits the budget")
+    else:
+        console.print(f"[bold]recommended:[/bold] buy {', '.join(best['set']) or 'nothing'} for {best['cost']:g} "
+                      f"→ worst {label} = {_fmt(best['U'])} {unit}")
+    for w in plan["warnings"]:
+        console.print(f"[yellow]warning:[/yellow] {w}")
+    if out is not None:
+        _write(plan, case, out, args.force)
+        console.print(f"wrote {out}/plan.json, {out}/plan.csv and {out}/figures/plan-front.png|svg")
+    return 0 if (best is not None) else 1
+
+
+def _write(plan: dict, case, out: Path, force: bool) -> None:
+    import csv
+    import io
+
+    from .report.figures import _draw_plan
+    from .report.style import figure_style
+    from .run import publish_dir, write_json_atomic
+
+    def build(tmp: Path):
+        write_json_atomic(tmp / "plan.json", {"format": "uqthermo.plan/1", "case": {"title": case.title,
+                                              "sha256": case.sha256, "file": case.path}, "plan": plan})
+        buf = io.StringIO()
+        w = csv.writer(buf)
+        w.writerow(["cost", "worst_U", "unit", "set", "meets_target"])
+        for p in plan["front"]:
+            meets = "" if plan["target"]["U"] is None else p["U"] <= plan["target"]["U"]
+            w.writerow([p["cost"], p["U"], plan["target"]["unit"], " ".join(p["set"]), meets])
+        (tmp / "plan.csv").write_text(buf.getvalue(), encoding="utf-8")
+        (tmp / "figures").mkdir()
+        with figure_style():
+            fig = _draw_plan(plan)
+            fig.savefig(tmp / "figures" / "plan-front.png", dpi=160)
+            fig.savefig(tmp / "figures" / "plan-front.svg")
+        import matplotlib.pyplot as plt
+
+        plt.close(fig)
+
+    publish_dir(build, out, force)
