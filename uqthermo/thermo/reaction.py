@@ -34,7 +34,7 @@ __all__ = [
     "Participant", "Reaction", "parse_formula", "formula_charge", "parse_equation", "participant_key",
     "check_balance", "reaction_enthalpy", "reaction_entropy", "reaction_gibbs_energy",
     "ln_equilibrium_constant", "reaction_heat_capacity", "stoichiometric_matrix",
-    "batch_reaction_property", "species_enthalpies", "species_entropies",
+    "batch_reaction_property", "stoichiometric_product", "species_enthalpies", "species_entropies",
 ]
 
 # --------------------------------------------------------------------------- formulas
@@ -483,6 +483,45 @@ def stoichiometric_matrix(reactions: Sequence[Reaction], species_keys: Iterable)
     return nu
 
 
+#: ν is used as a sparse matrix when it has at least this many entries and this fill
+_SPARSE_MIN_SIZE = 10_000
+_SPARSE_MAX_FILL = 0.1
+
+
+def stoichiometric_product(nu, H) -> np.ndarray:
+    """Reaction properties from species properties in species-major layout:
+    :math:`Y_{r\\dots} = \\sum_s \\nu_{rs} H_{s\\dots}`.
+
+    One matrix product ``nu @ H.reshape(S, -1)``; for a large, mostly empty ν (a
+    mechanism: each reaction involves a handful of the species) the product is sparse
+    (``scipy.sparse``), so its cost grows with the number of participants, not R x S.
+
+    Parameters
+    ----------
+    nu : array_like, shape (R, S)
+        Stoichiometric matrix (:func:`stoichiometric_matrix`).
+    H : array_like, shape (S, ...)
+        Species property samples, species first (e.g. ``(S, N, M)``).
+
+    Returns
+    -------
+    numpy.ndarray, shape (R, ...)
+    """
+    nu = np.asarray(nu, dtype=float)
+    H = np.asarray(H, dtype=float)
+    if nu.ndim != 2 or H.ndim < 1 or H.shape[0] != nu.shape[1]:
+        raise PhysicsError(f"stoichiometric_product: shapes {nu.shape} and {H.shape} do not match "
+                           f"(need (R, S) and (S, ...))")
+    flat = H.reshape(H.shape[0], -1)
+    if nu.size >= _SPARSE_MIN_SIZE and np.count_nonzero(nu) <= _SPARSE_MAX_FILL * nu.size:
+        from scipy import sparse
+
+        out = np.asarray(sparse.csr_matrix(nu) @ flat)
+    else:
+        out = nu @ flat
+    return out.reshape((nu.shape[0],) + H.shape[1:])
+
+
 def batch_reaction_property(H_species, nu) -> np.ndarray:
     """Many reactions at once from shared species samples:
     :math:`Y_{\\dots rm} = \\sum_s \\nu_{rs} H_{\\dots sm}`.
@@ -498,13 +537,18 @@ def batch_reaction_property(H_species, nu) -> np.ndarray:
     Returns
     -------
     numpy.ndarray, shape (..., R, M)
+
+    See :func:`stoichiometric_product` for the species-major layout ``(S, ...)``, which
+    avoids the transposes done here.
     """
     H = np.asarray(H_species, dtype=float)
     nu = np.asarray(nu, dtype=float)
     if H.ndim < 2 or nu.ndim != 2 or H.shape[-2] != nu.shape[1]:
         raise PhysicsError(f"batch_reaction_property: shapes {H.shape} and {nu.shape} do not match "
                            f"(need (..., S, M) and (R, S))")
-    return nu @ H
+    if H.ndim == 2:
+        return stoichiometric_product(nu, H)
+    return np.moveaxis(stoichiometric_product(nu, np.moveaxis(H, -2, 0)), 0, -2)
 
 
 def _stack(species: Mapping[str, "Species"], keys, fn) -> np.ndarray:
