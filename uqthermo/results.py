@@ -16,6 +16,7 @@ import numpy as np
 from . import __version__
 from .case.builder import QUANTITY, Model
 from .case.schema import Case
+from .uq.margins import Margins, curve_band, level_key, margins_from_linear, margins_from_monte_carlo
 
 ONE_SIDED = (0.01, 0.05, 0.95, 0.99)
 HISTOGRAM_BINS = 48
@@ -87,9 +88,13 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
     if lin is not None or mc is not None:
         ranking, whatif = _drivers_and_whatif(case, model, lin, warnings)
     mc_q = None
+    margins = None
+    if mc is not None:
+        margins = margins_from_monte_carlo(mc, s.design_probabilities)
+    elif lin is not None:
+        margins = margins_from_linear(lin, probabilities=s.design_probabilities)
     if mc is not None:
         mc_q = np.atleast_2d(mc.quantile(list(ONE_SIDED)))           # (4, M_all)
-        design_q = np.atleast_2d(mc.quantile(sorted(set(s.design_probabilities) | {1 - q for q in s.design_probabilities})))
         warnings += [w for w in mc.warnings]
     outputs = []
     for i, o in enumerate(case.outputs):
@@ -157,8 +162,13 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
                 pt["drivers"] = []
             if whatif is not None:
                 pt["whatif"] = whatif.rows(j)
-            pt["margins"] = _margins(pt, s.design_probabilities, o.design_value)
+            if margins is not None:
+                pt["margins"] = _margins_point(margins, j, o.design_value)
             points.append(pt)
+        if margins is not None and len(cols) > 1:
+            sub = Margins(margins.method, margins.probabilities, margins.estimate[cols], margins.upper[:, cols],
+                          margins.lower[:, cols])
+            out["band"] = curve_band(sub, temps).to_dict()
         if o.kind == "adiabatic_temperature_rise" and points:
             _safety_point(case, model, o, i, points[0], mc)
         outputs.append(out | {"points": points})
@@ -237,46 +247,26 @@ def _drivers_and_whatif(case: Case, model: Model, lin, warnings: list[str]):
     return ranking, whatif
 
 
-def _margins(pt: dict, probs: list[float], design_value: float | None) -> dict:
-    """One-sided bounds at the design probabilities and the margin to the estimate (and design value)."""
-    mc = pt.get("monte_carlo")
-    lin = pt.get("linear")
-    out: dict[str, Any] = {}
-    est = (mc or lin or {}).get("mean", (lin or {}).get("estimate"))
-    if mc is not None and mc.get("one_sided"):
-        src = mc["one_sided"]
-        for q in probs:
-            up = src.get(f"P{round(100 * q):02d}")
-            lo = src.get(f"P{round(100 * (1 - q)):02d}")
-            if up is not None:
-                out[f"upper_P{round(100 * q):02d}"] = up
-                out[f"upper_P{round(100 * q):02d}_margin"] = None if est is None else up - est
-            if lo is not None:
-                out[f"lower_P{round(100 * q):02d}"] = lo
-                out[f"lower_P{round(100 * q):02d}_margin"] = None if est is None else est - lo
-        out["basis"] = "Monte Carlo quantiles"
-    elif lin is not None and lin.get("standard_uncertainty") is not None:
-        from scipy import stats
+def _margins_point(mg, j: int, design_value: float | None) -> dict:
+    """The results.json ``margins`` of column ``j`` from a :class:`uqthermo.uq.margins.Margins`.
 
-        u = lin["standard_uncertainty"]
-        dof = lin.get("effective_dof") or math.inf
-        for q in probs:
-            k = float(stats.t.ppf(q, dof)) if math.isfinite(dof) else float(stats.norm.ppf(q))
-            out[f"upper_P{round(100 * q):02d}"] = est + k * u
-            out[f"upper_P{round(100 * q):02d}_margin"] = k * u
-            out[f"lower_P{round(100 * q):02d}"] = est - k * u
-            out[f"lower_P{round(100 * q):02d}_margin"] = k * u
-        out["basis"] = "linear (normal/t) approximation"
-    # compatibility keys of the brief: P95/P99 = upper bounds
-    for q in probs:
-        key = f"upper_P{round(100 * q):02d}"
-        if key in out:
-            out[f"P{round(100 * q):02d}"] = out[key]
+    Keys: ``upper_Pxx`` (P(Y ≤ bound) = xx %), ``lower_Pxx`` (P(Y ≥ bound) = xx %), their
+    ``*_margin`` (distance from the estimate, positive), ``Pxx`` (= the upper bound) and ``basis``.
+    """
+    out: dict[str, Any] = {}
+    for k, q in enumerate(mg.probabilities):
+        key = level_key(q)
+        up, lo = float(mg.upper[k, j]), float(mg.lower[k, j])
+        out[f"upper_{key}"] = up
+        out[f"upper_{key}_margin"] = up - float(mg.estimate[j])
+        out[f"lower_{key}"] = lo
+        out[f"lower_{key}_margin"] = float(mg.estimate[j]) - lo
+        out[key] = up
+    out["basis"] = "Monte Carlo quantiles" if mg.method == "monte-carlo" else "linear (normal/t) approximation"
     if design_value is not None:
         out["design_value"] = design_value
-        if mc is not None:
-            hist = mc.get("histogram") or {}
-            out["design_value_note"] = "compare with the one-sided bounds above"
+        out["design_value_exceeded_at"] = [level_key(q) for k, q in enumerate(mg.probabilities)
+                                           if mg.upper[k, j] > design_value]
     return out
 
 
