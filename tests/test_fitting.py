@@ -10,7 +10,8 @@ import pytest
 from scipy.optimize import curve_fit
 
 from uqthermo.errors import InputError
-from uqthermo.thermo.fitting import compare_models, fit_cp, fit_csv, read_cp_csv
+from uqthermo.case.cp_csv import fit_csv, read_cp_csv
+from uqthermo.thermo.fitting import compare_models, fit_cp
 
 # NIST WebBook Shomate coefficients of H2O(g), 500-1700 K, as shipped by `chemicals`
 # (chemicals.heat_capacity.WebBook_Shomate_coefficients["7732-18-5"], converted to t = T/1000).

@@ -10,36 +10,30 @@ column-scaled, whitened design matrix:
   Monograph 9, 1998), all five terms by default.
 
 The result carries the coefficient covariance matrix, so a case can use correlated coefficient
-uncertainties directly (:meth:`CpFit.to_case_toml`). Reading measurement files
-(:func:`read_cp_csv`) is the one I/O helper here; it serves ``uqthermo fit DATA.csv``.
+uncertainties directly (:meth:`CpFit.to_case_toml`). Reading measurement files lives in the
+case layer (:mod:`uqthermo.case.cp_csv`, ``uqthermo fit DATA.csv``): this module does no I/O.
 """
 
 from __future__ import annotations
 
-import csv
-import functools
 import itertools
 import math
 import re
 from dataclasses import dataclass, field
-from pathlib import Path
 from typing import Sequence
 
 import numpy as np
 
-from uqthermo.errors import InputError, Problem
+from uqthermo.errors import InputError
 
 __all__ = [
     "POLYNOMIAL_TERMS",
     "SHOMATE_TERMS",
     "CpFit",
-    "CpData",
     "ModelScore",
     "fit_cp",
     "compare_models",
     "select_cp_model",
-    "read_cp_csv",
-    "fit_csv",
 ]
 
 POLYNOMIAL_TERMS = ("a", "b", "c", "d", "e")
@@ -602,250 +596,3 @@ def select_cp_model(T, cp, u=None, model: str = "polynomial", *, criterion: str 
                     absolute_sigma: bool = True, label: str = "") -> CpFit:
     """Best fit by :func:`compare_models` (same arguments); returns its :class:`CpFit`."""
     return compare_models(T, cp, u, model, criterion=criterion, absolute_sigma=absolute_sigma, label=label)[0].fit
-
-
-# --------------------------------------------------------------------------------------------
-# Reading measured points
-# --------------------------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class CpData:
-    """Measured heat-capacity points in engine units.
-
-    Attributes
-    ----------
-    T : ndarray
-        Temperatures, K.
-    cp : ndarray
-        Molar heat capacities, J/(mol K).
-    u : ndarray or None
-        Standard uncertainties of cp, J/(mol K).
-    path : str
-        File read.
-    units : dict
-        Units as written in the header, by role (``"T"``, ``"cp"``, ``"u"``).
-    lines : tuple of int
-        File line number of each point.
-    """
-
-    T: np.ndarray
-    cp: np.ndarray
-    u: np.ndarray | None
-    path: str
-    units: dict
-    lines: tuple
-
-
-_ROLE_NAMES = {
-    "T": {"t", "temperature", "temp"},
-    "cp": {"cp", "c_p", "cpm", "cp,m", "heat capacity", "heat_capacity", "molar heat capacity"},
-    "u": {"u", "u(cp)", "u_cp", "ucp", "u(c_p)", "uncertainty", "standard uncertainty", "sigma", "std"},
-}
-_TARGET = {"T": "K", "cp": "J/(mol*K)", "u": "J/(mol*K)"}
-
-
-@functools.lru_cache(maxsize=1)
-def _ureg():
-    import pint
-
-    return pint.UnitRegistry()
-
-
-def _normalise_unit(text: str, role: str) -> str:
-    t = text.strip().replace("°C", "degC").replace("℃", "degC").replace("°F", "degF").replace("°", "deg")
-    t = t.replace("·", "*").replace("⋅", "*").replace("²", "^2")
-    if role != "T":
-        # a temperature inside a compound unit is a temperature difference
-        t = re.sub(r"\bdeg(C|F)\b", r"delta_deg\1", t)
-    return t
-
-
-def _converter(unit_text: str, role: str, path: str, line: int, column: int):
-    """Callable converting an array in ``unit_text`` to the engine unit of ``role``."""
-    if role == "u" and unit_text.strip() == "%":
-        return "percent"
-    ureg = _ureg()
-    try:
-        unit = ureg.Unit(_normalise_unit(unit_text, role))
-    except Exception:
-        raise InputError(Problem(path, f"line {line}, column {column}",
-                                 f"unknown unit {unit_text!r}")) from None
-    target = ureg.Unit(_TARGET[role])
-    if unit.dimensionality != target.dimensionality:
-        hint = ""
-        if role != "T" and unit.dimensionality == ureg.Unit("J/(kg*K)").dimensionality:
-            hint = "; specific (per mass) heat capacities need converting to molar ones (J/(mol*K))"
-        raise InputError(Problem(path, f"line {line}, column {column}",
-                                 f"unit {unit_text!r} is not a {'temperature' if role == 'T' else 'molar heat capacity'}{hint}"))
-
-    def conv(values: np.ndarray) -> np.ndarray:
-        return np.asarray(ureg.Quantity(values, unit).to(target).magnitude, dtype=float)
-
-    return conv
-
-
-def read_cp_csv(path: str | Path) -> CpData:
-    """Read measured heat capacities from a CSV file with units in the header.
-
-    Format: a header line naming the columns with units in square brackets, e.g.
-    ``T [K], Cp [J/(mol*K)], u [J/(mol*K)]`` (also ``degC``/``°C``, ``cal/(mol*K)``,
-    ``kJ/(mol*K)``; ``u [%]`` for uncertainties relative to Cp), then one point per line.
-    Columns may come in any order; the u column is optional. Delimiter: comma, semicolon or
-    tab. Lines starting with ``#`` and blank lines are skipped.
-
-    Parameters
-    ----------
-    path : str or Path
-
-    Returns
-    -------
-    CpData
-        Points in K and J/(mol K).
-
-    Raises
-    ------
-    InputError
-        One problem per bad cell: ``file: line L, column C: problem``.
-    """
-    p = Path(path)
-    name = str(path)
-    try:
-        text = p.read_text(encoding="utf-8-sig")
-    except FileNotFoundError:
-        raise InputError(Problem(name, "", "file not found")) from None
-    except (OSError, UnicodeDecodeError) as e:
-        raise InputError(Problem(name, "", f"cannot read the file ({e.__class__.__name__})")) from None
-
-    raw_lines = text.splitlines()
-    content = [(i + 1, ln) for i, ln in enumerate(raw_lines) if ln.strip() and not ln.lstrip().startswith("#")]
-    if not content:
-        raise InputError(Problem(name, "", "no header line; expected e.g. 'T [K], Cp [J/(mol*K)], u [J/(mol*K)]'"))
-    head_no, head = content[0]
-    delim = "\t" if "\t" in head else (";" if ";" in head else ",")
-    header = next(csv.reader([head], delimiter=delim))
-    roles: dict[str, int] = {}
-    units: dict[str, str] = {}
-    convs = {}
-    for j, cell in enumerate(header):
-        col = j + 1
-        m = re.fullmatch(r"\s*([^\[\]]*?)\s*\[(.*)\]\s*", cell)
-        label = (m.group(1) if m else cell).strip()
-        role = next((r for r, names in _ROLE_NAMES.items() if label.lower() in names), None)
-        if role is None:
-            raise InputError(Problem(name, f"line {head_no}, column {col}",
-                                     f"unknown column {label!r}; expected T, Cp and optionally u"))
-        if role in roles:
-            raise InputError(Problem(name, f"line {head_no}, column {col}", f"second {label!r} column"))
-        if m is None or not m.group(2).strip():
-            raise InputError(Problem(name, f"line {head_no}, column {col}",
-                                     f"column {label!r} has no unit; write it as e.g. "
-                                     f"'{label} [{_TARGET[role]}]'"))
-        roles[role] = j
-        units[role] = m.group(2).strip()
-        convs[role] = _converter(units[role], role, name, head_no, col)
-    for need in ("T", "cp"):
-        if need not in roles:
-            raise InputError(Problem(name, f"line {head_no}", f"missing the {'T' if need == 'T' else 'Cp'} column"))
-
-    problems: list[Problem] = []
-    cols = {r: [] for r in roles}
-    line_nos = []
-    ncol = len(header)
-    for line_no, ln in content[1:]:
-        cells = next(csv.reader([ln], delimiter=delim))
-        if len(cells) != ncol:
-            problems.append(Problem(name, f"line {line_no}", f"{len(cells)} values, expected {ncol}"))
-            continue
-        row = {}
-        ok = True
-        for r, j in roles.items():
-            cell = cells[j].strip()
-            try:
-                v = float(cell)
-                if not math.isfinite(v):
-                    raise ValueError
-            except ValueError:
-                problems.append(Problem(name, f"line {line_no}, column {j + 1}",
-                                        f"not a finite number: {cell!r}" if cell else "empty value"))
-                ok = False
-                continue
-            row[r] = v
-        if ok:
-            for r, v in row.items():
-                cols[r].append(v)
-            line_nos.append(line_no)
-    if problems:
-        raise InputError(problems)
-    if not line_nos:
-        raise InputError(Problem(name, "", "no data rows after the header"))
-
-    T = convs["T"](np.array(cols["T"]))
-    cp = convs["cp"](np.array(cols["cp"]))
-    u = None
-    if "u" in roles:
-        raw_u = np.array(cols["u"])
-        u = np.abs(cp) * raw_u / 100.0 if convs["u"] == "percent" else convs["u"](raw_u)
-    for i, ln_no in enumerate(line_nos):
-        if T[i] <= 0:
-            problems.append(Problem(name, f"line {ln_no}, column {roles['T'] + 1}",
-                                    f"temperature {T[i]:g} K is not above absolute zero"))
-        if cp[i] <= 0:
-            problems.append(Problem(name, f"line {ln_no}, column {roles['cp'] + 1}",
-                                    "heat capacity must be positive"))
-        if u is not None and u[i] <= 0:
-            problems.append(Problem(name, f"line {ln_no}, column {roles['u'] + 1}",
-                                    "standard uncertainty must be positive"))
-    if problems:
-        raise InputError(problems)
-    return CpData(T=T, cp=cp, u=u, path=name, units=units, lines=tuple(line_nos))
-
-
-def fit_csv(path: str | Path, model: str = "polynomial", terms=None, *, species: str = "SPECIES",
-            phase: str = "g", T_range: tuple[float, float] | None = None, criterion: str = "aicc",
-            absolute_sigma: bool = True) -> tuple[CpFit, str]:
-    """Core of ``uqthermo fit DATA.csv``: read, fit, and compose the printed report.
-
-    Parameters
-    ----------
-    path : str or Path
-        CSV file (see :func:`read_cp_csv`).
-    model : {"polynomial", "shomate"}
-    terms : sequence of str, "auto" or None
-        Terms to fit; ``"auto"`` selects the subset by ``criterion`` (:func:`compare_models`);
-        None uses the model's default.
-    species, phase : str
-        Names for the case-file table header.
-    T_range : (float, float), optional
-        Temperature range (K) the case will use; a warning is added when the data do not
-        cover it.
-
-    Returns
-    -------
-    (CpFit, str)
-        The fit and the report text (summary, model ranking when ``terms="auto"``, warnings and
-        the ``heat_capacity`` table ready to paste).
-    """
-    data = read_cp_csv(path)
-    label = Path(path).name
-    ranking = None
-    if isinstance(terms, str) and terms.lower() == "auto":
-        ranking = compare_models(data.T, data.cp, data.u, model, criterion=criterion,
-                                 absolute_sigma=absolute_sigma, label=label)
-        fit = ranking[0].fit
-    else:
-        fit = fit_cp(data.T, data.cp, data.u, model, terms, absolute_sigma=absolute_sigma, label=label)
-    parts = [fit.summary()]
-    if ranking is not None:
-        parts.append(f"model ranking ({criterion}, best first):")
-        for s in ranking[:8]:
-            parts.append(f"  {','.join(s.terms):<12} aic {s.aic:10.4g}  aicc {s.aicc:10.4g}  bic {s.bic:10.4g}"
-                         f"  reduced chi2 {s.fit.reduced_chi2:.3g}")
-    if T_range is not None:
-        w = fit.coverage_warning(*T_range)
-        if w:
-            parts.append("warning: " + w)
-    parts.append("")
-    parts.append("# paste into the case file:")
-    parts.append(fit.to_case_toml(species, phase))
-    return fit, "\n".join(parts)
