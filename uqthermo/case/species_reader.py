@@ -116,11 +116,12 @@ def _sourced_scalar(c: Collector, node: Any, key: str, dimension: str, datum_id:
         node, lib_name = resolve_scalar(c, node, key, quantity, ident, sym, enabled=library)
         if node is None:
             return None
+    assumed = bool(lib_name and _is_table(node) and node.pop("_assumed", False))
     parsed = read_uncertain(c, node, key, dimension)
     if parsed is None:
         return None
     d = make_datum(datum_id, quantity, dimension, parsed, species=sp, phase=sym, library=lib_name)
-    if lib_name and _is_table(node) and node.get("_assumed"):
+    if assumed:
         d.assumed = True
         c.warn(key, f"the {lib_name} dataset states no uncertainty for this value; an assumed uncertainty ({d.stated}) is used — check it")
     register(c, data, d, key)
