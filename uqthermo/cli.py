@@ -32,10 +32,15 @@ def _samples_arg(text: str):
         return "adaptive"
     try:
         n = int(float(text)) if "e" in text.lower() else int(text)
-    except ValueError:
+    except (ValueError, OverflowError):
         raise argparse.ArgumentTypeError(f"--samples must be a whole number or 'adaptive', got {text!r}") from None
     if n < 100:
         raise argparse.ArgumentTypeError("--samples must be at least 100")
+    from .case.loader import MAX_SAMPLES_LIMIT
+
+    if n > MAX_SAMPLES_LIMIT:
+        raise argparse.ArgumentTypeError(f"--samples {n:.3g} exceeds the limit of {MAX_SAMPLES_LIMIT:.0e}; "
+                                         "use 'adaptive' or --engine dask")
     return n
 
 
@@ -99,6 +104,7 @@ def build_parser() -> argparse.ArgumentParser:
     f.add_argument("--phase", default="g", help="phase symbol for the printed table")
     f.add_argument("--range", nargs=2, metavar=("T_LO", "T_HI"), help="temperature range the curve will be used over")
     f.add_argument("--out", help="write the TOML snippet and fit report here (a folder)")
+    f.add_argument("--force", action="store_true", help="replace an existing output folder")
 
     d = sub.add_parser("data", help="search the built-in data library",
                        description="List species matching SEARCH (formula, name or CAS number) in the datasets shipped "

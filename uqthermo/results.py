@@ -96,6 +96,8 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
     if mc is not None:
         mc_q = np.atleast_2d(mc.quantile(list(ONE_SIDED)))           # (4, M_all)
         warnings += [w for w in mc.warnings]
+    if mc is not None:
+        warnings += negative_cp_warnings(case, model, mc.X_kept)
     outputs = []
     for i, o in enumerate(case.outputs):
         cols = model.output_columns(i)
@@ -209,6 +211,40 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
         "cautions": cautions,
     }
     return doc
+
+
+def negative_cp_warnings(case: Case, model: Model, X: np.ndarray) -> list[str]:
+    """Warn when sampled heat-capacity curves go negative somewhere on the temperatures used.
+
+    A curve with per-coefficient uncertainties can dip below zero at the ends of its range
+    even though the nominal curve is positive; such samples are unphysical.
+    """
+    if X is None or not len(X):
+        return []
+    temps = [model.columns[j].temperature for j in range(model.n_reported)] + [case.settings.reference_temperature]
+    for o in case.outputs:
+        temps += [t for t in (o.t_from, o.t_to, o.start_temperature) if t]
+        if o.kind == "adiabatic_temperature_rise":
+            temps.append(o.max_temperature or 0.0)
+    t_lo, t_hi = min(t for t in temps if t > 0), max(temps)
+    out = []
+    for did, cols in model.inputs.groups.items():
+        d = case.data.get(did)
+        if d is None or d.quantity != "heat capacity" or d.kind != "coefficients" or len(cols) < 2:
+            continue
+        cp = case.species[d.species].phases[d.phase].cp
+        lo, hi = max(t_lo, cp.t_min), min(t_hi, cp.t_max)
+        if not hi > lo:
+            continue
+        coeffs = np.broadcast_to(np.asarray(d.nominal, dtype=float), (len(X), len(d.nominal))).copy()
+        coeffs[:, d.positions] = X[:, cols]
+        grid = np.linspace(lo, hi, 41)
+        values = cp.cp(grid[None, :], coeffs[:, None, :], check=False)
+        frac = float(np.mean(np.any(values <= 0, axis=1)))
+        if frac > 0:
+            out.append(f"{did}: {100 * frac:.2g} % of the sampled curves give Cp ≤ 0 between {lo:.0f} and {hi:.0f} K "
+                       "(unphysical); check the stated coefficient uncertainties and their correlation")
+    return out
 
 
 def _drivers_and_whatif(case: Case, model: Model, lin, warnings: list[str]):
