@@ -1,0 +1,517 @@
+"""JCGM 101 Monte Carlo on a Dask cluster, with mergeable statistics.
+
+:func:`propagate_monte_carlo_dask` takes the same arguments as
+:func:`~uqthermo.uq.montecarlo.propagate_monte_carlo` (plus ``scheduler``) and returns the
+same :class:`~uqthermo.uq.montecarlo.MonteCarloResult`.
+
+Streams
+-------
+The N trials are split into consecutive *blocks* of rows ``[start, start + n)``. Each
+block draws its rows from the run's one stream with
+:class:`~uqthermo.uq.sampling.UniformStream` ``(d, method, seed, skip=start)``:
+
+* Sobol': the block is the index range ``start … start + n − 1`` of the one scrambled
+  sequence (``fast_forward``), so the blocks are disjoint and together are exactly the
+  points of the local run;
+* random: the block jumps the PCG64 stream by ``start·d`` numbers (``PCG64.advance``,
+  O'Neill 2014), again disjoint and together exactly the local run's numbers. We prefer
+  this to ``SeedSequence.spawn`` (equally independent) because the answer then does not
+  depend on the number of blocks, and it is bit-for-bit reproducible against the local
+  engine;
+* Latin hypercube: each block is its own stratified design (seeded from ``(seed, start)``),
+  as documented in :mod:`uqthermo.uq.sampling`; results agree with the local run within
+  Monte Carlo error.
+
+Merged statistics
+-----------------
+Each block returns count, mean, M2 = Σ(y − ȳ)², M3, min and max per output; blocks are
+merged in index order with the pairwise formulas of Chan, Golub & LeVeque (1979) and
+Pébay (2008, SAND2008-6212) — the same as :class:`~uqthermo.uq.stats.Moments`, so mean,
+u(y) and skewness do not depend on the blocking beyond rounding. Quantiles and coverage
+intervals (JCGM 101 §7.7):
+
+* when N·M ≤ ``max_stored_values`` the blocks return their values and the intervals are
+  computed exactly from all sorted values (as the local engine does);
+* otherwise a *pilot* block of ``max_stored_values / M`` rows runs first, its values fix
+  the bin edges of one fine histogram per output (:class:`~uqthermo.uq.stats.BinnedCDF`),
+  and every further block only returns bin counts on those edges, which add.
+
+The convergence history records u(y) after each block (in index order).
+
+Adaptive mode (JCGM 101 §7.9) runs the batches of size max(⌈100/(1 − p)⌉, 10⁴) several at
+a time in parallel (one round = four per worker); the stopping rule is then
+applied batch by batch in order, so the batch at which it stops — and the result — are the
+same as with the local engine; batches computed beyond it are discarded.
+
+Cluster
+-------
+``scheduler=None`` starts a ``LocalCluster`` (2 worker processes, 1 thread each) for the
+run and closes it afterwards; a scheduler address (``"tcp://host:8786"``) or an existing
+``distributed.Client`` uses that cluster. The model and the input set are sent to the
+workers once (``Client.scatter``); distributed serialises them with cloudpickle, which
+handles the case builder's closures. Workers run with one BLAS thread (distributed's
+default ``OMP_NUM_THREADS=1``/``OPENBLAS_NUM_THREADS=1``).
+"""
+
+from __future__ import annotations
+
+import logging
+import math
+from collections.abc import Callable
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..errors import StatisticsError
+from .inputs import InputSet
+from .montecarlo import (HISTOGRAM_BINS, KEEP_VALUES, MAX_STORED_VALUES, MonteCarloResult, _batch_summary,
+                         _Collector, adaptive_batch_size)
+from .sampling import UniformStream, _method
+from .stats import BinnedCDF, Moments, intervals_from_sorted, numerical_tolerance, quantile_sorted
+
+__all__ = ["propagate_monte_carlo_dask", "merge_moments", "block_plan"]
+
+#: largest block (rows) of a fixed-N run; more, smaller blocks balance the workers
+MAX_BLOCK_ROWS = 2**22
+MIN_BLOCK_ROWS = 2**14
+
+
+# ----------------------------------------------------------------------------- merging
+
+def merge_moments(a: Moments, b: Moments) -> Moments:
+    """Merge two :class:`Moments` (a first, then b) into a new one.
+
+    Pairwise update (Chan, Golub & LeVeque 1979; Pébay 2008, eqs. 1.1–1.3), with
+    δ = ȳ_B − ȳ_A and n = n_A + n_B::
+
+        ȳ  = ȳ_A + δ n_B/n
+        M2 = M2_A + M2_B + δ² n_A n_B/n
+        M3 = M3_A + M3_B + δ³ n_A n_B (n_A − n_B)/n² + 3δ (n_A M2_B − n_B M2_A)/n
+    """
+    out = Moments(a.mean.shape[0])
+    if b.n == 0:
+        src = a
+    elif a.n == 0:
+        src = b
+    else:
+        na, nb = a.n, b.n
+        n = na + nb
+        d = b.mean - a.mean
+        out.n = n
+        out.mean = a.mean + d * nb / n
+        out.m2 = a.m2 + b.m2 + d**2 * na * nb / n
+        out.m3 = a.m3 + b.m3 + d**3 * na * nb * (na - nb) / n**2 + 3.0 * d * (na * b.m2 - nb * a.m2) / n
+        out.min = np.minimum(a.min, b.min)
+        out.max = np.maximum(a.max, b.max)
+        return out
+    out.n, out.mean, out.m2, out.m3 = src.n, src.mean.copy(), src.m2.copy(), src.m3.copy()
+    out.min, out.max = src.min.copy(), src.max.copy()
+    return out
+
+
+def block_plan(n_total: int, n_workers: int, block_rows: int | None = None) -> list[tuple[int, int]]:
+    """Consecutive blocks ``(start, rows)`` covering ``n_total`` trials.
+
+    Default size: about four blocks per worker, between 2¹⁴ and 2²² rows, rounded up to a
+    power of two (Sobol' blocks then start at multiples of a power of two).
+    """
+    if block_rows is None:
+        target = max(MIN_BLOCK_ROWS, math.ceil(n_total / max(1, 4 * n_workers)))
+        block_rows = min(MAX_BLOCK_ROWS, 1 << (target - 1).bit_length())
+    block_rows = int(block_rows)
+    if block_rows < 1:
+        raise StatisticsError(f"block size must be a positive integer, got {block_rows!r}")
+    return [(s, min(block_rows, n_total - s)) for s in range(0, n_total, block_rows)]
+
+
+# ----------------------------------------------------------------------------- worker side
+
+@dataclass
+class _BlockResult:
+    start: int
+    moments: Moments
+    values: np.ndarray | None        # all Y of the block (exact mode / pilot)
+    counts: np.ndarray | None        # histogram counts (M, bins + 2) on the pilot's edges
+    X_kept: np.ndarray | None
+    Y_kept: np.ndarray | None
+    summary: np.ndarray | None = None   # adaptive: (6, M) batch summary (JCGM 101 §7.9.4)
+
+
+def _evaluate(f, inputs: InputSet, U: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    X = inputs.from_uniform(U)
+    Y = np.asarray(f(X), dtype=float)
+    if Y.ndim == 1:
+        Y = Y[:, None]
+    if Y.ndim != 2 or Y.shape[0] != X.shape[0]:
+        raise StatisticsError(f"model must return shape (N, M) for N = {X.shape[0]} input rows, got {Y.shape}")
+    bad = ~np.all(np.isfinite(Y), axis=1)
+    if np.any(bad):
+        raise StatisticsError(f"model returned non-finite values for {int(bad.sum())} of {Y.shape[0]} "
+                              f"samples in a chunk (first at input row {int(np.flatnonzero(bad)[0])})")
+    return X, Y
+
+
+def _run_block(f, inputs: InputSet, method: str, seed: int, start: int, rows: int, chunk_size: int,
+               keep: int, want_values: bool, edges: np.ndarray | None, coverage: float | None = None,
+               ) -> _BlockResult:
+    """Evaluate rows ``[start, start + rows)`` of the run's stream (runs on a worker)."""
+    d = len(inputs)
+    stream = UniformStream(d, method, seed, skip=start)
+    moments: Moments | None = None
+    values: list[np.ndarray] = []
+    counts = None
+    Xk: list[np.ndarray] = []
+    Yk: list[np.ndarray] = []
+    n_kept = 0
+    for U in stream.chunks(rows, chunk_size):
+        X, Y = _evaluate(f, inputs, U)
+        m = Y.shape[1]
+        if moments is None:
+            moments = Moments(m)
+            keep = int(max(0, min(keep, max(1000, KEEP_VALUES // max(1, d + m)))))
+        moments.add(Y)
+        if n_kept < keep:
+            t = min(keep - n_kept, Y.shape[0])
+            Xk.append(X[:t].copy())
+            Yk.append(Y[:t].copy())
+            n_kept += t
+        if want_values:
+            values.append(Y)
+        if edges is not None:
+            if counts is None:
+                counts = np.zeros((m, edges.shape[1] + 1), dtype=np.int64)
+            for j in range(m):
+                idx = np.searchsorted(edges[j], Y[:, j], side="right")
+                counts[j] += np.bincount(idx, minlength=counts.shape[1])
+    Yall = np.concatenate(values, axis=0) if want_values else None
+    summary = _batch_summary(Yall, coverage) if coverage is not None else None
+    return _BlockResult(start=start, moments=moments, values=Yall, counts=counts,
+                        X_kept=np.concatenate(Xk, axis=0) if Xk else None,
+                        Y_kept=np.concatenate(Yk, axis=0) if Yk else None, summary=summary)
+
+
+# ----------------------------------------------------------------------------- driver side
+
+class _Cluster:
+    """A Client for ``scheduler`` (None: a LocalCluster for the duration of the run)."""
+
+    def __init__(self, scheduler, n_workers: int):
+        from distributed import Client, LocalCluster
+
+        self._own: list = []
+        if scheduler is None:
+            cluster = LocalCluster(n_workers=n_workers, threads_per_worker=1, processes=True,
+                                   dashboard_address=None, silence_logs=logging.ERROR)
+            self.client = Client(cluster)
+            self._own = [self.client, cluster]
+        elif isinstance(scheduler, Client):
+            self.client = scheduler
+        else:
+            try:
+                self.client = Client(scheduler, timeout="10s")
+            except (OSError, TimeoutError, ValueError) as exc:
+                raise StatisticsError(f"cannot reach the Dask scheduler at {scheduler!r} ({exc})") from None
+            self._own = [self.client]
+
+    @property
+    def n_workers(self) -> int:
+        return max(1, len(self.client.scheduler_info().get("workers", {})))
+
+    def close(self) -> None:
+        for obj in self._own:
+            try:
+                obj.close()
+            except Exception:  # closing a cluster must never hide the run's own error
+                pass
+
+
+def _binned_from(edges: np.ndarray, counts: np.ndarray, moments: Moments) -> BinnedCDF:
+    """A :class:`BinnedCDF` with given edges and merged counts (no pilot re-counting)."""
+    b = BinnedCDF.__new__(BinnedCDF)
+    b.edges = edges
+    b.counts = counts
+    b.n = int(moments.n)
+    b.min = moments.min.copy()
+    b.max = moments.max.copy()
+    return b
+
+
+def _pilot_edges(pilot: np.ndarray, bins: int) -> np.ndarray:
+    return BinnedCDF(pilot, bins).edges
+
+
+def propagate_monte_carlo_dask(
+    f: Callable[[np.ndarray], np.ndarray],
+    inputs: InputSet,
+    scheduler=None,
+    samples: int | str = 200_000,
+    sampling: str = "sobol",
+    seed: int | None = None,
+    coverage: float = 0.95,
+    chunk_size: int | None = None,
+    ndigits: int = 2,
+    progress: Callable[[int, int | None], None] | None = None,
+    *,
+    keep: int = 65_536,
+    max_samples: int = 10_000_000,
+    batch_size: int | None = None,
+    check_shortest: bool = True,
+    max_stored_values: int = MAX_STORED_VALUES,
+    histogram_bins: int = HISTOGRAM_BINS,
+    block_rows: int | None = None,
+    n_workers: int = 2,
+) -> MonteCarloResult:
+    """Propagate distributions by Monte Carlo (JCGM 101 §7) on a Dask cluster.
+
+    Parameters are those of :func:`~uqthermo.uq.montecarlo.propagate_monte_carlo`, plus:
+
+    scheduler : None, str or distributed.Client
+        None: a local cluster of ``n_workers`` processes for this run; a string: the
+        scheduler address; a Client: use it (left open).
+    block_rows : int, optional
+        Rows per task (fixed N; default see :func:`block_plan`).
+    n_workers : int
+        Workers of the local cluster started when ``scheduler`` is None.
+
+    Returns
+    -------
+    MonteCarloResult
+        Same fields as the local engine (see module docstring for how they are merged).
+    """
+    if not isinstance(inputs, InputSet):
+        raise StatisticsError("inputs must be an InputSet")
+    p = float(coverage)
+    if not 0.0 < p < 1.0:
+        raise StatisticsError(f"coverage probability must lie in (0, 1), got {coverage!r}")
+    if int(ndigits) != ndigits or ndigits < 1:
+        raise StatisticsError(f"ndigits must be a positive integer, got {ndigits!r}")
+    method = _method(sampling)
+    if seed is None:
+        seed = int(np.random.SeedSequence().entropy % (2**63))
+    d = len(inputs)
+    if chunk_size is None:
+        chunk_size = 65_536 if d <= 64 else max(1024, 2**22 // d)
+    if int(chunk_size) != chunk_size or chunk_size < 1:
+        raise StatisticsError(f"chunk size must be a positive integer, got {chunk_size!r}")
+    chunk_size = int(chunk_size)
+    adaptive = isinstance(samples, str)
+    if adaptive:
+        if samples.lower() != "adaptive":
+            raise StatisticsError(f"samples must be a positive integer or \"adaptive\", got {samples!r}")
+    elif isinstance(samples, bool) or int(samples) != samples or samples < 2:
+        raise StatisticsError(f"samples must be an integer >= 2 or \"adaptive\", got {samples!r}")
+    UniformStream(d, method, seed)   # validates the seed and the dimension before starting a cluster
+
+    cluster = _Cluster(scheduler, n_workers)
+    try:
+        client = cluster.client
+        f_remote = client.scatter(f, broadcast=True, hash=False)
+        in_remote = client.scatter(inputs, broadcast=True, hash=False)
+        if adaptive:
+            return _adaptive(client, cluster.n_workers, f_remote, in_remote, inputs, method, int(seed), p,
+                             chunk_size, int(ndigits), progress, keep, int(max_samples), batch_size,
+                             check_shortest, int(max_stored_values), int(histogram_bins))
+        return _fixed(client, cluster.n_workers, f_remote, in_remote, d, method, int(seed), p, int(samples),
+                      chunk_size, int(ndigits), progress, keep, int(max_stored_values), int(histogram_bins),
+                      block_rows)
+    finally:
+        cluster.close()
+
+
+def _fixed(client, n_workers, f_remote, in_remote, d, method, seed, p, n_total, chunk_size, ndigits, progress,
+           keep, cap, bins, block_rows) -> MonteCarloResult:
+    from distributed import as_completed
+
+    warnings: list[str] = []
+    if n_total < max(math.ceil(100 / (1 - p)), 10_000):
+        warnings.append(f"only {n_total} Monte Carlo trials: coverage-interval endpoints may be unreliable "
+                        f"(JCGM 101 §7.2.1 asks for many more than 1/(1 - p) = {1 / (1 - p):.0f})")
+    # the first block tells the number of outputs M and, in histogram mode, starts the pilot
+    plan = block_plan(n_total, n_workers, block_rows)
+    first_rows = plan[0][1]
+
+    def submit(start, rows, values, edges=None):
+        return client.submit(_run_block, f_remote, in_remote, method, seed, start, rows, chunk_size,
+                             keep if start < keep else 0, values, edges, pure=False)
+
+    head = submit(0, first_rows, True).result()
+    m = head.moments.mean.shape[0]
+    exact = n_total * m <= cap
+    edges = None
+    blocks: dict[int, _BlockResult] = {0: head}
+    done = first_rows
+    if progress is not None:
+        progress(done, n_total)
+    if not exact:
+        # pilot: the first max(cap/M, first block) rows return their values and fix the edges
+        pilot_rows = max(first_rows, min(n_total, cap // max(1, m)))
+        for fut in [submit(first_rows + s, r, True)
+                    for s, r in block_plan(pilot_rows - first_rows, n_workers, block_rows)]:
+            br = fut.result()
+            blocks[br.start] = br
+        pilot = np.concatenate([blocks[k].values for k in sorted(blocks)], axis=0)
+        edges = _pilot_edges(pilot, int(min(bins, max(2000, cap // max(1, 2 * m)))))
+        done = pilot_rows
+    offset = done
+    futures = [submit(offset + s, r, exact, edges) for s, r in block_plan(n_total - offset, n_workers, block_rows)]
+    for fut in as_completed(futures):
+        br = fut.result()
+        blocks[br.start] = br
+        done += br.moments.n
+        if progress is not None:
+            progress(done, n_total)
+    return _finish(blocks, d, m, p, ndigits, exact, edges, warnings, method, seed, keep, adaptive=False)
+
+
+def _finish(blocks: dict, d, m, p, ndigits, exact, edges, warnings, method, seed, keep, *, adaptive,
+            converged=True, stability=None, batch_size=0, n_batches=0) -> MonteCarloResult:
+    order = sorted(blocks)
+    mom = Moments(m)
+    conv_n: list[int] = []
+    conv_u: list[np.ndarray] = []
+    counts = None
+    for k in order:
+        br = blocks[k]
+        mom = merge_moments(mom, br.moments)
+        conv_n.append(int(mom.n))
+        conv_u.append(mom.std.copy())
+        if not exact:
+            c = br.counts
+            if c is None:   # pilot blocks returned values: count them on the edges
+                c = np.zeros((m, edges.shape[1] + 1), dtype=np.int64)
+                for j in range(m):
+                    idx = np.searchsorted(edges[j], br.values[:, j], side="right")
+                    c[j] += np.bincount(idx, minlength=c.shape[1])
+            counts = c if counts is None else counts + c
+    mean, u, skew = mom.mean.copy(), mom.std.copy(), mom.skewness
+    if exact:
+        ys = np.concatenate([blocks[k].values for k in order], axis=0)
+        ys.sort(axis=0)
+        sym, short = intervals_from_sorted(ys, p)
+        median = quantile_sorted(ys, 0.5)
+        qmethod, resolution, binned = "exact", np.zeros_like(mean), None
+    else:
+        ys = None
+        binned = _binned_from(edges, counts, mom)
+        sym, short = binned.intervals(p)
+        median = binned.quantile(0.5)
+        qmethod = "histogram"
+        resolution = binned.resolution(np.concatenate([sym.T, short.T], axis=0))
+    tol = np.atleast_1d(numerical_tolerance(u, ndigits))
+    if qmethod == "histogram" and np.any(resolution > 0.1 * tol):
+        warnings.append("quantile histogram bins are not much finer than the numerical tolerance; "
+                        "raise max_stored_values or histogram_bins")
+    # kept rows: the first K rows of the run, K as in the local engine
+    kp = int(max(0, min(keep, max(1000, KEEP_VALUES // max(1, d + m)))))
+    Xk = [blocks[k].X_kept for k in order if blocks[k].X_kept is not None]
+    Yk = [blocks[k].Y_kept for k in order if blocks[k].Y_kept is not None]
+    Xk = np.concatenate(Xk, axis=0)[:kp] if Xk else np.empty((0, d))
+    Yk = np.concatenate(Yk, axis=0)[:kp] if Yk else np.empty((0, m))
+    convergence = [[(n, float(uu[j])) for n, uu in zip(conv_n, conv_u)] for j in range(m)]
+    return MonteCarloResult(
+        mean=mean, standard_uncertainty=u, coverage_interval=sym, shortest_interval=short, median=median,
+        skewness=skew, coverage_probability=p, samples_used=int(mom.n), convergence=convergence,
+        Y_kept=Yk, X_kept=Xk, adaptive=adaptive, converged=converged, tolerance=tol,
+        stability=stability or {}, batch_size=batch_size, batches=n_batches, seed=int(seed), sampling=method,
+        quantile_method=qmethod, quantile_resolution=resolution, ndigits=int(ndigits), warnings=warnings,
+        minimum=mom.min.copy(), maximum=mom.max.copy(), _sorted=ys, _binned=binned,
+    )
+
+
+def _adaptive(client, n_workers, f_remote, in_remote, inputs, method, seed, p, chunk_size, ndigits, progress,
+              keep, max_samples, batch_size, check_shortest, cap, bins) -> MonteCarloResult:
+    """JCGM 101 §7.9 with batches computed in parallel rounds, stopping rule applied in order."""
+    d = len(inputs)
+    M_b = int(batch_size) if batch_size is not None else adaptive_batch_size(p)
+    if M_b < 2:
+        raise StatisticsError(f"batch size must be at least 2, got {batch_size!r}")
+    per_round = 4 * n_workers
+    summaries: list[np.ndarray] = []
+    collector: _Collector | None = None
+    conv_n: list[int] = []
+    conv_u: list[np.ndarray] = []
+    stability: dict = {}
+    converged = False
+    done = 0
+    batches = 0
+    rows = ["mean", "u", "low", "high", "shortest_low", "shortest_high"]
+    use = [0, 1, 2, 3] + ([4, 5] if check_shortest else [])
+    while not converged and done < max_samples:
+        n_round = min(per_round, max(1, (max_samples - done) // M_b))
+        futs = [client.submit(_run_block, f_remote, in_remote, method, seed, done + i * M_b, M_b,
+                              min(chunk_size, M_b), keep if done + i * M_b < keep else 0, True, None, p,
+                              pure=False)
+                for i in range(n_round)]
+        results = [fu.result() for fu in futs]          # in batch order
+        for br in results:
+            if collector is None:
+                m = br.values.shape[1]
+                kp = int(max(0, min(keep, max(1000, KEEP_VALUES // max(1, d + m)))))
+                collector = _Collector(m, d, kp, cap, bins)
+            # feed the collector the batch (kept rows come from the first batch's X)
+            Xb = br.X_kept if br.X_kept is not None else np.empty((0, d))
+            _collector_add(collector, Xb, br.values)
+            done += M_b
+            batches += 1
+            summaries.append(br.summary)
+            u_all = collector.moments.std
+            conv_n.append(done)
+            conv_u.append(u_all.copy())
+            if progress is not None:
+                progress(done, None)
+            if batches < 2:
+                continue
+            S = np.stack(summaries)
+            h = S.shape[0]
+            s = np.sqrt(np.var(S, axis=0, ddof=1) / h)
+            delta = numerical_tolerance(u_all, ndigits)
+            exceed = np.any(2.0 * s[use] > delta[None, :], axis=0) & (u_all > 0)
+            if not np.any(exceed) or done >= max_samples:
+                converged = not np.any(exceed)
+                stability = {rows[r]: 2.0 * s[r] for r in use}
+                break
+    warnings: list[str] = []
+    if not converged:
+        warnings.append(f"adaptive Monte Carlo stopped at the cap of {done} trials before u(y) and the "
+                        f"interval endpoints were stable to {ndigits} significant digits")
+    mom = collector.moments
+    mean, u, skew = mom.mean.copy(), mom.std.copy(), mom.skewness
+    if collector.binned is None:
+        ys = collector.sorted_values()
+        sym, short = intervals_from_sorted(ys, p)
+        median = quantile_sorted(ys, 0.5)
+        qmethod, resolution, binned = "exact", np.zeros_like(mean), None
+    else:
+        ys = None
+        binned = collector.binned
+        sym, short = binned.intervals(p)
+        median = binned.quantile(0.5)
+        qmethod = "histogram"
+        resolution = binned.resolution(np.concatenate([sym.T, short.T], axis=0))
+    tol = np.atleast_1d(numerical_tolerance(u, ndigits))
+    Xk, Yk = collector.kept(d)
+    m = mean.shape[0]
+    convergence = [[(int(n), float(uu[j])) for n, uu in zip(conv_n, conv_u)] for j in range(m)]
+    return MonteCarloResult(
+        mean=mean, standard_uncertainty=u, coverage_interval=sym, shortest_interval=short, median=median,
+        skewness=skew, coverage_probability=p, samples_used=int(mom.n), convergence=convergence,
+        Y_kept=Yk, X_kept=Xk, adaptive=True, converged=converged, tolerance=tol, stability=stability,
+        batch_size=M_b, batches=batches, seed=int(seed), sampling=method, quantile_method=qmethod,
+        quantile_resolution=resolution, ndigits=int(ndigits), warnings=warnings,
+        minimum=mom.min.copy(), maximum=mom.max.copy(), _sorted=ys, _binned=binned,
+    )
+
+
+def _collector_add(collector: _Collector, X_kept: np.ndarray, Y: np.ndarray) -> None:
+    """Add a batch's values to the collector.
+
+    Workers return input rows only as far as they may be kept; the collector copies at
+    most that many (``X[:t]`` with t ≤ rows kept), so the rest is padding that is never read.
+    """
+    n = Y.shape[0]
+    if X_kept.shape[0] < n:
+        X = np.full((n, X_kept.shape[1]), np.nan)
+        X[:X_kept.shape[0]] = X_kept
+    else:
+        X = X_kept
+    collector.add(X, Y)
