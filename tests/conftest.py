@@ -197,3 +197,19 @@ def fast_run(tmp_path_factory):
     code, stdout, stderr = main_in_process("run", case, "--out", out, "--samples", "20000", "--quiet")
     res = json.loads((out / "results.json").read_text(encoding="utf-8")) if (out / "results.json").exists() else None
     return {"code": code, "stdout": stdout, "stderr": stderr, "out": out, "case": case, "results": res}
+
+
+# --------------------------------------------------------------------------- figures for the summary
+
+#: filled by tests/test_bad_inputs.py: ids tried/rejected, classes, bad command lines
+BAD_INPUT_STATS: dict[str, set] = {}
+
+
+def pytest_terminal_summary(terminalreporter, exitstatus, config):
+    s = BAD_INPUT_STATS
+    if s.get("tried"):
+        terminalreporter.write_sep("-", "bad-input suite")
+        terminalreporter.write_line(
+            f"bad inputs: {len(s['tried'])} case files tried in {len(s.get('classes', ()))} classes, "
+            f"{len(s.get('rejected', ()))} rejected cleanly (exit 2, FILE: KEY: message, nothing written); "
+            f"{len(s.get('cli', ()))} bad command lines")
