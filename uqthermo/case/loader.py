@@ -59,6 +59,7 @@ class Collector:
         self.file = file
         self.problems: list[Problem] = []
         self.warnings: list[str] = []
+        self.skipped: set[str] = set()    # keys of items not built because of problems elsewhere
 
     def add(self, key: str, message: str) -> None:
         self.problems.append(Problem(self.file, key, message))
@@ -72,6 +73,11 @@ class Collector:
                 close = difflib.get_close_matches(str(k), list(allowed), n=1)
                 hint = f" (did you mean {close[0]!r}?)" if close else f" (allowed: {', '.join(sorted(allowed))})"
                 self.add(f"{key}.{k}" if key else str(k), f"unknown key{hint}")
+
+    def has_problem(self, key: str) -> bool:
+        """True if a problem was already recorded at ``key`` or below it (to avoid follow-on noise)."""
+        return key in self.skipped or any(p.key == key or p.key.startswith((key + ".", key + "["))
+                                          for p in self.problems)
 
     def raise_if_any(self) -> None:
         if self.problems:
@@ -311,10 +317,63 @@ def load_case(path: str | Path, *, library: bool = True) -> Case:
     try:
         raw = tomllib.loads(text)
     except tomllib.TOMLDecodeError as e:
-        raise InputError([Problem(fname, "", f"TOML syntax error: {e}")]) from None
+        key, msg = _toml_error(text, str(e))
+        raise InputError([Problem(fname, key, msg)]) from None
     except RecursionError:
         raise InputError([Problem(fname, "", "TOML nesting too deep")]) from None
     return parse_case(raw, fname, sha, library=library)
+
+
+_TOML_AT = re.compile(r"\(at line (\d+), column \d+\)|\(at end of document\)")
+_TOML_HEADER = re.compile(r"^\s*\[\[?\s*([^\[\]#]+?)\s*\]\]?\s*(?:#.*)?$")
+_TOML_KEY = re.compile(r"^\s*((?:[A-Za-z0-9_\-]+|\"[^\"]*\"|'[^']*')(?:\s*\.\s*(?:[A-Za-z0-9_\-]+|\"[^\"]*\"|'[^']*'))*)\s*=")
+
+
+def _toml_key_text(k: str) -> str:
+    return ".".join(part.strip().strip("\"'") for part in re.split(r"\.(?=(?:[^\"']*[\"'][^\"']*[\"'])*[^\"']*$)", k))
+
+
+def _toml_error(text: str, message: str) -> tuple[str, str]:
+    """Key path (best effort) and a one-line message for a TOML syntax error.
+
+    tomllib reports a position; the key path is the last table header above it plus
+    the key written on that line, so a duplicated key reads e.g.
+    ``species.CO.g.formation_enthalpy: TOML syntax error: key given twice (line 12)``.
+    """
+    lines = text.splitlines()
+    m = _TOML_AT.search(message)
+    lineno = None
+    if m and m.group(1):
+        lineno = int(m.group(1))
+    elif m:  # at end of document: the last non-empty line
+        lineno = next((i + 1 for i in range(len(lines) - 1, -1, -1) if lines[i].strip()), None)
+    key = ""
+    declared = re.search(r"Cannot declare \(([^)]*)\) twice", message)
+    if declared:
+        key = ".".join(part.strip().strip("'\"") for part in declared.group(1).split(",") if part.strip())
+    elif lineno is not None and 1 <= lineno <= len(lines):
+        header = ""
+        for line in lines[:lineno - 1]:
+            h = _TOML_HEADER.match(line)
+            if h:
+                header = _toml_key_text(h.group(1))
+        km = _TOML_KEY.match(lines[lineno - 1])
+        if lines[lineno - 1].lstrip().startswith("["):   # the header itself is broken
+            key = _toml_key_text(lines[lineno - 1].strip().strip("[]").split("#")[0].strip().strip("[]"))
+        elif km:
+            k = _toml_key_text(km.group(1))
+            key = f"{header}.{k}" if header else k
+        else:
+            key = header
+    detail = message.replace("Cannot overwrite a value", "key given twice (keep one)")
+    if declared:
+        detail = _TOML_AT.sub("", f"table [{key}] declared twice (merge the two tables) " + message[declared.end():]).strip()
+    detail = _TOML_AT.sub("", detail).strip()
+    snippet = ""
+    if lineno is not None and 1 <= lineno <= len(lines):
+        detail += f" (line {lineno})"
+        snippet = lines[lineno - 1].strip()[:80]
+    return key, f"TOML syntax error: {detail}" + (f": {snippet}" if snippet else "")
 
 
 def parse_case(raw: dict, fname: str, sha: str = "", *, library: bool = True) -> Case:

@@ -47,6 +47,8 @@ def _species_ref(c: Collector, text: Any, key: str, species: dict) -> tuple[str,
         c.add(key, f"cannot read {text!r}; write a species with its state, e.g. \"H2O(l)\"")
         return None
     name, ph = m.group(1), m.group(2)
+    if name not in species and c.has_problem(f"species.{name}"):
+        return None
     if name not in species:
         close = difflib.get_close_matches(name, list(species), n=1)
         c.add(key, f"unknown species {name!r}" + (f" (did you mean {close[0]!r}?)" if close else ""))
@@ -125,6 +127,8 @@ def _reaction(c: Collector, o: dict, key: str, reactions: dict) -> str | None:
     if not isinstance(r, str):
         c.add(f"{key}.reaction", "name the reaction, e.g. reaction = \"R1\"")
         return None
+    if r not in reactions and c.has_problem(f"reaction.{r}"):
+        return None     # the reaction's own problem is reported already
     if r not in reactions:
         close = difflib.get_close_matches(r, list(reactions), n=1)
         c.add(f"{key}.reaction", f"unknown reaction {r!r}" + (f" (did you mean {close[0]!r}?)" if close else ""))
@@ -252,6 +256,9 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
         ok = t
         for rname, rate in er.items():
             rk = f"{key}.extent_rate.{rname}"
+            if rname not in reactions and c.has_problem(f"reaction.{rname}"):
+                ok = False
+                continue
             if rname not in reactions:
                 close = difflib.get_close_matches(rname, list(reactions), n=1)
                 c.add(rk, f"unknown reaction {rname!r}" + (f" (did you mean {close[0]!r}?)" if close else ""))

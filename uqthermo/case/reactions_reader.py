@@ -48,6 +48,9 @@ def read_reactions(c: Collector, node: Any, species: dict, data: dict[str, Datum
         ok = True
         fixed = []
         for p in participants:
+            if p.species not in species and c.has_problem(f"species.{p.species}"):
+                ok = False      # the species' own problem is reported already
+                continue
             if p.species not in species:
                 close = difflib.get_close_matches(p.species, list(species), n=1)
                 c.add(f"{key}.equation", f"unknown species {p.species!r}" +
@@ -58,6 +61,9 @@ def read_reactions(c: Collector, node: Any, species: dict, data: dict[str, Datum
             ph = resolve_phase(sp, p.phase)
             if ph is None:
                 c.add(f"{key}.equation", f"give the state of {p.species} (e.g. {p.species}(g)); it has phases {', '.join(sp.phases)}")
+                ok = False
+                continue
+            if ph not in sp.phases and c.has_problem(f"species.{p.species}.{ph}"):
                 ok = False
                 continue
             if ph not in sp.phases:
@@ -90,4 +96,5 @@ def read_reactions(c: Collector, node: Any, species: dict, data: dict[str, Datum
             c.add(f"{key}.equation", e.message)
             continue
         out[name] = rx
+    c.skipped.update(f"reaction.{name}" for name in node if name not in out)
     return out

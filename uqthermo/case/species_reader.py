@@ -43,8 +43,11 @@ def read_species(c: Collector, node: Any, data: dict[str, Datum], settings: Sett
     if node is None:
         c.add("species", "no species defined; add at least one [species.NAME] table")
         return out
-    if not _is_table(node) or not node:
+    if not _is_table(node):
         c.add("species", "must be a table of species ([species.NAME])")
+        return out
+    if not node:
+        c.add("species", "no species defined; add at least one [species.NAME] table")
         return out
     for name, sp in node.items():
         key = f"species.{name}"
@@ -294,6 +297,16 @@ def _uncertainty_block(c: Collector, node: dict, key: str, names: list[str], nom
         np.fill_diagonal(r, 1.0)
     else:
         r = np.eye(n)
+    if n > 1:
+        w, v = np.linalg.eigh((r + r.T) / 2)
+        if w[0] < -1e-10:
+            which = "correlation" if corr_node is not None else "covariance"
+            involved = [names[i] for i in range(n) if abs(v[i, 0]) > 0.1]
+            pairs = ", ".join(f"[{i}][{j}] = {r[i, j]:g}" for i in range(n) for j in range(i + 1, n)
+                              if names[i] in involved and names[j] in involved and r[i, j] != 0)
+            c.add(f"{key}.{which}", f"matrix is not positive semidefinite (smallest eigenvalue {w[0]:.3g}): the entries "
+                                    f"{pairs} between {', '.join(involved)} are inconsistent; check them")
+            return None
     keep = [i for i in range(n) if u[i] > 0]
     dists = [dist.normal(float(nominal[i]), float(u[i])) for i in keep]
     return [positions_all[i] for i in keep], [names[i] for i in keep], dists, r[np.ix_(keep, keep)]
@@ -527,11 +540,18 @@ def _transitions(c: Collector, node: Any, key: str, sp: str, phases: dict[str, P
             data[f"{tid}.enthalpy"].source = t["source"]
         out.append(Transition(from_phase=fr, to_phase=to, temperature=tt[0], enthalpy=th[0]))
     # consistency: a phase left twice on heating, or transitions whose temperatures do not rise along a chain
+    said: set[str] = set()
+
+    def once(message: str) -> None:     # the same defect is met from every start of the chain
+        if message not in said:
+            said.add(message)
+            c.add(f"{key}.transition", message)
+
     by_from: dict[str, Transition] = {}
     for t in out:
         if t.from_phase in by_from:
-            c.add(f"{key}.transition", f"phase {t.from_phase!r} has two transitions on heating "
-                                       f"(to {by_from[t.from_phase].to_phase!r} and to {t.to_phase!r}); keep the stable one")
+            once(f"phase {t.from_phase!r} has two transitions on heating "
+                 f"(to {by_from[t.from_phase].to_phase!r} and to {t.to_phase!r}); keep the stable one")
         by_from[t.from_phase] = t
     for t in out:
         nxt = by_from.get(t.to_phase)
@@ -539,11 +559,11 @@ def _transitions(c: Collector, node: Any, key: str, sp: str, phases: dict[str, P
         cur = t
         while nxt is not None:
             if nxt.temperature <= cur.temperature:
-                c.add(f"{key}.transition", f"{cur.from_phase}→{cur.to_phase} at {cur.temperature:g} K is followed by "
-                                           f"{nxt.from_phase}→{nxt.to_phase} at {nxt.temperature:g} K; temperatures must rise along the chain")
+                once(f"{cur.from_phase}→{cur.to_phase} at {cur.temperature:g} K is followed by "
+                     f"{nxt.from_phase}→{nxt.to_phase} at {nxt.temperature:g} K; temperatures must rise along the chain")
                 break
             if nxt.to_phase in seen:
-                c.add(f"{key}.transition", "transitions form a cycle " + " → ".join(sorted(seen | {nxt.to_phase})))
+                once("transitions form a cycle through phases " + ", ".join(sorted(seen | {nxt.from_phase, nxt.to_phase})))
                 break
             seen.add(nxt.from_phase)
             cur, nxt = nxt, by_from.get(nxt.to_phase)

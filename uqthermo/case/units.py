@@ -54,7 +54,8 @@ DIMENSIONS: dict[str, Dimension] = {
     "power": Dimension("power", "W", "kW"),
 }
 
-_NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+# ASCII digits only: str.isdigit-style Unicode digits ("７００", "٣") are rejected with a clear message
+_NUMBER = re.compile(r"^\s*([-+]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][-+]?[0-9]+)?)\s*(.*?)\s*$")
 _REPLACEMENTS = (
     ("\u2212", "-"), ("\u2013", "-"), ("°C", "degC"), ("°F", "degF"), ("℃", "degC"),
     ("·", "*"), ("⋅", "*"), ("\u00a0", " "), ("µ", "u"),
@@ -133,7 +134,7 @@ def parse_quantity(value: object, dimension: str, *, difference: bool = False) -
         q = reg.Quantity(magnitude, units).to(dim.si_unit) if dim.si_unit else reg.Quantity(magnitude, units).to("")
     except pint.DimensionalityError:
         raise UnitProblem(
-            f"{value!r} is not a {dim.name} (unit {unit_text!r} has the wrong dimension; use e.g. {dim.example})"
+            f"{value!r} is not {'an' if dim.name[0] in 'aeiou' else 'a'} {dim.name} (unit {unit_text!r} has the wrong dimension; use e.g. {dim.example})"
         ) from None
     except Exception:
         raise UnitProblem(f"cannot convert {value!r} to {dim.si_unit or 'a plain number'}") from None
