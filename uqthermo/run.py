@@ -148,6 +148,7 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
         from .plan import compute_plan
 
         results["plan"] = compute_plan(case, model, target=s.plan_target, budget=s.plan_budget, linear=lin)
+    results["run"]["duration_s"] = round(time.perf_counter() - t0, 3)
     return RunResult(results=results, case=case, model=model, linear=lin, monte_carlo=mc)
 
 
