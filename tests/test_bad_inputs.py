@@ -431,3 +431,10 @@ def test_missing_and_directory_case_files(tmp_path):
         assert code == 2 and msg in stderr and "Traceback" not in stderr
         assert stderr.startswith(f"{target}: ")
         assert not out.exists()
+
+
+def test_command_line_and_case_file_share_the_sample_limit():
+    from uqthermo import cli
+    from uqthermo.case import loader
+
+    assert cli.MAX_SAMPLES_LIMIT == loader.MAX_SAMPLES_LIMIT
