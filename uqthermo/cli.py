@@ -17,6 +17,8 @@ from . import __version__
 from .errors import InputError, UqthermoError
 
 EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_INTERRUPT = 0, 1, 2, 130
+#: same as uqthermo.case.loader.MAX_SAMPLES_LIMIT (not imported: argument parsing stays free of pint)
+MAX_SAMPLES_LIMIT = 1_000_000_000
 
 
 class _Terminated(BaseException):
@@ -36,8 +38,6 @@ def _samples_arg(text: str):
         raise argparse.ArgumentTypeError(f"--samples must be a whole number or 'adaptive', got {text!r}") from None
     if n < 100:
         raise argparse.ArgumentTypeError("--samples must be at least 100")
-    from .case.loader import MAX_SAMPLES_LIMIT
-
     if n > MAX_SAMPLES_LIMIT:
         raise argparse.ArgumentTypeError(f"--samples {n:.3g} exceeds the limit of {MAX_SAMPLES_LIMIT:.0e}; "
                                          "use 'adaptive' or --engine dask")
@@ -126,20 +126,20 @@ def _print_problems(err: InputError) -> None:
 
 
 def main(argv: list[str] | None = None) -> int:
-    parser = build_parser()
-    try:
-        args = parser.parse_args(argv)
-    except SystemExit as e:  # argparse: --help (0) or usage error (2)
-        return int(e.code or 0)
-    if not args.command:
-        parser.print_help()
-        return EXIT_INPUT
     old = signal.getsignal(signal.SIGTERM)
     try:
         signal.signal(signal.SIGTERM, _on_sigterm)
     except ValueError:  # not the main thread
         old = None
-    try:
+    try:   # signals during start-up (argument parsing imports) are handled like later ones
+        parser = build_parser()
+        try:
+            args = parser.parse_args(argv)
+        except SystemExit as e:  # argparse: --help (0) or usage error (2)
+            return int(e.code or 0)
+        if not args.command:
+            parser.print_help()
+            return EXIT_INPUT
         from . import commands
 
         return getattr(commands, f"cmd_{args.command}")(args)
