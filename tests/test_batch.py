@@ -12,7 +12,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from uqthermo.case.builder import BLOCK_ROWS, ReactionTable, build_model
+from uqthermo.case.builder import BLOCK_ROWS, ReactionTable, _values_factory, build_inputs, build_model
 from uqthermo.case.loader import load_case, parse_case
 from uqthermo.thermo import reaction as rx
 
@@ -123,9 +123,11 @@ def test_shared_samples_give_the_covariance_of_a_linear_combination():
 
 def test_table_plan():
     case = parse_case(_many_reactions_case(), "many.toml", library=False)
-    tab = ReactionTable(case, [(o.reaction, o.temperatures, o.kind != "reaction_enthalpy") for o in case.outputs])
+    inputs, cols = build_inputs(case)
+    tab = ReactionTable(case, [(o.reaction, o.temperatures, o.kind != "reaction_enthalpy") for o in case.outputs],
+                        inputs, _values_factory(case, cols))
     assert tab.nu.shape == (6, 6)
-    assert tab.entropy
+    assert tab.entropy and tab.linear
     np.testing.assert_array_equal(tab.temperatures, np.unique(tab.temperatures))
     i = tab.keys.index(("H2O", "g"))
     assert tab.nu[tab.row("combustion"), i] == 2
@@ -145,3 +147,33 @@ def test_stoichiometric_product_sparse_equals_dense():
                                np.moveaxis(ref, 0, 1), rtol=1e-12, atol=1e-9)
     with pytest.raises(Exception):
         rx.stoichiometric_product(nu, H[:5])
+
+
+def test_uncertain_transition_temperature_falls_back_to_direct_species():
+    # EPX3(g) (fictitious; gas-phase data INVENTED for this test) has no anchor of its own and
+    # is reached from the liquid through l-g at an uncertain temperature: the species
+    # enthalpy is then not affine in the data, and the table evaluates it directly
+    import tomllib
+
+    raw = tomllib.loads((ROOT / "inputs" / "epoxide_hydration_batch.toml").read_text())
+    epx = raw["species"]["EPX3"]
+    epx["g"] = {"heat_capacity": {"model": "polynomial", "coefficients": {"a": 150.0, "b": 0.2},
+                                  "relative_u": "2 %"}}
+    epx["transition"] = [{"from": "l", "to": "g", "temperature": {"value": "420 K", "u": "3 K"},
+                          "enthalpy": {"value": "45 kJ/mol", "u": "1 kJ/mol"}}]
+    raw["reaction"]["evaporation"] = {"equation": "EPX3(l) -> EPX3(g)"}
+    raw["output"] = [o for o in raw["output"] if o["kind"] == "reaction_enthalpy"] + [
+        {"name": "dH_evap", "kind": "reaction_enthalpy", "reaction": "evaporation",
+         "temperatures": {"from": "400 K", "to": "440 K", "step": "20 K"}}]
+    raw.pop("candidate", None)
+    raw["settings"].pop("plan_target", None)
+    case = parse_case(raw, "evap.toml", library=False)
+    inputs, cols = build_inputs(case)
+    tab = ReactionTable(case, [(o.reaction, o.temperatures, False) for o in case.outputs], inputs,
+                        _values_factory(case, cols))
+    assert not tab.linear
+    m = build_model(case)
+    X = _rows(m, 3000)
+    Y = m.evaluate(X)
+    assert np.std(Y[:, -1]) > 0
+    np.testing.assert_allclose(Y, build_model(case, batch=False).evaluate(X), rtol=1e-12, atol=1e-9)

@@ -18,6 +18,16 @@ temporaries in cache and keep the tall-and-skinny matrix products (rows x a doze
 coefficients) on one BLAS thread: profiled on a loaded 2-core machine, one
 65536 x 10 by 10 x 9 product took 30-60 ms multi-threaded and 2-3 ms as 4096-row blocks.
 
+One BLAS thread
+---------------
+The products are small in all but the row dimension (a few dozen species-temperatures
+times a dozen inputs). Multi-threaded OpenBLAS handles such shapes badly when the cores
+are busy: on the 2-core development machine under load, one model call of the methanation
+demo took 3.9 µs per sample with the default two BLAS threads and 0.17 µs with one.
+``evaluate`` therefore runs with OpenBLAS limited to one thread (:func:`one_blas_thread`,
+restored afterwards; a no-op where the library cannot be found). Parallelism comes from
+processes instead (``--engine dask``; distributed's workers default to one BLAS thread).
+
 Batch mode: many reactions from shared species samples
 ------------------------------------------------------
 Every output that needs a formation-anchored reaction enthalpy (or Gibbs energy, ln K) at
@@ -51,6 +61,8 @@ outputs: the shared table is used whatever the number of reactions.
 
 from __future__ import annotations
 
+import contextlib
+import ctypes
 import math
 from dataclasses import dataclass, field
 from typing import Callable
@@ -88,6 +100,58 @@ QUANTITY = {
     "heat_release": "Q",
     "adiabatic_temperature_rise": "ΔT_ad",
 }
+
+
+_BLAS_THREAD_SYMBOLS = (
+    ("scipy_openblas_get_num_threads64_", "scipy_openblas_set_num_threads64_"),
+    ("scipy_openblas_get_num_threads", "scipy_openblas_set_num_threads"),
+    ("openblas_get_num_threads", "openblas_set_num_threads"),
+)
+_blas_controls: list | None = None
+
+
+def _openblas_controls() -> list:
+    """(get, set) thread-count functions of the OpenBLAS libraries loaded in this process."""
+    global _blas_controls
+    if _blas_controls is None:
+        _blas_controls = []
+        try:
+            with open("/proc/self/maps", encoding="utf-8", errors="replace") as fh:
+                paths = sorted({ln.split()[-1] for ln in fh if "openblas" in ln.lower() and "/" in ln})
+        except OSError:
+            paths = []
+        for path in paths:
+            try:
+                lib = ctypes.CDLL(path)
+            except OSError:
+                continue
+            for get, put in _BLAS_THREAD_SYMBOLS:
+                if hasattr(lib, get) and hasattr(lib, put):
+                    _blas_controls.append((getattr(lib, get), getattr(lib, put)))
+                    break
+    return _blas_controls
+
+
+@contextlib.contextmanager
+def one_blas_thread():
+    """Limit OpenBLAS to one thread inside the block, restoring the previous count after.
+
+    See "One BLAS thread" in the module docstring. The setting is per process, so do not
+    rely on BLAS threads in other Python threads meanwhile.
+    """
+    controls = _openblas_controls()
+    saved = []
+    for get, put in controls:
+        n = int(get())
+        saved.append((put, n))
+        if n != 1:
+            put(1)
+    try:
+        yield
+    finally:
+        for put, n in saved:
+            if n != 1:
+                put(n)
 
 
 @dataclass
@@ -190,11 +254,33 @@ def _values_factory(case: Case, cols: dict[str, list[int]]):
 _TABLE_KINDS = ("reaction_enthalpy", "reaction_gibbs_energy", "equilibrium_constant")
 
 
+def _operator(A: np.ndarray):
+    """``A`` as the operand of repeated products ``A @ B``: sparse when large and mostly zero."""
+    if A.size >= 10_000 and np.count_nonzero(A) <= 0.1 * A.size:
+        from scipy import sparse
+
+        return sparse.csr_matrix(A)
+    return np.ascontiguousarray(A)
+
+
 class ReactionTable:
     """All formation-anchored reactions at exact temperatures from shared species samples.
 
     Built once per model (see "Batch mode" in the module docstring). ``evaluate`` returns
-    ``ΔrH[R, n, G]`` (J/mol) and, if any output needs it, ``ΔrS[R, n, G]`` (J/(mol K)).
+    ``ΔrH[R, G, n]`` (J/mol) and, if any output needs it, ``ΔrS[R, G, n]`` (J/(mol K)),
+    temperatures before rows.
+
+    Species tables. At exact temperatures (and exact transition temperatures) a species'
+    formation-scale enthalpy and its absolute entropy are *affine* in its data — formation
+    enthalpy, standard entropy, transition enthalpies and Cp coefficients (every Cp model
+    is linear in its coefficients), and the case's data map to the input columns linearly
+    (value, scale factor or coefficient) — so the table of all species at all G
+    temperatures is ``H = h0 + J X^T`` with a fixed (S·G, D) matrix J. J is taken from the
+    thermo layer itself when the model is built: the species are evaluated at the best
+    estimates and with each input moved by one step (exact for an affine map, up to
+    rounding), and a random check row confirms the map to 1e-9 relative. Where that check
+    fails (e.g. an uncertain transition temperature) the species are evaluated directly,
+    block by block. Either way the reactions then follow from one product ``ν @ H``.
 
     Attributes
     ----------
@@ -208,9 +294,11 @@ class ReactionTable:
         Sorted union of the exact temperatures asked for, K.
     entropy : bool
         Whether entropies are needed (Gibbs energies, ln K).
+    linear : bool
+        Whether the species tables use the affine map (else direct evaluation).
     """
 
-    def __init__(self, case: Case, requests: list[tuple[str, np.ndarray, bool]]):
+    def __init__(self, case: Case, requests: list[tuple[str, np.ndarray, bool]], inputs: InputSet, decode):
         names = list(dict.fromkeys(r for r, _, _ in requests))
         keys: list[tuple[str, str]] = []
         for name in names:
@@ -221,12 +309,70 @@ class ReactionTable:
         self.reactions = names
         self._row = {name: i for i, name in enumerate(names)}
         self.nu = rx.stoichiometric_matrix([case.reactions[n] for n in names], keys)
+        self._nu = _operator(self.nu)
         self.temperatures = np.unique(np.concatenate([np.atleast_1d(np.asarray(t, dtype=float))
                                                       for _, t, _ in requests]))
         self.entropy = any(e for _, _, e in requests)
+        # each species is evaluated only at the temperatures of the reactions it takes part in
+        # (other entries stay 0 and are never read): validity ranges are checked exactly as
+        # on the reaction-by-reaction path
+        need: list[set[int]] = [set() for _ in keys]
+        for name, t, _ in requests:
+            g = set(self.columns(t).tolist())
+            for p in case.reactions[name].participants:
+                need[keys.index((p.species, p.phase))] |= g
+        self._need = [np.array(sorted(g), dtype=np.intp) for g in need]
         self._species = case.species
         self._t_ref = case.settings.reference_temperature
+        self._decode = decode
+        self._maps = None
+        self.linear = False
+        self._linearise(inputs)
 
+    # ------------------------------------------------------------------ species tables
+    def _direct(self, X: np.ndarray) -> list[np.ndarray]:
+        """Species tables ``[H (S, G, n)] (+ [S (S, G, n)])`` evaluated by the thermo layer."""
+        n = X.shape[0]
+        sv, _ = self._decode(X)
+        T, t_ref = self.temperatures, self._t_ref
+        out = []
+        for q in ("H", "S") if self.entropy else ("H",):
+            tab = np.zeros((len(self.keys), T.size, n))
+            for s, (name, phase) in enumerate(self.keys):
+                sp, v, g = self._species[name], sv.get(name), self._need[s]
+                val = sp.enthalpy(phase, T[g], t_ref, v) if q == "H" else sp.entropy(phase, T[g], t_ref, v)
+                tab[s, g] = np.broadcast_to(val, (n, g.size)).T
+            out.append(tab)
+        return out
+
+    def _linearise(self, inputs: InputSet) -> None:
+        D = len(inputs)
+        x0 = np.asarray(inputs.estimates, dtype=float).reshape(D)
+        step = np.maximum(np.abs(x0), np.asarray(inputs.stds, dtype=float).reshape(D))
+        step = np.where(step > 0, step, 1.0)
+        check = x0 + step * np.random.default_rng(20261202).uniform(-0.5, 0.5, D)
+        rows = np.vstack([x0[None, :], x0[None, :] + np.diag(step), check[None, :]])
+        maps = []
+        for tab in self._direct(rows):
+            flat = tab.reshape(-1, D + 2)                        # (S·G, D + 2)
+            J = (flat[:, 1:D + 1] - flat[:, :1]) / step[None, :]  # (S·G, D)
+            c = flat[:, 0] - J @ x0
+            predicted = c + J @ check
+            scale = np.max(np.abs(flat)) + 1.0
+            if not np.all(np.abs(predicted - flat[:, -1]) <= 1e-9 * scale):
+                return                                          # not affine: evaluate directly
+            maps.append((_operator(J), c[:, None]))
+        self._maps = maps
+        self.linear = True
+
+    def _tables(self, X: np.ndarray) -> list[np.ndarray]:
+        if self._maps is None:
+            return self._direct(X)
+        XT = np.ascontiguousarray(X.T)
+        S, G = len(self.keys), self.temperatures.size
+        return [np.asarray(J @ XT + c).reshape(S, G, X.shape[0]) for J, c in self._maps]
+
+    # ------------------------------------------------------------------ reactions
     @staticmethod
     def eligible(case: Case, reaction: str) -> bool:
         """Formation-anchored reactions go through the table (measured anchors do not)."""
@@ -240,23 +386,12 @@ class ReactionTable:
         t = np.atleast_1d(np.asarray(temperatures, dtype=float))
         return np.searchsorted(self.temperatures, t)
 
-    def _species_major(self, fn, sv: dict, n: int) -> np.ndarray:
-        T = self.temperatures
-        H = np.empty((len(self.keys), n, T.size))
-        for s, (name, phase) in enumerate(self.keys):
-            H[s] = fn(self._species[name], phase, T, sv.get(name))
-        return H
-
-    def evaluate(self, sv: dict, n: int) -> tuple[np.ndarray, np.ndarray | None]:
-        """``(ΔrH[R, n, G], ΔrS[R, n, G] or None)`` for one block of n rows of sampled values."""
-        t_ref = self._t_ref
-        H = self._species_major(lambda sp, ph, T, v: sp.enthalpy(ph, T, t_ref, v), sv, n)
-        dH = rx.stoichiometric_product(self.nu, H)
-        dS = None
-        if self.entropy:
-            S = self._species_major(lambda sp, ph, T, v: sp.entropy(ph, T, t_ref, v), sv, n)
-            dS = rx.stoichiometric_product(self.nu, S)
-        return dH, dS
+    def evaluate(self, X: np.ndarray) -> tuple[np.ndarray, np.ndarray | None]:
+        """``(ΔrH[R, G, n], ΔrS[R, G, n] or None)`` for one block of input rows X (n, D)."""
+        n = X.shape[0]
+        R, S, G = len(self.reactions), len(self.keys), self.temperatures.size
+        out = [np.asarray(self._nu @ tab.reshape(S, G * n)).reshape(R, G, n) for tab in self._tables(X)]
+        return out[0], (out[1] if self.entropy else None)
 
 
 def _table_requests(case: Case, outputs: list[OutputSpec]) -> list[tuple[str, np.ndarray, bool]]:
@@ -289,14 +424,19 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
         Rows per model block.
     """
     inputs, cols = build_inputs(case)
+    decode = _values_factory(case, cols)
     solved = [i for i, o in enumerate(case.outputs) if o.kind == "adiabatic_temperature_rise"]
     direct = [i for i in range(len(case.outputs)) if i not in solved]
-    groups = []   # (output indices, rows per block, shared reaction table or None)
+    groups = []   # (output indices, rows per block, shared reaction table or None, needs decoded values)
     for idx, rows in ((direct, block_rows), (solved, max(block_rows, SOLVER_BLOCK_ROWS))):
         if idx:
             requests = _table_requests(case, [case.outputs[i] for i in idx]) if batch else []
-            groups.append((idx, rows, ReactionTable(case, requests) if requests else None))
-    decode = _values_factory(case, cols)
+            table = ReactionTable(case, requests, inputs, decode) if requests else None
+            # decoding the sampled values is skipped when the table serves every output of the group
+            served = table is not None and all(
+                case.outputs[i].kind in _TABLE_KINDS and not case.outputs[i].temperature_datum
+                and ReactionTable.eligible(case, case.outputs[i].reaction) for i in idx)
+            groups.append((idx, rows, table, not served))
     Tref = case.settings.reference_temperature
     species = case.species
     columns: list[Column] = []
@@ -339,7 +479,7 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
             return None
         table, dH, dS = tab
         r, g = table.row(reaction), table.columns(temps)
-        return dH[r][:, g], (None if dS is None else dS[r][:, g])
+        return dH[r][g].T, (None if dS is None else dS[r][g].T)
 
     def adiabatic(o: OutputSpec, sv: dict, ov: dict, n: int, tab) -> np.ndarray:
         reaction = case.reactions[o.reaction]
@@ -367,11 +507,11 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
         Tf = solve_final_temperature(h_of_T, target, o.start_temperature, t_hi[o.name])
         return np.asarray(Tf, dtype=float) - o.start_temperature
 
-    def evaluate_block(X: np.ndarray, which: list[int], table: ReactionTable | None):
+    def evaluate_block(X: np.ndarray, which: list[int], table: ReactionTable | None, needs_values: bool):
         """Outputs ``which`` for one block: ({output index: y (n, ncol)}, [auxiliary columns])."""
         n = X.shape[0]
-        sv, ov = decode(X)
-        tab = (table, *table.evaluate(sv, n)) if table is not None else None
+        sv, ov = decode(X) if needs_values else ({}, {})
+        tab = (table, *table.evaluate(X)) if table is not None else None
         parts = {}
         extra = []
         for i in which:
@@ -443,14 +583,15 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
             raise ValueError("X must be 2-D")
         n = X.shape[0]
         Y = np.empty((n, n_rep + len(aux)))
-        for which, rows, table in groups:
-            for a in range(0, n, rows):
-                b = min(n, a + rows)
-                parts, extra = evaluate_block(X[a:b], which, table)
-                for i, y in parts.items():
-                    Y[a:b, col_start[i]:col_start[i + 1]] = y
-                for k, e in enumerate(extra):
-                    Y[a:b, n_rep + k] = e
+        with one_blas_thread():
+            for which, rows, table, needs_values in groups:
+                for a in range(0, n, rows):
+                    b = min(n, a + rows)
+                    parts, extra = evaluate_block(X[a:b], which, table, needs_values)
+                    for i, y in parts.items():
+                        Y[a:b, col_start[i]:col_start[i + 1]] = y
+                    for k, e in enumerate(extra):
+                        Y[a:b, n_rep + k] = e
         return Y
 
     units = [UNITS[o.kind] if not (o.kind == "heating_enthalpy" and o.mixture) else "kJ" for o in case.outputs]
