@@ -105,16 +105,16 @@ def cmd_run(args) -> int:
 
 
 def cmd_check(args) -> int:
-    from .case.builder import build_model, check_model
     from .case.loader import load_case
+    from .run import prepare_model
 
     problems: list[Problem] = []
     console = _console()
     for path in args.cases:
         try:
             case = load_case(path)
-            model = build_model(case)
-            warnings = case.warnings + check_model(case, model)
+            model, model_warnings = prepare_model(case)
+            warnings = case.warnings + model_warnings
         except InputError as e:
             problems += e.problems
             continue

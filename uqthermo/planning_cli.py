@@ -4,7 +4,6 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from .case.builder import build_model, check_model
 from .case.loader import load_case
 from .errors import InputError, Problem
 
@@ -26,9 +25,10 @@ def run_plan(args) -> int:
         from .run import prepare_out_dir
 
         out = prepare_out_dir(args.out, args.force)
+    from .run import prepare_model
+
     case = load_case(args.case)
-    model = build_model(case)
-    check_model(case, model)
+    model, _ = prepare_model(case)
     plan = compute_plan(case, model, target=args.target, budget=args.budget, output_name=args.output_name)
     console = Console(highlight=False, width=140)
     unit = plan["target"]["unit"]

@@ -109,8 +109,8 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
         s.sampling = sampling
     if what_if is not None:
         s.what_if = what_if
-    model = build_model(case)
-    warnings = list(case.warnings) + check_model(case, model)
+    model, model_warnings = prepare_model(case)
+    warnings = list(case.warnings) + model_warnings
     inputs = model.inputs
     p = s.coverage_probability
     D = len(inputs.variables)
@@ -150,6 +150,37 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
         results["plan"] = compute_plan(case, model, target=s.plan_target, budget=s.plan_budget, linear=lin)
     results["run"]["duration_s"] = round(time.perf_counter() - t0, 3)
     return RunResult(results=results, case=case, model=model, linear=lin, monte_carlo=mc)
+
+
+def prepare_model(case: Case) -> tuple[Model, list[str]]:
+    """Build the model and check it at the best estimates; physics problems become input errors.
+
+    A physics error raised while building (e.g. a phase path that needs data the case does
+    not give) is reported against the outputs that use the species it names, or the case.
+    """
+    from .errors import PhysicsError, ValidityError
+
+    try:
+        model = build_model(case)
+    except PhysicsError as e:
+        keys = [o.key for o in case.outputs if _output_mentions(case, o, e)] or [e.key or "case"]
+        msg = e.message
+        if isinstance(e, ValidityError):
+            msg += (f" (datum {e.key}; " if e.key else " (") + \
+                "allow with extrapolate = true on that heat_capacity or settings.allow_extrapolation = true)"
+        raise InputError([Problem(case.path, k, msg) for k in keys]) from None
+    return model, check_model(case, model)
+
+
+def _output_mentions(case: Case, o, err) -> bool:
+    names = set()
+    if o.reaction:
+        names |= {p.species for p in case.reactions[o.reaction].participants}
+    for r in o.extent_rates:
+        names |= {p.species for p in case.reactions[r].participants}
+    names |= {o.species} | {sp for sp, _ in o.mixture} | {sp for sp, _ in o.charge}
+    text = f"{err.key or ''} {err.message}"
+    return any(n and (n + "(" in text or n + "." in text or text.startswith(n)) for n in names)
 
 
 # ----------------------------------------------------------------------------- writing

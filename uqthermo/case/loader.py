@@ -402,6 +402,12 @@ def parse_case(raw: dict, fname: str, sha: str = "", *, library: bool = True) ->
     outputs = read_outputs(c, raw.get("output"), species, reactions, data, settings)
     correlations = _correlations(c, raw.get("correlation", []), data)
     candidates = _candidates(c, raw.get("candidate", []), data)
+    if abs(settings.reference_temperature - 298.15) > 1e-6:
+        for d in data.values():
+            if d.library:
+                c.add(f"species.{d.species}.{d.phase}.{d.id.rsplit('.', 1)[-1]}",
+                      f"library values ({d.library}) are stated at 298.15 K, but settings.reference_temperature is "
+                      f"{settings.reference_temperature:g} K; give the value at the reference temperature or use 298.15 K")
     c.raise_if_any()
     return Case(path=fname, sha256=sha, title=title.strip(), description=description, settings=settings,
                 species=species, data=data, reactions=reactions, outputs=outputs, correlations=correlations,

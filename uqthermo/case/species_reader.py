@@ -32,6 +32,15 @@ SPECIES_KEYS = {"formula", "name", "cas", "note", "transition", "source"} | set(
 PHASE_KEYS = {"formation_enthalpy", "standard_entropy", "heat_capacity", "note", "source"}
 CP_KEYS = {"model", "value", "u", "U", "k", "relative_u", "half_width", "distribution", "dof", "coefficients", "ranges",
            "T", "unit", "correlation", "covariance", "source", "extrapolate", "library", "note", "lower", "upper"}
+_CP_COMMON = {"model", "source", "extrapolate", "library", "note"}
+#: keys each heat-capacity model reads; any other known key is refused rather than ignored
+CP_MODEL_KEYS = {
+    "constant": _CP_COMMON | {"value", "u", "U", "k", "relative_u", "half_width", "distribution", "dof", "lower",
+                              "upper", "T"},
+    "polynomial": _CP_COMMON | {"coefficients", "T", "unit", "u", "relative_u", "correlation", "covariance"},
+    "shomate": _CP_COMMON | {"ranges", "u", "relative_u", "correlation", "covariance"},
+    "nasa7": _CP_COMMON | {"ranges", "u", "relative_u", "correlation", "covariance"},
+}
 RANGE_KEYS = {"T", "coefficients", "u", "correlation", "covariance"}
 MAX_ABS_ENTHALPY = 1e8      # J/mol (100 000 kJ/mol): far beyond any molecule
 MAX_CP = 1e4                # J/(mol K)
@@ -63,9 +72,10 @@ def read_species(c: Collector, node: Any, data: dict[str, Datum], settings: Sett
             continue
         try:
             parse_formula(formula)
-        except UqthermoError as e:
+        except (UqthermoError, ValueError) as e:   # ValueError: the thermo parser on e.g. "NaCl-." (reported)
             c.add(f"{key}.formula" if "formula" in sp else key,
-                  f"cannot read formula {formula!r}: {e.message}" + ("" if "formula" in sp else " (give formula = \"...\")"))
+                  f"cannot read formula {formula!r}: {getattr(e, 'message', None) or 'malformed charge or count'}"
+                  + ("" if "formula" in sp else " (give formula = \"...\")"))
             continue
         phases: dict[str, Phase] = {}
         for sym in PHASE_SYMBOLS:
@@ -170,10 +180,17 @@ def _heat_capacity(c: Collector, node: Any, key: str, sp: str, sym: str, data: d
     if not _is_table(node):
         c.add(key, "must be a table with model = \"constant\" | \"polynomial\" | \"shomate\" | \"nasa7\"")
         return None
-    c.unknown_keys(node, CP_KEYS | {"_assumed", "_dataset"}, key)
     model = node.get("model")
     if model not in CP_MODELS:
+        c.unknown_keys(node, CP_KEYS | {"_assumed", "_dataset"}, key)
         c.add(f"{key}.model", f"unknown heat-capacity model {model!r}; use one of {', '.join(CP_MODELS)}")
+        return None
+    before = len(c.problems)
+    for k in node:
+        if k in CP_KEYS and k not in CP_MODEL_KEYS[model]:
+            c.add(f"{key}.{k}", f"not used by the {model} model (its keys: {', '.join(sorted(CP_MODEL_KEYS[model]))})")
+    c.unknown_keys(node, CP_KEYS | {"_assumed", "_dataset"}, key)
+    if len(c.problems) > before:
         return None
     extrap = node.get("extrapolate", settings.allow_extrapolation)
     if not isinstance(extrap, bool):
