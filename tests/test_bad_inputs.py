@@ -76,6 +76,7 @@ class Bad:
     text: str | None = None                 # whole document instead of a mutation of BASE_CASE
     raw: bytes | None = None                # raw bytes (encoding tests)
     msg: str = ""                           # regex the message of that line must match (case-insensitive)
+    xfail: str = ""                         # known bug outside the case layer (reason)
 
     def document(self) -> bytes:
         if self.raw is not None:
@@ -265,6 +266,7 @@ CASES: list[Bad] = [
     Bad("eq-no-arrow", "equations", "reaction.shift.equation", replace=[R(EQ, 'equation = "CO(g) + H2O(g) CO2(g) + H2(g)"')]),
     Bad("eq-infinite-coefficient", "equations", "reaction.shift.equation", replace=[R(EQ, 'equation = "1e400 CO(g) + H2O(g) -> CO2(g) + H2(g)"')]),
     Bad("eq-bad-formula", "equations", "species.CO.formula", replace=[R('formula = "CO"', 'formula = "Xq9(("')]),
+    Bad("eq-formula-lone-dot-charge", "equations", "species.CO.formula", replace=[R('formula = "CO"', 'formula = "CO-."')]),
     Bad("eq-name-with-space", "equations", "reaction.my shift", append='[reaction."my shift"]\nequation = "CO(g) + H2O(g) -> CO2(g) + H2(g)"\n'),
     Bad("eq-unknown-reaction-in-output", "equations", "output.dH_700K.reaction", replace=[R('reaction = "shift"', 'reaction = "shfit"')], msg="did you mean"),
     Bad("eq-measured-without-temperature", "equations", "reaction.shift.measured_enthalpy",
@@ -278,6 +280,9 @@ CASES: list[Bad] = [
     Bad("missing-phase-in-output", "missing-data", "output.steam.species", replace=[R('species = "H2O(l)"', 'species = "H2O(cr)"')]),
     # --- validity range without permission
     Bad("validity-above-nasa-range", "validity", "output.dH_700K", replace=[R(OUT_T, 'temperature = "4000 K"')], msg="extrapolat"),
+    Bad("validity-anchor-below-cp-range", "validity", "output.dH_700K", msg="298.15 K",
+        replace=[R('  { T = ["200 K", "1000 K"], coefficients = [2.34433112, 7.98052075e-3, -1.9478151e-5, 2.01572094e-8, '
+                   '-7.37611761e-12, -917.935173, 0.683010238] },\n', "")]),
     Bad("validity-liquid-below-range", "validity", "output.steam", replace=[R(STEAM_FROM, 'from = "250 K"\nto = "450 K"')], msg="extrapolat"),
     Bad("validity-extrapolate-not-bool", "validity", "species.H2O.l.heat_capacity.extrapolate",
         replace=[R('relative_u = "0.3 %" }', 'relative_u = "0.3 %", extrapolate = "yes" }')]),
@@ -338,7 +343,8 @@ def _assert_expected(bad: Bad, rest: list[str]) -> None:
         assert any(re.search(bad.msg, h, re.IGNORECASE) for h in hits), f"{bad.id}: no message matches {bad.msg!r}: {hits}"
 
 
-@pytest.mark.parametrize("bad", CASES, ids=[b.id for b in CASES])
+@pytest.mark.parametrize("bad", [pytest.param(b, marks=pytest.mark.xfail(reason=b.xfail, strict=False)) if b.xfail else b
+                                 for b in CASES], ids=[b.id for b in CASES])
 def test_bad_case_is_rejected_cleanly(bad: Bad, tmp_path):
     path = tmp_path / f"{bad.id}.toml"
     path.write_bytes(bad.document())
