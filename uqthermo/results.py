@@ -247,22 +247,80 @@ def negative_cp_warnings(case: Case, model: Model, X: np.ndarray) -> list[str]:
     return out
 
 
+class _ByColumn:
+    """Route per-column queries to the partial result (ranking or what-if) that covers the column.
+
+    Linear and nonlinear outputs are ranked and what-if'ed separately, so an exactly linear
+    output keeps the linear shares (and the analytic what-if) even when another output of
+    the same case needs Sobol' indices (and Monte Carlo what-if).
+    """
+
+    def __init__(self, parts: list[tuple[list[int], Any]]):
+        self.parts = [(cols, r) for cols, r in parts if cols and r is not None]
+
+    def _find(self, j: int):
+        for cols, r in self.parts:
+            if j in cols:
+                return r, cols.index(j)
+        raise KeyError(j)
+
+    def point(self, j: int) -> dict:
+        r, k = self._find(j)
+        return r.point(k)
+
+    def rows(self, j: int, scale: float = 1.0) -> list[dict]:
+        r, k = self._find(j)
+        return r.rows(k, scale)
+
+    @property
+    def method(self) -> str:
+        return " + ".join(dict.fromkeys(r.method for _, r in self.parts))
+
+    @property
+    def reason(self) -> str:
+        return "; ".join(dict.fromkeys(r.reason for _, r in self.parts))
+
+    @property
+    def warnings(self) -> list[str]:
+        return [w for _, r in self.parts for w in getattr(r, "warnings", [])]
+
+
 def _drivers_and_whatif(case: Case, model: Model, lin, warnings: list[str]):
+    from types import SimpleNamespace
+
+    from .uq.linear import propagate_linear
     from .uq.sensitivity import rank_drivers
     from .uq.whatif import Scenario, standard_scenarios, what_if
 
     s = case.settings
     inputs = model.inputs
-    f = model.f_reported
+    if lin is None:
+        lin = propagate_linear(model.f_reported, inputs, coverage=s.coverage_probability)
+    linear_cols = [j for j, col in enumerate(model.columns) if model.linear_in_inputs[col.output]]
+    other_cols = [j for j, col in enumerate(model.columns) if not model.linear_in_inputs[col.output]]
+
+    def part(cols):
+        def f(X, cols=cols):
+            return model.f_reported(X)[:, cols]
+
+        sub = SimpleNamespace(estimate=np.asarray(lin.estimate)[cols], sensitivity=np.asarray(lin.sensitivity)[cols])
+        return f, sub
+
     ranking = None
     if s.sensitivity != "none":
-        nonlinear = not all(model.linear_in_inputs)
         n_groups = max(1, len(inputs.groups))
         budget = int(s.samples) if s.samples != "adaptive" else s.max_samples
         n_base = int(min(s.sobol_samples, max(256, budget // (2 * n_groups + 2))))
-        ranking = rank_drivers(f, inputs, linear=lin, method=s.sensitivity, n_base=n_base, seed=s.seed,
-                               nonlinear_hint=True if nonlinear else None)
-        warnings += list(ranking.warnings)
+        parts = []
+        groups = [(linear_cols, None)] + [([j for j in other_cols if model.columns[j].output == i], None)
+                                          for i in dict.fromkeys(model.columns[j].output for j in other_cols)]
+        for cols, hint in groups:   # nonlinear outputs one by one: each is ranked on the inputs it depends on
+            if cols:
+                f, sub = part(cols)
+                parts.append((cols, rank_drivers(f, inputs, linear=sub, method=s.sensitivity, n_base=n_base,
+                                                 seed=s.seed, nonlinear_hint=hint)))
+        ranking = _ByColumn(parts)
+        warnings += list(dict.fromkeys(ranking.warnings))
     whatif = None
     if s.what_if:
         scenarios = list(standard_scenarios(inputs))
@@ -274,12 +332,18 @@ def _drivers_and_whatif(case: Case, model: Model, lin, warnings: list[str]):
                 scenarios.append(Scenario.stated(c.datum, c.u / d.to_report))
             elif c.factor is not None:
                 scenarios.append(Scenario.scaled(c.datum, c.factor))
-        if all(model.linear_in_inputs):
-            whatif = what_if(f, inputs, scenarios, method="linear", coverage=s.coverage_probability, linear=lin)
-        else:
-            whatif = what_if(f, inputs, scenarios, method="monte-carlo", coverage=s.coverage_probability,
-                             samples=min(2**13, int(s.samples) if s.samples != "adaptive" else 2**13),
-                             sampling="sobol" if s.sampling == "sobol" else "random", seed=s.seed)
+        parts = []
+        if linear_cols:
+            f, sub = part(linear_cols)
+            parts.append((linear_cols, what_if(f, inputs, scenarios, method="linear", coverage=s.coverage_probability,
+                                               linear=sub)))
+        if other_cols:
+            f, _ = part(other_cols)
+            n = min(2**13, int(s.samples) if s.samples != "adaptive" else 2**13)
+            parts.append((other_cols, what_if(f, inputs, scenarios, method="monte-carlo",
+                                              coverage=s.coverage_probability, samples=n,
+                                              sampling="sobol" if s.sampling == "sobol" else "random", seed=s.seed)))
+        whatif = _ByColumn(parts)
     return ranking, whatif
 
 

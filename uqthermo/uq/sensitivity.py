@@ -913,7 +913,10 @@ def rank_drivers(
     linearity = None
     if method == "auto":
         stds = np.asarray(inputs.stds, dtype=float)
-        odd = sorted({v.datum for v, s in zip(inputs.variables, stds) if s > 0 and not _is_normal(v.distribution)})
+        # only inputs the outputs actually depend on decide (a rectangular input of another output does not)
+        active = np.any(np.abs(C) * stds[None, :] > 0, axis=0) if C.size else np.zeros(len(stds), bool)
+        odd = sorted({v.datum for v, s, a in zip(inputs.variables, stds, active)
+                      if s > 0 and a and not _is_normal(v.distribution)})
         if nonlinear_hint is None and not odd:
             linearity = linearity_check(f, inputs, est, C, n=n_check, seed=seed, chunk_size=chunk_size)
             is_linear = linearity["max_residual_fraction"] <= tolerance
