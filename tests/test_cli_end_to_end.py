@@ -209,6 +209,24 @@ def test_stated_correlation_is_the_sampled_pearson_correlation():
     assert r == pytest.approx(0.5, abs=0.004)
 
 
+@pytest.mark.xfail(reason="results.py (~line 51) 'distribution': dist.describe() of the engine-unit distribution "
+                          "(J/mol) is written next to unit 'kJ/mol': the epoxide demo lists EPX3.l.formation_enthalpy "
+                          "as 'rectangular, half-width 15000' kJ/mol (15 meant), and the report's inputs table shows it; "
+                          "fix: describe the distribution scaled by datum.to_report", strict=True)
+@pytest.mark.parametrize("name", sorted(DEMOS))
+def test_input_distribution_text_is_in_the_stated_unit(demo_runs, name):
+    import re
+
+    for item in demo_runs[name]["results"]["inputs"]:
+        text, u = item["distribution"], item["standard_uncertainty"]
+        m = re.match(r"normal, u ([0-9.eE+-]+)$", text)
+        if m and isinstance(u, (int, float)):
+            assert float(m.group(1)) == pytest.approx(u, rel=1e-3), (item["datum"], text, u, item["unit"])
+        m = re.match(r"rectangular, half-width ([0-9.eE+-]+)$", text)
+        if m and isinstance(u, (int, float)):
+            assert float(m.group(1)) == pytest.approx(u * math.sqrt(3), rel=1e-3), (item["datum"], text, u, item["unit"])
+
+
 def test_demo_exceedance_probability_is_a_probability(demo_runs):
     doc = demo_runs["epoxide"]["results"]
     out = next(o for o in doc["outputs"] if o["kind"] == "adiabatic_temperature_rise")

@@ -270,6 +270,8 @@ def test_code_in_case_text_stays_text(tmp_path):
     assert "<script>alert(1)</script>" not in html and "&lt;script&gt;alert(1)&lt;/script&gt;" in html
     assert "<img src=x" not in html
     assert "<b>__import__" not in html
+    md = (out / "report.md").read_text(encoding="utf-8")
+    assert "<script>" not in md and "<img src=x" not in md
     assert "{{ 7*7 }}" in html or "{{ 7*7 }}" in html.replace("&#123;", "{").replace("&#125;", "}")
     assert not marker.exists()
 
