@@ -302,3 +302,20 @@ def test_linear_only_and_mc_only_methods(make_case, tmp_path):
         assert doc["run"]["method"] == method
         pt = doc["outputs"][0]["points"][0]
         assert pt["linear" if method == "linear" else "monte_carlo"] is not None
+
+
+def test_adaptive_sample_count(make_case, tmp_path):
+    """--samples adaptive (JCGM 101 §7.9): run.samples records the trials actually used."""
+    out = tmp_path / "adaptive"
+    code, stdout, err = main_in_process("run", make_case(), "--out", out, "--samples", "adaptive", "--quiet",
+                                        "--no-report")
+    assert code == 0, err
+    doc = json.loads((out / "results.json").read_text())
+    assert doc["run"]["adaptive"] is True
+    n = doc["run"]["samples"]
+    assert isinstance(n, int) and n >= 10000
+    check_contract_keys(doc, n)
+    for out_ in doc["outputs"]:
+        for pt in out_["points"]:
+            lin, mc = pt["linear"], pt["monte_carlo"]
+            assert abs(mc["mean"] - lin["estimate"]) <= 3 * mc["standard_uncertainty"] / math.sqrt(n)

@@ -325,3 +325,40 @@ def test_unit_rewrite_really_changes_the_file():
     text = _rewrite(BASE_CASE, ["kcal/mol"], ["degF"])
     assert "kJ/mol\"" not in text.split("[reaction")[0].replace("J/(mol*K)", "")
     assert " degF\"" in text and " kcal/mol\"" in text
+
+
+@fast(40)
+@given(st.floats(min_value=300.0, max_value=3000.0), st.sampled_from(["CO(g)", "H2(g)", "CO2(g)", "H2O(g)"]),
+       st.sampled_from(["0.5", "1", "2", "3.25"]))
+def test_spectator_on_both_sides_changes_nothing(base_case, T, spectator, n):
+    """Adding n X to both sides leaves ΔrH unchanged (ν of X cancels; Green Book 2.11 definition ΔrH = Σ ν_i H_i)."""
+    eq = base_case.reactions["shift"].equation
+    lhs, rhs = (s.strip() for s in eq.split("->"))
+    eq2 = f"{lhs} + {n} {spectator} -> {rhs} + {n} {spectator}"
+    r1 = Reaction("a", eq, parse_equation(eq))
+    r2 = Reaction("b", eq2, parse_equation(eq2))
+    h1 = float(reaction_enthalpy(r1, base_case.species, T))
+    h2 = float(reaction_enthalpy(r2, base_case.species, T))
+    assert h2 == pytest.approx(h1, rel=1e-10, abs=1e-7)
+
+
+@pytest.mark.parametrize("temperature", [
+    '{ value = "700 K", u = "5 K" }',
+    '{ value = "426.85 degC", u = "5 degC" }',          # a temperature difference in degC is kelvin-sized
+    '{ value = "800.33 degF", u = "9 degF" }',          # 9 °F of difference = 5 K
+    '{ value = "1260 degR", u = "9 degR" }',
+    '{ value = "426.85 °C", u = "5 K" }',
+])
+def test_uncertain_temperature_in_any_unit(tmp_path, temperature):
+    text = BASE_CASE.replace('temperature = "700 K"', f"temperature = {temperature}")
+    case = load_case(write_case(tmp_path, text), library=False)
+    d = case.data["output.dH_700K.temperature"]
+    assert d.nominal == pytest.approx(700.0, abs=1e-9)
+    assert d.distributions[0].std == pytest.approx(5.0, rel=1e-12)
+
+
+@pytest.mark.parametrize("relative", ['"0.5 %"', "0.005", '"5e-3"', '"0.5 percent"'])
+def test_relative_uncertainty_spellings(tmp_path, relative):
+    text = BASE_CASE.replace('relative_u = "0.5 %"', f"relative_u = {relative}", 1)
+    case = load_case(write_case(tmp_path, text), library=False)
+    assert case.data["CO.g.heat_capacity"].distributions[0].std == pytest.approx(0.005, rel=1e-12)
