@@ -69,11 +69,20 @@ def test_existing_empty_out_is_used(make_case, tmp_path):
     assert (out / "results.json").is_file()
 
 
+def _old_output(out: Path) -> None:
+    """An earlier output folder: results.json plus a file of the user's."""
+    out.mkdir()
+    (out / "results.json").write_text('{"format": "uqthermo.results/1", "old": true}')
+    (out / "old.txt").write_text("previous result")
+
+
+OLD = ["old.txt", "results.json"]
+
+
 def test_force_replaces_the_folder(make_case, tmp_path):
     case = make_case()
     out = tmp_path / "out"
-    out.mkdir()
-    (out / "old.txt").write_text("previous result")
+    _old_output(out)
     code, stdout, err = main_in_process("run", case, "--out", out, "--quiet", "--no-report", "--samples", "1000",
                                         "--force")
     assert code == 0, err
@@ -85,12 +94,40 @@ def test_force_replaces_the_folder(make_case, tmp_path):
 def test_bad_case_with_force_keeps_the_old_folder(make_case, tmp_path):
     case = make_case(replace=[('temperature = "700 K"', 'temperature = "0 K"')])
     out = tmp_path / "out"
-    out.mkdir()
-    (out / "old.txt").write_text("previous result")
+    _old_output(out)
     code, stdout, err = main_in_process("run", case, "--out", out, "--force", "--quiet")
     assert code == 2
+    assert sorted(p.name for p in out.iterdir()) == OLD
     assert (out / "old.txt").read_text() == "previous result"
     assert _leftovers(tmp_path, "out") == []
+
+
+@pytest.mark.parametrize("target", ["case-folder", "cwd", "foreign-folder", "parent-of-case"])
+def test_force_never_deletes_user_files(tmp_path, monkeypatch, target):
+    """--force replaces a whole folder: never the case file's folder, the working folder, or a non-output folder."""
+    proj = tmp_path / "proj"
+    proj.mkdir()
+    case = write_case(proj, BASE_CASE)
+    (proj / "notes.txt").write_text("precious")
+    monkeypatch.chdir(proj)
+    if target == "case-folder":
+        out = proj
+    elif target == "cwd":
+        out = Path(".")
+        case = write_case(tmp_path, BASE_CASE, "elsewhere.toml")
+    elif target == "parent-of-case":
+        out = tmp_path
+    else:
+        out = tmp_path / "foreign"
+        out.mkdir()
+        (out / "thesis.docx").write_text("years of work")
+    before = sorted(str(p) for p in tmp_path.rglob("*"))
+    code, stdout, err = main_in_process("run", case, "--out", out, "--force", "--quiet", "--no-report",
+                                        "--samples", "1000")
+    assert code == 2, err
+    assert ": --out: --force" in err and "Traceback" not in err
+    assert sorted(str(p) for p in tmp_path.rglob("*")) == before
+    assert (proj / "notes.txt").read_text() == "precious"
 
 
 # --------------------------------------------------------------------------- injected faults
@@ -112,14 +149,13 @@ def test_failure_in_report_writer_leaves_nothing(make_case, tmp_path, monkeypatc
     case = make_case()
     out = tmp_path / "out"
     if force:
-        out.mkdir()
-        (out / "old.txt").write_text("previous result")
+        _old_output(out)
     args = ["run", case, "--out", out, "--quiet", "--samples", "1000"] + (["--force"] if force else [])
     code, stdout, err = main_in_process(*args)
     assert code == 1
     assert "disk full (injected)" in err and "Traceback" not in err
     if force:
-        assert sorted(p.name for p in out.iterdir()) == ["old.txt"]
+        assert sorted(p.name for p in out.iterdir()) == OLD
     else:
         assert not out.exists()
     assert _leftovers(tmp_path, "out") == []
