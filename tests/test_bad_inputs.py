@@ -444,3 +444,12 @@ def test_command_line_and_case_file_share_the_sample_limit():
     from uqthermo.case import loader
 
     assert cli.MAX_SAMPLES_LIMIT == loader.MAX_SAMPLES_LIMIT
+
+
+def test_plain_number_relative_u_is_flagged(make_case):
+    """relative_u = 0.5 means 50 %: accepted (it is a valid fraction) but flagged, since "0.5 %" was likely meant."""
+    code, out, err = main_in_process("check", make_case(replace=[('relative_u = "0.5 %"', "relative_u = 0.5")]))
+    assert code == 0, err
+    assert "species.CO.g.heat_capacity.relative_u" in out and "50 %" in out
+    code, out, err = main_in_process("check", make_case(replace=[('relative_u = "0.5 %"', "relative_u = 0.005")]))
+    assert code == 0 and "fraction" not in out

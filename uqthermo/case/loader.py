@@ -123,6 +123,8 @@ def _percent(c: Collector, value: Any, key: str) -> float | None:
     if r >= 1:
         c.add(key, f"relative uncertainty {value!r} is 100 % or more; check the value (e.g. \"2 %\" or 0.02)")
         return None
+    if not isinstance(value, str) and r >= 0.05:
+        c.warn(key, f"the plain number {value!r} is read as a fraction, {100 * r:g} %; write \"{value!r} %\" if per cent was meant")
     return r
 
 
