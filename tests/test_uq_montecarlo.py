@@ -22,7 +22,7 @@ from uqthermo.uq.stats import Moments, intervals_from_sorted
 def _inputs():
     R = np.array([[1.0, 0.4, 0.0], [0.4, 1.0, -0.3], [0.0, -0.3, 1.0]])
     return InputSet([InputVariable("a", "a", Normal(1.0, 0.1)), InputVariable("b", "b", Rectangular(2.0, 0.3)),
-                     InputVariable("c", "c", LogNormal(0.5, 0.05))], R)
+                     InputVariable("c", "c", LogNormal(0.5, 0.05))], R, scale="normal-scores")
 
 
 def model(X):

@@ -30,6 +30,29 @@ def _f(x) -> float | None:
     return x if math.isfinite(x) else None
 
 
+def _describe(dist, factor: float, unit: str) -> str:
+    """The distribution in report units, e.g. "rectangular, half-width 15 kJ/mol" (engine values × factor)."""
+    kind = dist.describe().split(",")[0]
+    if kind == "exact":
+        return kind
+    params = dist.parameters
+    names = {"u": "u", "half_width": "half-width", "scale": "scale", "lower": "lower", "upper": "upper",
+             "mode": "mode", "location": "location"}
+    parts = []
+    for k, v in params.items():
+        if k in ("estimate", "location") and kind not in ("truncated normal",):
+            continue
+        if k == "dof":
+            parts.append(f"{v:g} degrees of freedom")
+            continue
+        if kind == "student-t" and k == "scale":
+            parts.append(f"u {dist.std * factor:.4g}")
+            continue
+        parts.append(f"{names.get(k, k)} {v * factor:.4g}")
+    u_unit = "" if unit in ("1", "factor on the curve", "coefficients") else f" {unit}"
+    return f"{kind}, " + ", ".join(parts) + u_unit if parts else kind
+
+
 def _inputs_table(case: Case) -> list[dict]:
     rows = []
     for d in case.data.values():
@@ -48,7 +71,7 @@ def _inputs_table(case: Case) -> list[dict]:
         rows.append({
             "datum": d.id, "quantity": d.quantity, "species": d.species, "phase": d.phase,
             "stated": d.stated,
-            "distribution": (dist.describe() if single and dist is not None else
+            "distribution": (_describe(dist, d.to_report, unit) if single and dist is not None else
                              f"multivariate normal over {len(d.distributions)} coefficients"),
             "estimate": est, "standard_uncertainty": u, "unit": unit, "source": d.source,
             "n_parameters": len(d.distributions), "library": d.library or None, "assumed": bool(d.assumed),

@@ -23,7 +23,8 @@ from scipy import special
 from ..errors import CorrelationError, StatisticsError
 from .distributions import Distribution
 
-__all__ = ["InputVariable", "InputSet", "Datum", "check_correlation"]
+__all__ = ["InputVariable", "InputSet", "Datum", "check_correlation", "pearson_from_normal_score",
+           "normal_score_from_pearson", "normal_score_from_spearman"]
 
 #: tolerances of the matrix checks
 SYMMETRY_TOL = 1e-10
@@ -177,7 +178,14 @@ class InputSet:
     estimates, stds, dofs : ndarray (D,)
     """
 
-    def __init__(self, variables: Sequence[InputVariable], correlation: Any = None):
+    def __init__(self, variables: Sequence[InputVariable], correlation: Any = None, *, scale: str = "pearson"):
+        if scale not in ("pearson", "normal-scores"):
+            raise StatisticsError(f"correlation scale must be 'pearson' or 'normal-scores', got {scale!r}")
+        #: "pearson": ``correlation`` is the Pearson correlation of the inputs themselves (the GUM's
+        #: r(x_i, x_j), used by the linear method); the copula's normal-score correlation is derived
+        #: from it pair by pair (NORTA). "normal-scores": ``correlation`` applies to the copula's
+        #: normal scores directly (so rank correlations are ρ_S = (6/π) asin(r/2)).
+        self.correlation_scale = scale
         variables = list(variables)
         for v in variables:
             if not isinstance(v, InputVariable):
@@ -215,7 +223,9 @@ class InputSet:
         self.dofs = np.array([v.distribution.dof for v in variables], dtype=float)
         for a in (self.estimates, self.stds, self.dofs):
             a.setflags(write=False)
-        self._factor = None  # lazily computed copula factor
+        self._factor = None  # copula factor (computed now when correlations are given, so errors surface early)
+        if correlation is not None:
+            self._copula_factor()
 
     # -- builders -------------------------------------------------------------------------
     @classmethod
@@ -379,7 +389,7 @@ class InputSet:
         for v in self.variables:
             f = factors.get(v.datum)
             new.append(v if f is None else InputVariable(v.name, v.datum, v.distribution.scaled(f)))
-        out = InputSet(new, None)
+        out = InputSet(new, None, scale=self.correlation_scale)
         out.correlation = self.correlation  # already validated; identical matrix
         return out
 
@@ -404,6 +414,8 @@ class InputSet:
                 self._factor = (linked, None)
             else:
                 Rs = self.correlation[np.ix_(linked, linked)]
+                if self.correlation_scale == "pearson":
+                    Rs = _normal_score_matrix(Rs, [self.variables[int(i)] for i in linked])
                 try:
                     L = np.linalg.cholesky(Rs)
                 except np.linalg.LinAlgError:
@@ -501,3 +513,91 @@ def _covariance_to_correlation(cov: Any, variables: list[InputVariable], datum: 
     np.fill_diagonal(R, 1.0)
     return check_correlation(R, names, f"covariance matrix of {datum}")
 
+
+
+# ---------------------------------------------------------------------------------------------
+# Pearson correlation ↔ normal-score correlation of the Gaussian copula (NORTA)
+# ---------------------------------------------------------------------------------------------
+_GH_X, _GH_W = np.polynomial.hermite_e.hermegauss(64)      # ∫ f(z) φ(z) dz ≈ Σ w f(x) / √(2π)
+_GH_W = _GH_W / math.sqrt(2.0 * math.pi)
+_NORMAL_KINDS = ("normal", "exact")
+
+
+def _is_normal_marginal(dist: Distribution) -> bool:
+    return getattr(dist, "kind", "") in _NORMAL_KINDS or type(dist).__name__ in ("Normal", "Exact")
+
+
+def pearson_from_normal_score(da: Distribution, db: Distribution, r: float) -> float:
+    """Pearson correlation of (X_a, X_b) when their normal scores have correlation ``r``.
+
+    .. math:: \\rho(r) = \\frac{E[G_a^{-1}(\\Phi(Z_1))\\,G_b^{-1}(\\Phi(r Z_1 + \\sqrt{1-r^2} Z_2))] - \\mu_a\\mu_b}
+              {\\sigma_a \\sigma_b}
+
+    evaluated by 64×64-point Gauss–Hermite quadrature (the NORTA relation: Cario & Nelson,
+    "Modeling and generating random vectors with arbitrary marginal distributions and
+    correlation matrix", Northwestern Univ. tech. report, 1997; for normal marginals ρ = r).
+    """
+    if _is_normal_marginal(da) and _is_normal_marginal(db):
+        return float(r)
+    z1 = _GH_X[:, None]
+    z2 = _GH_X[None, :]
+    W = _GH_W[:, None] * _GH_W[None, :]
+    xa = da.from_standard_normal(np.broadcast_to(z1, W.shape))
+    xb = db.from_standard_normal(r * z1 + math.sqrt(max(1.0 - r * r, 0.0)) * z2)
+    ma, mb = float(np.sum(W * xa)), float(np.sum(W * xb))
+    va, vb = float(np.sum(W * (xa - ma) ** 2)), float(np.sum(W * (xb - mb) ** 2))
+    if va <= 0 or vb <= 0:
+        return 0.0
+    return float(np.sum(W * (xa - ma) * (xb - mb)) / math.sqrt(va * vb))
+
+
+def normal_score_from_pearson(da: Distribution, db: Distribution, rho: float, names: tuple[str, str] = ("a", "b")) -> float:
+    """The normal-score correlation r that gives Pearson correlation ``rho`` (inverse of
+    :func:`pearson_from_normal_score`, by Brent's method; ρ(r) is increasing in r).
+
+    Raises
+    ------
+    CorrelationError
+        When ``rho`` cannot be attained with these marginals (e.g. −1 between two lognormals).
+    """
+    if _is_normal_marginal(da) and _is_normal_marginal(db) or rho == 0.0:
+        return float(rho)
+    from scipy.optimize import brentq
+
+    lo, hi = pearson_from_normal_score(da, db, -1.0), pearson_from_normal_score(da, db, 1.0)
+    if not (lo - 1e-9 <= rho <= hi + 1e-9):
+        err = CorrelationError(f"correlation {rho:g} between {names[0]} and {names[1]} cannot be realised with their "
+                               f"distributions (attainable range {lo:.3f} to {hi:.3f})", key=names[0])
+        err.entries = [(names[0], names[1], rho)]  # type: ignore[attr-defined]
+        raise err
+    if rho >= hi:
+        return 1.0
+    if rho <= lo:
+        return -1.0
+    return float(brentq(lambda r: pearson_from_normal_score(da, db, r) - rho, -1.0, 1.0, xtol=1e-12))
+
+
+def normal_score_from_spearman(rho_s: float) -> float:
+    """Normal-score correlation of a Gaussian copula with Spearman rank correlation ρ_S:
+    r = 2 sin(π ρ_S / 6) (Pearson 1907; Kruskal 1958, J. Am. Stat. Assoc. 53, 814)."""
+    return 2.0 * math.sin(math.pi * rho_s / 6.0)
+
+
+def _normal_score_matrix(R: np.ndarray, variables: Sequence[InputVariable]) -> np.ndarray:
+    """Pairwise NORTA conversion of a Pearson correlation matrix to the copula's normal scores."""
+    Z = np.array(R, dtype=float, copy=True)
+    n = len(variables)
+    for i in range(n):
+        for j in range(i + 1, n):
+            if R[i, j] != 0.0:
+                Z[i, j] = Z[j, i] = normal_score_from_pearson(variables[i].distribution, variables[j].distribution,
+                                                              float(R[i, j]), (variables[i].name, variables[j].name))
+    w = np.linalg.eigvalsh(Z)
+    if w.min() < -PSD_TOL * max(1, n):
+        names = [v.name for v in variables]
+        err = CorrelationError("the stated correlations cannot be realised together with these distributions "
+                               f"(the copula's normal-score matrix is not positive semidefinite; variables: "
+                               f"{', '.join(names)})", key=names[0])
+        err.variables = names  # type: ignore[attr-defined]
+        raise err
+    return Z
