@@ -266,6 +266,12 @@ def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positiv
     except UqthermoError as e:
         c.add(key, e.message)
         return None
+    if temperature and getattr(d, "std", 0.0) > 0:
+        lo = float(np.asarray(d.ppf(np.array([1e-9])), dtype=float).reshape(-1)[0])
+        if not lo > 0:
+            c.add(key, f"this distribution reaches {_fmt(lo)} K (at probability 1e-9), at or below absolute zero; "
+                       "give a smaller uncertainty, or a bounded one (rectangular, or truncated-normal with lower)")
+            return None
     return v, d, stated, source
 
 
@@ -517,9 +523,14 @@ def _correlations(c: Collector, node: Any, data: dict[str, Datum]) -> list[tuple
         if not _is_table(item):
             c.add(key, "must be a table with 'between' and 'coefficient'")
             continue
-        c.unknown_keys(item, {"between", "coefficient", "source", "note"}, key)
+        c.unknown_keys(item, {"between", "coefficient", "rank_coefficient", "source", "note"}, key)
         between = item.get("between")
-        r = item.get("coefficient")
+        rank = "rank_coefficient" in item
+        if rank == ("coefficient" in item):
+            c.add(key, "give either coefficient (Pearson correlation, as in the GUM) or rank_coefficient (Spearman)")
+            continue
+        r = item.get("rank_coefficient" if rank else "coefficient")
+        ckey = f"{key}.{'rank_coefficient' if rank else 'coefficient'}"
         if not (isinstance(between, list) and len(between) == 2 and all(isinstance(b, str) for b in between)):
             c.add(f"{key}.between", "must list exactly two datum ids, e.g. [\"CO2.g.formation_enthalpy\", \"H2O.g.formation_enthalpy\"]")
             continue
@@ -539,15 +550,22 @@ def _correlations(c: Collector, node: Any, data: dict[str, Datum]) -> list[tuple
             c.add(f"{key}.between", "a datum cannot be correlated with itself")
             ok = False
         if isinstance(r, bool) or not isinstance(r, (int, float)) or not math.isfinite(r):
-            c.add(f"{key}.coefficient", f"must be a number in [-1, 1], got {r!r}")
+            c.add(ckey, f"must be a number in [-1, 1], got {r!r}")
             ok = False
         elif abs(r) > 1:
-            c.add(f"{key}.coefficient", f"correlation coefficient {r} lies outside [-1, 1]")
+            c.add(ckey, f"correlation coefficient {r} lies outside [-1, 1]")
             ok = False
         pair = frozenset(between) if isinstance(between, list) and all(isinstance(b, str) for b in between) else None
         if ok and pair in seen:
             c.add(f"{key}.between", "this pair is correlated twice")
             ok = False
+        if ok and rank:
+            # Spearman ρ_S → the Gaussian copula's normal-score r = 2 sin(π ρ_S/6) → the Pearson correlation
+            # of these two marginals (what the linear method and the input table use)
+            from ..uq.inputs import normal_score_from_spearman, pearson_from_normal_score
+
+            r = pearson_from_normal_score(data[between[0]].distributions[0], data[between[1]].distributions[0],
+                                          normal_score_from_spearman(float(r)))
         if ok:
             seen.add(pair)
             out.append((between[0], between[1], float(r)))
