@@ -151,3 +151,54 @@ limit = "340 K"
     z = (340.0 - 320.0 - lin["estimate"]) / lin["standard_uncertainty"]
     assert pt["exceedance_probability"] == pytest.approx(float(stats.norm.sf(z)), rel=1e-9)
     assert math.isfinite(pt["final_temperature_K"])
+
+
+PLATEAU_CASE = '''title = "Adiabatic rise onto a boiling plateau (test)"
+[settings]
+samples = 4000
+seed = 3
+what_if = false
+sensitivity = "linear"
+[species.A]
+formula = "C2H4O"
+[species.A.l]
+formation_enthalpy = { value = "-100 kJ/mol", u = "0.1 kJ/mol" }
+heat_capacity = { model = "constant", value = "90 J/(mol*K)", T = ["250 K", "400 K"] }
+[species.P]
+formula = "C2H4O"
+[species.P.l]
+formation_enthalpy = { value = "-180 kJ/mol", u = "0.1 kJ/mol" }
+heat_capacity = { model = "constant", value = "100 J/(mol*K)", T = ["250 K", "400 K"] }
+[species.S]
+formula = "CH4O"
+[species.S.l]
+formation_enthalpy = "-239 kJ/mol"
+heat_capacity = { model = "constant", value = "80 J/(mol*K)", T = ["250 K", "400 K"] }
+[species.S.g]
+heat_capacity = { model = "constant", value = "45 J/(mol*K)", T = ["250 K", "600 K"] }
+[[species.S.transition]]
+from = "l"
+to = "g"
+temperature = { value = "350 K", u = "5 K" }
+enthalpy = "35 kJ/mol"
+[reaction.R]
+equation = "A(l) -> P(l)"
+[[output]]
+name = "rise"
+kind = "adiabatic_temperature_rise"
+reaction = "R"
+start_temperature = "300 K"
+extent = "1 mol"
+charge = { "S(l)" = "10 mol" }
+'''
+
+
+def test_adiabatic_plateau_follows_the_sampled_boiling_point(tmp_path):
+    # 80 kJ released; heating 10 mol of solvent to ~350 K takes 40 kJ, the rest boils ~1.1 mol of it:
+    # every sample ends on the plateau, so ΔT_ad = T_b − T0 and u(ΔT_ad) = u(T_b) = 5 K (exact by construction).
+    res = run_case(write_case(tmp_path, PLATEAU_CASE))
+    pt = res.results["outputs"][0]["points"][0]
+    assert pt["monte_carlo"]["mean"] == pytest.approx(50.0, abs=0.3)
+    assert pt["monte_carlo"]["standard_uncertainty"] == pytest.approx(5.0, rel=0.03)
+    assert pt["linear"]["standard_uncertainty"] == pytest.approx(5.0, rel=1e-3)
+    assert pt["p_phase_change"] == pytest.approx(1.0)

@@ -59,8 +59,11 @@ def print_summary(results: dict, console=None) -> None:
                           f"[{_sig(ci[0], u)}, {_sig(ci[1], u)}]",
                           "—" if ok is None else ("yes" if ok else "NO"), drivers)
             if "exceedance_probability" in pt and pt["exceedance_probability"] is not None:
+                se = pt.get("exceedance_standard_error")
                 table.add_row("", "", "", "", f"P(T_final > {out.get('limit_K'):.1f} K) = "
-                              f"{pt['exceedance_probability']:.3g} ± {pt.get('exceedance_standard_error', 0):.1g}", "", "")
+                              f"{pt['exceedance_probability']:.3g}" + (f" ± {se:.1g}" if se else ""), "", "")
+            if pt.get("p_phase_change") is not None:
+                table.add_row("", "", "", "", f"P(phase change of the charge) = {pt['p_phase_change']:.3g}", "", "")
         if len(pts) > len(show):
             table.add_row(f"  … {len(pts) - len(show)} more temperatures in results.json", "", "", "", "", "", "")
     console.print(table)

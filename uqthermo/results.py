@@ -431,6 +431,13 @@ def _safety_point(case: Case, model: Model, o, i: int, pt: dict, mc) -> None:
                 probs, se = criticality_class_probabilities(classes)
                 pt["criticality_class_probabilities"] = {str(k): float(v) for k, v in enumerate(probs, 1)}
                 pt["criticality_class_probabilities_basis"] = f"first {len(samples)} Monte Carlo trials"
+    if mc is not None and "phase_change" in aux:
+        pv = float(mc.mean[aux["phase_change"]])
+        pt["p_phase_change"] = pv
+        pt["p_phase_change_standard_error"] = math.sqrt(max(pv * (1 - pv), 0.0) / max(n, 1))
+        pt["phase_change_note"] = ("probability that the charge reaches a phase change (e.g. the solvent boils) "
+                                   "before the heat is absorbed")
+    if o.process_temperature is not None:
         for name, key in (("mtsr_above_mtt", "p_mtsr_above_mtt"), ("mtsr_above_td24", "p_mtsr_above_td24")):
             if mc is not None and name in aux:
                 pv = float(mc.mean[aux[name]])

@@ -177,6 +177,7 @@ class Model:
     evaluate: Callable[[np.ndarray], np.ndarray] = field(repr=False)
     n_reported: int = 0
     linear_in_inputs: list[bool] = field(default_factory=list)   # per output: exactly linear model?
+    tables: list = field(default_factory=list, repr=False)       # shared ReactionTables (batch mode)
 
     def f(self, X: np.ndarray) -> np.ndarray:
         """All columns (reported + auxiliary)."""
@@ -412,18 +413,18 @@ def _nominal(case: Case, did: str) -> float:
     return float(case.data[did].nominal)
 
 
-def _put_columns(Y: np.ndarray, cols, values: np.ndarray) -> None:
-    """``Y[:, cols] = values.T`` for ``values`` of shape (k, n).
+def _put_columns(Y: np.ndarray, cols, values: np.ndarray, scale: float = 1e-3) -> None:
+    """``Y[:, cols] = scale * values.T`` for ``values`` of shape (k, n) (default J/mol → kJ/mol).
 
     For a contiguous column range the transposed copy is done in tiles of 64 columns:
     with thousands of columns (a reaction set) that is 2-3x faster than one strided copy.
     """
     if not isinstance(cols, slice):
-        Y[:, cols] = values.T
+        Y[:, cols] = scale * values.T
         return
     k = values.shape[0]
     for c in range(0, k, 64):
-        Y[:, cols.start + c:cols.start + min(c + 64, k)] = values[c:c + 64].T
+        Y[:, cols.start + c:cols.start + min(c + 64, k)] = scale * values[c:c + 64].T
 
 
 def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS) -> Model:
@@ -465,6 +466,9 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
                 cols = np.concatenate([np.arange(col_start[i], col_start[i + 1]) for i in bulk])
                 if np.array_equal(cols, np.arange(cols[0], cols[0] + cols.size)):
                     cols = slice(int(cols[0]), int(cols[0]) + cols.size)     # the usual case: one slice
+                G = table.temperatures.size
+                if np.array_equal(r_idx * G + g_idx, np.arange(len(table.reactions) * G)):
+                    r_idx = g_idx = None          # outputs are the table itself, in order: no gather
                 plan = (set(bulk), r_idx, g_idx, cols)
             groups.append((idx, rows, table, not served, plan))
     Tref = case.settings.reference_temperature
@@ -481,6 +485,8 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
                 aux_specs.append((i, "mtsr_above_mtt"))
             if o.process_temperature is not None and o.td24 is not None:
                 aux_specs.append((i, "mtsr_above_td24"))
+            if _first_transition(case, o) is not None:
+                aux_specs.append((i, "phase_change"))
     n_rep = len(columns)
     t_hi = {o.name: o.max_temperature or _charge_t_max(case, o) for o in case.outputs
             if o.kind == "adiabatic_temperature_rise"}
@@ -530,12 +536,15 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
             if T.shape[0] != n:     # the solver may hand a subset; evaluate nominal-free per element
                 raise ValueError("solver must evaluate the whole sample")
             for sp, ph, amt in amounts:
-                dh = species[sp].heating_enthalpy(ph, o.start_temperature, T[:, None], sv.get(sp))
+                dh = species[sp].heating_enthalpy(ph, o.start_temperature, T[:, None], sv.get(sp), sampled_crossings=True)
                 total = total + amt * np.broadcast_to(np.asarray(dh, dtype=float), (n, 1))[:, 0]
             return total
 
-        Tf = solve_final_temperature(h_of_T, target, o.start_temperature, t_hi[o.name])
-        return np.asarray(Tf, dtype=float) - o.start_temperature
+        Tf, info = solve_final_temperature(h_of_T, target, o.start_temperature, t_hi[o.name], full_output=True)
+        Tf = np.asarray(Tf, dtype=float)
+        first = _first_transition(case, o)
+        changed = None if first is None else (np.asarray(info.on_plateau, bool) | (Tf > first + 1e-9))
+        return Tf - o.start_temperature, changed
 
     def evaluate_block(X: np.ndarray, which: list[int], table: ReactionTable | None, needs_values: bool, plan):
         """Outputs ``which`` for one block: ({output index: y (n, ncol)}, [auxiliary columns], bulk).
@@ -551,8 +560,8 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
         bulk = None
         if plan is not None:
             _, r_idx, g_idx, cols = plan
-            values = tab[1][r_idx, g_idx]          # (columns, n)
-            values /= 1e3
+            dH = tab[1]
+            values = dH.reshape(-1, n) if r_idx is None else dH[r_idx, g_idx]     # (columns, n), J/mol
             bulk = (cols, values)
         for i in which:
             if plan is not None and i in plan[0]:
@@ -601,7 +610,7 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
                                                   reaction_values(sv, ov, rname))
                     y = y + rate * (-dH) / 1e3
             else:
-                dT = adiabatic(o, sv, ov, n, tab)
+                dT, changed = adiabatic(o, sv, ov, n, tab)
                 y = dT[:, None]
                 Tf = o.start_temperature + dT
                 if o.limit is not None:
@@ -613,6 +622,8 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
                         extra.append((mtsr > o.mtt).astype(float))
                     if o.td24 is not None:
                         extra.append((mtsr > o.td24).astype(float))
+                if changed is not None:
+                    extra.append(changed.astype(float))
             parts[i] = y
         return parts, extra, bulk
 
@@ -639,7 +650,14 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
     moving_transitions = any(d.uncertain and d.quantity == "transition temperature" for d in case.data.values())
     linear = [_is_linear(case, o, moving_transitions) for o in case.outputs]
     return Model(case=case, inputs=inputs, columns=columns, aux=aux, units=units, evaluate=evaluate,
-                 n_reported=n_rep, linear_in_inputs=linear)
+                 n_reported=n_rep, linear_in_inputs=linear, tables=[g[2] for g in groups if g[2] is not None])
+
+
+def _first_transition(case: Case, o: OutputSpec) -> float | None:
+    """Lowest (nominal) transition temperature above the start that a charge species meets on heating."""
+    temps = [t.temperature for (sp, _), _d in o.charge.items() for t in case.species[sp].transitions
+             if t.temperature > o.start_temperature]
+    return min(temps) if temps else None
 
 
 def _charge_t_max(case: Case, o: OutputSpec) -> float:

@@ -656,7 +656,8 @@ def safety_table(results: Mapping, output: Mapping, key: str) -> DisplayTable:
     probs = p.get("criticality_class_probabilities")
     if isinstance(probs, Mapping) and probs:
         add("Probability of each criticality class", "; ".join(f"{text(k)}: {fmt_fixed(100 * (num(v) or 0), 1)} %" for k, v in probs.items()))
-    for k, lab in (("p_mtsr_above_mtt", "P(MTSR > MTT)"), ("p_mtsr_above_td24", "P(MTSR > T_D24)")):
+    for k, lab in (("p_phase_change", "P(the charge reaches a phase change, e.g. the solvent boils)"),
+                   ("p_mtsr_above_mtt", "P(MTSR > MTT)"), ("p_mtsr_above_td24", "P(MTSR > T_D24)")):
         if p.get(k) is not None:
             add(lab, fmt_probability(p.get(k), p.get(k + "_standard_error")))
     if len(t.rows) <= 1:

@@ -498,22 +498,31 @@ class Species:
             chain.append((tr, direction, nxt))
             p, t_prev = nxt, tr.temperature
 
-    def _crossings(self, chain, direction: int, T1, T2, sel) -> list[np.ndarray]:
-        """Masks (broadcast shape of T1, T2) of the chain's crossings that are taken."""
+    def _crossings(self, chain, direction: int, T1, T2, sel, vals: Mapping | None = None) -> list[np.ndarray]:
+        """Masks (broadcast shape of T1, T2) of the chain's crossings that are taken.
+
+        By default the decision uses the nominal transition temperatures (the path structure
+        is fixed, so ΔH stays smooth in the data). With sampled transition temperatures in
+        ``vals`` (``sampled_crossings=True`` on the public methods) it is made per sample: a
+        path that ends between the nominal and a sampled boiling point crosses (or not) as
+        that sample's boiling point says — what an energy balance ending on a phase change
+        (adiabatic temperature rise onto a boiling plateau) needs.
+        """
         if not chain:
             return []
-        t1 = chain[0][0].temperature
+        t1 = chain[0][0].temperature if vals is None else self._t(chain[0][0], vals)
         start_ok = (T1 <= t1) if direction > 0 else (T1 >= t1)
         out = []
         for tr, _, _ in chain:
-            t = tr.temperature
+            t = tr.temperature if vals is None else self._t(tr, vals)
             taken = (t < T2) if direction > 0 else (t > T2)
             out.append(sel & start_ok & taken)
         return out
 
-    def _run_chain(self, q: str, p0: str, direction: int, T1, T2, sel, vals: Mapping) -> np.ndarray:
+    def _run_chain(self, q: str, p0: str, direction: int, T1, T2, sel, vals: Mapping,
+                   sampled_crossings: bool = False) -> np.ndarray:
         chain = self._chain(p0, direction)
-        inc = self._crossings(chain, direction, T1, T2, sel)
+        inc = self._crossings(chain, direction, T1, T2, sel, vals if sampled_crossings else None)
         phases = [p0] + [nxt for _, _, nxt in chain]
         t_n = [tr.temperature for tr, _, _ in chain]
         t_s = [self._t(tr, vals) for tr, _, _ in chain]
@@ -538,7 +547,7 @@ class Species:
                 total = total + _where(nxt, self._cross(q, tr, sign, vals), 0.0)
         return total
 
-    def _heating(self, q: str, phase, T1, T2, values) -> np.ndarray:
+    def _heating(self, q: str, phase, T1, T2, values, sampled_crossings: bool = False) -> np.ndarray:
         self.validate()
         vals = self._v(values)
         p = self.resolve_phase(phase)
@@ -547,16 +556,17 @@ class Species:
         up = np.broadcast_to(T2 >= T1, np.broadcast_shapes(T1.shape, T2.shape))
         heat = cool = None
         if np.any(up):
-            heat = self._run_chain(q, p, +1, T1, T2, up, vals)
+            heat = self._run_chain(q, p, +1, T1, T2, up, vals, sampled_crossings)
         if not np.all(up):
-            cool = self._run_chain(q, p, -1, T1, T2, ~up, vals)
+            cool = self._run_chain(q, p, -1, T1, T2, ~up, vals, sampled_crossings)
         if cool is None:
             return np.asarray(heat)
         if heat is None:
             return np.asarray(cool)
         return np.asarray(_where(up, heat, cool))
 
-    def heating_enthalpy(self, phase: str | None, T1, T2, values: Mapping | None = None) -> np.ndarray:
+    def heating_enthalpy(self, phase: str | None, T1, T2, values: Mapping | None = None, *,
+                         sampled_crossings: bool = False) -> np.ndarray:
         """Enthalpy to take the species from ``phase`` at T1 to T2, transitions included, J/mol.
 
         .. math:: \\Delta H = \\int_{T_1}^{T_\\mathrm{trs}} C_{p,1}\\,dT + \\Delta_\\mathrm{trs}H
@@ -564,9 +574,10 @@ class Species:
 
         Heating crosses from -> to (+ΔH), cooling the reverse (-ΔH); see the module docstring
         for which transitions are met (Atkins' Physical Chemistry, heating curves and
-        Kirchhoff's law).
+        Kirchhoff's law). ``sampled_crossings=True`` decides per sample, with the sampled
+        transition temperatures, which transitions the path meets (energy balances).
         """
-        return self._heating("H", phase, T1, T2, values)
+        return self._heating("H", phase, T1, T2, values, sampled_crossings)
 
     def heating_entropy(self, phase: str | None, T1, T2, values: Mapping | None = None) -> np.ndarray:
         """Entropy change along the same path as :meth:`heating_enthalpy`, J/(mol K).
