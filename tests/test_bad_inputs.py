@@ -443,7 +443,16 @@ def test_valid_unicode_text_is_fine(make_case, tmp_path):
 
 
 def test_missing_and_directory_case_files(tmp_path):
-    for target, msg in ((tmp_path / "nope.toml", "not found"), (tmp_path, "directory")):
+    """Missing file, a folder, a named pipe (would block) and /dev/zero (would never end)."""
+    import os
+
+    targets = [(tmp_path / "nope.toml", "not found"), (tmp_path, "directory")]
+    if hasattr(os, "mkfifo"):
+        os.mkfifo(tmp_path / "pipe.toml")
+        targets.append((tmp_path / "pipe.toml", "not a regular file"))
+    if Path("/dev/zero").exists():
+        targets.append((Path("/dev/zero"), "not a regular file"))
+    for target, msg in targets:
         out = tmp_path / "out"
         code, stdout, stderr = main_in_process("run", target, "--out", out)
         assert code == 2 and msg in stderr and "Traceback" not in stderr

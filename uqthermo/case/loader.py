@@ -311,12 +311,16 @@ def load_case(path: str | Path, *, library: bool = True) -> Case:
         raise InputError([Problem(fname, "", "file not found")])
     if p.is_dir():
         raise InputError([Problem(fname, "", "is a directory, not a case file")])
+    if not p.is_file():   # a pipe, socket or device (/dev/zero) would block or never end
+        raise InputError([Problem(fname, "", "is not a regular file; give the path of a case file (TOML)")])
     try:
-        raw_bytes = p.read_bytes()
+        with open(p, "rb") as fh:
+            raw_bytes = fh.read(MAX_FILE_BYTES + 1)
     except OSError as e:
         raise InputError([Problem(fname, "", f"cannot read the file ({e.strerror})")]) from None
     if len(raw_bytes) > MAX_FILE_BYTES:
-        raise InputError([Problem(fname, "", f"file is {len(raw_bytes) / 1e6:.1f} MB; a case file is at most 5 MB")])
+        size = p.stat().st_size
+        raise InputError([Problem(fname, "", f"file is {size / 1e6:.1f} MB; a case file is at most 5 MB")])
     sha = hashlib.sha256(raw_bytes).hexdigest()
     try:
         text = raw_bytes.decode("utf-8")
