@@ -353,7 +353,9 @@ def _fixed(client, n_workers, f_remote, in_remote, d, method, seed, p, n_total, 
         edges = _pilot_edges(pilot, int(min(bins, max(2000, cap // max(1, 2 * m)))))
         done = pilot_rows
     offset = done
-    futures = [submit(offset + s, r, exact, edges) for s, r in block_plan(n_total - offset, n_workers, block_rows)]
+    edges_remote = client.scatter(edges, broadcast=True, hash=False) if edges is not None else None  # sent once
+    futures = [submit(offset + s, r, exact, edges_remote)
+               for s, r in block_plan(n_total - offset, n_workers, block_rows)]
     for fut in as_completed(futures):
         br = fut.result()
         blocks[br.start] = br
