@@ -181,16 +181,48 @@ def cmd_data(args) -> int:
     return run_data(args)
 
 
+def _results_shape(doc: dict, fname: str) -> list[Problem]:
+    """The containers the report reads must have the types of contract §3 (a hand-edited file may not)."""
+    problems = []
+    for key, typ, what in (("case", dict, "a table"), ("run", dict, "a table"), ("outputs", list, "a list"),
+                           ("inputs", list, "a list"), ("warnings", list, "a list"), ("correlations", list, "a list"),
+                           ("reactions", list, "a list"), ("convergence", dict, "a table")):
+        if key in doc and not isinstance(doc[key], typ):
+            problems.append(Problem(fname, key, f"must be {what}"))
+    for i, out in enumerate(doc.get("outputs") or [] if isinstance(doc.get("outputs"), list) else []):
+        if not isinstance(out, dict):
+            problems.append(Problem(fname, f"outputs[{i}]", "must be a table"))
+            continue
+        pts = out.get("points", [])
+        if not isinstance(pts, list) or not all(isinstance(p, dict) for p in pts):
+            problems.append(Problem(fname, f"outputs[{i}].points", "must be a list of tables"))
+            continue
+        for j, pt in enumerate(pts):
+            for k in ("linear", "monte_carlo"):
+                if pt.get(k) is not None and not isinstance(pt[k], dict):
+                    problems.append(Problem(fname, f"outputs[{i}].points[{j}].{k}", "must be a table"))
+            if "drivers" in pt and not (isinstance(pt["drivers"], list) and all(isinstance(d, dict) for d in pt["drivers"])):
+                problems.append(Problem(fname, f"outputs[{i}].points[{j}].drivers", "must be a list of tables"))
+    return problems
+
+
 def cmd_report(args) -> int:
     path = Path(args.results)
+    if path.exists() and not path.is_file():   # a folder, pipe or device
+        raise InputError([Problem(str(path), "", "is not a regular file; give the results.json written by 'uqthermo run'")])
     try:
         doc = json.loads(path.read_text(encoding="utf-8"))
     except FileNotFoundError:
         raise InputError([Problem(str(path), "", "file not found")]) from None
     except (OSError, UnicodeDecodeError, json.JSONDecodeError) as e:
         raise InputError([Problem(str(path), "", f"not a readable results.json ({e})")]) from None
+    except RecursionError:
+        raise InputError([Problem(str(path), "", "not a readable results.json (nested too deep)")]) from None
     if not isinstance(doc, dict) or doc.get("format") != "uqthermo.results/1":
         raise InputError([Problem(str(path), "format", "not a uqthermo results file (format uqthermo.results/1)")])
+    problems = _results_shape(doc, str(path))
+    if problems:
+        raise InputError(problems)
     guard_force(args.out, args.force, (args.results,))
     out = prepare_out_dir(args.out, args.force)
     from .report import write_report
