@@ -545,9 +545,8 @@ def main(argv=None) -> int:
         r["wall_s"] = t
         results[name] = r
         print(json.dumps(r, indent=1, default=float), flush=True)
-    (Path(__file__).parent / ("results-quick.json" if args.quick else "results.json")).write_text(
-        json.dumps(results, indent=1, default=float) + "\n")
     if len(only) == 5 and (not args.quick or args.write):
+        (Path(__file__).parent / "results.json").write_text(json.dumps(results, indent=1, default=float) + "\n")
         (Path(__file__).parent / "RESULTS.md").write_text(render(results), encoding="utf-8")
         print("wrote benchmarks/RESULTS.md")
     print("\nratios:")
