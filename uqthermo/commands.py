@@ -181,28 +181,44 @@ def cmd_data(args) -> int:
     return run_data(args)
 
 
+_OUTPUT_TYPES = {"phase_changes": (list, dict), "points": (list, dict)}
+_POINT_TYPES = {"linear": dict, "monte_carlo": dict, "validation": dict, "margins": dict, "sensitivity": dict,
+                "drivers": (list, dict), "whatif": (list, dict)}
+
+
 def _results_shape(doc: dict, fname: str) -> list[Problem]:
     """The containers the report reads must have the types of contract §3 (a hand-edited file may not)."""
     problems = []
-    for key, typ, what in (("case", dict, "a table"), ("run", dict, "a table"), ("outputs", list, "a list"),
-                           ("inputs", list, "a list"), ("warnings", list, "a list"), ("correlations", list, "a list"),
-                           ("reactions", list, "a list"), ("convergence", dict, "a table")):
-        if key in doc and not isinstance(doc[key], typ):
-            problems.append(Problem(fname, key, f"must be {what}"))
-    for i, out in enumerate(doc.get("outputs") or [] if isinstance(doc.get("outputs"), list) else []):
-        if not isinstance(out, dict):
-            problems.append(Problem(fname, f"outputs[{i}]", "must be a table"))
+
+    def check(node: dict, key: str, spec, where: str) -> bool:
+        if key not in node or node[key] is None:
+            return True
+        v = node[key]
+        ok = isinstance(v, list) and all(isinstance(x, spec[1]) for x in v) if isinstance(spec, tuple) else isinstance(v, spec)
+        if not ok:
+            problems.append(Problem(fname, f"{where}{key}", "must be " + ("a list of tables" if isinstance(spec, tuple)
+                                                                           else "a table" if spec is dict else "a list")))
+        return ok
+
+    for key, typ in (("case", dict), ("run", dict), ("outputs", (list, dict)), ("inputs", (list, dict)),
+                     ("warnings", list), ("correlations", (list, dict)), ("reactions", (list, dict)),
+                     ("convergence", dict), ("cautions", list)):
+        check(doc, key, typ, "")
+    if problems:
+        return problems
+    for i, out in enumerate(doc.get("outputs") or []):
+        for key, typ in _OUTPUT_TYPES.items():
+            check(out, key, typ, f"outputs[{i}].")
+        if problems:
             continue
-        pts = out.get("points", [])
-        if not isinstance(pts, list) or not all(isinstance(p, dict) for p in pts):
-            problems.append(Problem(fname, f"outputs[{i}].points", "must be a list of tables"))
-            continue
-        for j, pt in enumerate(pts):
-            for k in ("linear", "monte_carlo"):
-                if pt.get(k) is not None and not isinstance(pt[k], dict):
-                    problems.append(Problem(fname, f"outputs[{i}].points[{j}].{k}", "must be a table"))
-            if "drivers" in pt and not (isinstance(pt["drivers"], list) and all(isinstance(d, dict) for d in pt["drivers"])):
-                problems.append(Problem(fname, f"outputs[{i}].points[{j}].drivers", "must be a list of tables"))
+        for j, pt in enumerate(out.get("points") or []):
+            where = f"outputs[{i}].points[{j}]."
+            ok = [check(pt, key, typ, where) for key, typ in _POINT_TYPES.items()]
+            if not all(ok):
+                continue
+            for d, drv in enumerate(pt.get("drivers") or []):
+                if not isinstance(drv.get("datum"), str):
+                    problems.append(Problem(fname, f"{where}drivers[{d}].datum", "must be a string"))
     return problems
 
 
