@@ -95,6 +95,7 @@ def test_demo_exits_0_and_writes_everything(demo_runs, name):
     assert pngs and svgs, "figures (PNG and SVG) missing"
     assert list((out / "tables").glob("*.csv")), "CSV tables missing"
     assert not list(out.parent.glob(f".{out.name}.*")), "temporary folders left next to --out"
+    assert not list(out.rglob(".*")), "temporary files left inside --out"
     # the terminal summary names every output
     for o in run["results"]["outputs"]:
         assert o["name"][:8] in proc.stdout

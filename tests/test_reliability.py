@@ -269,6 +269,23 @@ def test_same_case_and_seed_reproduce_results_bit_for_bit(tmp_path):
     assert a["outputs"][0]["points"][0].get("whatif"), "what-if scenarios were not computed"
 
 
+def test_report_rendering_is_deterministic(fast_run, tmp_path):
+    """The same results.json renders to the same files, byte for byte (HTML, Markdown, CSV, PNG, SVG)."""
+    src = fast_run["out"] / "results.json"
+    outs = []
+    for name in ("a", "b"):
+        out = tmp_path / name
+        code, stdout, err = main_in_process("report", src, "--out", out)
+        assert code == 0, err
+        outs.append(out)
+    files = sorted(p.relative_to(outs[0]) for p in outs[0].rglob("*") if p.is_file())
+    assert files == sorted(p.relative_to(outs[1]) for p in outs[1].rglob("*") if p.is_file())
+    assert any(f.suffix == ".csv" for f in files) and any(f.suffix == ".svg" for f in files)
+    for f in files:
+        assert (outs[0] / f).read_bytes() == (outs[1] / f).read_bytes(), f
+    assert not [p for p in outs[0].rglob(".*")], "temporary files left in the output folder"
+
+
 def test_in_process_reproduces_and_another_seed_differs(fast_run, tmp_path):
     out = tmp_path / "again"
     code, stdout, err = main_in_process("run", fast_run["case"], "--out", out, "--samples", "20000", "--quiet",
@@ -366,9 +383,6 @@ def test_warning_negative_cp_per_coefficient(make_case, tmp_path):
     assert any("H2O.l.heat_capacity" in x and "Cp ≤ 0" in x for x in w), w
 
 
-@pytest.mark.xfail(reason="results.py negative_cp_warnings (line ~233) skips data with one column "
-                          "(len(cols) < 2) and relative_u 'scale' data (d.kind != 'coefficients'): a constant Cp "
-                          "of 10 ± 6 J/(mol K) has P(Cp <= 0) = 4.8 % but gives no warning", strict=True)
 def test_warning_negative_cp_constant_model(make_case, tmp_path):
     w = _run_warnings(make_case, tmp_path, "negcp-const", replace=[(
         'heat_capacity = { model = "polynomial", coefficients = { a = 175.632840, b = -0.866781703, c = 2.46447230e-3, '
