@@ -178,7 +178,6 @@ def test_parse_equation_raises_only_our_errors(text):
 @fast(400)
 @given(st.one_of(st.text(alphabet="HCONSClBrFeMgcaq()[]{}0123456789.·*+-^ ", max_size=30), st.text(max_size=20)))
 def test_parse_formula_raises_only_our_errors(text):
-    assume(not KNOWN_CHARGE_BUG.search(text))     # see test_formula_charge_with_lone_dot below
     try:
         el = parse_formula(text)
     except UqthermoError:
@@ -186,12 +185,6 @@ def test_parse_formula_raises_only_our_errors(text):
     assert all(isinstance(k, str) and math.isfinite(v) for k, v in el.items())
 
 
-KNOWN_CHARGE_BUG = re.compile(r"(\^?[+-]\.|\^\.[+-])$")
-
-
-@pytest.mark.xfail(reason="thermo/reaction.py _split_charge (line ~56-77): _CHARGE_RE's magnitude group \\d*\\.?\\d* "
-                          "matches a lone '.', so float('.') raises a raw ValueError for 'H-.', 'NaCl+.', 'H^.+'; "
-                          "fix: require a digit ((?:\\d+\\.?\\d*|\\.\\d+)?) or raise PhysicsError", strict=True)
 @pytest.mark.parametrize("text", ["H-.", "NaCl+.", "H^.+", "H2O^-."])
 def test_formula_charge_with_lone_dot(text):
     try:

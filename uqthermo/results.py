@@ -253,14 +253,19 @@ def negative_cp_warnings(case: Case, model: Model, X: np.ndarray) -> list[str]:
     out = []
     for did, cols in model.inputs.groups.items():
         d = case.data.get(did)
-        if d is None or d.quantity != "heat capacity" or d.kind != "coefficients" or len(cols) < 2:
+        if d is None or d.quantity != "heat capacity" or d.kind not in ("coefficients", "scale"):
             continue
         cp = case.species[d.species].phases[d.phase].cp
         lo, hi = max(t_lo, cp.t_min), min(t_hi, cp.t_max)
         if not hi > lo:
             continue
         coeffs = np.broadcast_to(np.asarray(d.nominal, dtype=float), (len(X), len(d.nominal))).copy()
-        coeffs[:, d.positions] = X[:, cols]
+        if d.kind == "coefficients":
+            coeffs[:, d.positions] = X[:, cols]
+        elif d.positions:                      # NASA-7: the factor scales a1..a5 only
+            coeffs[:, d.positions] *= X[:, cols[0]][:, None]
+        else:
+            coeffs *= X[:, cols[0]][:, None]
         grid = np.linspace(lo, hi, 41)
         values = cp.cp(grid[None, :], coeffs[:, None, :], check=False)
         frac = float(np.mean(np.any(values <= 0, axis=1)))

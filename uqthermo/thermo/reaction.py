@@ -48,7 +48,7 @@ Db Sg Bh Hs Mt Ds Rg Cn Nh Fl Mc Lv Ts Og D
 
 _HYDRATE_DOTS = "·•∙⋅*"
 _STATE_RE = re.compile(r"\s*\(([a-z][a-z0-9,]*)\)\s*$")
-_CHARGE_RE = re.compile(r"(?:\^(\d*\.?\d*)([+-])|\^?([+-])(\d*\.?\d*)|\^([+-]+)|([+-]{2,}))$")
+_CHARGE_RE = re.compile(r"(?:\^((?:\d+\.?\d*|\.\d+)?)([+-])|\^?([+-])((?:\d+\.?\d*|\.\d+)?)|\^([+-]+)|([+-]{2,}))$")
 _NUM_RE = re.compile(r"\d+(?:\.\d+)?|\.\d+")
 _OPEN = {"(": ")", "[": "]", "{": "}"}
 
