@@ -169,43 +169,7 @@ def prepare_model(case: Case) -> tuple[Model, list[str]]:
             msg += (f" (datum {e.key}; " if e.key else " (") + \
                 "allow with extrapolate = true on that heat_capacity or settings.allow_extrapolation = true)"
         raise InputError([Problem(case.path, k, msg) for k in keys]) from None
-    warnings = check_model(case, model)
-    _check_uncertain_temperatures(case, model)
-    return model, warnings
-
-
-TAIL = 1e-6   # the quantiles probed for uncertain temperatures (a 10⁶-trial run reaches about this far)
-
-
-def _check_uncertain_temperatures(case: Case, model: Model) -> None:
-    """An uncertain temperature whose distribution reaches beyond a correlation's validity range.
-
-    The best estimates may be valid while the Monte Carlo draws leave the range; probe each
-    uncertain output temperature at its 10⁻⁶ and 1 − 10⁻⁶ quantiles.
-    """
-    import numpy as np
-
-    from .errors import UqthermoError, ValidityError
-
-    problems = []
-    x0 = np.asarray(model.inputs.estimates, dtype=float)
-    for o in case.outputs:
-        if not o.temperature_datum or o.temperature_datum not in model.inputs.groups:
-            continue
-        j = model.inputs.groups[o.temperature_datum][0]
-        dist = model.inputs.variables[j].distribution
-        X = np.tile(x0, (2, 1))
-        X[:, j] = dist.ppf(np.array([TAIL, 1.0 - TAIL]))
-        try:
-            model.evaluate(X)
-        except ValidityError as e:
-            problems.append(Problem(case.path, f"{o.key}.temperature",
-                                    f"its distribution reaches {X[0, j]:.1f}–{X[1, j]:.1f} K (quantiles 1e-6, 1 − 1e-6): "
-                                    f"{e.message}; narrow the uncertainty or allow extrapolation"))
-        except UqthermoError:
-            pass
-    if problems:
-        raise InputError(problems)
+    return model, check_model(case, model)
 
 
 def _output_mentions(case: Case, o, err) -> bool:
