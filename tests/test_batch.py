@@ -177,3 +177,17 @@ def test_uncertain_transition_temperature_falls_back_to_direct_species():
     Y = m.evaluate(X)
     assert np.std(Y[:, -1]) > 0
     np.testing.assert_allclose(Y, build_model(case, batch=False).evaluate(X), rtol=1e-12, atol=1e-9)
+
+
+def test_path_outside_validity_raises_at_evaluation_not_at_build():
+    # gri30 NASA-7 data start at 200 K: the error must come from evaluate (where check_model
+    # turns it into a keyed input error), as on the reaction-by-reaction path
+    from uqthermo.errors import ValidityError
+
+    raw = _many_reactions_case()
+    raw["output"] = [{"name": "cold", "kind": "reaction_enthalpy", "reaction": "shift", "temperature": "150 K"}]
+    case = parse_case(raw, "cold.toml", library=False)
+    for batch in (True, False):
+        m = build_model(case, batch=batch)
+        with pytest.raises(ValidityError):
+            m.evaluate(np.asarray(m.inputs.estimates, dtype=float)[None, :])

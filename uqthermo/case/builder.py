@@ -348,6 +348,15 @@ class ReactionTable:
         return out
 
     def _linearise(self, inputs: InputSet) -> None:
+        try:
+            self._fit_maps(inputs)
+        except (UqthermoError, ValueError, FloatingPointError, ZeroDivisionError):
+            # e.g. a path outside a validity range: evaluate directly, so that the error is
+            # raised (with its key) where the model is checked, as on the direct path
+            self._maps = None
+            self.linear = False
+
+    def _fit_maps(self, inputs: InputSet) -> None:
         D = len(inputs)
         x0 = np.asarray(inputs.estimates, dtype=float).reshape(D)
         step = np.maximum(np.abs(x0), np.asarray(inputs.stds, dtype=float).reshape(D))
