@@ -326,6 +326,10 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
     if out.max_temperature and out.max_temperature <= t0:
         c.add(f"{key}.max_temperature", "must exceed the start temperature")
         return False
+    if out.limit is not None and out.limit <= t0:   # e.g. "90 K" written for "90 degC"
+        c.add(f"{key}.limit", f"the limit ({out.limit:g} K) is not above the start temperature ({t0:g} K), so it is "
+                              "exceeded with certainty; check its unit (degC?)")
+        return False
     if "accumulation" in o:
         a = o["accumulation"]
         if isinstance(a, bool) or not isinstance(a, (int, float)) or not (0 <= a <= 1):

@@ -52,7 +52,8 @@ def read_reactions(c: Collector, node: Any, species: dict, data: dict[str, Datum
                 ok = False      # the species' own problem is reported already
                 continue
             if p.species not in species:
-                close = difflib.get_close_matches(p.species, list(species), n=1)
+                close = [n for n in species if n.lower() == p.species.lower()] or \
+                    difflib.get_close_matches(p.species, list(species), n=1)
                 c.add(f"{key}.equation", f"unknown species {p.species!r}" +
                       (f" (did you mean {close[0]!r}?)" if close else " (define it under [species.%s])" % p.species))
                 ok = False
@@ -73,6 +74,13 @@ def read_reactions(c: Collector, node: Any, species: dict, data: dict[str, Datum
                 continue
             fixed.append(type(p)(p.nu, p.species, ph))
         if not ok:
+            continue
+        net: dict[tuple, float] = {}
+        for p in fixed:
+            net[(p.species, p.phase)] = net.get((p.species, p.phase), 0.0) + p.nu
+        if all(abs(v) < 1e-12 for v in net.values()):
+            c.add(f"{key}.equation", "the equation cancels out (every species appears equally on both sides); "
+                                     "nothing reacts")
             continue
         measured = None
         if "measured_enthalpy" in r:
