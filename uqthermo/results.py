@@ -340,9 +340,9 @@ def _drivers_and_whatif(case: Case, model: Model, lin, warnings: list[str]):
         budget = int(s.samples) if s.samples != "adaptive" else s.max_samples
         n_base = int(min(s.sobol_samples, max(256, budget // (2 * n_groups + 2))))
         parts = []
-        groups = [(linear_cols, None)] + [([j for j in other_cols if model.columns[j].output == i], None)
-                                          for i in dict.fromkeys(model.columns[j].output for j in other_cols)]
-        for cols, hint in groups:   # nonlinear outputs one by one: each is ranked on the inputs it depends on
+        groups = [([j for j, col in enumerate(model.columns[:model.n_reported]) if col.output == i], None)
+                  for i in range(len(case.outputs))]
+        for cols, hint in groups:   # output by output: each is ranked on the inputs it depends on
             if cols:
                 f, sub = part(cols)
                 parts.append((cols, rank_drivers(f, inputs, linear=sub, method=s.sensitivity, n_base=n_base,

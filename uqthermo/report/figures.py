@@ -190,7 +190,7 @@ def _draw_distribution(results: Mapping, output: Mapping, point: Mapping) -> Fig
     ax.set_xlabel(_axis_label(_sym(output.get("kind")), unit))
     ax.set_ylabel("probability density")
     _titles(fig, f"{mpl_text(text(output.get('name')))}: output distribution at T = {fmt_temperature(point.get('temperature_K'))} K")
-    fig.legend(*ax.get_legend_handles_labels(), loc="outside lower center", ncols=3, fontsize=8, frameon=False)
+    fig.legend(*ax.get_legend_handles_labels(), loc="outside lower center", ncols=2, fontsize=8, frameon=False)
     ax.grid(axis="x", visible=False)
     return fig
 

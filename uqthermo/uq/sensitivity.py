@@ -925,7 +925,23 @@ def rank_drivers(
         else:
             is_linear = not bool(nonlinear_hint)
             how = "as stated by the caller"
-        if odd:
+        # correlations between data the output depends on: Sobol' indices need independent factors
+        R = np.asarray(inputs.correlation, dtype=float)
+        act = np.flatnonzero(active & (stds > 0))
+        names = [inputs.variables[i].datum for i in act]
+        linked = sorted({tuple(sorted((names[a], names[b]))) for a in range(len(act)) for b in range(a + 1, len(act))
+                         if names[a] != names[b] and R[act[a], act[b]] != 0.0})
+        if linked:
+            chosen = "linear"
+            pairs = ", ".join(f"{x} ~ {y}" for x, y in linked[:3]) + (f" and {len(linked) - 3} more" if len(linked) > 3 else "")
+            caveat = ""
+            if odd or not is_linear:
+                caveat = (" (the model is nonlinear or has non-normal inputs, so these first-order shares are a guide; "
+                          "the Monte Carlo interval remains the result)")
+            reason = (f"the data it depends on are correlated with each other ({pairs}); Sobol' indices need "
+                      f"independent factors, so the ranking uses the linear variance shares with the correlation "
+                      f"part shown separately{caveat}")
+        elif odd:
             chosen = "sobol"
             kinds = sorted({type(v.distribution).__name__ for v in inputs.variables
                             if v.datum in odd and not _is_normal(v.distribution)})
