@@ -706,7 +706,8 @@ def _is_linear(case: Case, o: OutputSpec, moving_transitions: bool | None = None
 
 
 def check_model(case: Case, model: Model) -> list[str]:
-    """Evaluate the model at the best estimates, output by output.
+    """Evaluate the model at the best estimates, output by output (and with each uncertain
+    temperature at its 1e-9 / 1 − 1e-9 quantiles, see :func:`_temperature_tails`).
 
     Raises :class:`InputError` for outputs whose path leaves a correlation's validity
     range (when extrapolation is not allowed) or that the physics cannot evaluate;
@@ -746,8 +747,34 @@ def check_model(case: Case, model: Model) -> list[str]:
     return warnings
 
 
+#: uncertain temperatures are also tried at these probabilities (the loader's absolute-zero check uses 1e-9)
+TAIL_PROBABILITY = 1e-9
+
+
+def _temperature_tails(case: Case, inputs: InputSet) -> list[tuple[str, float, np.ndarray]]:
+    """(datum, temperature, input row) with one uncertain temperature at its 1e-9 or 1 − 1e-9 quantile.
+
+    A Monte Carlo run draws temperatures far into the tails; a path that leaves a Cp
+    validity range there must be refused by ``check``, not fail in the middle of a run.
+    """
+    x0 = np.asarray(inputs.estimates, dtype=float)
+    rows = []
+    for j, v in enumerate(inputs.variables):
+        d = case.data.get(v.datum)
+        if d is None or "temperature" not in d.quantity or not v.distribution.std > 0:
+            continue
+        for p in (TAIL_PROBABILITY, 1.0 - TAIL_PROBABILITY):
+            t = float(np.asarray(v.distribution.ppf(np.array([p])), dtype=float).reshape(-1)[0])
+            if np.isfinite(t) and t > 0:
+                x = x0.copy()
+                x[j] = t
+                rows.append((v.datum, t, x))
+    return rows
+
+
 def _try_outputs(case: Case, model: Model, x0: np.ndarray) -> dict[int, Exception]:
-    """Evaluate each output alone at x0; map output index → the error it raised."""
+    """Evaluate each output alone at the best estimates, then with each uncertain temperature at
+    its tails (:func:`_temperature_tails`); map output index → the first error it raised."""
     errors: dict[int, Exception] = {}
     for i, o in enumerate(case.outputs):
         sub = Case(**{**case.__dict__, "outputs": [o]})
@@ -756,6 +783,26 @@ def _try_outputs(case: Case, model: Model, x0: np.ndarray) -> dict[int, Exceptio
             m.evaluate(np.asarray(m.inputs.estimates, dtype=float)[None, :])
         except UqthermoError as e:
             errors[i] = e
+            continue
         except (ValueError, FloatingPointError, ZeroDivisionError) as e:
             errors[i] = e
+            continue
+        for did, t, x in _temperature_tails(sub, m.inputs):
+            try:
+                m.evaluate(x[None, :])
+            except UqthermoError as e:
+                errors[i] = _annotated(e, f"reached when {did} = {t:.6g} K (its {TAIL_PROBABILITY:g} tail quantile, "
+                                          f"which a Monte Carlo run can draw); give a smaller or bounded uncertainty")
+                break
+            except (ValueError, FloatingPointError, ZeroDivisionError) as e:
+                errors[i] = e
+                break
     return errors
+
+
+def _annotated(e: UqthermoError, note: str) -> UqthermoError:
+    """The same error type with ``note`` appended to its message (key kept)."""
+    try:
+        return type(e)(f"{e.message}; {note}", key=e.key)
+    except TypeError:   # an error type with another constructor: keep it as it is
+        return e
