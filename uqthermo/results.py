@@ -182,7 +182,7 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
             else:
                 pt["linear_validated"] = None
             if ranking is not None:
-                pt.update(ranking.point(j))
+                pt.update(_budget_shares(ranking.point(j)))
             else:
                 pt["drivers"] = []
             if whatif is not None:
@@ -273,6 +273,28 @@ def negative_cp_warnings(case: Case, model: Model, X: np.ndarray) -> list[str]:
             out.append(f"{did}: {100 * frac:.2g} % of the sampled curves give Cp ≤ 0 between {lo:.0f} and {hi:.0f} K "
                        "(unphysical); check the stated coefficient uncertainties and their correlation")
     return out
+
+
+def _budget_shares(point: dict) -> dict:
+    """Keep linear driver shares in [0, 1] when correlations between data cancel variance.
+
+    Linear shares are the within-datum variances c_gᵀΣ_gg c_g / u²(y), with the cross-datum
+    covariance terms as a separate, signed ``correlation_share`` (Σ shares + correlation_share
+    = 1). When the correlations *reduce* the variance (correlation_share < 0) the shares sum to
+    more than 1 and a single share can exceed 1; they are then expressed as fractions of the
+    gross variance budget Σ_g V_g + |covariance terms| instead, so that every share lies in
+    [0, 1] and Σ shares + |correlation_share| = 1 (``share_basis`` says which).
+    """
+    c = point.get("correlation_share")
+    if point.get("drivers_method") != "linear" or c is None or c >= 0:
+        point["share_basis"] = "fraction of u²(y)" if point.get("drivers_method") == "linear" else "first-order Sobol' index"
+        return point
+    gross = 1.0 + 2.0 * abs(c)
+    point["drivers"] = [dict(d, share=d["share"] / gross) for d in point["drivers"]]
+    point["correlation_share"] = c / gross
+    point["share_basis"] = ("fraction of the gross variance budget (within-datum variances plus the magnitude of the "
+                            "covariance terms between data, which here reduce u²(y))")
+    return point
 
 
 class _ByColumn:

@@ -744,6 +744,11 @@ def drivers_table(output: Mapping, point: Mapping, key: str) -> DisplayTable:
         del t.align[3]
     if extra:
         t.notes.append("Sensitivity indices given as value ± half-width of the confidence interval reported by the estimator.")
+    basis = point.get("share_basis")
+    if basis and "gross" in str(basis):
+        t.notes.append("Shares here are fractions of the gross variance budget: the within-datum variances plus the "
+                       "magnitude of the covariance terms between data, which reduce u²(y) in this case (row "
+                       "'correlations (net)'); every share lies between 0 and 1.")
     return t
 
 
