@@ -391,7 +391,7 @@ def _toml_error(text: str, message: str) -> tuple[str, str]:
 def parse_case(raw: dict, fname: str, sha: str = "", *, library: bool = True) -> Case:
     """Validate an already-parsed TOML document (see :func:`load_case`)."""
     c = Collector(fname)
-    c.unknown_keys(raw, {"title", "description", "settings", "species", "reaction", "output", "correlation",
+    c.unknown_keys(raw, {"title", "description", "settings", "species", "reaction", "reaction_set", "output", "correlation",
                          "candidate", "format", "author", "notes"}, "")
     title = raw.get("title", "")
     if not isinstance(title, str) or not title.strip():
@@ -408,7 +408,11 @@ def parse_case(raw: dict, fname: str, sha: str = "", *, library: bool = True) ->
     species = read_species(c, raw.get("species"), data, settings, library=library)
     from .reactions_reader import read_reactions
 
-    reactions = read_reactions(c, raw.get("reaction", {}), species, data)
+    reaction_node = raw.get("reaction", {})
+    if "reaction_set" in raw and _is_table(reaction_node):
+        reaction_node = dict(reaction_node)
+        reaction_node.update(_reaction_set(c, raw["reaction_set"], Path(fname).parent, set(reaction_node)))
+    reactions = read_reactions(c, reaction_node, species, data)
     from .outputs_reader import read_outputs
 
     outputs = read_outputs(c, raw.get("output"), species, reactions, data, settings)
@@ -424,6 +428,46 @@ def parse_case(raw: dict, fname: str, sha: str = "", *, library: bool = True) ->
     return Case(path=fname, sha256=sha, title=title.strip(), description=description, settings=settings,
                 species=species, data=data, reactions=reactions, outputs=outputs, correlations=correlations,
                 candidates=candidates, warnings=c.warnings, raw=raw)
+
+
+def _reaction_set(c: Collector, node: Any, folder: Path, existing: set[str]) -> dict[str, dict]:
+    """``[reaction_set] file = "reactions.csv"``: a CSV of ``name,equation`` rows (path relative to
+    the case file), added to the ``[reaction.NAME]`` tables — for large reaction sets."""
+    import csv
+
+    out: dict[str, dict] = {}
+    if not _is_table(node) or not isinstance(node.get("file"), str):
+        c.add("reaction_set", "must be a table with file = \"reactions.csv\" (columns name, equation)")
+        return out
+    c.unknown_keys(node, {"file", "source", "note"}, "reaction_set")
+    path = (folder / node["file"]).resolve()
+    key = "reaction_set.file"
+    if not path.is_file():
+        c.add(key, f"file {node['file']!r} not found (relative to the case file)")
+        return out
+    if path.stat().st_size > MAX_FILE_BYTES:
+        c.add(key, f"{node['file']!r} is larger than 5 MB")
+        return out
+    try:
+        text = path.read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError) as e:
+        c.add(key, f"cannot read {node['file']!r} as UTF-8 text ({e})")
+        return out
+    rows = list(csv.reader(line for line in text.splitlines() if line.strip() and not line.lstrip().startswith("#")))
+    if not rows or [h.strip().lower() for h in rows[0][:2]] != ["name", "equation"]:
+        c.add(key, f"{node['file']!r} must start with the header row: name,equation")
+        return out
+    source = node.get("source", f"reaction set {node['file']}")
+    for line_no, row in enumerate(rows[1:], start=2):
+        if len(row) < 2 or not row[0].strip() or not row[1].strip():
+            c.add(f"{key}: line {line_no}", "needs a name and an equation")
+            continue
+        name, eq = row[0].strip(), row[1].strip()
+        if name in existing or name in out:
+            c.add(f"{key}: line {line_no}", f"reaction {name!r} is defined twice")
+            continue
+        out[name] = {"equation": eq, "source": str(source)}
+    return out
 
 
 def _settings(c: Collector, node: Any) -> Settings:

@@ -166,6 +166,34 @@ def _amounts(c: Collector, node: Any, key: str, species: dict, data: dict, prefi
     return out if ok else None
 
 
+def _expand_reaction_lists(c: Collector, node: list, reactions: dict):
+    """Yield (index, output table); ``reactions = ["*"]`` (or a list of names) on a reaction output
+    expands into one output ``NAME[REACTION]`` per reaction (large reaction sets, batch mode)."""
+    for i, o in enumerate(node):
+        if not (_is_table(o) and "reactions" in o):
+            yield i, o
+            continue
+        key = f"output[{i}].reactions"
+        if o.get("kind") not in ("reaction_enthalpy", "reaction_gibbs_energy", "equilibrium_constant"):
+            c.add(key, "a list of reactions is only for reaction_enthalpy, reaction_gibbs_energy and equilibrium_constant")
+            continue
+        if "reaction" in o:
+            c.add(key, "give either reaction or reactions, not both")
+            continue
+        wanted = o["reactions"]
+        if wanted == ["*"] or wanted == "*":
+            wanted = list(reactions)
+        if not isinstance(wanted, list) or not wanted or not all(isinstance(r, str) for r in wanted):
+            c.add(key, "must be [\"*\"] (every reaction) or a list of reaction names")
+            continue
+        if not isinstance(o.get("name"), str) or not _check_name(c, o["name"], f"output[{i}].name"):
+            continue
+        for r in wanted:
+            item = {k: v for k, v in o.items() if k != "reactions"}
+            item.update(reaction=r, name=f"{o['name']}[{r}]", _generated=True)
+            yield i, item
+
+
 def read_outputs(c: Collector, node: Any, species: dict, reactions: dict, data: dict[str, Datum],
                  settings: Settings) -> list[OutputSpec]:
     outs: list[OutputSpec] = []
@@ -176,13 +204,14 @@ def read_outputs(c: Collector, node: Any, species: dict, reactions: dict, data: 
         c.add("output", "must be an array of tables ([[output]])")
         return outs
     names: set[str] = set()
-    for i, o in enumerate(node):
+    for i, o in _expand_reaction_lists(c, node, reactions):
         key = f"output[{i}]"
         if not _is_table(o):
             c.add(key, "must be a table with name and kind")
             continue
         name = o.get("name")
-        if not isinstance(name, str) or not _check_name(c, name, f"{key}.name"):
+        generated = o.pop("_generated", False)
+        if not isinstance(name, str) or not (generated or _check_name(c, name, f"{key}.name")):
             if not isinstance(name, str):
                 c.add(f"{key}.name", "give the output a name")
             continue
