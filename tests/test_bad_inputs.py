@@ -24,7 +24,7 @@ from pathlib import Path
 
 import pytest
 
-from conftest import BAD_INPUT_STATS, BASE_CASE, H2O_L_CP, main_in_process, write_case
+from conftest import BAD_INPUT_STATS, BASE_CASE, H2O_L_CP, main_in_process
 
 # anchors in BASE_CASE (each replaced at its first occurrence)
 CO_FH = 'formation_enthalpy = { value = "-110.525 kJ/mol", U = "0.026 kJ/mol", k = 2, source = "ATcT via chemicals" }'

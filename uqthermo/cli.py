@@ -11,7 +11,6 @@ import argparse
 import os
 import signal
 import sys
-from pathlib import Path
 
 from . import __version__
 from .errors import InputError, UqthermoError

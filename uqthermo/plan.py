@@ -9,7 +9,6 @@ number Monte Carlo otherwise, and shapes the result for results.json and the rep
 
 from __future__ import annotations
 
-import math
 import re
 
 import numpy as np

@@ -24,11 +24,10 @@ from typing import Any, Callable
 
 import numpy as np
 
-from . import __version__
 from .case.builder import QUANTITY, Model, build_model, check_model
 from .case.loader import load_case
 from .case.schema import Case
-from .errors import InputError, Problem, UqthermoError
+from .errors import InputError, Problem
 
 FORMAT = "uqthermo.results/1"
 

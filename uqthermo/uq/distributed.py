@@ -65,8 +65,8 @@ import numpy as np
 from ..errors import StatisticsError
 from .inputs import InputSet
 from .montecarlo import (HISTOGRAM_BINS, KEEP_VALUES, MAX_STORED_VALUES, MonteCarloResult, _batch_summary,
-                         _Collector, adaptive_batch_size)
-from .sampling import UniformStream, _method
+                         _Collector, adaptive_batch_size, check_run_arguments)
+from .sampling import UniformStream
 from .stats import BinnedCDF, Moments, intervals_from_sorted, numerical_tolerance, quantile_sorted
 
 __all__ = ["propagate_monte_carlo_dask", "merge_moments", "block_plan"]
@@ -278,28 +278,8 @@ def propagate_monte_carlo_dask(
     MonteCarloResult
         Same fields as the local engine (see module docstring for how they are merged).
     """
-    if not isinstance(inputs, InputSet):
-        raise StatisticsError("inputs must be an InputSet")
-    p = float(coverage)
-    if not 0.0 < p < 1.0:
-        raise StatisticsError(f"coverage probability must lie in (0, 1), got {coverage!r}")
-    if int(ndigits) != ndigits or ndigits < 1:
-        raise StatisticsError(f"ndigits must be a positive integer, got {ndigits!r}")
-    method = _method(sampling)
-    if seed is None:
-        seed = int(np.random.SeedSequence().entropy % (2**63))
-    d = len(inputs)
-    if chunk_size is None:
-        chunk_size = 65_536 if d <= 64 else max(1024, 2**22 // d)
-    if int(chunk_size) != chunk_size or chunk_size < 1:
-        raise StatisticsError(f"chunk size must be a positive integer, got {chunk_size!r}")
-    chunk_size = int(chunk_size)
-    adaptive = isinstance(samples, str)
-    if adaptive:
-        if samples.lower() != "adaptive":
-            raise StatisticsError(f"samples must be a positive integer or \"adaptive\", got {samples!r}")
-    elif isinstance(samples, bool) or int(samples) != samples or samples < 2:
-        raise StatisticsError(f"samples must be an integer >= 2 or \"adaptive\", got {samples!r}")
+    p, method, seed, d, chunk_size, adaptive, samples = check_run_arguments(
+        inputs, samples, sampling, seed, coverage, ndigits, chunk_size)
     UniformStream(d, method, seed)   # validates the seed and the dimension before starting a cluster
 
     cluster = _Cluster(scheduler, n_workers)

@@ -227,6 +227,39 @@ def _batch_summary(Y: np.ndarray, p: float) -> np.ndarray:
     return np.stack([Y.mean(axis=0), Y.std(axis=0, ddof=1), sym[:, 0], sym[:, 1], short[:, 0], short[:, 1]])
 
 
+def check_run_arguments(inputs, samples, sampling, seed, coverage, ndigits, chunk_size):
+    """Validate and normalise the arguments shared by the local and the distributed engine.
+
+    Returns ``(p, method, seed, d, chunk_size, adaptive, samples)``; a ``seed`` of None is
+    replaced by a fresh one (recorded in the result).
+    """
+    if not isinstance(inputs, InputSet):
+        raise StatisticsError("inputs must be an InputSet")
+    p = float(coverage)
+    if not 0.0 < p < 1.0:
+        raise StatisticsError(f"coverage probability must lie in (0, 1), got {coverage!r}")
+    if int(ndigits) != ndigits or ndigits < 1:
+        raise StatisticsError(f"ndigits must be a positive integer, got {ndigits!r}")
+    method = _method(sampling)
+    if seed is None:
+        seed = int(np.random.SeedSequence().entropy % (2**63))
+    d = len(inputs)
+    if chunk_size is None:
+        chunk_size = 65_536 if d <= 64 else max(1024, 2**22 // d)
+    if int(chunk_size) != chunk_size or chunk_size < 1:
+        raise StatisticsError(f"chunk size must be a positive integer, got {chunk_size!r}")
+    chunk_size = int(chunk_size)
+    adaptive = isinstance(samples, str)
+    if adaptive:
+        if samples.lower() != "adaptive":
+            raise StatisticsError(f"samples must be a positive integer or \"adaptive\", got {samples!r}")
+    else:
+        if isinstance(samples, bool) or int(samples) != samples or samples < 2:
+            raise StatisticsError(f"samples must be an integer >= 2 or \"adaptive\", got {samples!r}")
+        samples = int(samples)
+    return p, method, seed, d, chunk_size, adaptive, samples
+
+
 def propagate_monte_carlo(
     f: Callable[[np.ndarray], np.ndarray],
     inputs: InputSet,
@@ -282,30 +315,8 @@ def propagate_monte_carlo(
     -------
     MonteCarloResult
     """
-    if not isinstance(inputs, InputSet):
-        raise StatisticsError("inputs must be an InputSet")
-    p = float(coverage)
-    if not 0.0 < p < 1.0:
-        raise StatisticsError(f"coverage probability must lie in (0, 1), got {coverage!r}")
-    if int(ndigits) != ndigits or ndigits < 1:
-        raise StatisticsError(f"ndigits must be a positive integer, got {ndigits!r}")
-    method = _method(sampling)
-    if seed is None:
-        seed = int(np.random.SeedSequence().entropy % (2**63))
-    d = len(inputs)
-    if chunk_size is None:
-        chunk_size = 65_536 if d <= 64 else max(1024, 2**22 // d)
-    if int(chunk_size) != chunk_size or chunk_size < 1:
-        raise StatisticsError(f"chunk size must be a positive integer, got {chunk_size!r}")
-    chunk_size = int(chunk_size)
-    adaptive = isinstance(samples, str)
-    if adaptive:
-        if samples.lower() != "adaptive":
-            raise StatisticsError(f"samples must be a positive integer or \"adaptive\", got {samples!r}")
-    else:
-        if isinstance(samples, bool) or int(samples) != samples or samples < 2:
-            raise StatisticsError(f"samples must be an integer >= 2 or \"adaptive\", got {samples!r}")
-        samples = int(samples)
+    p, method, seed, d, chunk_size, adaptive, samples = check_run_arguments(
+        inputs, samples, sampling, seed, coverage, ndigits, chunk_size)
     stream = UniformStream(d, method, seed)
     warnings: list[str] = []
     state = {"m": None}

@@ -597,7 +597,6 @@ def _heuristic(prob: _Problem):
 
 
 def _local_search(prob: _Problem, cur: np.ndarray, evaluate) -> np.ndarray:
-    K = prob.K
 
     def key(mask):
         w, _ = evaluate(mask[None])
