@@ -103,27 +103,20 @@ def test_demo_exits_0_and_writes_everything(demo_runs, name):
         assert o["name"][:8] in proc.stdout
 
 
-SHARE_ABOVE_1 = ("uq/sensitivity.py linear_shares: with correlated data the per-datum share c_g' S_gg c_g / u^2(y) "
-                 "exceeds 1 (epoxide dH_25C: EPX3 1.076, DIOL3 0.918, correlation_share -0.99) although contract §3 "
-                 "defines share as the datum's share of the variance, 0-1; fix: normalise the shares by their sum "
-                 "(sum of diagonal contributions) and keep correlation_share relative to u^2(y), or document a "
-                 "contract change")
-
-
 @pytest.mark.parametrize("name", sorted(DEMOS))
 def test_demo_results_have_every_contract_key(demo_runs, name):
     doc = demo_runs[name]["results"]
     assert doc is not None
-    check_contract_keys(doc, DEMO_SAMPLES, share_range=False)     # the 0-1 range: next test
+    check_contract_keys(doc, DEMO_SAMPLES)
     # the case hash is the hash of the file's bytes (reproducibility record)
     import hashlib
 
     assert doc["case"]["sha256"] == hashlib.sha256(DEMOS[name].read_bytes()).hexdigest()
 
 
-@pytest.mark.parametrize("name", [pytest.param("epoxide", marks=pytest.mark.xfail(reason=SHARE_ABOVE_1, strict=False)),
-                                  "methanation"])
+@pytest.mark.parametrize("name", sorted(DEMOS))
 def test_demo_driver_shares_lie_in_0_1(demo_runs, name):
+    """Contract §3: share is the datum's share of the output variance, 0-1 (also with correlated data)."""
     for out in demo_runs[name]["results"]["outputs"]:
         for pt in out["points"]:
             for d in pt["drivers"]:
