@@ -9,11 +9,12 @@ and runs cleanly), some written whole or as raw bytes. Each goes through both
 and the session summary prints them (``bad inputs: N case files tried in K classes,
 M rejected cleanly ...``).
 
-Figures at the time of writing: 151 bad case files in 16 classes (syntax, duplicates,
+Figures at the time of writing: 154 bad case files in 16 classes (syntax, duplicates,
 types, units, nan-inf, magnitudes, empty, unicode, transitions, correlations,
-temperatures, samples, equations, missing-data, validity, uncertainties), of which 1 is
-an expected failure (a bug outside the case layer, see its reason), plus 6 bad command
-lines, a multi-problem file, missing/directory case files and the accepted-Unicode control.
+temperatures, samples, equations, missing-data, validity, uncertainties), all rejected
+cleanly; plus 6 bad command lines, 9 bad results.json files for ``uqthermo report``, a
+multi-problem file, missing/directory/pipe/device case files and an accepted-Unicode
+control.
 """
 
 from __future__ import annotations
