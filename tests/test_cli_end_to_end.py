@@ -140,15 +140,15 @@ def test_demo_mc_mean_agrees_with_linear_estimate(demo_runs, name):
     assert checked > 0, "no linear output in the demo"
 
 
-def _normal_only(doc: dict) -> bool:
-    return all(i["distribution"].startswith(("normal", "exact")) or not i.get("uncertain", True) for i in doc["inputs"])
-
-
-def test_methanation_linear_and_mc_u_agree(demo_runs):
-    """Linear model, normal inputs: u_MC = u_linear within 4/√(2N) relative (s of a normal sample)."""
-    doc = demo_runs["methanation"]["results"]
+@pytest.mark.parametrize("name", sorted(DEMOS))
+def test_demo_linear_and_mc_u_agree(demo_runs, name):
+    """Linear outputs: u_MC = u_linear within 4/√(2N) relative (s of a normal sample; conservative for the
+    lighter-tailed rectangular mixtures of the epoxide demo). With all inputs normal the output is normal
+    and the coverage intervals agree too."""
+    doc = demo_runs[name]["results"]
     n = doc["run"]["samples"]
     tol = 4 / math.sqrt(2 * n)
+    shape = {i["datum"]: i["distribution"] for i in doc["inputs"]}
     checked = 0
     for out in doc["outputs"]:
         if not out.get("linear_model"):
@@ -156,9 +156,10 @@ def test_methanation_linear_and_mc_u_agree(demo_runs):
         for pt in out["points"]:
             ul, um = pt["linear"]["standard_uncertainty"], pt["monte_carlo"]["standard_uncertainty"]
             assert um == pytest.approx(ul, rel=tol), (out["name"], pt["temperature_K"])
-            # coverage intervals close too (normal output: ends within a few standard errors of a quantile)
-            for a, b in zip(pt["linear"]["coverage_interval"], pt["monte_carlo"]["coverage_interval"]):
-                assert abs(a - b) <= 0.05 * ul
+            # the data this point depends on (share > 0) are all normal: the output is normal
+            if all(shape.get(d["datum"], "").startswith(("normal", "exact")) for d in pt["drivers"] if d["share"] > 1e-12):
+                for a, b in zip(pt["linear"]["coverage_interval"], pt["monte_carlo"]["coverage_interval"]):
+                    assert abs(a - b) <= 0.05 * ul
             checked += 1
     assert checked
 
