@@ -507,10 +507,6 @@ def test_report_command_rejects_bad_results_json(tmp_path, rid, data, key, msg):
     assert not out.exists()
 
 
-@pytest.mark.xfail(reason="report/tables.py fmt_fixed (~line 248) quantizes with Decimal before switching to e "
-                          "notation; the default 28-digit context raises decimal.InvalidOperation for |x| >= ~1e26 "
-                          "with 2 decimals (exit 1, internal error); fix: test the magnitude first or use "
-                          "decimal.localcontext() with more precision", strict=False)
 def test_report_command_survives_huge_numbers(fast_run, tmp_path):
     import json
 

@@ -391,10 +391,6 @@ def test_warning_negative_cp_constant_model(make_case, tmp_path):
     assert any("H2O.l.heat_capacity" in x and "Cp ≤ 0" in x for x in w), w
 
 
-@pytest.mark.xfail(reason="planning_cli.run_plan (and fit_cli) call run.prepare_out_dir + publish_dir without the "
-                          "--force guard of commands.guard_force: `uqthermo plan CASE --out . --force` deletes the case "
-                          "file and every other file of the working folder; fix: call commands.guard_force(args.out, "
-                          "args.force, (args.case,)) first, or move that guard into run.prepare_out_dir", strict=False)
 def test_plan_force_never_deletes_user_files(tmp_path, monkeypatch):
     proj = tmp_path / "proj"
     proj.mkdir()

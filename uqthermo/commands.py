@@ -77,36 +77,8 @@ def print_summary(results: dict, console=None) -> None:
 
 
 #: what an earlier uqthermo output folder holds at its top (run, report, plan, fit)
-OUTPUT_MARKERS = ("results.json", "plan.json")
-
-
-def guard_force(out: str | Path, force: bool, protected: tuple = ()) -> None:
-    """Refuse ``--force`` on a folder whose replacement would destroy user files.
-
-    ``--force`` replaces the whole folder. It is accepted only for an empty folder or an
-    earlier uqthermo output folder (holding results.json or plan.json), and never for a
-    folder that contains the case file (or another protected path), the working
-    directory or the home folder.
-    """
-    o = Path(out)
-    if not force or not o.is_dir() or not any(o.iterdir()):
-        return
-    o = o.resolve()
-    for p in [*protected, Path.cwd(), Path.home()]:
-        p = Path(p).resolve()
-        if p == o or o in p.parents:
-            what = "the working folder" if p == Path.cwd().resolve() else (
-                "your home folder" if p == Path.home().resolve() else f"{p.name}")
-            raise InputError([Problem(str(out), "--out", f"--force would replace this folder and delete {what}; "
-                                                         "choose a new output folder")])
-    if not any((o / m).is_file() for m in OUTPUT_MARKERS):
-        raise InputError([Problem(str(out), "--out", "--force replaces only an earlier uqthermo output folder (one with "
-                                                     "results.json); this folder holds other files — choose another folder")])
-
-
 def cmd_run(args) -> int:
-    guard_force(args.out, args.force, (args.case,))
-    out = prepare_out_dir(args.out, args.force)
+    out = prepare_out_dir(args.out, args.force, (args.case,))
     quiet = args.quiet or not sys.stderr.isatty()
     progress = None
     bar = None
@@ -239,8 +211,7 @@ def cmd_report(args) -> int:
     problems = _results_shape(doc, str(path))
     if problems:
         raise InputError(problems)
-    guard_force(args.out, args.force, (args.results,))
-    out = prepare_out_dir(args.out, args.force)
+    out = prepare_out_dir(args.out, args.force, (args.results,))
     from .report import write_report
 
     def build(tmp: Path):

@@ -156,7 +156,7 @@ def run_fit(args) -> int:
         from .run import prepare_out_dir
 
         try:
-            out = prepare_out_dir(args.out, bool(getattr(args, "force", False)))
+            out = prepare_out_dir(args.out, bool(getattr(args, "force", False)), (args.data,))
         except InputError as e:
             problems += e.problems
     if problems:

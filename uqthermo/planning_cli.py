@@ -24,7 +24,7 @@ def run_plan(args) -> int:
     if args.out:
         from .run import prepare_out_dir
 
-        out = prepare_out_dir(args.out, args.force)
+        out = prepare_out_dir(args.out, args.force, (args.case,))
     from .run import prepare_model
 
     case = load_case(args.case)

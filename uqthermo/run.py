@@ -184,8 +184,37 @@ def _output_mentions(case: Case, o, err) -> bool:
 
 # ----------------------------------------------------------------------------- writing
 
-def prepare_out_dir(out: str | Path, force: bool) -> Path:
-    """Check that ``out`` may be written (before any work is done)."""
+#: files that mark a folder as an earlier uqthermo output (which --force may replace)
+OUTPUT_MARKERS = ("results.json", "plan.json", "fit.json")
+
+
+def guard_force(out: str | Path, force: bool, protected: tuple = ()) -> None:
+    """Refuse ``--force`` on a folder whose replacement would destroy user files.
+
+    ``--force`` replaces the whole folder. It is accepted only for an empty folder or an
+    earlier uqthermo output folder (holding results.json, plan.json or fit.json), and never
+    for a folder that contains the input file (or another protected path), the working
+    directory or the home folder.
+    """
+    o = Path(out)
+    if not force or not o.is_dir() or not any(o.iterdir()):
+        return
+    o = o.resolve()
+    for p in [*protected, Path.cwd(), Path.home()]:
+        p = Path(p).resolve()
+        if p == o or o in p.parents:
+            what = "the working folder" if p == Path.cwd().resolve() else (
+                "your home folder" if p == Path.home().resolve() else f"{p.name}")
+            raise InputError([Problem(str(out), "--out", f"--force would replace this folder and delete {what}; "
+                                                         "choose a new output folder")])
+    if not any((o / m).is_file() for m in OUTPUT_MARKERS):
+        raise InputError([Problem(str(out), "--out", "--force replaces only an earlier uqthermo output folder (one with "
+                                                     "results.json); this folder holds other files — choose another folder")])
+
+
+def prepare_out_dir(out: str | Path, force: bool, protected: tuple = ()) -> Path:
+    """Check that ``out`` may be written (before any work is done); see :func:`guard_force`."""
+    guard_force(out, force, protected)
     out = Path(out)
     if out.exists() and not out.is_dir():
         raise InputError([Problem(str(out), "--out", "exists and is not a folder")])

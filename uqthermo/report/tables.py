@@ -243,7 +243,7 @@ def fmt_fixed(x: Any, dec: int | None) -> str:
     if dec > 6 or abs(v) >= 1e9:
         # significant digits implied by the decimal position
         exp = math.floor(math.log10(abs(v))) if v != 0 else -dec
-        sig = max(1, exp + dec + 1)
+        sig = min(max(1, exp + dec + 1), 15)     # a double carries at most ~15–17 significant digits
         return fmt_sig(v, sig, force_exp=True)
     q = _dec(v).quantize(Decimal(1).scaleb(-dec), rounding=ROUND_HALF_UP)
     return _plain(q)
