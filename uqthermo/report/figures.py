@@ -339,7 +339,11 @@ def _draw_drivers(output: Mapping, point: Mapping) -> Figure:
     ax.grid(axis="y", visible=False)
     method = point.get("drivers_method")
     how = {"linear": "linear variance contributions", "sobol": "first-order Sobol indices"}.get(method, text(method) or "shares")
-    ax.set_xlabel("share of the output variance $u^2(y)$ / %")
+    if "gross" in str(point.get("share_basis") or ""):
+        # correlations between data reduce u²(y): shares of the gross budget (Σ within-datum variances + |covariances|)
+        ax.set_xlabel("share of the gross variance budget / % (correlations reduce $u^2(y)$)")
+    else:
+        ax.set_xlabel("share of the output variance $u^2(y)$ / %")
     _titles(fig, f"{mpl_text(text(output.get('name')))}: what drives u(y) at T = {fmt_temperature(point.get('temperature_K'))} K",
             f"ranking by {how}")
     if np.isfinite(err).any():
