@@ -75,6 +75,21 @@ _CACHE_MAX_POINTS = 512
 _CACHE_MAX_ENTRIES = 64
 
 
+def _split_ranges(kind: str, names: Sequence[str], ranges) -> tuple[list[tuple[float, float]], np.ndarray]:
+    """``[(t_lo, t_hi, coefficients), ...]`` → (bounds, concatenated coefficient vector), checked."""
+    ranges = list(ranges)
+    n = len(names)
+    try:
+        bounds = [(r[0], r[1]) for r in ranges]
+        coeffs = [np.asarray(r[2], dtype=float).reshape(-1) for r in ranges]
+    except (TypeError, IndexError, ValueError) as exc:
+        raise PhysicsError(f"{kind} heat capacity: each range must be (t_lo, t_hi, [{', '.join(names)}]) ({exc})")
+    for cf in coeffs:
+        if cf.size != n:
+            raise PhysicsError(f"{kind} heat capacity: each range needs {n} coefficients {names[0]}-{names[-1]}, got {cf.size}")
+    return bounds, (np.concatenate(coeffs) if coeffs else np.zeros(0))
+
+
 def _as_temperature(T, name: str = "T") -> np.ndarray:
     T = np.asarray(T, dtype=float)
     if not np.all(np.isfinite(T)):
@@ -506,16 +521,8 @@ class ShomateCp(CpModel):
     _term_names = ("A", "B", "C", "D", "E")
 
     def __init__(self, ranges: Sequence[tuple[float, float, Sequence[float]]], allow_extrapolation: bool = False):
-        ranges = list(ranges)
-        try:
-            bounds = [(r[0], r[1]) for r in ranges]
-            coeffs = [np.asarray(r[2], dtype=float).reshape(-1) for r in ranges]
-        except (TypeError, IndexError, ValueError) as exc:
-            raise PhysicsError(f"shomate heat capacity: each range must be (t_lo, t_hi, [A, B, C, D, E]) ({exc})")
-        for cf in coeffs:
-            if cf.size != 5:
-                raise PhysicsError(f"shomate heat capacity: each range needs 5 coefficients A-E, got {cf.size}")
-        super().__init__(bounds, np.concatenate(coeffs) if coeffs else [], allow_extrapolation)
+        bounds, coeffs = _split_ranges(self.kind, self._term_names, ranges)
+        super().__init__(bounds, coeffs, allow_extrapolation)
 
     def _make_names(self):
         return [f"{n}[{_fmt(lo)}-{_fmt(hi)} K]" for lo, hi in self.ranges for n in self._term_names]
@@ -577,16 +584,8 @@ class Nasa7Cp(CpModel):
     _term_names = ("a1", "a2", "a3", "a4", "a5", "a6", "a7")
 
     def __init__(self, ranges: Sequence[tuple[float, float, Sequence[float]]], allow_extrapolation: bool = False):
-        ranges = list(ranges)
-        try:
-            bounds = [(r[0], r[1]) for r in ranges]
-            coeffs = [np.asarray(r[2], dtype=float).reshape(-1) for r in ranges]
-        except (TypeError, IndexError, ValueError) as exc:
-            raise PhysicsError(f"nasa7 heat capacity: each range must be (t_lo, t_hi, [a1, ..., a7]) ({exc})")
-        for cf in coeffs:
-            if cf.size != 7:
-                raise PhysicsError(f"nasa7 heat capacity: each range needs 7 coefficients a1-a7, got {cf.size}")
-        super().__init__(bounds, np.concatenate(coeffs) if coeffs else [], allow_extrapolation)
+        bounds, coeffs = _split_ranges(self.kind, self._term_names, ranges)
+        super().__init__(bounds, coeffs, allow_extrapolation)
 
     @classmethod
     def from_two_ranges(cls, t_low: float, t_mid: float, t_high: float, low: Sequence[float],
