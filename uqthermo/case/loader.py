@@ -470,6 +470,17 @@ def _reaction_set(c: Collector, node: Any, folder: Path, existing: set[str]) -> 
     return out
 
 
+def _choice(c: Collector, node: dict, s: Settings, key: str, allowed) -> None:
+    """Set ``s.<key>`` from ``node[key]`` when it is one of ``allowed``; record a problem otherwise."""
+    if key not in node:
+        return
+    m = node[key]
+    if not isinstance(m, str) or m not in allowed:
+        c.add(f"settings.{key}", f"unknown {key} {m!r}; use one of {', '.join(allowed)}")
+    else:
+        setattr(s, key, m)
+
+
 def _settings(c: Collector, node: Any) -> Settings:
     s = Settings()
     if not _is_table(node):
@@ -501,24 +512,14 @@ def _settings(c: Collector, node: Any) -> Settings:
             c.add("settings.samples", f"{n:.3g} samples exceed the limit of {MAX_SAMPLES_LIMIT:.0e}; use \"adaptive\" or --engine dask")
         else:
             s.samples = n
-    if "sampling" in node:
-        m = node["sampling"]
-        if m not in SAMPLING_METHODS:
-            c.add("settings.sampling", f"unknown sampling {m!r}; use one of {', '.join(SAMPLING_METHODS)}")
-        else:
-            s.sampling = m
+    _choice(c, node, s, "sampling", SAMPLING_METHODS)
     if "seed" in node:
         seed = node["seed"]
         if isinstance(seed, bool) or not isinstance(seed, int) or seed < 0 or seed >= 2**63:
             c.add("settings.seed", f"must be a non-negative whole number, got {seed!r}")
         else:
             s.seed = seed
-    if "method" in node:
-        m = node["method"]
-        if m not in METHODS:
-            c.add("settings.method", f"unknown method {m!r}; use one of {', '.join(METHODS)}")
-        else:
-            s.method = m
+    _choice(c, node, s, "method", METHODS)
     for key in ("allow_extrapolation", "what_if"):
         if key in node:
             if not isinstance(node[key], bool):
@@ -533,12 +534,7 @@ def _settings(c: Collector, node: Any) -> Settings:
                 c.add(f"settings.{key}", f"must be a whole number from {lo} to {hi}, got {v!r}")
             else:
                 setattr(s, key, v)
-    if "sensitivity" in node:
-        m = node["sensitivity"]
-        if m not in ("auto", "linear", "sobol", "none"):
-            c.add("settings.sensitivity", "use one of auto, linear, sobol, none")
-        else:
-            s.sensitivity = m
+    _choice(c, node, s, "sensitivity", ("auto", "linear", "sobol", "none"))
     if "plan_target" in node:
         if not isinstance(node["plan_target"], str):
             c.add("settings.plan_target", "must be text such as \"U95 <= 2 kJ/mol\"")
