@@ -67,7 +67,7 @@ from .inputs import InputSet
 from .montecarlo import (HISTOGRAM_BINS, KEEP_VALUES, MAX_STORED_VALUES, MonteCarloResult, _batch_summary,
                          _Collector, adaptive_batch_size, check_run_arguments)
 from .sampling import UniformStream
-from .stats import BinnedCDF, Moments, intervals_from_sorted, numerical_tolerance, quantile_sorted
+from .stats import BinLayout, BinnedCDF, Moments, intervals_from_sorted, numerical_tolerance, quantile_sorted
 
 __all__ = ["propagate_monte_carlo_dask", "merge_moments", "block_plan"]
 
@@ -152,7 +152,7 @@ def _evaluate(f, inputs: InputSet, U: np.ndarray) -> tuple[np.ndarray, np.ndarra
 
 
 def _run_block(f, inputs: InputSet, method: str, seed: int, start: int, rows: int, chunk_size: int,
-               keep: int, want_values: bool, edges: np.ndarray | None, coverage: float | None = None,
+               keep: int, want_values: bool, layout: BinLayout | None, coverage: float | None = None,
                ) -> _BlockResult:
     """Evaluate rows ``[start, start + rows)`` of the run's stream (runs on a worker)."""
     d = len(inputs)
@@ -177,15 +177,13 @@ def _run_block(f, inputs: InputSet, method: str, seed: int, start: int, rows: in
             n_kept += t
         if want_values:
             values.append(Y)
-        if edges is not None:
+        if layout is not None:
             if counts is None:
-                counts = np.zeros((m, edges.shape[1] + 1), dtype=np.int64)
-            for j in range(m):
-                idx = np.searchsorted(edges[j], Y[:, j], side="right")
-                counts[j] += np.bincount(idx, minlength=counts.shape[1])
+                counts = BinnedCDF(layout=layout)
+            counts.add(Y)
     Yall = np.concatenate(values, axis=0) if want_values else None
     summary = _batch_summary(Yall, coverage) if coverage is not None else None
-    return _BlockResult(start=start, moments=moments, values=Yall, counts=counts,
+    return _BlockResult(start=start, moments=moments, values=Yall, counts=None if counts is None else counts.counts,
                         X_kept=np.concatenate(Xk, axis=0) if Xk else None,
                         Y_kept=np.concatenate(Yk, axis=0) if Yk else None, summary=summary)
 
@@ -225,19 +223,13 @@ class _Cluster:
                 pass
 
 
-def _binned_from(edges: np.ndarray, counts: np.ndarray, moments: Moments) -> BinnedCDF:
-    """A :class:`BinnedCDF` with given edges and merged counts (no pilot re-counting)."""
-    b = BinnedCDF.__new__(BinnedCDF)
-    b.edges = edges
-    b.counts = counts
-    b.n = int(moments.n)
-    b.min = moments.min.copy()
-    b.max = moments.max.copy()
-    return b
+def _binned_from(layout: BinLayout, counts: np.ndarray, moments: Moments) -> BinnedCDF:
+    """A :class:`BinnedCDF` with the given layout and merged counts (no pilot re-counting)."""
+    return BinnedCDF.from_counts(layout, counts, moments.n, moments.min, moments.max)
 
 
-def _pilot_edges(pilot: np.ndarray, bins: int) -> np.ndarray:
-    return BinnedCDF(pilot, bins).edges
+def _pilot_layout(pilot: np.ndarray, bins: int) -> BinLayout:
+    return BinLayout.from_pilot(pilot, bins)
 
 
 def propagate_monte_carlo_dask(
@@ -310,31 +302,31 @@ def _fixed(client, n_workers, f_remote, in_remote, d, method, seed, p, n_total, 
     plan = block_plan(n_total, n_workers, block_rows)
     first_rows = plan[0][1]
 
-    def submit(start, rows, values, edges=None):
+    def submit(start, rows, values, layout=None):
         return client.submit(_run_block, f_remote, in_remote, method, seed, start, rows, chunk_size,
-                             keep if start < keep else 0, values, edges, pure=False)
+                             keep if start < keep else 0, values, layout, pure=False)
 
     head = submit(0, first_rows, True).result()
     m = head.moments.mean.shape[0]
     exact = n_total * m <= cap
-    edges = None
+    layout = None
     blocks: dict[int, _BlockResult] = {0: head}
     done = first_rows
     if progress is not None:
         progress(done, n_total)
     if not exact:
-        # pilot: the first max(cap/M, first block) rows return their values and fix the edges
+        # pilot: the first max(cap/M, first block) rows return their values and fix the layout
         pilot_rows = max(first_rows, min(n_total, cap // max(1, m)))
         for fut in [submit(first_rows + s, r, True)
                     for s, r in block_plan(pilot_rows - first_rows, n_workers, block_rows)]:
             br = fut.result()
             blocks[br.start] = br
         pilot = np.concatenate([blocks[k].values for k in sorted(blocks)], axis=0)
-        edges = _pilot_edges(pilot, int(min(bins, max(2000, cap // max(1, 2 * m)))))
+        layout = _pilot_layout(pilot, int(min(bins, max(2000, cap // max(1, 2 * m)))))
         done = pilot_rows
     offset = done
-    edges_remote = client.scatter(edges, broadcast=True, hash=False) if edges is not None else None  # sent once
-    futures = [submit(offset + s, r, exact, edges_remote)
+    layout_remote = client.scatter(layout, broadcast=True, hash=False) if layout is not None else None  # sent once
+    futures = [submit(offset + s, r, exact, layout_remote)
                for s, r in block_plan(n_total - offset, n_workers, block_rows)]
     for fut in as_completed(futures):
         br = fut.result()
@@ -342,10 +334,10 @@ def _fixed(client, n_workers, f_remote, in_remote, d, method, seed, p, n_total, 
         done += br.moments.n
         if progress is not None:
             progress(done, n_total)
-    return _finish(blocks, d, m, p, ndigits, exact, edges, warnings, method, seed, keep, adaptive=False)
+    return _finish(blocks, d, m, p, ndigits, exact, layout, warnings, method, seed, keep, adaptive=False)
 
 
-def _finish(blocks: dict, d, m, p, ndigits, exact, edges, warnings, method, seed, keep, *, adaptive,
+def _finish(blocks: dict, d, m, p, ndigits, exact, layout, warnings, method, seed, keep, *, adaptive,
             converged=True, stability=None, batch_size=0, n_batches=0) -> MonteCarloResult:
     order = sorted(blocks)
     mom = Moments(m)
@@ -359,11 +351,8 @@ def _finish(blocks: dict, d, m, p, ndigits, exact, edges, warnings, method, seed
         conv_u.append(mom.std.copy())
         if not exact:
             c = br.counts
-            if c is None:   # pilot blocks returned values: count them on the edges
-                c = np.zeros((m, edges.shape[1] + 1), dtype=np.int64)
-                for j in range(m):
-                    idx = np.searchsorted(edges[j], br.values[:, j], side="right")
-                    c[j] += np.bincount(idx, minlength=c.shape[1])
+            if c is None:   # pilot blocks returned values: count them on the layout
+                c = layout.count(br.values)
             counts = c if counts is None else counts + c
     mean, u, skew = mom.mean.copy(), mom.std.copy(), mom.skewness
     if exact:
@@ -374,7 +363,7 @@ def _finish(blocks: dict, d, m, p, ndigits, exact, edges, warnings, method, seed
         qmethod, resolution, binned = "exact", np.zeros_like(mean), None
     else:
         ys = None
-        binned = _binned_from(edges, counts, mom)
+        binned = _binned_from(layout, counts, mom)
         sym, short = binned.intervals(p)
         median = binned.quantile(0.5)
         qmethod = "histogram"

@@ -47,13 +47,15 @@ import numpy as np
 from ..errors import StatisticsError
 from .inputs import InputSet
 from .sampling import UniformStream, _method
-from .stats import BinnedCDF, Moments, intervals_from_sorted, numerical_tolerance, quantile_sorted
+from .stats import BinLayout, BinnedCDF, Moments, intervals_from_sorted, numerical_tolerance, quantile_sorted
 
 __all__ = ["MonteCarloResult", "propagate_monte_carlo", "adaptive_batch_size"]
 
 MAX_STORED_VALUES = 20_000_000
 HISTOGRAM_BINS = 100_000
 KEEP_VALUES = 4_000_000
+#: pilot rows for the histogram when a fixed N is known to exceed the stored-values bound
+PILOT_ROWS = 2**18
 
 
 def adaptive_batch_size(coverage: float) -> int:
@@ -176,15 +178,22 @@ class MonteCarloResult:
 
 
 class _Collector:
-    """Accumulates model values: moments always; values (or a fixed histogram); a kept subsample."""
+    """Accumulates model values: moments always; values (or a fixed histogram); a kept subsample.
 
-    def __init__(self, m: int, d: int, keep: int, cap: int, bins: int):
+    Stored values are kept transposed, one contiguous row per output, so that the final
+    sort runs along contiguous memory.
+    """
+
+    def __init__(self, m: int, d: int, keep: int, cap: int, bins: int, expect_rows: int | None = None):
         self.m = m
         self.moments = Moments(m)
-        self.stored: list[np.ndarray] | None = []
+        self.stored: list[np.ndarray] | None = []    # chunks of shape (M, n)
         self.n_stored = 0
         self.binned: BinnedCDF | None = None
         self.cap = cap
+        if expect_rows is not None and expect_rows * m > cap:
+            # the histogram is certain to be needed: a pilot of PILOT_ROWS rows places its edges
+            self.cap = min(cap, PILOT_ROWS * m)
         self.bins = int(min(bins, max(2000, cap // max(1, 2 * m))))
         self.keep = keep
         self.X_kept: list[np.ndarray] = []
@@ -200,24 +209,31 @@ class _Collector:
             self.n_kept += t
         if self.binned is None:
             if (self.n_stored + Y.shape[0]) * self.m <= self.cap:
-                self.stored.append(Y.copy())
+                self.stored.append(Y.T.copy(order="C"))
                 self.n_stored += Y.shape[0]
             else:
-                pilot = np.concatenate(self.stored + [Y], axis=0)
-                self.stored = None
-                self.binned = BinnedCDF(pilot, self.bins)
+                pilot = self._sorted_rows(extra=Y)
+                self.binned = BinnedCDF(layout=BinLayout.from_pilot(pilot.T, self.bins, is_sorted=True))
+                self.binned.add_sorted(pilot.T)
         else:
-            self.binned.add(Y)
+            self.binned.add(Y, extremes=(self.moments.min, self.moments.max))
 
     def kept(self, d: int):
         if self.n_kept:
             return np.concatenate(self.X_kept, axis=0), np.concatenate(self.Y_kept, axis=0)
         return np.empty((0, d)), np.empty((0, self.m))
 
-    def sorted_values(self) -> np.ndarray:
-        ys = np.concatenate(self.stored, axis=0)
-        ys.sort(axis=0)
+    def _sorted_rows(self, extra: np.ndarray | None = None) -> np.ndarray:
+        """All stored values (plus ``extra`` rows) as a sorted (M, N) array; releases the store."""
+        parts = self.stored + ([extra.T] if extra is not None else [])
+        self.stored = None
+        ys = parts[0] if len(parts) == 1 and extra is None else np.concatenate(parts, axis=1)
+        ys.sort(axis=1)
         return ys
+
+    def sorted_values(self) -> np.ndarray:
+        """All stored values sorted per output, shape (N, M) (a transposed view)."""
+        return self._sorted_rows().T
 
 
 def _batch_summary(Y: np.ndarray, p: float) -> np.ndarray:
@@ -332,15 +348,18 @@ def propagate_monte_carlo(
             state["m"] = Y.shape[1]
         elif Y.shape[1] != state["m"]:
             raise StatisticsError(f"model returned {Y.shape[1]} outputs, earlier {state['m']}")
-        bad = ~np.all(np.isfinite(Y), axis=1)
-        if np.any(bad):
+        bad = None
+        if not np.isfinite(np.add.reduce(Y, axis=0)).all():   # a sum is finite if every term is
+            bad = ~np.all(np.isfinite(Y), axis=1)
+        if bad is not None and np.any(bad):
             raise StatisticsError(f"model returned non-finite values for {int(bad.sum())} of {Y.shape[0]} "
                                   f"samples in a chunk (first at input row {int(np.flatnonzero(bad)[0])})")
         return X, Y
 
     def make_collector(m: int) -> _Collector:
         kp = int(max(0, min(keep, max(1000, KEEP_VALUES // max(1, d + m)))))
-        return _Collector(m, d, kp, int(max_stored_values), int(histogram_bins))
+        return _Collector(m, d, kp, int(max_stored_values), int(histogram_bins),
+                          expect_rows=None if adaptive else samples)
 
     conv_n: list[int] = []
     conv_u: list[np.ndarray] = []

@@ -9,19 +9,21 @@
   intervals from sorted model values (JCGM 101 §7.7).
 * :func:`quantile_sorted` -- p-quantile of the JCGM 101 §7.5.2 continuous distribution
   function (linear interpolation with plotting positions (r − ½)/M; numpy's "hazen").
-* :class:`BinnedCDF` -- a fixed, fine, mergeable histogram for quantiles of very large
-  samples (edges from a pilot sample at equal pilot-probability steps).
+* :class:`BinLayout`, :class:`BinnedCDF` -- a fixed, fine, mergeable histogram for
+  quantiles of very large samples (edges from a pilot sample; equal-width bins over the
+  central range so that a value's bin is found by arithmetic, not by search).
 """
 
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 
 import numpy as np
 
 from ..errors import StatisticsError
 
-__all__ = ["Moments", "numerical_tolerance", "intervals_from_sorted", "quantile_sorted", "BinnedCDF"]
+__all__ = ["Moments", "numerical_tolerance", "intervals_from_sorted", "quantile_sorted", "BinLayout", "BinnedCDF"]
 
 
 def numerical_tolerance(z, ndigits: int = 2):
@@ -73,12 +75,13 @@ class Moments:
         nb = Y.shape[0]
         if nb == 0:
             return
-        mb = Y.mean(axis=0)
-        dev = Y - mb
-        m2b = np.einsum("ij,ij->j", dev, dev)
-        m3b = np.einsum("ij,ij,ij->j", dev, dev, dev)
-        self.min = np.minimum(self.min, Y.min(axis=0))
-        self.max = np.maximum(self.max, Y.max(axis=0))
+        YT = np.ascontiguousarray(Y.T)   # one output per contiguous row (free for Fortran-ordered Y)
+        mb = YT.mean(axis=1)
+        dev = YT - mb[:, None]
+        m2b = np.einsum("ij,ij->i", dev, dev)
+        m3b = np.einsum("ij,ij,ij->i", dev, dev, dev)
+        self.min = np.minimum(self.min, YT.min(axis=1))
+        self.max = np.maximum(self.max, YT.max(axis=1))
         na = self.n
         if na == 0:
             self.n, self.mean, self.m2, self.m3 = nb, mb, m2b, m3b
@@ -155,17 +158,118 @@ def quantile_sorted(ys: np.ndarray, p) -> np.ndarray:
     """p-quantile(s) of sorted values ys (N, M) from the JCGM 101 §7.5.2 distribution function.
 
     G(y_(r)) = (r − ½)/N with linear interpolation in between; outside [½/N, 1 − ½/N]
-    the extreme values are returned. Returns shape (M,) for scalar p, else (len(p), M).
+    the extreme values are returned (numpy's ``method="hazen"``). The values are already
+    sorted, so the quantile is read off directly (no partition). Returns shape (M,) for
+    scalar p, else (len(p), M).
     """
-    return np.quantile(ys, p, axis=0, method="hazen")
+    n = ys.shape[0]
+    pa = np.atleast_1d(np.asarray(p, dtype=float))
+    pos = np.clip(pa * n - 0.5, 0.0, n - 1.0)            # 0-based fractional rank
+    i0 = np.minimum(np.floor(pos).astype(np.intp), max(n - 2, 0))
+    i1 = np.minimum(i0 + 1, n - 1)
+    frac = (pos - i0)[:, None]
+    out = ys[i0] + (ys[i1] - ys[i0]) * frac
+    return out[0] if np.ndim(p) == 0 else out
+
+
+#: probability in each open end of the pilot that gets equal-probability bins (see BinLayout)
+TAIL_PROBABILITY = 1e-4
+
+
+@dataclass(frozen=True)
+class BinLayout:
+    """Fixed bin edges per output for :class:`BinnedCDF`, with a fast counting rule.
+
+    Built once from a sorted pilot sample (N_p, M) by :meth:`from_pilot`. Per output the
+    bins are: ``n_tail`` bins at equal pilot probability below the pilot quantile
+    c_lo = G⁻¹(a) and above c_hi = G⁻¹(1 − a) (a = max(10⁻⁴, 20/N_p)), and between them
+    ``k`` bins of equal width w = (c_hi − c_lo)/k. A value y falls in central bin
+    ⌊(y − c_lo)/w⌋, found by arithmetic; only the rare values outside [c_lo, c_hi) are
+    located by binary search. Values below the first or above the last edge go to two open
+    tail bins. Counts have shape (M, n_edges + 1): [below, bins..., above].
+
+    Attributes
+    ----------
+    edges : (M, B + 1) strictly increasing per row
+    lo, inv_width : (M,) c_lo and 1/w
+    k : int, central bins; first : int, index in ``edges`` of c_lo
+    """
+
+    edges: np.ndarray
+    lo: np.ndarray
+    inv_width: np.ndarray
+    k: int
+    first: int
+
+    @classmethod
+    def from_pilot(cls, pilot: np.ndarray, bins: int = 100_000, *, is_sorted: bool = False) -> "BinLayout":
+        ps = np.asarray(pilot, dtype=float)
+        if not is_sorted:
+            ps = np.sort(ps, axis=0)
+        n, m = ps.shape
+        bins = int(max(16, bins))
+        a = min(0.05, max(TAIL_PROBABILITY, 20.0 / max(n, 1)))
+        n_tail = int(min(1000, bins // 10, max(1, round(a * n))))
+        k = bins - 2 * n_tail
+        lo_q = quantile_sorted(ps, np.linspace(0.0, a, n_tail + 1))          # (n_tail+1, M)
+        hi_q = quantile_sorted(ps, np.linspace(1.0 - a, 1.0, n_tail + 1))
+        lo_q[0], hi_q[-1] = ps[0], ps[-1]
+        c_lo, c_hi = lo_q[-1], hi_q[0]
+        scale = np.maximum(np.maximum(np.abs(ps[0]), np.abs(ps[-1])), 1e-300)
+        tiny = np.maximum(ps[-1] - ps[0], scale * 1e-9) * 1e-12
+        width = np.maximum(c_hi - c_lo, tiny * k) / k
+        central = c_lo[None, :] + width[None, :] * np.arange(k + 1)[:, None]  # (k+1, M)
+        # tails strictly increasing, meeting the central block exactly (ties in the pilot,
+        # discrete outputs): e_i = min_{j >= i}(e_j + t(n - j)) - t(n - i) below, mirrored above
+        r = tiny[None, :] * np.arange(n_tail, -1, -1)[:, None]
+        lo_q[-1] = c_lo
+        low = np.minimum.accumulate((lo_q + r)[::-1], axis=0)[::-1] - r
+        hi_q[0] = central[-1]
+        r = tiny[None, :] * np.arange(n_tail + 1)[:, None]
+        high = np.maximum.accumulate(hi_q - r, axis=0) + r
+        edges = np.concatenate([low[:-1], central, high[1:]], axis=0).T.copy()  # (M, B+1)
+        return cls(edges=edges, lo=c_lo.copy(), inv_width=1.0 / width, k=k, first=n_tail)
+
+    @property
+    def n_counts(self) -> int:
+        return self.edges.shape[1] + 1
+
+    def indices(self, Y: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
+        """Flat counts index j·n_counts + b (output j, bin b) of every value of Y[n, M].
+
+        Returns shape (M·n,) int64, written into ``out`` when given (a 1-D int64 array of that size).
+        """
+        n, m = Y.shape
+        nc = self.n_counts
+        t = np.ascontiguousarray(Y.T) - self.lo[:, None]    # (M, n): one output per row
+        t *= self.inv_width[:, None]
+        np.clip(t, -1.0, float(self.k), out=t)
+        flat = np.empty(m * n, dtype=np.int64) if out is None else out
+        idx = flat.reshape(m, n)
+        # truncation = floor for t >= 0; values with t < 0 are outside and re-binned below.
+        # int64: what bincount takes without a conversion
+        np.copyto(idx, t, casting="unsafe")
+        idx += (self.first + 1 + np.arange(m, dtype=np.int64) * nc)[:, None]
+        outside = np.flatnonzero((t < 0) | (t >= self.k))    # the rare values outside [c_lo, c_hi)
+        if outside.size:
+            rows = outside // n
+            for j in np.unique(rows):
+                pos = outside[rows == j]
+                flat[pos] = j * nc + np.searchsorted(self.edges[j], Y[pos - j * n, j], side="right")
+        return flat
+
+    def count(self, Y: np.ndarray) -> np.ndarray:
+        """Bin counts (M, n_edges + 1) of a chunk Y[n, M]."""
+        m = Y.shape[1]
+        return np.bincount(self.indices(Y), minlength=m * self.n_counts).reshape(m, self.n_counts)
 
 
 class BinnedCDF:
     """Fixed fine histogram per output, for quantiles when not all values can be kept.
 
-    Edges are set once from a pilot sample (N_p, M) at equally spaced pilot probabilities
-    (so bins are narrow where the density is high and at most ``bins`` + 2 per output),
-    and then stay fixed: counts from any number of chunks simply add, which makes the
+    Edges are set once from a pilot sample (N_p, M) (see :class:`BinLayout`: equal-width
+    bins over the central pilot range, equal-probability bins in the two far tails) and
+    then stay fixed: counts from any number of chunks simply add, which makes the
     estimate mergeable and independent of the chunk size. Values below the first or above
     the last edge are counted in two open tail bins bounded by the running min / max.
 
@@ -175,39 +279,90 @@ class BinnedCDF:
     the numerical tolerance δ (JCGM 101 §7.9.2).
     """
 
-    def __init__(self, pilot: np.ndarray, bins: int = 100_000):
-        pilot = np.sort(np.asarray(pilot, dtype=float), axis=0)
-        n, m = pilot.shape
-        bins = int(max(16, bins))
-        # pilot quantiles at equal probability steps by linear interpolation of the sorted pilot
-        pos = np.linspace(0.0, 1.0, bins + 1) * (n - 1)
-        i0 = np.minimum(np.floor(pos).astype(np.int64), max(n - 2, 0))
-        frac = (pos - i0)[:, None]
-        i1 = np.minimum(i0 + 1, n - 1)
-        edges = (pilot[i0] * (1.0 - frac) + pilot[i1] * frac).T  # (M, bins+1)
-        # make edges strictly increasing (ties in the pilot) with a tiny relative spread
-        span = np.maximum(edges[:, -1] - edges[:, 0], np.finfo(float).tiny)
-        eps = span * 1e-12
-        edges = np.maximum.accumulate(edges + eps[:, None] * np.arange(bins + 1)[None, :], axis=1)
-        self.edges = edges
-        self.counts = np.zeros((m, bins + 2), dtype=np.int64)  # [below, bins..., above]
+    def __init__(self, pilot: np.ndarray | None = None, bins: int = 100_000, *, layout: BinLayout | None = None):
+        if layout is None:
+            pilot = np.sort(np.asarray(pilot, dtype=float), axis=0)
+            layout = BinLayout.from_pilot(pilot, bins, is_sorted=True)
+        self.layout = layout
+        m = layout.edges.shape[0]
+        self.counts = np.zeros((m, layout.n_counts), dtype=np.int64)  # [below, bins..., above]
         self.n = 0
         self.min = np.full(m, np.inf)
         self.max = np.full(m, -np.inf)
-        self.add(pilot)
+        if pilot is not None:
+            self.add_sorted(pilot)
 
-    def add(self, Y: np.ndarray) -> None:
-        """Count a chunk Y[n, M]."""
+    def add_sorted(self, ys: np.ndarray) -> None:
+        """Count values ys (N, M) already sorted along axis 0, by binary search of the edges.
+
+        Bin b holds e_{b−1} ≤ y < e_b, so its count is L(e_b) − L(e_{b−1}) with L(e) the
+        number of values below e: O(B log N) work instead of O(N).
+        """
+        n = ys.shape[0]
+        if n == 0:
+            return
+        for j in range(ys.shape[1]):
+            below = np.searchsorted(ys[:, j], self.layout.edges[j], side="left")
+            self._counts[j] += np.diff(below, prepend=0, append=n)
+        self.min = np.minimum(self.min, ys[0])
+        self.max = np.maximum(self.max, ys[-1])
+        self.n += n
+
+    @classmethod
+    def from_counts(cls, layout: BinLayout, counts: np.ndarray, n: int, minimum, maximum) -> "BinnedCDF":
+        """A histogram with given layout and (merged) counts."""
+        b = cls(layout=layout)
+        b.counts = np.asarray(counts, dtype=np.int64)
+        b.n = int(n)
+        b.min = np.asarray(minimum, dtype=float).copy()
+        b.max = np.asarray(maximum, dtype=float).copy()
+        return b
+
+    @property
+    def edges(self) -> np.ndarray:
+        return self.layout.edges
+
+    def add(self, Y: np.ndarray, extremes: tuple[np.ndarray, np.ndarray] | None = None) -> None:
+        """Count a chunk Y[n, M] (``extremes``: the running (min, max) if the caller keeps them).
+
+        Bin indices are buffered (up to 8 per counter, at most 2²³ of them) and counted
+        together, so the cost of one ``bincount`` over all M·B counters is shared by many chunks.
+        """
         if Y.shape[0] == 0:
             return
-        nb = self.counts.shape[1]
-        Ys = np.sort(Y.T, axis=1)  # sorted needles make the binary searches cache-friendly
-        for j in range(Y.shape[1]):
-            idx = np.searchsorted(self.edges[j], Ys[j], side="right")  # 0 = below, nb-1 = above
-            self.counts[j] += np.bincount(idx, minlength=nb)
-        self.min = np.minimum(self.min, Y.min(axis=0))
-        self.max = np.maximum(self.max, Y.max(axis=0))
+        size = Y.shape[0] * Y.shape[1]
+        if self._buf is None:
+            self._buf = np.empty(max(self._counts.size, min(8 * self._counts.size, 1 << 23)), dtype=np.int64)
+        if size > self._buf.size:
+            self._flush()
+            self._counts += self.layout.count(Y)
+        else:
+            if self._n_pending + size > self._buf.size:
+                self._flush()
+            self.layout.indices(Y, out=self._buf[self._n_pending:self._n_pending + size])
+            self._n_pending += size
+        if extremes is None:
+            YT = Y.T
+            extremes = (np.minimum(self.min, YT.min(axis=1)), np.maximum(self.max, YT.max(axis=1)))
+        self.min, self.max = extremes
         self.n += Y.shape[0]
+
+    def _flush(self) -> None:
+        if self._n_pending:
+            c = np.bincount(self._buf[:self._n_pending], minlength=self._counts.size)
+            self._counts += c.reshape(self._counts.shape)
+            self._n_pending = 0
+
+    @property
+    def counts(self) -> np.ndarray:
+        """Counts (M, n_edges + 1): [below, bins..., above] per output."""
+        self._flush()
+        return self._counts
+
+    @counts.setter
+    def counts(self, value) -> None:
+        self._buf, self._n_pending = None, 0
+        self._counts = np.asarray(value, dtype=np.int64)
 
     def _knots(self, j: int) -> tuple[np.ndarray, np.ndarray]:
         e = self.edges[j]
@@ -218,13 +373,19 @@ class BinnedCDF:
         return x, c
 
     def quantile(self, p) -> np.ndarray:
-        """Quantile(s) per output: shape (M,) for scalar p, else (len(p), M)."""
+        """Quantile(s) per output: shape (M,) for scalar p, else (len(p), M).
+
+        Inverse of the piecewise-linear CDF: p in (c_{i−1}, c_i] lies in bin i, at
+        x_{i−1} + (p − c_{i−1})/(c_i − c_{i−1})·(x_i − x_{i−1}); empty bins are jumped over.
+        """
         p_arr = np.atleast_1d(np.asarray(p, dtype=float))
         out = np.empty((p_arr.size, self.edges.shape[0]))
         for j in range(self.edges.shape[0]):
             x, c = self._knots(j)
-            keep = np.concatenate([[True], np.diff(c) > 0])  # drop empty bins for a strictly rising CDF
-            out[:, j] = np.interp(p_arr, c[keep], x[keep])
+            i = np.clip(np.searchsorted(c, p_arr, side="left"), 1, len(c) - 1)
+            c0, c1 = c[i - 1], c[i]
+            frac = np.where(c1 > c0, (p_arr - c0) / np.where(c1 > c0, c1 - c0, 1.0), 0.0)
+            out[:, j] = x[i - 1] + np.clip(frac, 0.0, 1.0) * (x[i] - x[i - 1])
         return out[0] if np.ndim(p) == 0 else out
 
     def cdf(self, y) -> np.ndarray:
