@@ -224,6 +224,7 @@ class InputSet:
         for a in (self.estimates, self.stds, self.dofs):
             a.setflags(write=False)
         self._factor = None  # copula factor (computed now when correlations are given, so errors surface early)
+        self._plan = None    # column plan of from_uniform (cached on first use)
         if correlation is not None:
             self._copula_factor()
 
@@ -441,23 +442,61 @@ class InputSet:
         if U.ndim != 2 or U.shape[1] != d:
             raise StatisticsError(f"uniform sample must have shape (N, {d}), got {U.shape}")
         n = U.shape[0]
+        plan = self._transform_plan()
         X = np.empty((n, d), dtype=float)
-        linked, L = self._copula_factor()
-        linked_set = set(int(i) for i in linked)
-        for j, v in enumerate(self.variables):
-            if j in linked_set:
-                continue
-            dist = v.distribution
-            if dist.std == 0.0:
-                X[:, j] = dist.estimate
-            else:
-                X[:, j] = dist.ppf(np.clip(U[:, j], U_CLIP, 1.0 - U_CLIP))
-        if L is not None:
-            Z = special.ndtri(np.clip(U[:, linked], U_CLIP, 1.0 - U_CLIP))
-            Zc = Z @ L.T
-            for k, j in enumerate(linked):
-                X[:, j] = self.variables[j].distribution.from_standard_normal(Zc[:, k])
+        for j in plan["exact"]:
+            X[:, j] = self.variables[j].distribution.estimate
+        for j in plan["other"]:
+            X[:, j] = self.variables[j].distribution.ppf(np.clip(U[:, j], U_CLIP, 1.0 - U_CLIP))
+        zc = plan["z_columns"]
+        if zc is not None:
+            # one Φ⁻¹ pass over every column that goes through a standard normal (all of U
+            # when every input is normal: no gather copy)
+            Uz = U if zc is Ellipsis else U[:, zc]
+            if Uz.min() < U_CLIP or Uz.max() > 1.0 - U_CLIP:   # two cheap reductions; clip only if needed
+                Uz = np.clip(Uz, U_CLIP, 1.0 - U_CLIP)
+            Z = special.ndtri(Uz)
+            nz, mu, sd = plan["normal"]
+            if zc is Ellipsis and len(nz) == d:
+                Z *= sd
+                Z += mu
+                return Z
+            if len(nz):
+                X[:, plan["normal_columns"]] = Z[:, nz] * sd + mu
+            linked, L = self._copula_factor()
+            if L is not None:
+                Zc = Z[:, plan["linked"]] @ L.T
+                for k, j in enumerate(linked):
+                    X[:, j] = self.variables[j].distribution.from_standard_normal(Zc[:, k])
         return X
+
+    def _transform_plan(self) -> dict:
+        """Cached column plan of :meth:`from_uniform` (which columns are exact, normal, copula-linked)."""
+        if self._plan is None:
+            linked, L = self._copula_factor()
+            linked_set = set(int(i) for i in linked) if L is not None else set()
+            exact, normal, other = [], [], []
+            for j, v in enumerate(self.variables):
+                if j in linked_set:
+                    continue
+                dist = v.distribution
+                if dist.std == 0.0:
+                    exact.append(j)
+                elif dist.kind == "normal":
+                    normal.append(j)
+                else:
+                    other.append(j)
+            zcols = sorted(normal + sorted(linked_set))
+            pos = {j: i for i, j in enumerate(zcols)}
+            d = len(self.variables)
+            z_columns = None if not zcols else (Ellipsis if zcols == list(range(d)) else np.array(zcols))
+            mu = np.array([self.variables[j].distribution.estimate for j in normal], dtype=float)
+            sd = np.array([self.variables[j].distribution.std for j in normal], dtype=float)
+            self._plan = {"exact": exact, "other": other, "z_columns": z_columns,
+                          "normal": (np.array([pos[j] for j in normal], dtype=np.intp), mu, sd),
+                          "normal_columns": np.array(normal, dtype=np.intp),
+                          "linked": np.array([pos[int(j)] for j in linked] if L is not None else [], dtype=np.intp)}
+        return self._plan
 
     def describe(self) -> list[dict[str, Any]]:
         """One row per variable: name, datum, distribution text, estimate, u, dof."""
