@@ -328,6 +328,8 @@ class ReactionTable:
         self._t_ref = case.settings.reference_temperature
         self._decode = decode
         self._maps = None
+        self.folded = False   # True when the maps give reaction (not species) values directly
+        self._kj = None       # the folded ΔrH map in kJ/mol (direct_fill)
         self.linear = False
         self._linearise(inputs)
 
@@ -372,16 +374,38 @@ class ReactionTable:
             scale = np.max(np.abs(flat)) + 1.0
             if not np.all(np.abs(predicted - flat[:, -1]) <= 1e-9 * scale):
                 return                                          # not affine: evaluate directly
-            maps.append((_operator(J), c[:, None]))
-        self._maps = maps
+            maps.append((J, c))
+        S, G, R = len(self.keys), self.temperatures.size, len(self.reactions)
+        if R < S:
+            # fewer reactions than species: fold ν into the map once, ΔrX = (ν J) X^T + ν c,
+            # so each block costs one (R·G, D) product instead of (S·G, D) plus ν @ H
+            maps = [(np.asarray(self._nu @ J.reshape(S, G * D)).reshape(R * G, D),
+                     np.asarray(self._nu @ c.reshape(S, G)).reshape(R * G)) for J, c in maps]
+            self.folded = True
+        self._maps = [(_operator(J), c[:, None]) for J, c in maps]
         self.linear = True
 
     def _tables(self, X: np.ndarray) -> list[np.ndarray]:
         if self._maps is None:
             return self._direct(X)
-        XT = np.ascontiguousarray(X.T)
-        S, G = len(self.keys), self.temperatures.size
-        return [np.asarray(J @ XT + c).reshape(S, G, X.shape[0]) for J, c in self._maps]
+        XT = X.T if isinstance(self._maps[0][0], np.ndarray) else np.ascontiguousarray(X.T)
+        rows = len(self.reactions) if self.folded else len(self.keys)
+        return [np.asarray(J @ XT + c).reshape(rows, self.temperatures.size, X.shape[0]) for J, c in self._maps]
+
+    def direct_fill(self, which, plan) -> bool:
+        """Whether outputs ``which`` are exactly the folded ΔrH map in order (see :meth:`enthalpies_into`)."""
+        return (plan is not None and self.linear and self.folded and isinstance(self._maps[0][0], np.ndarray)
+                and plan[1] is None
+                and isinstance(plan[3], slice) and set(which) == plan[0])
+
+    def enthalpies_into(self, X: np.ndarray, out: np.ndarray) -> None:
+        """Write ΔrH (kJ/mol) of all reactions and temperatures, ``out[R·G, n]``, for input rows X (n, D)."""
+        if self._kj is None:
+            J, c = self._maps[0]
+            self._kj = (np.asarray(J.toarray() if hasattr(J, "toarray") else J) * 1e-3, c * 1e-3)
+        J, c = self._kj
+        np.matmul(J, X.T, out=out)
+        out += c
 
     # ------------------------------------------------------------------ reactions
     @staticmethod
@@ -401,7 +425,8 @@ class ReactionTable:
         """``(ΔrH[R, G, n], ΔrS[R, G, n] or None)`` for one block of input rows X (n, D)."""
         n = X.shape[0]
         R, S, G = len(self.reactions), len(self.keys), self.temperatures.size
-        out = [np.asarray(self._nu @ tab.reshape(S, G * n)).reshape(R, G, n) for tab in self._tables(X)]
+        tabs = self._tables(X)
+        out = tabs if self.folded else [np.asarray(self._nu @ tab.reshape(S, G * n)).reshape(R, G, n) for tab in tabs]
         return out[0], (out[1] if self.entropy else None)
 
 
@@ -430,6 +455,9 @@ def _put_columns(Y: np.ndarray, cols, values: np.ndarray, scale: float = 1e-3) -
     """
     if not isinstance(cols, slice):
         Y[:, cols] = scale * values.T
+        return
+    if Y.flags.f_contiguous or Y[:, cols].T.flags.c_contiguous:
+        np.multiply(values.T, scale, out=Y[:, cols])   # column-major Y: contiguous rows of values
         return
     k = values.shape[0]
     for c in range(0, k, 64):
@@ -641,9 +669,16 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
         if X.ndim != 2:
             raise ValueError("X must be 2-D")
         n = X.shape[0]
-        Y = np.empty((n, n_rep + len(aux)))
+        Y = np.empty((n, n_rep + len(aux)), order="F")   # column-major: statistics run along outputs
         with one_blas_thread():
             for which, rows, table, needs_values, plan in groups:
+                if table is not None and table.direct_fill(which, plan):
+                    # every output of the group is the folded reaction map itself: products go
+                    # straight into the (column-major) result, in kJ/mol
+                    for a in range(0, n, rows):
+                        b = min(n, a + rows)
+                        table.enthalpies_into(X[a:b], Y[a:b, plan[3]].T)
+                    continue
                 for a in range(0, n, rows):
                     b = min(n, a + rows)
                     parts, extra, bulk = evaluate_block(X[a:b], which, table, needs_values, plan)
