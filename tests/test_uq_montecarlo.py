@@ -58,9 +58,11 @@ def test_adaptive_chunk_size_independent(method):
     a = propagate_monte_carlo(model, _inputs(), chunk_size=10_000, **kw)
     b = propagate_monte_carlo(model, _inputs(), chunk_size=70_000, **kw)
     assert a.converged and b.converged
-    assert a.samples_used == b.samples_used and a.samples_used % 10_000 == 0
+    # JCGM 101 7.9.4 b): M = max(100/(1-p), 10^4) for p = 0.95; for Sobol' the nearest power of two >= J
+    M = 8192 if method == "sobol" else 10_000
+    assert a.batch_size == M
+    assert a.samples_used == b.samples_used and a.samples_used % M == 0
     assert a.coverage_interval.tobytes() == b.coverage_interval.tobytes()
-    assert a.batch_size == 10_000  # JCGM 101 7.9.4 b): max(100/(1-p), 10^4) for p = 0.95
     # stability holds 2s per quantity (JCGM 101 7.9.4 k): none exceeds delta
     assert all(s2 <= t for v in a.stability.values() for s2, t in zip(v, a.tolerance))
 
@@ -222,3 +224,61 @@ def test_histogram_mode_known_in_advance_uses_a_small_pilot():
     np.testing.assert_allclose(binned.coverage_interval, exact.coverage_interval,
                                atol=2 * binned.quantile_resolution.max())
     np.testing.assert_allclose(binned.mean, exact.mean, rtol=1e-12)
+
+
+def _additive(n_inputs=8):
+    """JCGM 101 §9.2-style additive model Y = Σ c_i X_i of independent normal inputs:
+    Y is exactly normal (mean Σ c_i x_i, variance Σ c_i² u_i²), so every §7.9 quantity has
+    an exact reference (scipy.stats.norm)."""
+    rng = np.random.default_rng(42)
+    c = rng.uniform(-2.0, 2.0, n_inputs) * np.logspace(0, -1.5, n_inputs)
+    xs = rng.normal(0.0, 3.0, n_inputs)
+    us = rng.uniform(0.2, 1.0, n_inputs)
+    s = InputSet([InputVariable(f"x{i}", f"x{i}", Normal(xs[i], us[i])) for i in range(n_inputs)])
+    mean, sd = float(c @ xs), float(np.sqrt(np.sum((c * us) ** 2)))
+    return (lambda X: X @ c), s, mean, sd
+
+
+def test_adaptive_sobol_batches_are_independent_scrambles_in_importance_order():
+    from uqthermo.uq.montecarlo import batch_sampler, batch_seed, importance_order
+    from uqthermo.uq.sampling import UniformStream
+
+    f, s, _, _ = _additive(5)
+    order = importance_order(f, s)
+    share = (np.array([(f(s.estimates + np.eye(5)[j] * s.stds[j]) - f(s.estimates))[()] for j in range(5)])) ** 2
+    assert order[0] == int(np.argmax(share)) and sorted(order) == list(range(5))
+    draw = batch_sampler(f, s, "sobol", 9, 1024)
+    U3 = draw(3)
+    V = UniformStream(5, "sobol", batch_seed(9, 3)).draw(1024)
+    np.testing.assert_array_equal(U3[:, order], V)
+    assert not np.array_equal(draw(4), U3) and batch_seed(9, 3) != batch_seed(9, 4) != batch_seed(10, 3)
+
+
+@pytest.mark.parametrize("seed", [1, 2, 3])
+def test_adaptive_sobol_meets_its_tolerance_against_the_exact_normal(seed):
+    """§7.9 stopping with independent scrambled batches: y, u(y) and the probabilistically
+    symmetric interval agree with the exact normal output within the numerical tolerance."""
+    f, s, mean, sd = _additive()
+    mc = propagate_monte_carlo(f, s, samples="adaptive", sampling="sobol", seed=seed, ndigits=2,
+                               check_shortest=False)
+    assert mc.converged and mc.batch_size == 8192
+    delta = mc.tolerance[0]
+    exact = stats.norm.ppf([0.025, 0.975], mean, sd)
+    assert abs(mc.mean[0] - mean) <= delta
+    assert abs(mc.standard_uncertainty[0] - sd) <= delta
+    assert np.all(np.abs(mc.coverage_interval[0] - exact) <= 1.5 * delta)
+
+
+def test_sobol_batch_sizes():
+    from uqthermo.uq.montecarlo import adaptive_batch_size
+
+    assert [adaptive_batch_size(p) for p in (0.9, 0.95, 0.99, 0.999)] == [10_000, 10_000, 10_000, 100_000]
+    assert [adaptive_batch_size(p, "sobol") for p in (0.9, 0.95, 0.99, 0.999)] == [8192, 8192, 16_384, 131_072]
+
+
+def test_adaptive_sobol_needs_fewer_trials_than_random():
+    f, s, _, _ = _additive()
+    kw = dict(samples="adaptive", ndigits=2, check_shortest=False)
+    n_sobol = [propagate_monte_carlo(f, s, sampling="sobol", seed=k, **kw).samples_used for k in (1, 2)]
+    n_random = [propagate_monte_carlo(f, s, sampling="random", seed=k, **kw).samples_used for k in (1, 2)]
+    assert np.mean(n_random) >= 3 * np.mean(n_sobol)

@@ -65,7 +65,8 @@ import numpy as np
 from ..errors import StatisticsError
 from .inputs import InputSet
 from .montecarlo import (HISTOGRAM_BINS, KEEP_VALUES, MAX_STORED_VALUES, MonteCarloResult, _batch_summary,
-                         _Collector, adaptive_batch_size, check_run_arguments)
+                         _Collector, adaptive_batch_size, batch_seed, check_run_arguments,
+                         importance_order, stability_factor, to_inputs_order)
 from .sampling import UniformStream
 from .stats import BinLayout, BinnedCDF, Moments, intervals_from_sorted, numerical_tolerance, quantile_sorted
 
@@ -153,8 +154,11 @@ def _evaluate(f, inputs: InputSet, U: np.ndarray) -> tuple[np.ndarray, np.ndarra
 
 def _run_block(f, inputs: InputSet, method: str, seed: int, start: int, rows: int, chunk_size: int,
                keep: int, want_values: bool, layout: BinLayout | None, coverage: float | None = None,
-               ) -> _BlockResult:
-    """Evaluate rows ``[start, start + rows)`` of the run's stream (runs on a worker)."""
+               order: np.ndarray | None = None) -> _BlockResult:
+    """Evaluate rows ``[start, start + rows)`` of the run's stream (runs on a worker).
+
+    ``order``: Sobol' dimension k drives input order[k] (adaptive Sobol' batches).
+    """
     d = len(inputs)
     stream = UniformStream(d, method, seed, skip=start)
     moments: Moments | None = None
@@ -164,7 +168,7 @@ def _run_block(f, inputs: InputSet, method: str, seed: int, start: int, rows: in
     Yk: list[np.ndarray] = []
     n_kept = 0
     for U in stream.chunks(rows, chunk_size):
-        X, Y = _evaluate(f, inputs, U)
+        X, Y = _evaluate(f, inputs, to_inputs_order(U, order))
         m = Y.shape[1]
         if moments is None:
             moments = Moments(m)
@@ -280,7 +284,7 @@ def propagate_monte_carlo_dask(
         f_remote = client.scatter(f, broadcast=True, hash=False)
         in_remote = client.scatter(inputs, broadcast=True, hash=False)
         if adaptive:
-            return _adaptive(client, cluster.n_workers, f_remote, in_remote, inputs, method, int(seed), p,
+            return _adaptive(client, cluster.n_workers, f, f_remote, in_remote, inputs, method, int(seed), p,
                              chunk_size, int(ndigits), progress, keep, int(max_samples), batch_size,
                              check_shortest, int(max_stored_values), int(histogram_bins))
         return _fixed(client, cluster.n_workers, f_remote, in_remote, d, method, int(seed), p, int(samples),
@@ -389,13 +393,17 @@ def _finish(blocks: dict, d, m, p, ndigits, exact, layout, warnings, method, see
     )
 
 
-def _adaptive(client, n_workers, f_remote, in_remote, inputs, method, seed, p, chunk_size, ndigits, progress,
+def _adaptive(client, n_workers, f, f_remote, in_remote, inputs, method, seed, p, chunk_size, ndigits, progress,
               keep, max_samples, batch_size, check_shortest, cap, bins) -> MonteCarloResult:
     """JCGM 101 §7.9 with batches computed in parallel rounds, stopping rule applied in order."""
     d = len(inputs)
-    M_b = int(batch_size) if batch_size is not None else adaptive_batch_size(p)
+    M_b = int(batch_size) if batch_size is not None else adaptive_batch_size(p, method)
     if M_b < 2:
         raise StatisticsError(f"batch size must be at least 2, got {batch_size!r}")
+    # batches as in the local engine (montecarlo.batch_sampler): one random stream, or
+    # independently scrambled Sobol' nets with importance-ordered dimensions
+    sobol = method == "sobol"
+    order = importance_order(f, inputs) if sobol else None
     per_round = 4 * n_workers
     summaries: list[np.ndarray] = []
     collector: _Collector | None = None
@@ -409,9 +417,10 @@ def _adaptive(client, n_workers, f_remote, in_remote, inputs, method, seed, p, c
     use = [0, 1, 2, 3] + ([4, 5] if check_shortest else [])
     while not converged and done < max_samples:
         n_round = min(per_round, max(1, (max_samples - done) // M_b))
-        futs = [client.submit(_run_block, f_remote, in_remote, method, seed, done + i * M_b, M_b,
-                              min(chunk_size, M_b), keep if done + i * M_b < keep else 0, True, None, p,
-                              pure=False)
+        futs = [client.submit(_run_block, f_remote, in_remote, method,
+                              batch_seed(seed, batches + i) if sobol else seed, 0 if sobol else done + i * M_b,
+                              M_b, min(chunk_size, M_b), keep if done + i * M_b < keep else 0, True, None, p,
+                              order, pure=False)
                 for i in range(n_round)]
         results = [fu.result() for fu in futs]          # in batch order
         for br in results:
@@ -436,10 +445,11 @@ def _adaptive(client, n_workers, f_remote, in_remote, inputs, method, seed, p, c
             h = S.shape[0]
             s = np.sqrt(np.var(S, axis=0, ddof=1) / h)
             delta = numerical_tolerance(u_all, ndigits)
-            exceed = np.any(2.0 * s[use] > delta[None, :], axis=0) & (u_all > 0)
+            k = stability_factor(h)
+            exceed = np.any(k * s[use] > delta[None, :], axis=0) & (u_all > 0)
             if not np.any(exceed) or done >= max_samples:
                 converged = not np.any(exceed)
-                stability = {rows[r]: 2.0 * s[r] for r in use}
+                stability = {rows[r]: k * s[r] for r in use}
                 break
     warnings: list[str] = []
     if not converged:
