@@ -484,7 +484,7 @@ def render(results: dict) -> str:
           "Trials until the stopping rule holds:", "",
           "| stopping rule | Sobol' (per seed) | random (per seed) | ratio random/Sobol' |", "|---|---|---|---|"]
     for k, r in b.items():
-        if isinstance(r, dict) and "sobol" in r:
+        if isinstance(r, dict) and "ratio_random_over_sobol" in r:
             L.append(f"| {k} | {r['sobol']} | {r['random']} | **{r['ratio_random_over_sobol']:.2f}x** |")
     L += ["", f"Target: {b['target']}.", ""]
     b = results["4_memory"]

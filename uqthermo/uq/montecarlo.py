@@ -16,23 +16,29 @@ Summary of the output distribution (JCGM 101 §7.5–7.7), per output:
 batches of M = max(J, 10⁴) trials, J the smallest integer ≥ 100/(1 − p); after each batch
 h ≥ 2 it computes the standard deviations of the batch means, batch standard
 deviations and batch interval endpoints, s_z = [Σ_r (z⁽ʳ⁾ − z̄)² / (h(h − 1))]^{1/2},
-and stops when none of 2s_y, 2s_u(y), 2s_ylow, 2s_yhigh exceeds the numerical tolerance δ
-of u(y) from all h·M values (§7.9.2, ``ndigits`` significant digits), for every output.
-Endpoints of both the symmetric and (``check_shortest=True``) the shortest interval are
-checked. Consecutive batches continue one random / Sobol' sequence (a Latin-hypercube
-batch is its own design). Batches may be evaluated several per model call; the stopping
-batch is the same as when evaluating one batch at a time, so results never depend on the
-chunk size.
+and stops when none of k·s_y, k·s_u(y), k·s_ylow, k·s_yhigh exceeds the numerical tolerance
+δ of u(y) from all h·M values (§7.9.2, ``ndigits`` significant digits), for every output.
+JCGM 101 takes k = 2; here k = max(2, t_0.975(h − 1)) (:func:`stability_factor`), so that
+a spread estimated from a few batches cannot stop the run by chance. Endpoints of both the
+symmetric and (``check_shortest=True``) the shortest interval are checked. Pseudo-random
+batches continue one stream (a Latin-hypercube batch is its own design). A Sobol' batch is
+its own independently scrambled net of a power-of-two size (:func:`adaptive_batch_size`,
+:func:`batch_sampler`), inputs assigned to dimensions by :func:`importance_order`: the
+batches are then independent replicates, as §7.9 assumes, and each batch's estimates
+carry the smaller randomised-QMC error. Batches may be evaluated several per model call;
+the stopping batch is the same as when evaluating one batch at a time, so results never
+depend on the chunk size.
 
 **Memory.** All model values are kept while N·M ≤ ``max_stored_values`` (default 2·10⁷)
 and the quantities above are computed exactly from the sorted values. Beyond that the
 stored values become the pilot of a fixed fine histogram per output
-(:class:`~uqthermo.uq.stats.BinnedCDF`, up to 10⁵ bins placed at equal pilot
-probabilities); later chunks only add counts. A quantile from it is accurate to within
-one bin width; ``quantile_resolution`` reports the widest bin holding an interval endpoint
-(with the default 2·10⁷-value pilot and 10⁵ bins it is ~10⁻⁴ u(y) at the 2.5 % and 97.5 %
-points of a normal-like output), far below δ, which is at least 0.005 u(y) for two
-significant digits. A warning is added if it ever exceeds δ/10.
+(:class:`~uqthermo.uq.stats.BinnedCDF`, up to 10⁵ bins: equal-width over the central pilot
+range, equal-probability in the far tails); later chunks only add counts. When a fixed N
+is known to exceed the bound, the pilot is the first :data:`PILOT_ROWS` rows. A quantile
+from it is accurate to within one bin width; ``quantile_resolution`` reports the widest bin
+holding an interval endpoint (~10⁻⁴ u(y) for a normal-like output with 10⁵ bins), far below
+δ, which is at least 0.005 u(y) for two significant digits. A warning is added if it ever
+exceeds δ/10.
 Mean, u(y) and skewness always use all values (mergeable moments).
 """
 
