@@ -534,7 +534,8 @@ def render(results: dict) -> str:
           "interval (§7.7.2) is the exception: for a near-symmetric output its width is flat around the "
           "minimum, so the endpoints jitter along that flat valley by an amount no sampling design reduces; "
           "with that interval in the rule both samplings need about the same number of trials. For y and u(y) "
-          "alone Sobol' stops two orders of magnitude earlier.",
+          "alone Sobol' stops two orders of magnitude earlier. In a case file the first row is "
+          "`adaptive_intervals = \"symmetric\"`, the second the default `\"both\"`.",
           "- Benchmark 4: when N·M is known to exceed the stored-values bound, the histogram is placed from a "
           "pilot of 2^18 rows (`uq/montecarlo.py::PILOT_ROWS`) and later chunks only add counts; the peak is "
           "the chunk temporaries plus the counts buffer.",

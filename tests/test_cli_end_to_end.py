@@ -327,3 +327,21 @@ def test_adaptive_sample_count(make_case, tmp_path):
         for pt in out_["points"]:
             lin, mc = pt["linear"], pt["monte_carlo"]
             assert abs(mc["mean"] - lin["estimate"]) <= 3 * mc["standard_uncertainty"] / math.sqrt(n)
+
+
+def test_adaptive_intervals_setting(make_case, tmp_path):
+    """settings.adaptive_intervals = "symmetric" stops on the JCGM 101 §7.9.4 quantities only
+    (y, u(y), probabilistically symmetric interval): never later than checking both intervals."""
+    used = {}
+    for choice in ("both", "symmetric"):
+        case = make_case(replace=[("samples = 20000", f'samples = "adaptive"\nadaptive_intervals = "{choice}"')])
+        out = tmp_path / choice
+        code, _, err = main_in_process("run", case, "--out", out, "--quiet", "--no-report")
+        assert code == 0, err
+        doc = json.loads((out / "results.json").read_text())
+        assert doc["run"]["adaptive_intervals"] == choice
+        used[choice] = doc["run"]["samples"]
+    assert used["symmetric"] <= used["both"]
+    bad = make_case(replace=[("samples = 20000", 'samples = "adaptive"\nadaptive_intervals = "shortest"')])
+    code, _, err = main_in_process("check", bad)
+    assert code == 2 and "settings.adaptive_intervals" in err and "symmetric" in err

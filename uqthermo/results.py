@@ -209,6 +209,7 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
         "date": now_iso(), "engine": engine, "duration_s": round(duration, 3),
         "reference_temperature_K": s.reference_temperature, "coverage_probability": p,
         "adaptive": s.samples == "adaptive", "significant_digits": s.significant_digits,
+        "adaptive_intervals": s.adaptive_intervals if s.samples == "adaptive" else None,
         "n_variables": len(inputs.variables), "n_data": sum(1 for d in case.data.values() if d.uncertain),
         **environment(),
     }

@@ -124,6 +124,7 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
                          ndigits=s.significant_digits, progress=progress)
         if s.samples == "adaptive":
             mc_kwargs["max_samples"] = s.max_samples
+            mc_kwargs["check_shortest"] = s.adaptive_intervals == "both"
         if engine == "dask":
             from .uq.distributed import propagate_monte_carlo_dask
 

@@ -488,7 +488,7 @@ def _settings(c: Collector, node: Any) -> Settings:
         return s
     allowed = {"reference_temperature", "coverage_probability", "samples", "sampling", "seed", "method",
                "allow_extrapolation", "significant_digits", "max_samples", "sensitivity", "sobol_samples",
-               "design_probabilities", "what_if", "plan_target", "plan_budget"}
+               "design_probabilities", "what_if", "plan_target", "plan_budget", "adaptive_intervals"}
     c.unknown_keys(node, allowed, "settings")
     if "reference_temperature" in node:
         t = _temperature(c, node["reference_temperature"], "settings.reference_temperature")
@@ -535,6 +535,7 @@ def _settings(c: Collector, node: Any) -> Settings:
             else:
                 setattr(s, key, v)
     _choice(c, node, s, "sensitivity", ("auto", "linear", "sobol", "none"))
+    _choice(c, node, s, "adaptive_intervals", ("both", "symmetric"))
     if "plan_target" in node:
         if not isinstance(node["plan_target"], str):
             c.add("settings.plan_target", "must be text such as \"U95 <= 2 kJ/mol\"")

@@ -22,6 +22,7 @@ SETTINGS_DEFAULTS: dict[str, Any] = {
     "allow_extrapolation": False,
     "significant_digits": 2,
     "max_samples": 10_000_000,
+    "adaptive_intervals": "both",
     "sensitivity": "auto",
     "sobol_samples": 1024,
     "design_probabilities": [0.95, 0.99],
@@ -52,6 +53,7 @@ class Settings:
     allow_extrapolation: bool = False
     significant_digits: int = 2
     max_samples: int = 10_000_000
+    adaptive_intervals: str = "both"     # intervals whose endpoints must be stable to stop an adaptive run
     sensitivity: str = "auto"
     sobol_samples: int = 1024
     design_probabilities: list[float] = field(default_factory=lambda: [0.95, 0.99])
