@@ -260,3 +260,9 @@ def test_vectorised_transform_equals_per_column_inverse_cdf():
     assert np.corrcoef(XL[:, 0], XL[:, 3])[0, 1] == pytest.approx(0.6, abs=0.03)
     only_normal = InputSet([variables[0], variables[3]])
     np.testing.assert_array_equal(only_normal.from_uniform(U[:, [0, 3]]), X[:, [0, 3]])
+
+
+def test_from_uniform_of_no_rows():
+    s = InputSet([InputVariable("a", "a", Normal(1.0, 0.1)), InputVariable("b", "b", Rectangular(0.0, 1.0))])
+    assert s.from_uniform(np.empty((0, 2))).shape == (0, 2)
+    assert InputSet([InputVariable("a", "a", Normal(1.0, 0.1))]).from_uniform(np.empty((0, 1))).shape == (0, 1)

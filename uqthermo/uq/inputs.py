@@ -453,7 +453,7 @@ class InputSet:
             # one Φ⁻¹ pass over every column that goes through a standard normal (all of U
             # when every input is normal: no gather copy)
             Uz = U if zc is Ellipsis else U[:, zc]
-            if Uz.min() < U_CLIP or Uz.max() > 1.0 - U_CLIP:   # two cheap reductions; clip only if needed
+            if Uz.size and (Uz.min() < U_CLIP or Uz.max() > 1.0 - U_CLIP):   # two cheap reductions; clip only if needed
                 Uz = np.clip(Uz, U_CLIP, 1.0 - U_CLIP)
             Z = special.ndtri(Uz)
             nz, mu, sd = plan["normal"]
