@@ -65,7 +65,7 @@ import numpy as np
 from ..errors import StatisticsError
 from .inputs import InputSet
 from .montecarlo import (HISTOGRAM_BINS, KEEP_VALUES, MAX_STORED_VALUES, MonteCarloResult, _batch_summary,
-                         _Collector, adaptive_batch_size, batch_seed, check_run_arguments,
+                         _Collector, adaptive_batch_size, batch_origin, check_run_arguments, evaluate_model,
                          importance_order, stability_factor, to_inputs_order)
 from .sampling import UniformStream
 from .stats import BinLayout, BinnedCDF, Moments, intervals_from_sorted, numerical_tolerance, quantile_sorted
@@ -138,20 +138,6 @@ class _BlockResult:
     summary: np.ndarray | None = None   # adaptive: (6, M) batch summary (JCGM 101 §7.9.4)
 
 
-def _evaluate(f, inputs: InputSet, U: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    X = inputs.from_uniform(U)
-    Y = np.asarray(f(X), dtype=float)
-    if Y.ndim == 1:
-        Y = Y[:, None]
-    if Y.ndim != 2 or Y.shape[0] != X.shape[0]:
-        raise StatisticsError(f"model must return shape (N, M) for N = {X.shape[0]} input rows, got {Y.shape}")
-    bad = ~np.all(np.isfinite(Y), axis=1)
-    if np.any(bad):
-        raise StatisticsError(f"model returned non-finite values for {int(bad.sum())} of {Y.shape[0]} "
-                              f"samples in a chunk (first at input row {int(np.flatnonzero(bad)[0])})")
-    return X, Y
-
-
 def _run_block(f, inputs: InputSet, method: str, seed: int, start: int, rows: int, chunk_size: int,
                keep: int, want_values: bool, layout: BinLayout | None, coverage: float | None = None,
                order: np.ndarray | None = None) -> _BlockResult:
@@ -168,7 +154,7 @@ def _run_block(f, inputs: InputSet, method: str, seed: int, start: int, rows: in
     Yk: list[np.ndarray] = []
     n_kept = 0
     for U in stream.chunks(rows, chunk_size):
-        X, Y = _evaluate(f, inputs, to_inputs_order(U, order))
+        X, Y = evaluate_model(f, inputs, to_inputs_order(U, order))
         m = Y.shape[1]
         if moments is None:
             moments = Moments(m)
@@ -225,15 +211,6 @@ class _Cluster:
                 obj.close()
             except Exception:  # closing a cluster must never hide the run's own error
                 pass
-
-
-def _binned_from(layout: BinLayout, counts: np.ndarray, moments: Moments) -> BinnedCDF:
-    """A :class:`BinnedCDF` with the given layout and merged counts (no pilot re-counting)."""
-    return BinnedCDF.from_counts(layout, counts, moments.n, moments.min, moments.max)
-
-
-def _pilot_layout(pilot: np.ndarray, bins: int) -> BinLayout:
-    return BinLayout.from_pilot(pilot, bins)
 
 
 def propagate_monte_carlo_dask(
@@ -326,7 +303,7 @@ def _fixed(client, n_workers, f_remote, in_remote, d, method, seed, p, n_total, 
             br = fut.result()
             blocks[br.start] = br
         pilot = np.concatenate([blocks[k].values for k in sorted(blocks)], axis=0)
-        layout = _pilot_layout(pilot, int(min(bins, max(2000, cap // max(1, 2 * m)))))
+        layout = BinLayout.from_pilot(pilot, int(min(bins, max(2000, cap // max(1, 2 * m)))))
         done = pilot_rows
     offset = done
     layout_remote = client.scatter(layout, broadcast=True, hash=False) if layout is not None else None  # sent once
@@ -367,7 +344,7 @@ def _finish(blocks: dict, d, m, p, ndigits, exact, layout, warnings, method, see
         qmethod, resolution, binned = "exact", np.zeros_like(mean), None
     else:
         ys = None
-        binned = _binned_from(layout, counts, mom)
+        binned = BinnedCDF.from_counts(layout, counts, mom.n, mom.min, mom.max)  # no pilot re-counting
         sym, short = binned.intervals(p)
         median = binned.quantile(0.5)
         qmethod = "histogram"
@@ -402,8 +379,7 @@ def _adaptive(client, n_workers, f, f_remote, in_remote, inputs, method, seed, p
         raise StatisticsError(f"batch size must be at least 2, got {batch_size!r}")
     # batches as in the local engine (montecarlo.batch_sampler): one random stream, or
     # independently scrambled Sobol' nets with importance-ordered dimensions
-    sobol = method == "sobol"
-    order = importance_order(f, inputs) if sobol else None
+    order = importance_order(f, inputs) if method == "sobol" else None
     per_round = 4 * n_workers
     summaries: list[np.ndarray] = []
     collector: _Collector | None = None
@@ -417,8 +393,7 @@ def _adaptive(client, n_workers, f, f_remote, in_remote, inputs, method, seed, p
     use = [0, 1, 2, 3] + ([4, 5] if check_shortest else [])
     while not converged and done < max_samples:
         n_round = min(per_round, max(1, (max_samples - done) // M_b))
-        futs = [client.submit(_run_block, f_remote, in_remote, method,
-                              batch_seed(seed, batches + i) if sobol else seed, 0 if sobol else done + i * M_b,
+        futs = [client.submit(_run_block, f_remote, in_remote, method, *batch_origin(method, seed, batches + i, M_b),
                               M_b, min(chunk_size, M_b), keep if done + i * M_b < keep else 0, True, None, p,
                               order, pure=False)
                 for i in range(n_round)]

@@ -143,8 +143,18 @@ def batch_sampler(f, inputs: InputSet, method: str, seed: int, batch_size: int,
         own = stream if stream is not None else UniformStream(d, method, seed)
         return lambda b: own.draw(batch_size)
     order = importance_order(f, inputs)
+    return lambda b: to_inputs_order(UniformStream(d, method, *batch_origin(method, seed, b, batch_size))
+                                     .draw(batch_size), order)
 
-    return lambda b: to_inputs_order(UniformStream(d, "sobol", batch_seed(seed, b)).draw(batch_size), order)
+
+def batch_origin(method: str, seed: int, batch: int, batch_size: int) -> tuple[int, int]:
+    """(stream seed, rows to skip) where adaptive batch ``batch`` starts (see :func:`batch_sampler`).
+
+    Sobol': the start of its own scramble; otherwise batch·batch_size rows into the run's stream.
+    """
+    if method == "sobol":
+        return batch_seed(seed, batch), 0
+    return seed, batch * batch_size
 
 
 def to_inputs_order(V: np.ndarray, order: np.ndarray | None) -> np.ndarray:
@@ -267,6 +277,23 @@ class MonteCarloResult:
         """Convergence history of one output as arrays (n, u)."""
         h = self.convergence[output]
         return np.array([a for a, _ in h], dtype=np.int64), np.array([b for _, b in h], dtype=float)
+
+
+def evaluate_model(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet,
+                   U: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(X, Y[N, M]) for uniforms U: inputs from ``U``, the model's values, shape and finiteness checked."""
+    X = inputs.from_uniform(U)
+    Y = np.asarray(f(X), dtype=float)
+    if Y.ndim == 1:
+        Y = Y[:, None]
+    if Y.ndim != 2 or Y.shape[0] != X.shape[0]:
+        raise StatisticsError(f"model must return shape (N, M) for N = {X.shape[0]} input rows, got {Y.shape}")
+    if not np.isfinite(np.add.reduce(Y, axis=0)).all():   # a sum is finite if every term is
+        bad = ~np.all(np.isfinite(Y), axis=1)
+        if np.any(bad):
+            raise StatisticsError(f"model returned non-finite values for {int(bad.sum())} of {Y.shape[0]} "
+                                  f"samples in a chunk (first at input row {int(np.flatnonzero(bad)[0])})")
+    return X, Y
 
 
 class _Collector:
@@ -430,22 +457,11 @@ def propagate_monte_carlo(
     state = {"m": None}
 
     def evaluate(U: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        X = inputs.from_uniform(U)
-        Y = np.asarray(f(X), dtype=float)
-        if Y.ndim == 1:
-            Y = Y[:, None]
-        if Y.ndim != 2 or Y.shape[0] != X.shape[0]:
-            raise StatisticsError(f"model must return shape (N, M) for N = {X.shape[0]} input rows, got {Y.shape}")
+        X, Y = evaluate_model(f, inputs, U)
         if state["m"] is None:
             state["m"] = Y.shape[1]
         elif Y.shape[1] != state["m"]:
             raise StatisticsError(f"model returned {Y.shape[1]} outputs, earlier {state['m']}")
-        bad = None
-        if not np.isfinite(np.add.reduce(Y, axis=0)).all():   # a sum is finite if every term is
-            bad = ~np.all(np.isfinite(Y), axis=1)
-        if bad is not None and np.any(bad):
-            raise StatisticsError(f"model returned non-finite values for {int(bad.sum())} of {Y.shape[0]} "
-                                  f"samples in a chunk (first at input row {int(np.flatnonzero(bad)[0])})")
         return X, Y
 
     def make_collector(m: int) -> _Collector:
@@ -523,12 +539,8 @@ def propagate_monte_carlo(
                 rows = [0, 1, 2, 3] + ([4, 5] if check_shortest else [])
                 k = stability_factor(h)
                 exceed = np.any(k * s[rows] > delta[None, :], axis=0) & (u_all > 0)
-                if not np.any(exceed):
-                    converged = True
-                    keys = ["mean", "u", "low", "high", "shortest_low", "shortest_high"]
-                    stability = {keys[r]: k * s[r] for r in rows}
-                    break
-                if done >= max_samples:
+                if not np.any(exceed) or done >= max_samples:
+                    converged = not np.any(exceed)
                     keys = ["mean", "u", "low", "high", "shortest_low", "shortest_high"]
                     stability = {keys[r]: k * s[r] for r in rows}
                     break
