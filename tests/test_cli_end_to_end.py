@@ -345,3 +345,27 @@ def test_adaptive_intervals_setting(make_case, tmp_path):
     bad = make_case(replace=[("samples = 20000", 'samples = "adaptive"\nadaptive_intervals = "shortest"')])
     code, _, err = main_in_process("check", bad)
     assert code == 2 and "settings.adaptive_intervals" in err and "symmetric" in err
+
+
+def test_sobol_rotation_setting(make_case, tmp_path):
+    """settings.sobol_rotation: recorded in results.json and named in the report's method text;
+    switched off, the run uses one Sobol' coordinate per input; both runs agree within their
+    Monte Carlo error (the rotation is a sampling design, not a different input distribution)."""
+    docs = {}
+    for flag in ("true", "false"):
+        case = make_case(replace=[("samples = 20000", f"samples = 20000\nsobol_rotation = {flag}")])
+        out = tmp_path / flag
+        code, _, err = main_in_process("run", case, "--out", out, "--quiet")
+        assert code == 0, err
+        docs[flag] = json.loads((out / "results.json").read_text())
+        assert docs[flag]["run"]["sobol_rotation"] is (flag == "true")
+        report = (out / "report.md").read_text(encoding="utf-8")
+        assert ("linear sensitivity directions" in report) is (flag == "true")
+    for a, b in zip(docs["true"]["outputs"], docs["false"]["outputs"]):
+        for pa, pb in zip(a["points"], b["points"]):
+            ma, mb = pa["monte_carlo"], pb["monte_carlo"]
+            assert abs(ma["mean"] - mb["mean"]) <= 4 * ma["standard_uncertainty"] / math.sqrt(20000)
+            assert ma["standard_uncertainty"] == pytest.approx(mb["standard_uncertainty"], rel=0.03)
+    bad = make_case(replace=[("samples = 20000", 'samples = 20000\nsobol_rotation = "yes"')])
+    code, _, err = main_in_process("check", bad)
+    assert code == 2 and "settings.sobol_rotation" in err and "true or false" in err

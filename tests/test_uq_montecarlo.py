@@ -2,20 +2,23 @@
 
 import numpy as np
 import pytest
-from scipy import stats
+from scipy import special, stats
 
 from uqthermo.errors import StatisticsError
 from uqthermo.uq import (
+    Exact,
     InputSet,
     InputVariable,
     LogNormal,
     Normal,
     Rectangular,
+    Triangular,
     numerical_tolerance,
     propagate_linear,
     propagate_monte_carlo,
     validate_linear,
 )
+from uqthermo.uq.sampling import UniformStream
 from uqthermo.uq.stats import Moments, intervals_from_sorted
 
 
@@ -239,19 +242,100 @@ def _additive(n_inputs=8):
     return (lambda X: X @ c), s, mean, sd
 
 
-def test_adaptive_sobol_batches_are_independent_scrambles_in_importance_order():
-    from uqthermo.uq.montecarlo import batch_sampler, batch_seed, importance_order
+def test_adaptive_sobol_batches_are_independent_scrambles():
+    from uqthermo.uq.montecarlo import batch_sampler, batch_seed
     from uqthermo.uq.sampling import UniformStream
 
-    f, s, _, _ = _additive(5)
-    order = importance_order(f, s)
-    share = (np.array([(f(s.estimates + np.eye(5)[j] * s.stds[j]) - f(s.estimates))[()] for j in range(5)])) ** 2
-    assert order[0] == int(np.argmax(share)) and sorted(order) == list(range(5))
-    draw = batch_sampler(f, s, "sobol", 9, 1024)
+    _, s, _, _ = _additive(5)
+    draw = batch_sampler(s, "sobol", 9, 1024)
     U3 = draw(3)
-    V = UniformStream(5, "sobol", batch_seed(9, 3)).draw(1024)
-    np.testing.assert_array_equal(U3[:, order], V)
+    np.testing.assert_array_equal(U3, UniformStream(5, "sobol", batch_seed(9, 3)).draw(1024))
     assert not np.array_equal(draw(4), U3) and batch_seed(9, 3) != batch_seed(9, 4) != batch_seed(10, 3)
+
+
+def test_score_rotation_points_the_first_sobol_coordinate_along_the_gradient():
+    """One output of an additive model: W's first column is c·u/|c·u| (the score gradient),
+    W is orthogonal, and the output then depends on the first coordinate alone."""
+    from uqthermo.uq.montecarlo import score_rotation
+
+    f, s, mean, sd = _additive(6)
+    W = score_rotation(f, s)
+    np.testing.assert_allclose(W.T @ W, np.eye(6), atol=1e-12)
+    g = (f(s.estimates + np.diag(s.stds)) - f(s.estimates - np.diag(s.stds))) / 2
+    np.testing.assert_allclose(np.abs(W[:, 0]), np.abs(g) / np.linalg.norm(g), atol=1e-12)
+    U = np.random.default_rng(0).random((1000, 6))
+    y = f(s.from_uniform(U, W))
+    np.testing.assert_allclose(y, mean + np.sign(g @ W[:, 0]) * sd * special.ndtri(U[:, 0]), rtol=0, atol=1e-9 * sd)
+    # a model with no linear part (even in every score) keeps the plain Sobol' axes
+    assert score_rotation(lambda X: ((X - s.estimates) ** 2).sum(axis=1), s) is None
+    assert score_rotation(lambda X: np.full(len(X), 1.0), s) is None
+
+
+def test_rotated_scores_keep_the_joint_input_distribution():
+    """Any orthogonal rotation of the independent scores leaves the inputs' distribution as it
+    is: means, standard deviations and the stated correlation of a copula pair (normal and
+    rectangular marginals), checked on 2·10⁵ rows against the unrotated mapping."""
+    from scipy.stats import special_ortho_group
+
+    v = [InputVariable("a", "a", Normal(1.0, 0.5)), InputVariable("b", "b", Rectangular(2.0, 1.0)),
+         InputVariable("c", "c", Normal(-3.0, 2.0)), InputVariable("e", "e", Exact(4.0)),
+         InputVariable("t", "t", Triangular(0.0, 1.0))]
+    R = np.eye(5)
+    R[0, 2] = R[2, 0] = 0.6
+    R[1, 2] = R[2, 1] = -0.4
+    s = InputSet(v, R)
+    W = special_ortho_group.rvs(4, random_state=3)
+    U = np.random.default_rng(5).random((200_000, 5))
+    X, X0 = s.from_uniform(U, W), s.from_uniform(U)
+    assert np.all(X[:, 3] == 4.0)
+    np.testing.assert_allclose(X.mean(axis=0), X0.mean(axis=0), atol=0.01 * max(s.stds))
+    np.testing.assert_allclose(X.std(axis=0), s.stds, rtol=0.01, atol=1e-12)
+    C, C0 = np.corrcoef(X[:, [0, 1, 2, 4]].T), np.corrcoef(X0[:, [0, 1, 2, 4]].T)
+    np.testing.assert_allclose(C, C0, atol=0.01)
+    np.testing.assert_allclose(C[[0, 1], [2, 2]], [0.6, -0.4], atol=0.01)
+    with pytest.raises(StatisticsError, match="rotation must have shape"):
+        s.from_uniform(U[:10], np.eye(5))
+
+
+@pytest.mark.parametrize("seed", [1, 2])
+def test_adaptive_sobol_with_rotation_on_a_nonlinear_output_against_the_exact_lognormal(seed):
+    """Y = exp(Σ c_i X_i) of independent normal inputs is exactly lognormal
+    (scipy.stats.lognorm with s = σ, scale = e^μ): the rotated Sobol' run stops on both
+    intervals and its y, u(y) and both 95 % intervals agree with the exact values within the
+    numerical tolerance (JCGM 101 §7.9), in far fewer trials than pseudo-random sampling."""
+    g, s, mu, sig = _additive(6)
+    sig = 0.35
+    scale = sig / float(np.sqrt(np.sum((np.array([g(np.eye(6)[i])[()] for i in range(6)]) * s.stds) ** 2)))
+
+    def f(X):
+        return np.exp(scale * (g(X) - mu))
+
+    ln = stats.lognorm(s=sig)
+    mc = propagate_monte_carlo(f, s, samples="adaptive", sampling="sobol", seed=seed, ndigits=2)
+    assert mc.converged and mc.rotated_scores
+    delta = mc.tolerance[0]
+    assert abs(mc.mean[0] - ln.mean()) <= delta and abs(mc.standard_uncertainty[0] - ln.std()) <= delta
+    assert np.all(np.abs(mc.coverage_interval[0] - ln.ppf([0.025, 0.975])) <= delta)
+    # shortest 95 % interval of the lognormal: the lower tail probability a minimising the width
+    from scipy.optimize import minimize_scalar
+
+    a = minimize_scalar(lambda a: ln.ppf(a + 0.95) - ln.ppf(a), bounds=(1e-9, 0.05 - 1e-9), method="bounded",
+                        options={"xatol": 1e-10}).x
+    # the shortest interval is an argmin along a flat valley of widths, its endpoints the noisiest
+    # quantity; §7.9 asks 2s <= δ, a two-standard-deviation statement, hence the 1.5 δ here
+    assert np.all(np.abs(mc.shortest_interval[0] - ln.ppf([a, a + 0.95])) <= 1.5 * delta)
+    n_random = propagate_monte_carlo(f, s, samples="adaptive", sampling="random", seed=seed, ndigits=2).samples_used
+    assert n_random >= 4 * mc.samples_used
+
+
+def test_rotation_can_be_switched_off_and_matches_the_plain_design():
+    f, s, _, _ = _additive(4)
+    plain = propagate_monte_carlo(f, s, samples=4096, sampling="sobol", seed=3, rotate=False)
+    rot = propagate_monte_carlo(f, s, samples=4096, sampling="sobol", seed=3)
+    assert rot.rotated_scores and not plain.rotated_scores
+    ref = f(s.from_uniform(UniformStream(4, "sobol", 3).draw(4096)))
+    assert plain.mean[0] == pytest.approx(ref.mean(), rel=1e-13)
+    assert not propagate_monte_carlo(f, s, samples=4096, sampling="random", seed=3).rotated_scores
 
 
 @pytest.mark.parametrize("seed", [1, 2, 3])
@@ -277,8 +361,13 @@ def test_sobol_batch_sizes():
 
 
 def test_adaptive_sobol_needs_fewer_trials_than_random():
+    """The issue's target (>= 4x fewer model evaluations to the same §7.9 tolerance) on the
+    additive model, under the JCGM 101 rule; the plain-axes Sobol' design is kept as a lower
+    bar (it measured about 4x here before the score rotation)."""
     f, s, _, _ = _additive()
     kw = dict(samples="adaptive", ndigits=2, check_shortest=False)
     n_sobol = [propagate_monte_carlo(f, s, sampling="sobol", seed=k, **kw).samples_used for k in (1, 2)]
+    n_axes = [propagate_monte_carlo(f, s, sampling="sobol", seed=k, rotate=False, **kw).samples_used for k in (1, 2)]
     n_random = [propagate_monte_carlo(f, s, sampling="random", seed=k, **kw).samples_used for k in (1, 2)]
-    assert np.mean(n_random) >= 3 * np.mean(n_sobol)
+    assert np.mean(n_random) >= 4 * np.mean(n_sobol)
+    assert np.mean(n_axes) >= 2 * np.mean(n_sobol)

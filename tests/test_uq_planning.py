@@ -228,8 +228,17 @@ def test_monte_carlo_engine_agrees_with_direct_rerun():
     assert plan.engine == "monte-carlo" and plan.method == "exact enumeration"
     sel = plan.selection
     fac = {cands[i].datum: cands[i].factor for i in sel.indices}
-    # reference: direct Monte Carlo re-run with the same seed
+    # reference 1: the rows of a direct Monte Carlo run with the same seed (common random
+    # numbers), their deviations from the estimates scaled by the selected factors
+    from uqthermo.uq.stats import intervals_from_sorted
+
+    run = propagate_monte_carlo(f, inp, samples=4096, seed=5)
+    a = np.array([fac.get("X1", 1.0), fac.get("X2", 1.0)])
+    y = np.sort(f(inp.estimates + a * (run.X_kept - inp.estimates)))[:, None]
+    sym, _ = intervals_from_sorted(y, 0.95)
+    assert run.X_kept.shape[0] == 4096 and sel.worst == pytest.approx(0.5 * (sym[0, 1] - sym[0, 0]), rel=1e-12)
+    # reference 2: a re-run with the scaled distributions (its own Sobol' design), within Monte Carlo error
     rerun = propagate_monte_carlo(f, inp.with_scaled_uncertainty(fac), samples=4096, seed=5)
     half = 0.5 * (rerun.coverage_interval[0, 1] - rerun.coverage_interval[0, 0])
-    assert sel.worst == pytest.approx(half, rel=1e-7)
+    assert sel.worst == pytest.approx(half, rel=0.03)
     assert sel.worst <= 0.8

@@ -132,12 +132,22 @@ def test_mc_what_if_x_space_equals_direct_rerun_same_seed():
     base = propagate_monte_carlo(f, inp, samples=n, seed=17)
     assert res.u_now == pytest.approx(base.standard_uncertainty, rel=1e-9)
     assert res.interval_now == pytest.approx(base.coverage_interval, rel=1e-9)
+    from uqthermo.uq.stats import intervals_from_sorted
+
+    assert base.X_kept.shape[0] == n
     for s, sc in enumerate(res.scenarios):
-        # reference: direct Monte Carlo re-run with the scaled inputs and the same seed
-        # (independent location-scale marginals: x-space scaling is the scaled distribution)
+        # reference 1: the base run's rows (common random numbers) with scaled deviations
+        a = np.array([res.factors[s].get(d, 1.0) for d in ("X0", "X1", "X2")])
+        y = f(inp.estimates + a * (base.X_kept - inp.estimates))
+        sym, _ = intervals_from_sorted(np.sort(y, axis=0), 0.95)
+        assert res.u[s] == pytest.approx(y.std(axis=0, ddof=1), rel=1e-9), sc.label
+        assert res.interval[s] == pytest.approx(sym, rel=1e-9), sc.label
+        # reference 2: a direct re-run with the scaled inputs (independent location-scale
+        # marginals: x-space scaling is the scaled distribution; the re-run has its own
+        # Sobol' design), within Monte Carlo error
         rerun = propagate_monte_carlo(f, inp.with_scaled_uncertainty(res.factors[s]), samples=n, seed=17)
-        assert res.u[s] == pytest.approx(rerun.standard_uncertainty, rel=1e-7), sc.label
-        assert res.interval[s] == pytest.approx(rerun.coverage_interval, rel=1e-7), sc.label
+        assert res.u[s] == pytest.approx(rerun.standard_uncertainty, rel=0.01), sc.label
+        assert res.interval[s] == pytest.approx(rerun.coverage_interval, rel=0.01), sc.label
 
 
 def test_mc_what_if_distribution_scaling_equals_direct_rerun():

@@ -210,6 +210,7 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
         "reference_temperature_K": s.reference_temperature, "coverage_probability": p,
         "adaptive": s.samples == "adaptive", "significant_digits": s.significant_digits,
         "adaptive_intervals": s.adaptive_intervals if s.samples == "adaptive" else None,
+        "sobol_rotation": bool(mc.rotated_scores) if mc is not None else None,
         "n_variables": len(inputs.variables), "n_data": sum(1 for d in case.data.values() if d.uncertain),
         **environment(),
     }

@@ -121,7 +121,7 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
         lin = propagate_linear(model.f_reported, inputs, coverage=p)
     if s.method in ("monte-carlo", "both") and D > 0:
         mc_kwargs = dict(samples=s.samples, sampling=s.sampling, seed=s.seed, coverage=p,
-                         ndigits=s.significant_digits, progress=progress)
+                         ndigits=s.significant_digits, progress=progress, rotate=s.sobol_rotation)
         if s.samples == "adaptive":
             mc_kwargs["max_samples"] = s.max_samples
             mc_kwargs["check_shortest"] = s.adaptive_intervals == "both"

@@ -488,7 +488,8 @@ def _settings(c: Collector, node: Any) -> Settings:
         return s
     allowed = {"reference_temperature", "coverage_probability", "samples", "sampling", "seed", "method",
                "allow_extrapolation", "significant_digits", "max_samples", "sensitivity", "sobol_samples",
-               "design_probabilities", "what_if", "plan_target", "plan_budget", "adaptive_intervals"}
+               "design_probabilities", "what_if", "plan_target", "plan_budget", "adaptive_intervals",
+               "sobol_rotation"}
     c.unknown_keys(node, allowed, "settings")
     if "reference_temperature" in node:
         t = _temperature(c, node["reference_temperature"], "settings.reference_temperature")
@@ -520,7 +521,7 @@ def _settings(c: Collector, node: Any) -> Settings:
         else:
             s.seed = seed
     _choice(c, node, s, "method", METHODS)
-    for key in ("allow_extrapolation", "what_if"):
+    for key in ("allow_extrapolation", "what_if", "sobol_rotation"):
         if key in node:
             if not isinstance(node[key], bool):
                 c.add(f"settings.{key}", "must be true or false")

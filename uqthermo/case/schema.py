@@ -23,6 +23,7 @@ SETTINGS_DEFAULTS: dict[str, Any] = {
     "significant_digits": 2,
     "max_samples": 10_000_000,
     "adaptive_intervals": "both",
+    "sobol_rotation": True,
     "sensitivity": "auto",
     "sobol_samples": 1024,
     "design_probabilities": [0.95, 0.99],
@@ -54,6 +55,7 @@ class Settings:
     significant_digits: int = 2
     max_samples: int = 10_000_000
     adaptive_intervals: str = "both"     # intervals whose endpoints must be stable to stop an adaptive run
+    sobol_rotation: bool = True          # Sobol' coordinates along the model's linear directions (montecarlo.score_rotation)
     sensitivity: str = "auto"
     sobol_samples: int = 1024
     design_probabilities: list[float] = field(default_factory=lambda: [0.95, 0.99])

@@ -170,7 +170,12 @@ def _run_method(run: Mapping) -> tuple[bool, bool]:
     return m in {"linear", "both"}, m in {"monte-carlo", "montecarlo", "mc", "both"}
 
 
-def _sampling_text(sampling: str | None) -> str:
+def _sampling_text(sampling: str | None, rotated: bool = False) -> str:
+    if rotated and (sampling or "").lower() == "sobol":
+        return ("scrambled Sobol' low-discrepancy sequence (quasi-random) whose leading coordinates follow the "
+                "directions in which the model varies most (an orthogonal rotation of the inputs' independent normal "
+                "scores along their linear sensitivity directions, which leaves the joint distribution of the inputs "
+                "unchanged), mapped to the input distributions by their inverse distribution functions")
     return {
         "sobol": "scrambled Sobol' low-discrepancy sequence (quasi-random), mapped to the input distributions by their "
                  "inverse distribution functions",
@@ -274,7 +279,7 @@ def _method(results: Mapping) -> dict:
     return {
         "linear": lin, "mc": mc, "adaptive": adaptive,
         "samples": fmt_value(n) if isinstance(n, (int, float)) else "",
-        "sampling": _sampling_text(run.get("sampling")),
+        "sampling": _sampling_text(run.get("sampling"), bool(run.get("sobol_rotation"))),
         "sampling_name": text(run.get("sampling")),
         "tref": fmt_temperature(tref) if tref is not None else "298.15",
         "p": pct_label(coverage_probability(results)),

@@ -65,8 +65,8 @@ import numpy as np
 from ..errors import StatisticsError
 from .inputs import InputSet
 from .montecarlo import (HISTOGRAM_BINS, KEEP_VALUES, MAX_STORED_VALUES, MonteCarloResult, _batch_summary,
-                         _Collector, adaptive_batch_size, batch_origin, check_run_arguments, evaluate_model,
-                         importance_order, stability_factor, to_inputs_order)
+                         _Collector, adaptive_batch_size, batch_origin, batch_test, check_run_arguments,
+                         collected_result, evaluate_model, sobol_rotation)
 from .sampling import UniformStream
 from .stats import BinLayout, BinnedCDF, Moments, intervals_from_sorted, numerical_tolerance, quantile_sorted
 
@@ -140,10 +140,10 @@ class _BlockResult:
 
 def _run_block(f, inputs: InputSet, method: str, seed: int, start: int, rows: int, chunk_size: int,
                keep: int, want_values: bool, layout: BinLayout | None, coverage: float | None = None,
-               order: np.ndarray | None = None) -> _BlockResult:
+               rotation: np.ndarray | None = None) -> _BlockResult:
     """Evaluate rows ``[start, start + rows)`` of the run's stream (runs on a worker).
 
-    ``order``: Sobol' dimension k drives input order[k] (adaptive Sobol' batches).
+    ``rotation``: the run's Sobol' score rotation (``montecarlo.score_rotation``), or None.
     """
     d = len(inputs)
     stream = UniformStream(d, method, seed, skip=start)
@@ -154,7 +154,7 @@ def _run_block(f, inputs: InputSet, method: str, seed: int, start: int, rows: in
     Yk: list[np.ndarray] = []
     n_kept = 0
     for U in stream.chunks(rows, chunk_size):
-        X, Y = evaluate_model(f, inputs, to_inputs_order(U, order))
+        X, Y = evaluate_model(f, inputs, U, rotation)
         m = Y.shape[1]
         if moments is None:
             moments = Moments(m)
@@ -231,6 +231,7 @@ def propagate_monte_carlo_dask(
     check_shortest: bool = True,
     max_stored_values: int = MAX_STORED_VALUES,
     histogram_bins: int = HISTOGRAM_BINS,
+    rotate: bool = True,
     block_rows: int | None = None,
     n_workers: int = 2,
 ) -> MonteCarloResult:
@@ -254,6 +255,7 @@ def propagate_monte_carlo_dask(
     p, method, seed, d, chunk_size, adaptive, samples = check_run_arguments(
         inputs, samples, sampling, seed, coverage, ndigits, chunk_size)
     UniformStream(d, method, seed)   # validates the seed and the dimension before starting a cluster
+    rotation = sobol_rotation(f, inputs, method, rotate)   # computed once, here; sent with each task
 
     cluster = _Cluster(scheduler, n_workers)
     try:
@@ -261,18 +263,18 @@ def propagate_monte_carlo_dask(
         f_remote = client.scatter(f, broadcast=True, hash=False)
         in_remote = client.scatter(inputs, broadcast=True, hash=False)
         if adaptive:
-            return _adaptive(client, cluster.n_workers, f, f_remote, in_remote, inputs, method, int(seed), p,
+            return _adaptive(client, cluster.n_workers, f_remote, in_remote, inputs, method, int(seed), p,
                              chunk_size, int(ndigits), progress, keep, int(max_samples), batch_size,
-                             check_shortest, int(max_stored_values), int(histogram_bins))
+                             check_shortest, int(max_stored_values), int(histogram_bins), rotation)
         return _fixed(client, cluster.n_workers, f_remote, in_remote, d, method, int(seed), p, int(samples),
                       chunk_size, int(ndigits), progress, keep, int(max_stored_values), int(histogram_bins),
-                      block_rows)
+                      block_rows, rotation)
     finally:
         cluster.close()
 
 
 def _fixed(client, n_workers, f_remote, in_remote, d, method, seed, p, n_total, chunk_size, ndigits, progress,
-           keep, cap, bins, block_rows) -> MonteCarloResult:
+           keep, cap, bins, block_rows, rotation) -> MonteCarloResult:
     from distributed import as_completed
 
     warnings: list[str] = []
@@ -285,7 +287,7 @@ def _fixed(client, n_workers, f_remote, in_remote, d, method, seed, p, n_total, 
 
     def submit(start, rows, values, layout=None):
         return client.submit(_run_block, f_remote, in_remote, method, seed, start, rows, chunk_size,
-                             keep if start < keep else 0, values, layout, pure=False)
+                             keep if start < keep else 0, values, layout, None, rotation, pure=False)
 
     head = submit(0, first_rows, True).result()
     m = head.moments.mean.shape[0]
@@ -315,11 +317,12 @@ def _fixed(client, n_workers, f_remote, in_remote, d, method, seed, p, n_total, 
         done += br.moments.n
         if progress is not None:
             progress(done, n_total)
-    return _finish(blocks, d, m, p, ndigits, exact, layout, warnings, method, seed, keep, adaptive=False)
+    return _finish(blocks, d, m, p, ndigits, exact, layout, warnings, method, seed, keep, rotation is not None)
 
 
-def _finish(blocks: dict, d, m, p, ndigits, exact, layout, warnings, method, seed, keep, *, adaptive,
-            converged=True, stability=None, batch_size=0, n_batches=0) -> MonteCarloResult:
+def _finish(blocks: dict, d, m, p, ndigits, exact, layout, warnings, method, seed, keep,
+            rotated: bool) -> MonteCarloResult:
+    """The fixed-N result from the blocks, merged in index order."""
     order = sorted(blocks)
     mom = Moments(m)
     conv_n: list[int] = []
@@ -363,23 +366,22 @@ def _finish(blocks: dict, d, m, p, ndigits, exact, layout, warnings, method, see
     return MonteCarloResult(
         mean=mean, standard_uncertainty=u, coverage_interval=sym, shortest_interval=short, median=median,
         skewness=skew, coverage_probability=p, samples_used=int(mom.n), convergence=convergence,
-        Y_kept=Yk, X_kept=Xk, adaptive=adaptive, converged=converged, tolerance=tol,
-        stability=stability or {}, batch_size=batch_size, batches=n_batches, seed=int(seed), sampling=method,
+        Y_kept=Yk, X_kept=Xk, adaptive=False, converged=True, tolerance=tol,
+        stability={}, batch_size=0, batches=0, seed=int(seed), sampling=method,
         quantile_method=qmethod, quantile_resolution=resolution, ndigits=int(ndigits), warnings=warnings,
-        minimum=mom.min.copy(), maximum=mom.max.copy(), _sorted=ys, _binned=binned,
+        minimum=mom.min.copy(), maximum=mom.max.copy(), rotated_scores=rotated, _sorted=ys, _binned=binned,
     )
 
 
-def _adaptive(client, n_workers, f, f_remote, in_remote, inputs, method, seed, p, chunk_size, ndigits, progress,
-              keep, max_samples, batch_size, check_shortest, cap, bins) -> MonteCarloResult:
+def _adaptive(client, n_workers, f_remote, in_remote, inputs, method, seed, p, chunk_size, ndigits, progress,
+              keep, max_samples, batch_size, check_shortest, cap, bins, rotation) -> MonteCarloResult:
     """JCGM 101 §7.9 with batches computed in parallel rounds, stopping rule applied in order."""
     d = len(inputs)
     M_b = int(batch_size) if batch_size is not None else adaptive_batch_size(p, method)
     if M_b < 2:
         raise StatisticsError(f"batch size must be at least 2, got {batch_size!r}")
     # batches as in the local engine (montecarlo.batch_sampler): one random stream, or
-    # independently scrambled Sobol' nets with importance-ordered dimensions
-    order = importance_order(f, inputs) if method == "sobol" else None
+    # independently scrambled Sobol' nets, with the run's score rotation
     per_round = 4 * n_workers
     summaries: list[np.ndarray] = []
     collector: _Collector | None = None
@@ -389,13 +391,11 @@ def _adaptive(client, n_workers, f, f_remote, in_remote, inputs, method, seed, p
     converged = False
     done = 0
     batches = 0
-    rows = ["mean", "u", "low", "high", "shortest_low", "shortest_high"]
-    use = [0, 1, 2, 3] + ([4, 5] if check_shortest else [])
     while not converged and done < max_samples:
         n_round = min(per_round, max(1, (max_samples - done) // M_b))
         futs = [client.submit(_run_block, f_remote, in_remote, method, *batch_origin(method, seed, batches + i, M_b),
                               M_b, min(chunk_size, M_b), keep if done + i * M_b < keep else 0, True, None, p,
-                              order, pure=False)
+                              rotation, pure=False)
                 for i in range(n_round)]
         results = [fu.result() for fu in futs]          # in batch order
         for br in results:
@@ -416,46 +416,17 @@ def _adaptive(client, n_workers, f, f_remote, in_remote, inputs, method, seed, p
                 progress(done, None)
             if batches < 2:
                 continue
-            S = np.stack(summaries)
-            h = S.shape[0]
-            s = np.sqrt(np.var(S, axis=0, ddof=1) / h)
-            delta = numerical_tolerance(u_all, ndigits)
-            k = stability_factor(h)
-            exceed = np.any(k * s[use] > delta[None, :], axis=0) & (u_all > 0)
-            if not np.any(exceed) or done >= max_samples:
-                converged = not np.any(exceed)
-                stability = {rows[r]: k * s[r] for r in use}
+            stable, spread = batch_test(summaries, u_all, ndigits, check_shortest)
+            if stable or done >= max_samples:
+                converged, stability = stable, spread
                 break
     warnings: list[str] = []
     if not converged:
         warnings.append(f"adaptive Monte Carlo stopped at the cap of {done} trials before u(y) and the "
                         f"interval endpoints were stable to {ndigits} significant digits")
-    mom = collector.moments
-    mean, u, skew = mom.mean.copy(), mom.std.copy(), mom.skewness
-    if collector.binned is None:
-        ys = collector.sorted_values()
-        sym, short = intervals_from_sorted(ys, p)
-        median = quantile_sorted(ys, 0.5)
-        qmethod, resolution, binned = "exact", np.zeros_like(mean), None
-    else:
-        ys = None
-        binned = collector.binned
-        sym, short = binned.intervals(p)
-        median = binned.quantile(0.5)
-        qmethod = "histogram"
-        resolution = binned.resolution(np.concatenate([sym.T, short.T], axis=0))
-    tol = np.atleast_1d(numerical_tolerance(u, ndigits))
-    Xk, Yk = collector.kept(d)
-    m = mean.shape[0]
-    convergence = [[(int(n), float(uu[j])) for n, uu in zip(conv_n, conv_u)] for j in range(m)]
-    return MonteCarloResult(
-        mean=mean, standard_uncertainty=u, coverage_interval=sym, shortest_interval=short, median=median,
-        skewness=skew, coverage_probability=p, samples_used=int(mom.n), convergence=convergence,
-        Y_kept=Yk, X_kept=Xk, adaptive=True, converged=converged, tolerance=tol, stability=stability,
-        batch_size=M_b, batches=batches, seed=int(seed), sampling=method, quantile_method=qmethod,
-        quantile_resolution=resolution, ndigits=int(ndigits), warnings=warnings,
-        minimum=mom.min.copy(), maximum=mom.max.copy(), _sorted=ys, _binned=binned,
-    )
+    return collected_result(collector, d, p, ndigits, warnings, conv_n, conv_u, adaptive=True,
+                            converged=converged, stability=stability, batch_size=M_b, batches=batches,
+                            seed=int(seed), sampling=method, rotated_scores=rotation is not None)
 
 
 def _collector_add(collector: _Collector, X_kept: np.ndarray, Y: np.ndarray) -> None:

@@ -426,7 +426,7 @@ class InputSet:
                 self._factor = (linked, L)
         return self._factor
 
-    def from_uniform(self, U: np.ndarray) -> np.ndarray:
+    def from_uniform(self, U: np.ndarray, rotation: np.ndarray | None = None) -> np.ndarray:
         """Map independent uniforms U[N, D] to input samples X[N, D].
 
         Independent uncertain variables: x_j = G_j⁻¹(u_j) (JCGM 101 §6.3, inverse-CDF
@@ -436,6 +436,13 @@ class InputSet:
         step is done exactly as x̂ + u·z' (resp. exp(μ + σz')), so all-normal inputs are
         exactly multivariate normal (JCGM 101 §6.4.8). Exact inputs are constant columns
         and are left out of the factorisation.
+
+        ``rotation``: an orthogonal (K, K) matrix W over the K uncertain variables. The
+        first K columns of U then give independent scores z = Φ⁻¹(u), the variables get
+        the rotated scores s = W z (again independent standard normal, since W is
+        orthogonal) through :meth:`from_scores`, and the other columns of U are unused.
+        The distribution of X is unchanged; only which combination of inputs each column
+        of U drives changes (a sampling design, see ``uq.montecarlo.score_rotation``).
         """
         U = np.asarray(U, dtype=float)
         d = len(self.variables)
@@ -443,6 +450,21 @@ class InputSet:
             raise StatisticsError(f"uniform sample must have shape (N, {d}), got {U.shape}")
         n = U.shape[0]
         plan = self._transform_plan()
+        if rotation is not None:
+            k = len(plan["uncertain"])
+            W = np.asarray(rotation, dtype=float)
+            if W.shape != (k, k):
+                raise StatisticsError(f"rotation must have shape ({k}, {k}) (the uncertain variables), got {W.shape}")
+            Uz = U[:, :k]
+            if Uz.size and (Uz.min() < U_CLIP or Uz.max() > 1.0 - U_CLIP):
+                Uz = np.clip(Uz, U_CLIP, 1.0 - U_CLIP)
+            S = special.ndtri(Uz) @ W.T
+            nz, mu, sd = plan["normal"]
+            if plan["z_columns"] is Ellipsis and len(nz) == d:   # every input normal and independent
+                S *= sd
+                S += mu
+                return S
+            return self.from_scores(S)
         X = np.empty((n, d), dtype=float)
         for j in plan["exact"]:
             X[:, j] = self.variables[j].distribution.estimate
@@ -470,6 +492,37 @@ class InputSet:
                     X[:, j] = self.variables[j].distribution.from_standard_normal(Zc[:, k])
         return X
 
+    def from_scores(self, S: np.ndarray) -> np.ndarray:
+        """Input samples X[N, D] from independent standard normal scores S[N, K].
+
+        Column k of S is the score of the k-th uncertain variable (``np.flatnonzero(stds > 0)``
+        in order; exact variables take no score). The same maps as :meth:`from_uniform` with
+        z = s: x_j = x̂_j + u_j s_j for an independent normal variable, x_j = G_j⁻¹(Φ(s_j))
+        for another independent one, and s' = s_linked Lᵀ, x_j = G_j⁻¹(Φ(s'_j)) for the
+        variables of the Gaussian copula (JCGM 101 §6.3, §6.4.8).
+        """
+        S = np.asarray(S, dtype=float)
+        plan = self._transform_plan()
+        unc = plan["uncertain"]
+        if S.ndim != 2 or S.shape[1] != len(unc):
+            raise StatisticsError(f"scores must have shape (N, {len(unc)}) (the uncertain variables), got {S.shape}")
+        X = np.empty((S.shape[0], len(self.variables)), dtype=float)
+        for j in plan["exact"]:
+            X[:, j] = self.variables[j].distribution.estimate
+        where = plan["score_of"]
+        for j in plan["other"]:
+            X[:, j] = self.variables[j].distribution.from_standard_normal(S[:, where[j]])
+        normal = plan["normal_columns"]
+        if len(normal):
+            _, mu, sd = plan["normal"]
+            X[:, normal] = S[:, [where[int(j)] for j in normal]] * sd + mu
+        linked, L = self._copula_factor()
+        if L is not None:
+            Zc = S[:, [where[int(j)] for j in linked]] @ L.T
+            for k, j in enumerate(linked):
+                X[:, j] = self.variables[j].distribution.from_standard_normal(Zc[:, k])
+        return X
+
     def _transform_plan(self) -> dict:
         """Cached column plan of :meth:`from_uniform` (which columns are exact, normal, copula-linked)."""
         if self._plan is None:
@@ -495,7 +548,9 @@ class InputSet:
             self._plan = {"exact": exact, "other": other, "z_columns": z_columns,
                           "normal": (np.array([pos[j] for j in normal], dtype=np.intp), mu, sd),
                           "normal_columns": np.array(normal, dtype=np.intp),
-                          "linked": np.array([pos[int(j)] for j in linked] if L is not None else [], dtype=np.intp)}
+                          "linked": np.array([pos[int(j)] for j in linked] if L is not None else [], dtype=np.intp),
+                          "uncertain": np.flatnonzero(np.asarray(self.stds) > 0),
+                          "score_of": {int(j): k for k, j in enumerate(np.flatnonzero(np.asarray(self.stds) > 0))}}
         return self._plan
 
     def describe(self) -> list[dict[str, Any]]:

@@ -98,36 +98,62 @@ def batch_seed(seed: int, batch: int) -> int:
     return int(np.random.SeedSequence([int(seed), int(batch)]).generate_state(1, dtype=np.uint64)[0] >> 1)
 
 
-def importance_order(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet) -> np.ndarray:
-    """Inputs by decreasing linear variance share, for assigning Sobol' dimensions.
+def score_rotation(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet) -> np.ndarray | None:
+    """Orthogonal matrix W (K, K) that points the leading Sobol' coordinates along the model's
+    linear directions in the space of the K independent normal input scores.
 
-    share_j = Σ_k c_jk² u_j² / Σ_i c_ik² u_i² over the outputs k, with c_jk u_j =
-    [f_k(x̂ + u_j e_j) − f_k(x̂ − u_j e_j)]/2 (2D model evaluations). The first coordinates
-    of a Sobol' sequence have the most uniform projections, so giving them the inputs that
-    drive the output lowers the randomised-QMC error (effective dimension; Caflisch, Morokoff
-    & Owen 1997, J. Comput. Finance 1(1) 27-46). Returns the identity when the model cannot
-    be evaluated at those points. Exact inputs come last.
+    Every uncertain input is a function of one independent standard normal score (or, for
+    a Gaussian copula, of several; see :meth:`InputSet.from_scores`). With scores s = W z,
+    z = Φ⁻¹(Sobol' point), any orthogonal W leaves the joint distribution of the inputs as
+    it is; it only changes which combination of scores each Sobol' coordinate carries.
+    For each output k the score gradient is estimated by central differences of one
+    standard deviation of score (2K model evaluations),
+
+        g_jk = [f_k(x(s = +e_j)) − f_k(x(s = −e_j))] / 2,
+
+    each output's column is scaled to unit length so that all outputs count alike, and W
+    holds the eigenvectors of Σ_k ĝ_k ĝ_kᵀ by decreasing eigenvalue (the principal
+    directions of the gradients). For one output, W's first column is g/|g|: the whole
+    linear part of the output is then a function of the first Sobol' coordinate alone, the
+    best-stratified one, and the interval endpoints (order statistics) are nearly exact in
+    every batch. This is the linear-transformation method of Imai & Tan (2006, J. Comput.
+    Finance 10(2) 129-155), there for one output; see also Wang & Sloan (2011, Oper. Res.
+    59(1) 80-95) on orthogonal transforms in QMC (references recalled from memory). The sign
+    of each column is fixed (largest entry positive) so that W does not depend on the
+    eigen-solver. Returns None (plain Sobol' axes) when the model cannot be evaluated at
+    those points or no output has a linear part (|g_k| ≤ 10⁻⁹ max|f_k| is taken as rounding).
     """
-    d = len(inputs)
-    x0 = np.asarray(inputs.estimates, dtype=float)
-    u = np.asarray(inputs.stds, dtype=float)
+    unc = np.flatnonzero(np.asarray(inputs.stds) > 0)
+    k = len(unc)
+    if k == 0:
+        return None
+    S = np.vstack([np.eye(k), -np.eye(k)])
     try:
-        rows = np.vstack([x0 + np.diag(u), x0 - np.diag(u)])
         with np.errstate(all="ignore"):
-            Y = np.asarray(f(rows), dtype=float).reshape(2 * d, -1)
-        c = 0.5 * (Y[:d] - Y[d:])
-        if not np.all(np.isfinite(c)):
-            return np.arange(d)
-    except Exception:   # an ordering heuristic must never stop the run; the run itself reports errors
-        return np.arange(d)
-    var = c**2
-    tot = var.sum(axis=0)
-    share = (var / np.where(tot > 0, tot, 1.0)).sum(axis=1)
-    share[u == 0] = -1.0
-    return np.argsort(-share, kind="stable")
+            Y = np.asarray(f(inputs.from_scores(S)), dtype=float).reshape(2 * k, -1)
+    except Exception:   # a sampling design must never stop the run; the run itself reports model errors
+        return None
+    G = 0.5 * (Y[:k] - Y[k:])
+    if not np.all(np.isfinite(G)):
+        return None
+    norm = np.linalg.norm(G, axis=0)
+    live = norm > 1e-9 * np.abs(Y).max(axis=0)   # below that, the difference is rounding of an even function
+    if not np.any(live):
+        return None
+    Gs = G[:, live] / norm[live]
+    w, V = np.linalg.eigh(Gs @ Gs.T)
+    W = V[:, np.argsort(-w, kind="stable")]
+    big = np.argmax(np.abs(W), axis=0)
+    W *= np.where(W[big, np.arange(k)] < 0, -1.0, 1.0)
+    return W
 
 
-def batch_sampler(f, inputs: InputSet, method: str, seed: int, batch_size: int,
+def sobol_rotation(f, inputs: InputSet, method: str, rotate: bool) -> np.ndarray | None:
+    """The run's score rotation: :func:`score_rotation` for Sobol' sampling with ``rotate``, else None."""
+    return score_rotation(f, inputs) if method == "sobol" and rotate else None
+
+
+def batch_sampler(inputs: InputSet, method: str, seed: int, batch_size: int,
                   stream: UniformStream | None = None) -> Callable[[int], np.ndarray]:
     """``draw(b) -> U`` (batch_size, D): the uniforms of adaptive batch b (JCGM 101 §7.9).
 
@@ -135,16 +161,13 @@ def batch_sampler(f, inputs: InputSet, method: str, seed: int, batch_size: int,
     by construction; call in batch order). Sobol': batch b is the first ``batch_size``
     points of its own independently scrambled sequence (seed :func:`batch_seed`), so the
     batches are the independent replicates that §7.9's spread of batch results assumes,
-    and each batch keeps the low discrepancy of a 2^m-point net. Sobol' dimension k
-    drives input ``importance_order(...)[k]``.
+    and each batch keeps the low discrepancy of a 2^m-point net.
     """
     d = len(inputs)
     if method != "sobol":
         own = stream if stream is not None else UniformStream(d, method, seed)
         return lambda b: own.draw(batch_size)
-    order = importance_order(f, inputs)
-    return lambda b: to_inputs_order(UniformStream(d, method, *batch_origin(method, seed, b, batch_size))
-                                     .draw(batch_size), order)
+    return lambda b: UniformStream(d, method, *batch_origin(method, seed, b, batch_size)).draw(batch_size)
 
 
 def batch_origin(method: str, seed: int, batch: int, batch_size: int) -> tuple[int, int]:
@@ -155,15 +178,6 @@ def batch_origin(method: str, seed: int, batch: int, batch_size: int) -> tuple[i
     if method == "sobol":
         return batch_seed(seed, batch), 0
     return seed, batch * batch_size
-
-
-def to_inputs_order(V: np.ndarray, order: np.ndarray | None) -> np.ndarray:
-    """Columns of V (Sobol' dimensions) given to the inputs: U[:, order[k]] = V[:, k]."""
-    if order is None:
-        return V
-    U = np.empty_like(V)
-    U[:, order] = V
-    return U
 
 
 @dataclass
@@ -192,6 +206,8 @@ class MonteCarloResult:
     quantile_method : "exact" (all values kept) or "histogram"
     quantile_resolution : (M,) 0 for exact, else the widest histogram bin holding an interval endpoint
     warnings : list[str]
+    rotated_scores : bool; True when Sobol' coordinates drove the rotated input scores of
+        :func:`score_rotation` (a sampling design: the input distribution is the same)
     """
 
     mean: np.ndarray
@@ -219,6 +235,7 @@ class MonteCarloResult:
     warnings: list = field(default_factory=list)
     minimum: np.ndarray | None = None
     maximum: np.ndarray | None = None
+    rotated_scores: bool = False
     _sorted: np.ndarray | None = field(default=None, repr=False)
     _binned: BinnedCDF | None = field(default=None, repr=False)
 
@@ -280,9 +297,9 @@ class MonteCarloResult:
 
 
 def evaluate_model(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet,
-                   U: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(X, Y[N, M]) for uniforms U: inputs from ``U``, the model's values, shape and finiteness checked."""
-    X = inputs.from_uniform(U)
+                   U: np.ndarray, rotation: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
+    """(X, Y[N, M]) for uniforms U (and the run's score ``rotation``): the model's values, shape and finiteness checked."""
+    X = inputs.from_uniform(U, rotation)
     Y = np.asarray(f(X), dtype=float)
     if Y.ndim == 1:
         Y = Y[:, None]
@@ -355,11 +372,69 @@ class _Collector:
         return self._sorted_rows().T
 
 
+def collected_result(collector: _Collector, d: int, p: float, ndigits: int, warnings: list[str],
+                     conv_n: list[int], conv_u: list[np.ndarray], **fields) -> MonteCarloResult:
+    """The JCGM 101 §7.5–7.7 summary of everything a collector holds, as a :class:`MonteCarloResult`.
+
+    Exact intervals from the sorted values, or from the fixed histogram (with a warning if
+    its bins are not much finer than δ). ``fields``: adaptive, converged, stability,
+    batch_size, batches, seed, sampling, rotated_scores. Shared by the local and the Dask
+    adaptive engine.
+    """
+    mom = collector.moments
+    mean, u = mom.mean.copy(), mom.std.copy()
+    if collector.binned is None:
+        ys = collector.sorted_values()
+        sym, short = intervals_from_sorted(ys, p)
+        median = quantile_sorted(ys, 0.5)
+        qmethod, resolution, binned = "exact", np.zeros_like(mean), None
+    else:
+        ys = None
+        binned = collector.binned
+        sym, short = binned.intervals(p)
+        median = binned.quantile(0.5)
+        qmethod = "histogram"
+        resolution = binned.resolution(np.concatenate([sym.T, short.T], axis=0))
+    tol = np.atleast_1d(numerical_tolerance(u, ndigits))
+    if qmethod == "histogram" and np.any(resolution > 0.1 * tol):
+        warnings.append("quantile histogram bins are not much finer than the numerical tolerance; "
+                        "raise max_stored_values or histogram_bins")
+    Xk, Yk = collector.kept(d)
+    convergence = [[(int(n), float(uu[j])) for n, uu in zip(conv_n, conv_u)] for j in range(mean.shape[0])]
+    return MonteCarloResult(
+        mean=mean, standard_uncertainty=u, coverage_interval=sym, shortest_interval=short, median=median,
+        skewness=mom.skewness, coverage_probability=p, samples_used=int(mom.n), convergence=convergence,
+        Y_kept=Yk, X_kept=Xk, tolerance=tol, quantile_method=qmethod, quantile_resolution=resolution,
+        ndigits=int(ndigits), warnings=warnings, minimum=mom.min.copy(), maximum=mom.max.copy(),
+        _sorted=ys, _binned=binned, **fields)
+
+
 def _batch_summary(Y: np.ndarray, p: float) -> np.ndarray:
     """(6, M): mean, std, symmetric low/high, shortest low/high of one batch."""
     ys = np.sort(Y, axis=0)
     sym, short = intervals_from_sorted(ys, p)
     return np.stack([Y.mean(axis=0), Y.std(axis=0, ddof=1), sym[:, 0], sym[:, 1], short[:, 0], short[:, 1]])
+
+
+def batch_test(summaries: list[np.ndarray], u_all: np.ndarray, ndigits: int,
+               check_shortest: bool) -> tuple[bool, dict]:
+    """JCGM 101 §7.9.4 test after h ≥ 2 batches: (stable for every output, k·s per quantity).
+
+    ``summaries``: the h (6, M) :func:`_batch_summary` arrays; s_z = [Σ_r (z⁽ʳ⁾ − z̄)²/(h(h − 1))]^{1/2}
+    is the standard deviation of the average of the h batch values, k = :func:`stability_factor`,
+    δ from u(y) of all h·M values (§7.9.2). An output with u(y) = 0 is stable.
+    """
+    S = np.stack(summaries)  # (h, 6, M)
+    h = S.shape[0]
+    s = np.sqrt(np.var(S, axis=0, ddof=1) / h)
+    delta = numerical_tolerance(u_all, ndigits)
+    rows = [0, 1, 2, 3] + ([4, 5] if check_shortest else [])
+    k = stability_factor(h)
+    exceed = np.any(k * s[rows] > delta[None, :], axis=0) & (u_all > 0)
+    return not bool(np.any(exceed)), {STABILITY_KEYS[r]: k * s[r] for r in rows}
+
+
+STABILITY_KEYS = ("mean", "u", "low", "high", "shortest_low", "shortest_high")
 
 
 def check_run_arguments(inputs, samples, sampling, seed, coverage, ndigits, chunk_size):
@@ -412,6 +487,7 @@ def propagate_monte_carlo(
     check_shortest: bool = True,
     max_stored_values: int = MAX_STORED_VALUES,
     histogram_bins: int = HISTOGRAM_BINS,
+    rotate: bool = True,
 ) -> MonteCarloResult:
     """Propagate the input distributions through f by Monte Carlo (JCGM 101 §7).
 
@@ -445,6 +521,9 @@ def propagate_monte_carlo(
         Adaptive stopping also requires stable shortest-interval endpoints.
     max_stored_values, histogram_bins : int
         Memory bound and histogram resolution (see module docstring).
+    rotate : bool
+        Sobol' sampling: drive the input scores rotated onto the model's linear directions
+        (:func:`score_rotation`); False keeps one Sobol' coordinate per input.
 
     Returns
     -------
@@ -453,11 +532,12 @@ def propagate_monte_carlo(
     p, method, seed, d, chunk_size, adaptive, samples = check_run_arguments(
         inputs, samples, sampling, seed, coverage, ndigits, chunk_size)
     stream = UniformStream(d, method, seed)
+    rotation = sobol_rotation(f, inputs, method, rotate)
     warnings: list[str] = []
     state = {"m": None}
 
     def evaluate(U: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        X, Y = evaluate_model(f, inputs, U)
+        X, Y = evaluate_model(f, inputs, U, rotation)
         if state["m"] is None:
             state["m"] = Y.shape[1]
         elif Y.shape[1] != state["m"]:
@@ -506,7 +586,7 @@ def propagate_monte_carlo(
         M_b = int(batch_size) if batch_size is not None else adaptive_batch_size(p, method)
         if M_b < 2:
             raise StatisticsError(f"batch size must be at least 2, got {batch_size!r}")
-        draw_batch = batch_sampler(f, inputs, method, seed, M_b, stream)
+        draw_batch = batch_sampler(inputs, method, seed, M_b, stream)
         per_call = max(1, chunk_size // M_b)
         summaries: list[np.ndarray] = []
         converged = False
@@ -532,53 +612,15 @@ def propagate_monte_carlo(
                     progress(done, None)
                 if batches < 2:
                     continue
-                S = np.stack(summaries)  # (h, 6, M)
-                h = S.shape[0]
-                s = np.sqrt(np.var(S, axis=0, ddof=1) / h)  # (6, M): std of the average of h batch values
-                delta = numerical_tolerance(u_all, ndigits)
-                rows = [0, 1, 2, 3] + ([4, 5] if check_shortest else [])
-                k = stability_factor(h)
-                exceed = np.any(k * s[rows] > delta[None, :], axis=0) & (u_all > 0)
-                if not np.any(exceed) or done >= max_samples:
-                    converged = not np.any(exceed)
-                    keys = ["mean", "u", "low", "high", "shortest_low", "shortest_high"]
-                    stability = {keys[r]: k * s[r] for r in rows}
+                stable, spread = batch_test(summaries, u_all, ndigits, check_shortest)
+                if stable or done >= max_samples:
+                    converged, stability = stable, spread
                     break
         if not converged:
             warnings.append(f"adaptive Monte Carlo stopped at the cap of {done} trials before u(y) and the "
                             f"interval endpoints were stable to {ndigits} significant digits")
 
     assert collector is not None
-    mom = collector.moments
-    n_used = mom.n
-    mean = mom.mean.copy()
-    u = mom.std.copy()
-    skew = mom.skewness
-    if collector.binned is None:
-        ys = collector.sorted_values()
-        sym, short = intervals_from_sorted(ys, p)
-        median = quantile_sorted(ys, 0.5)
-        qmethod, resolution, binned = "exact", np.zeros_like(mean), None
-    else:
-        ys = None
-        binned = collector.binned
-        sym, short = binned.intervals(p)
-        median = binned.quantile(0.5)
-        qmethod = "histogram"
-        resolution = binned.resolution(np.concatenate([sym.T, short.T], axis=0))
-    tol = np.atleast_1d(numerical_tolerance(u, ndigits))
-    if qmethod == "histogram" and np.any(resolution > 0.1 * tol):
-        warnings.append("quantile histogram bins are not much finer than the numerical tolerance; "
-                        "raise max_stored_values or histogram_bins")
-    Xk, Yk = collector.kept(d)
-    m = mean.shape[0]
-    convergence = [[(int(n), float(uu[j])) for n, uu in zip(conv_n, conv_u)] for j in range(m)]
-    return MonteCarloResult(
-        mean=mean, standard_uncertainty=u, coverage_interval=sym, shortest_interval=short, median=median,
-        skewness=skew, coverage_probability=p, samples_used=int(n_used), convergence=convergence,
-        Y_kept=Yk, X_kept=Xk, adaptive=adaptive, converged=converged,
-        tolerance=tol, stability=stability,
-        batch_size=M_b, batches=batches, seed=int(seed), sampling=method, quantile_method=qmethod,
-        quantile_resolution=resolution, ndigits=int(ndigits), warnings=warnings,
-        minimum=mom.min.copy(), maximum=mom.max.copy(), _sorted=ys, _binned=binned,
-    )
+    return collected_result(collector, d, p, ndigits, warnings, conv_n, conv_u, adaptive=adaptive,
+                            converged=converged, stability=stability, batch_size=M_b, batches=batches,
+                            seed=int(seed), sampling=method, rotated_scores=rotation is not None)

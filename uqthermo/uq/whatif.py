@@ -415,9 +415,10 @@ def _what_if_linear(f, inputs, scenarios, fmaps, A, coverage, linear):
 class CommonSample:
     """One shared Monte Carlo input sample for common-random-number studies (x-space scaling).
 
-    ``X = inputs.from_uniform(U)`` with ``U = uniform_sample(samples, D, sampling, seed)``
-    (the same rows :func:`uqthermo.uq.montecarlo.propagate_monte_carlo` draws for that seed
-    and a fixed sample size). :meth:`evaluate` applies per-variable factors a to the
+    ``X = inputs.from_uniform(U, W)`` with ``U = uniform_sample(samples, D, sampling, seed)``
+    and W the Sobol' score rotation (the same rows
+    :func:`uqthermo.uq.montecarlo.propagate_monte_carlo` draws for that seed and a fixed
+    sample size). :meth:`evaluate` applies per-variable factors a to the
     deviations, ``x' = x̂ + a (x − x̂)``, evaluates the model and summarises each scenario:
     u = sample standard deviation (JCGM 101 §7.6) and the probabilistically symmetric
     100p % coverage interval (JCGM 101 §7.7). X is kept in memory when N·D ≤ 2.5e7 values,
@@ -435,6 +436,10 @@ class CommonSample:
         self.D = len(inputs.stds)
         self.est = np.asarray(inputs.estimates, dtype=float)
         self.n_evaluations = 0
+        from .montecarlo import sobol_rotation
+        from .sampling import _method
+
+        self._rotation = sobol_rotation(f, inputs, _method(sampling), True)
         self._X = None
         if self.n * self.D <= 25_000_000:
             self._X = np.concatenate(list(self._blocks()))
@@ -448,7 +453,7 @@ class CommonSample:
             return
         for U in iter_uniform_chunks(self.n, self.D, method=self.sampling, seed=self.seed,
                                      chunk_size=self.chunk_size):
-            yield self.inputs.from_uniform(U)
+            yield self.inputs.from_uniform(U, self._rotation)
 
     def values(self, a: np.ndarray | None) -> np.ndarray:
         """Model values Y (N, M) with per-variable factors ``a`` (D,) (None: as stated)."""
