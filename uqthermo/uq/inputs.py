@@ -458,13 +458,12 @@ class InputSet:
             Uz = U[:, :k]
             if Uz.size and (Uz.min() < U_CLIP or Uz.max() > 1.0 - U_CLIP):
                 Uz = np.clip(Uz, U_CLIP, 1.0 - U_CLIP)
-            S = special.ndtri(Uz) @ W.T
             nz, mu, sd = plan["normal"]
-            if plan["z_columns"] is Ellipsis and len(nz) == d:   # every input normal and independent
-                S *= sd
-                S += mu
-                return S
-            return self.from_scores(S)
+            if plan["z_columns"] is Ellipsis and len(nz) == d:   # every input normal and independent:
+                X = special.ndtri(Uz) @ (W.T * sd)                 # x = x̂ + u ⊙ (W z), u folded into W
+                X += mu
+                return X
+            return self.from_scores(special.ndtri(Uz) @ W.T)
         X = np.empty((n, d), dtype=float)
         for j in plan["exact"]:
             X[:, j] = self.variables[j].distribution.estimate

@@ -23,9 +23,14 @@ a spread estimated from a few batches cannot stop the run by chance. Endpoints o
 symmetric and (``check_shortest=True``) the shortest interval are checked. Pseudo-random
 batches continue one stream (a Latin-hypercube batch is its own design). A Sobol' batch is
 its own independently scrambled net of a power-of-two size (:func:`adaptive_batch_size`,
-:func:`batch_sampler`), inputs assigned to dimensions by :func:`importance_order`: the
-batches are then independent replicates, as §7.9 assumes, and each batch's estimates
-carry the smaller randomised-QMC error. Batches may be evaluated several per model call;
+:func:`batch_sampler`): the batches are then independent replicates, as §7.9 assumes, and
+each batch's estimates carry the smaller randomised-QMC error.
+
+**Sobol' design.** With Sobol' sampling (fixed N or adaptive) the inputs' independent normal
+scores are rotated onto the model's linear directions (:func:`score_rotation`, on by
+default, ``rotate=False`` switches it off): the first Sobol' coordinate, the best
+stratified, then carries the linear part of each output. The rotation is orthogonal, so
+every trial is still a draw from the joint input distribution (JCGM 101 §7). Batches may be evaluated several per model call;
 the stopping batch is the same as when evaluating one batch at a time, so results never
 depend on the chunk size.
 
@@ -317,7 +322,9 @@ class _Collector:
     """Accumulates model values: moments always; values (or a fixed histogram); a kept subsample.
 
     Stored values are kept transposed, one contiguous row per output, so that the final
-    sort runs along contiguous memory.
+    sort runs along contiguous memory. When the number of rows is known in advance and
+    all values will be kept, they are written into one preallocated (M, N) array (no
+    final concatenation, half the peak memory).
     """
 
     def __init__(self, m: int, d: int, keep: int, cap: int, bins: int, expect_rows: int | None = None):
@@ -327,9 +334,12 @@ class _Collector:
         self.n_stored = 0
         self.binned: BinnedCDF | None = None
         self.cap = cap
+        self.store: np.ndarray | None = None
         if expect_rows is not None and expect_rows * m > cap:
             # the histogram is certain to be needed: a pilot of PILOT_ROWS rows places its edges
             self.cap = min(cap, PILOT_ROWS * m)
+        elif expect_rows is not None:
+            self.store = np.empty((m, expect_rows))
         self.bins = int(min(bins, max(2000, cap // max(1, 2 * m))))
         self.keep = keep
         self.X_kept: list[np.ndarray] = []
@@ -344,7 +354,10 @@ class _Collector:
             self.Y_kept.append(Y[:t].copy())
             self.n_kept += t
         if self.binned is None:
-            if (self.n_stored + Y.shape[0]) * self.m <= self.cap:
+            if self.store is not None and self.n_stored + Y.shape[0] <= self.store.shape[1]:
+                self.store[:, self.n_stored:self.n_stored + Y.shape[0]] = Y.T
+                self.n_stored += Y.shape[0]
+            elif self.store is None and (self.n_stored + Y.shape[0]) * self.m <= self.cap:
                 self.stored.append(Y.T.copy(order="C"))
                 self.n_stored += Y.shape[0]
             else:
@@ -361,6 +374,13 @@ class _Collector:
 
     def _sorted_rows(self, extra: np.ndarray | None = None) -> np.ndarray:
         """All stored values (plus ``extra`` rows) as a sorted (M, N) array; releases the store."""
+        if self.store is not None and extra is None:
+            ys, self.store, self.stored = self.store[:, :self.n_stored], None, None
+            ys.sort(axis=1)
+            return ys
+        if self.store is not None:
+            self.stored = [self.store[:, :self.n_stored]]
+            self.store = None
         parts = self.stored + ([extra.T] if extra is not None else [])
         self.stored = None
         ys = parts[0] if len(parts) == 1 and extra is None else np.concatenate(parts, axis=1)
