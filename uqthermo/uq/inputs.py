@@ -13,6 +13,7 @@ N(x̂, diag(u) R diag(u))).
 from __future__ import annotations
 
 import math
+import threading
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
@@ -31,6 +32,20 @@ SYMMETRY_TOL = 1e-10
 PSD_TOL = 1e-10
 #: uniforms are clipped to [U_CLIP, 1 - U_CLIP] before Φ⁻¹ (2⁻⁵³: the resolution of doubles near 1)
 U_CLIP = 2.0**-53
+
+
+_SCRATCH = threading.local()
+
+
+def _scratch(shape: tuple[int, ...]) -> np.ndarray:
+    """A reusable float array of ``shape`` for temporaries that never leave a call (one per
+    thread): a fresh multi-megabyte array per chunk costs more here than the arithmetic on it."""
+    n = int(np.prod(shape))
+    buf = getattr(_SCRATCH, "buf", None)
+    if buf is None or buf.size < n:
+        buf = np.empty(n)
+        _SCRATCH.buf = buf
+    return buf[:n].reshape(shape)
 
 
 @dataclass(frozen=True)
@@ -458,12 +473,13 @@ class InputSet:
             Uz = U[:, :k]
             if Uz.size and (Uz.min() < U_CLIP or Uz.max() > 1.0 - U_CLIP):
                 Uz = np.clip(Uz, U_CLIP, 1.0 - U_CLIP)
+            Z = special.ndtri(Uz, out=_scratch(Uz.shape))   # z never leaves this call
             nz, mu, sd = plan["normal"]
             if plan["z_columns"] is Ellipsis and len(nz) == d:   # every input normal and independent:
-                X = special.ndtri(Uz) @ (W.T * sd)                 # x = x̂ + u ⊙ (W z), u folded into W
+                X = Z @ (W.T * sd)                                 # x = x̂ + u ⊙ (W z), u folded into W
                 X += mu
                 return X
-            return self.from_scores(special.ndtri(Uz) @ W.T)
+            return self.from_scores(Z @ W.T)
         X = np.empty((n, d), dtype=float)
         for j in plan["exact"]:
             X[:, j] = self.variables[j].distribution.estimate
