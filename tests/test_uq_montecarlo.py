@@ -263,6 +263,10 @@ def test_score_rotation_points_the_first_sobol_coordinate_along_the_gradient():
     np.testing.assert_allclose(W.T @ W, np.eye(6), atol=1e-12)
     g = (f(s.estimates + np.diag(s.stds)) - f(s.estimates - np.diag(s.stds))) / 2
     np.testing.assert_allclose(np.abs(W[:, 0]), np.abs(g) / np.linalg.norm(g), atol=1e-12)
+    # next: the most important input's score axis, made orthogonal to the gradient
+    j = int(np.argmax(np.abs(g)))
+    e = np.eye(6)[j] - g[j] * g / (g @ g)
+    np.testing.assert_allclose(np.abs(W[:, 1]), np.abs(e) / np.linalg.norm(e), atol=1e-12)
     U = np.random.default_rng(0).random((1000, 6))
     y = f(s.from_uniform(U, W))
     np.testing.assert_allclose(y, mean + np.sign(g @ W[:, 0]) * sd * special.ndtri(U[:, 0]), rtol=0, atol=1e-9 * sd)

@@ -116,9 +116,12 @@ def score_rotation(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet) -> n
 
         g_jk = [f_k(x(s = +e_j)) − f_k(x(s = −e_j))] / 2,
 
-    each output's column is scaled to unit length so that all outputs count alike, and W
-    holds the eigenvectors of Σ_k ĝ_k ĝ_kᵀ by decreasing eigenvalue (the principal
-    directions of the gradients). For one output, W's first column is g/|g|: the whole
+    each output's column is scaled to unit length so that all outputs count alike. W's
+    leading columns are the eigenvectors of Σ_k ĝ_k ĝ_kᵀ with non-zero eigenvalues, by
+    decreasing eigenvalue (the principal directions of the gradients); the remaining columns
+    are the score axes in order of decreasing linear importance Σ_k ĝ_jk², each made
+    orthogonal to the columns before it, so that the nonlinear remainder of the important
+    inputs lands on the next-best coordinates. For one output, W's first column is g/|g|: the whole
     linear part of the output is then a function of the first Sobol' coordinate alone, the
     best-stratified one, and the interval endpoints (order statistics) are nearly exact in
     every batch. This is the linear-transformation method of Imai & Tan (2006, J. Comput.
@@ -147,7 +150,23 @@ def score_rotation(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet) -> n
         return None
     Gs = G[:, live] / norm[live]
     w, V = np.linalg.eigh(Gs @ Gs.T)
-    W = V[:, np.argsort(-w, kind="stable")]
+    order = np.argsort(-w, kind="stable")
+    rank = int(np.sum(w > 1e-10 * w[order[0]]))
+    cols = [V[:, i] for i in order[:rank]]
+    # the rest of the basis: the score axes by decreasing linear importance, each made
+    # orthogonal to the columns before it (Gram-Schmidt, twice), so that what the leading
+    # directions leave of the important inputs (their nonlinear part) sits on the next coordinates
+    for j in np.argsort(-(Gs**2).sum(axis=1), kind="stable"):
+        if len(cols) == k:
+            break
+        e = np.zeros(k)
+        e[j] = 1.0
+        for _ in range(2):
+            e -= np.column_stack(cols) @ (np.column_stack(cols).T @ e)
+        n = np.linalg.norm(e)
+        if n > 1e-8:
+            cols.append(e / n)
+    W = np.column_stack(cols)
     big = np.argmax(np.abs(W), axis=0)
     W *= np.where(W[big, np.arange(k)] < 0, -1.0, 1.0)
     return W
