@@ -158,9 +158,45 @@ def test_mc_what_if_distribution_scaling_equals_direct_rerun():
 
     res = what_if(f, inp, [Scenario.halved("X0")], method="monte-carlo", samples=2048, seed=3,
                   scaling="distribution")
-    rerun = propagate_monte_carlo(f, inp.with_scaled_uncertainty({"X0": 0.5}), samples=2048, seed=3)
+    # distribution scaling runs on the plain Sobol' axes (each input its own coordinate)
+    rerun = propagate_monte_carlo(f, inp.with_scaled_uncertainty({"X0": 0.5}), samples=2048, seed=3, rotate=False)
     assert res.u[0] == pytest.approx(rerun.standard_uncertainty, rel=1e-12)
     assert res.U[0] == pytest.approx(0.5 * np.diff(rerun.coverage_interval, axis=1)[:, 0], rel=1e-12)
+
+
+def test_mc_what_if_distribution_scaling_keeps_common_random_numbers():
+    """An output that does not depend on the scaled or removed datum keeps exactly its
+    uncertainty in every scenario (the scenarios share their random numbers)."""
+    inp = _inputs([("x0", "X0", LogNormal(2.0, 0.5)), ("x1", "X1", Normal(1.0, 0.2)),
+                   ("x2", "X2", Rectangular(3.0, 0.5))])
+
+    def f(X):
+        return np.column_stack([X[:, 0] * X[:, 1], X[:, 1] + X[:, 2] ** 2])
+
+    res = what_if(f, inp, [Scenario.halved("X0"), Scenario.removed("X0")], method="monte-carlo",
+                  samples=2048, seed=3, scaling="distribution")
+    assert np.all(res.u[:, 1] == res.u_now[1])
+    assert np.all(res.u[:, 0] < res.u_now[0])
+
+
+def test_sobol_rotation_switch_reaches_what_if_and_planning():
+    from uqthermo.uq import whatif as wi
+
+    inp, f = _nonlinear_case()
+    seen = []
+    orig = wi.CommonSample.__init__
+
+    def spy(self, *a, **kw):
+        orig(self, *a, **kw)
+        seen.append(self._rotation is not None)
+
+    wi.CommonSample.__init__ = spy
+    try:
+        what_if(f, inp, method="monte-carlo", samples=1024, seed=1, rotate=False)
+        what_if(f, inp, method="monte-carlo", samples=1024, seed=1)
+    finally:
+        wi.CommonSample.__init__ = orig
+    assert seen == [False, True]
 
 
 def test_common_random_numbers_make_differences_nearly_noise_free():

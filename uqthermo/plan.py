@@ -105,7 +105,7 @@ def compute_plan(case: Case, model: Model, *, target: str | None = None, budget:
     plan = plan_purchases(f, model.inputs, cands, target=tgt, budget=budget,
                           method="linear" if linear_model else "monte-carlo", linear=lin,
                           coverage=s.coverage_probability, seed=s.seed, output_labels=labels,
-                          samples=4096)
+                          samples=4096, rotate=s.sobol_rotation)
     return shape_plan(plan, case, model, outs, tgt)
 
 

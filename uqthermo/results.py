@@ -394,7 +394,8 @@ def _drivers_and_whatif(case: Case, model: Model, lin, warnings: list[str]):
             n = min(2**13, int(s.samples) if s.samples != "adaptive" else 2**13)
             parts.append((other_cols, what_if(f, inputs, scenarios, method="monte-carlo",
                                               coverage=s.coverage_probability, samples=n,
-                                              sampling="sobol" if s.sampling == "sobol" else "random", seed=s.seed)))
+                                              sampling="sobol" if s.sampling == "sobol" else "random", seed=s.seed,
+                                              rotate=s.sobol_rotation)))
         whatif = _ByColumn(parts)
     return ranking, whatif
 

@@ -39,13 +39,23 @@ _SCRATCH = threading.local()
 
 def _scratch(shape: tuple[int, ...]) -> np.ndarray:
     """A reusable float array of ``shape`` for temporaries that never leave a call (one per
-    thread): a fresh multi-megabyte array per chunk costs more here than the arithmetic on it."""
+    thread): a fresh multi-megabyte array per chunk costs more here than the arithmetic on it.
+    Each thread keeps the largest buffer it has needed (a chunk's worth inside the engines)."""
     n = int(np.prod(shape))
     buf = getattr(_SCRATCH, "buf", None)
     if buf is None or buf.size < n:
         buf = np.empty(n)
         _SCRATCH.buf = buf
     return buf[:n].reshape(shape)
+
+
+def _rows_times(Z: np.ndarray, B: np.ndarray) -> np.ndarray:
+    """Z @ B with each row's result independent of how many rows Z has: BLAS multiplies a
+    single row by another routine (matrix-vector) that rounds differently, so one row is
+    computed as two."""
+    if Z.shape[0] == 1:
+        return (np.vstack([Z, Z]) @ B)[:1]
+    return Z @ B
 
 
 @dataclass(frozen=True)
@@ -470,16 +480,19 @@ class InputSet:
             W = np.asarray(rotation, dtype=float)
             if W.shape != (k, k):
                 raise StatisticsError(f"rotation must have shape ({k}, {k}) (the uncertain variables), got {W.shape}")
+            v = np.cos(np.arange(1.0, k + 1.0))   # O(K²) probe: Wᵀ(W v) = v for an orthogonal W
+            if k and not np.allclose(W.T @ (W @ v), v, rtol=0.0, atol=1e-9 * np.linalg.norm(v)):
+                raise StatisticsError("rotation must be an orthogonal matrix (Wᵀ W = I)")
             Uz = U[:, :k]
             if Uz.size and (Uz.min() < U_CLIP or Uz.max() > 1.0 - U_CLIP):
                 Uz = np.clip(Uz, U_CLIP, 1.0 - U_CLIP)
             Z = special.ndtri(Uz, out=_scratch(Uz.shape))   # z never leaves this call
             nz, mu, sd = plan["normal"]
             if plan["z_columns"] is Ellipsis and len(nz) == d:   # every input normal and independent:
-                X = Z @ (W.T * sd)                                 # x = x̂ + u ⊙ (W z), u folded into W
+                X = _rows_times(Z, W.T * sd)                       # x = x̂ + u ⊙ (W z), u folded into W
                 X += mu
                 return X
-            return self.from_scores(Z @ W.T)
+            return self.from_scores(_rows_times(Z, W.T))
         X = np.empty((n, d), dtype=float)
         for j in plan["exact"]:
             X[:, j] = self.variables[j].distribution.estimate
@@ -502,7 +515,7 @@ class InputSet:
                 X[:, plan["normal_columns"]] = Z[:, nz] * sd + mu
             linked, L = self._copula_factor()
             if L is not None:
-                Zc = Z[:, plan["linked"]] @ L.T
+                Zc = _rows_times(Z[:, plan["linked"]], L.T)
                 for k, j in enumerate(linked):
                     X[:, j] = self.variables[j].distribution.from_standard_normal(Zc[:, k])
         return X
@@ -533,7 +546,7 @@ class InputSet:
             X[:, normal] = S[:, [where[int(j)] for j in normal]] * sd + mu
         linked, L = self._copula_factor()
         if L is not None:
-            Zc = S[:, [where[int(j)] for j in linked]] @ L.T
+            Zc = _rows_times(S[:, [where[int(j)] for j in linked]], L.T)
             for k, j in enumerate(linked):
                 X[:, j] = self.variables[j].distribution.from_standard_normal(Zc[:, k])
         return X

@@ -24,15 +24,15 @@ symmetric and (``check_shortest=True``) the shortest interval are checked. Pseud
 batches continue one stream (a Latin-hypercube batch is its own design). A Sobol' batch is
 its own independently scrambled net of a power-of-two size (:func:`adaptive_batch_size`,
 :func:`batch_sampler`): the batches are then independent replicates, as §7.9 assumes, and
-each batch's estimates carry the smaller randomised-QMC error.
+each batch's estimates carry the smaller randomised-QMC error. Batches may be evaluated
+several per model call; the stopping batch is the same as when evaluating one batch at a
+time, so results never depend on the chunk size.
 
 **Sobol' design.** With Sobol' sampling (fixed N or adaptive) the inputs' independent normal
 scores are rotated onto the model's linear directions (:func:`score_rotation`, on by
-default, ``rotate=False`` switches it off): the first Sobol' coordinate, the best
-stratified, then carries the linear part of each output. The rotation is orthogonal, so
-every trial is still a draw from the joint input distribution (JCGM 101 §7). Batches may be evaluated several per model call;
-the stopping batch is the same as when evaluating one batch at a time, so results never
-depend on the chunk size.
+default, ``rotate=False`` switches it off): the leading Sobol' coordinates, the best
+stratified, then carry the linear part of the outputs. The rotation is orthogonal, so
+every trial is still a draw from the joint input distribution (JCGM 101 §7).
 
 **Memory.** All model values are kept while N·M ≤ ``max_stored_values`` (default 2·10⁷)
 and the quantities above are computed exactly from the sorted values. Beyond that the
@@ -67,6 +67,9 @@ HISTOGRAM_BINS = 100_000
 KEEP_VALUES = 4_000_000
 #: pilot rows for the histogram when a fixed N is known to exceed the stored-values bound
 PILOT_ROWS = 2**18
+#: relative size below which a gradient direction (or the new part of a score axis) is
+#: left out of :func:`score_rotation`'s leading columns
+ROTATION_CUTOFF = 1e-3
 
 
 def adaptive_batch_size(coverage: float, sampling: str = "random") -> int:
@@ -124,12 +127,19 @@ def score_rotation(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet) -> n
     inputs lands on the next-best coordinates. For one output, W's first column is g/|g|: the whole
     linear part of the output is then a function of the first Sobol' coordinate alone, the
     best-stratified one, and the interval endpoints (order statistics) are nearly exact in
-    every batch. This is the linear-transformation method of Imai & Tan (2006, J. Comput.
-    Finance 10(2) 129-155), there for one output; see also Wang & Sloan (2011, Oper. Res.
-    59(1) 80-95) on orthogonal transforms in QMC (references recalled from memory). The sign
-    of each column is fixed (largest entry positive) so that W does not depend on the
-    eigen-solver. Returns None (plain Sobol' axes) when the model cannot be evaluated at
-    those points or no output has a linear part (|g_k| ≤ 10⁻⁹ max|f_k| is taken as rounding).
+    every batch; several outputs share the few leading coordinates that span their
+    gradients. This is the linear-transformation method of Imai & Tan (2006, Journal of
+    Computational Finance 10(2)), there for one output; on orthogonal transforms in
+    quasi-Monte Carlo see also Wang & Sloan (2011, Operations Research 59(1)).
+
+    W is built to be insensitive to rounding: directions are kept only when their singular
+    value exceeds :data:`ROTATION_CUTOFF` times the first, an axis joins the completion only
+    when more than that fraction of it is left after orthogonalisation, axes of equal
+    importance to 9 digits go in index order, and each column's sign is fixed (first of its
+    largest entries positive). Model values that differ in the last bits (another
+    BLAS or libm) then move W by rounding only, not to another basis. Returns None (plain
+    Sobol' axes) when the model cannot be evaluated at those points or no output has a
+    linear part (|g_k| ≤ 10⁻⁹ max|f_k| is taken as rounding).
     """
     unc = np.flatnonzero(np.asarray(inputs.stds) > 0)
     k = len(unc)
@@ -149,25 +159,31 @@ def score_rotation(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet) -> n
     if not np.any(live):
         return None
     Gs = G[:, live] / norm[live]
-    w, V = np.linalg.eigh(Gs @ Gs.T)
-    order = np.argsort(-w, kind="stable")
-    rank = int(np.sum(w > 1e-10 * w[order[0]]))
-    cols = [V[:, i] for i in order[:rank]]
+    V, sv, _ = np.linalg.svd(Gs, full_matrices=False)
+    # directions with a singular value below 10⁻³ of the first carry under 10⁻⁶ of the linear
+    # variance and are ill-determined by rounding: leave them to the completion below
+    cols = [V[:, i] for i in range(int(np.sum(sv > ROTATION_CUTOFF * sv[0])))]
     # the rest of the basis: the score axes by decreasing linear importance, each made
     # orthogonal to the columns before it (Gram-Schmidt, twice), so that what the leading
-    # directions leave of the important inputs (their nonlinear part) sits on the next coordinates
-    for j in np.argsort(-(Gs**2).sum(axis=1), kind="stable"):
+    # directions leave of the important inputs (their nonlinear part) sits on the next
+    # coordinates. An axis (almost) inside the span so far is skipped; one pass always
+    # completes the basis (while columns are missing, some axis keeps ≥ 1/√K of its length).
+    importance = (Gs**2).sum(axis=1)
+    importance = np.round(importance / importance.max(), 9)   # near-ties (symmetric inputs) go by index
+    for j in np.argsort(-importance, kind="stable"):
         if len(cols) == k:
             break
         e = np.zeros(k)
         e[j] = 1.0
+        B = np.column_stack(cols)
         for _ in range(2):
-            e -= np.column_stack(cols) @ (np.column_stack(cols).T @ e)
+            e -= B @ (B.T @ e)
         n = np.linalg.norm(e)
-        if n > 1e-8:
+        if n > ROTATION_CUTOFF:
             cols.append(e / n)
     W = np.column_stack(cols)
-    big = np.argmax(np.abs(W), axis=0)
+    mag = np.abs(W)
+    big = np.argmax(mag >= (1.0 - 1e-6) * mag.max(axis=0), axis=0)   # first of the (nearly) largest entries
     W *= np.where(W[big, np.arange(k)] < 0, -1.0, 1.0)
     return W
 

@@ -763,6 +763,7 @@ def plan_purchases(
     max_lead_time: float | None = None,
     output_labels: Sequence[str] | None = None,
     chunk_size: int = 65536,
+    rotate: bool = True,
 ) -> PurchasePlan:
     """Plan purchases for a model ``f(X[N, D]) -> Y[N, M]`` with inputs ``inputs``.
 
@@ -793,7 +794,7 @@ def plan_purchases(
     factors, warns = _resolve_candidates(candidates, inputs.groups, np.asarray(inputs.stds, dtype=float))
     data = list(dict.fromkeys(c.datum for c in candidates))
     metric, p = _metric_setup(target, coverage)
-    shared = CommonSample(f, inputs, samples, sampling=sampling, seed=seed, chunk_size=chunk_size)
+    shared = CommonSample(f, inputs, samples, sampling=sampling, seed=seed, chunk_size=chunk_size, rotate=rotate)
     D = len(inputs.stds)
     cols = [np.asarray(list(inputs.groups[d]), dtype=int) for d in data]
 

@@ -334,6 +334,7 @@ def what_if(
     seed: int = 0,
     scaling: str = "x-space",
     chunk_size: int = 65536,
+    rotate: bool = True,
 ) -> WhatIfResult:
     """Output uncertainty if data were measured better (or not at all).
 
@@ -362,6 +363,11 @@ def what_if(
         Monte Carlo scaling scheme (module docstring).
     chunk_size : int
         Rows per model call.
+    rotate : bool
+        Sobol' score rotation of the shared sample (x-space scaling; see
+        :func:`uqthermo.uq.montecarlo.score_rotation`). Distribution scaling always uses
+        the plain Sobol' axes: each input then keeps its own coordinate in every scenario,
+        even when a datum is removed, so the scenarios share their random numbers.
 
     Returns
     -------
@@ -386,7 +392,7 @@ def what_if(
         if scaling not in ("x-space", "distribution"):
             raise StatisticsError(f"unknown what-if scaling {scaling!r}; use x-space or distribution")
         return _what_if_mc(f, inputs, scenarios, fmaps, A, coverage, int(samples), sampling, seed, scaling,
-                           chunk_size)
+                           chunk_size, rotate)
     raise StatisticsError(f"unknown what-if method {method!r}; use linear or monte-carlo")
 
 
@@ -416,9 +422,9 @@ class CommonSample:
     """One shared Monte Carlo input sample for common-random-number studies (x-space scaling).
 
     ``X = inputs.from_uniform(U, W)`` with ``U = uniform_sample(samples, D, sampling, seed)``
-    and W the Sobol' score rotation (the same rows
-    :func:`uqthermo.uq.montecarlo.propagate_monte_carlo` draws for that seed and a fixed
-    sample size). :meth:`evaluate` applies per-variable factors a to the
+    and W the Sobol' score rotation of ``f`` (``rotate=True``; None otherwise): the same rows
+    :func:`uqthermo.uq.montecarlo.propagate_monte_carlo` draws for ``f``, that seed and a
+    fixed sample size. :meth:`evaluate` applies per-variable factors a to the
     deviations, ``x' = x̂ + a (x − x̂)``, evaluates the model and summarises each scenario:
     u = sample standard deviation (JCGM 101 §7.6) and the probabilistically symmetric
     100p % coverage interval (JCGM 101 §7.7). X is kept in memory when N·D ≤ 2.5e7 values,
@@ -426,7 +432,7 @@ class CommonSample:
     """
 
     def __init__(self, f: Model, inputs: Any, samples: int, sampling: str = "sobol", seed: int = 0,
-                 chunk_size: int = 65536):
+                 chunk_size: int = 65536, rotate: bool = True):
         self.f = f
         self.inputs = inputs
         self.n = int(samples)
@@ -439,7 +445,7 @@ class CommonSample:
         from .montecarlo import sobol_rotation
         from .sampling import _method
 
-        self._rotation = sobol_rotation(f, inputs, _method(sampling), True)
+        self._rotation = sobol_rotation(f, inputs, _method(sampling), rotate)
         self._X = None
         if self.n * self.D <= 25_000_000:
             self._X = np.concatenate(list(self._blocks()))
@@ -475,7 +481,7 @@ class CommonSample:
         return np.array(us), np.array(ivs)
 
 
-def _what_if_mc(f, inputs, scenarios, fmaps, A, coverage, n, sampling, seed, scaling, chunk_size):
+def _what_if_mc(f, inputs, scenarios, fmaps, A, coverage, n, sampling, seed, scaling, chunk_size, rotate):
     D = len(inputs.stds)
     S = len(scenarios)
     if scaling == "distribution":
@@ -483,14 +489,15 @@ def _what_if_mc(f, inputs, scenarios, fmaps, A, coverage, n, sampling, seed, sca
 
         def run(fm):
             r = propagate_monte_carlo(f, inputs.with_scaled_uncertainty(fm) if fm else inputs, samples=n,
-                                      sampling=sampling, seed=seed, coverage=coverage, chunk_size=chunk_size)
+                                      sampling=sampling, seed=seed, coverage=coverage, chunk_size=chunk_size,
+                                      rotate=False)   # common random numbers across scenarios
             ci = np.asarray(r.coverage_interval, dtype=float)
             return np.asarray(r.standard_uncertainty, dtype=float), ci
 
         u_now, iv_now = run({})
         res = [run(fm) for fm in fmaps]
     else:
-        shared = CommonSample(f, inputs, n, sampling=sampling, seed=seed, chunk_size=chunk_size)
+        shared = CommonSample(f, inputs, n, sampling=sampling, seed=seed, chunk_size=chunk_size, rotate=rotate)
         uu, ivv = shared.evaluate(np.vstack([np.ones((1, D)), A]), coverage)
         u_now, iv_now = uu[0], ivv[0]
         res = [(uu[s + 1], ivv[s + 1]) for s in range(S)]
