@@ -53,6 +53,8 @@ from uqthermo.uq.stats import Moments, numerical_tolerance  # noqa: E402
 
 DEMO = ROOT / "inputs" / "methanation_reactor.toml"
 T_REF = 298.15
+#: runs per timing in benchmark 2 (the best is kept: this shared VM is noisy, and slow on fresh pages)
+REPEATS = 3
 
 
 # ----------------------------------------------------------------------------- machine
@@ -215,25 +217,25 @@ def bench_rng_floor(quick: bool) -> dict:
             for s in range(0, N, chunk):
                 rng.random((min(chunk, N - s), d))
 
-        _, t_rng = best_of(2, draw)
+        _, t_rng = best_of(REPEATS, draw)
 
         def draw_normal():   # every input of this case is normal: the variates themselves
             for s in range(0, N, chunk):
                 rng.standard_normal((min(chunk, N - s), d))
 
-        _, t_norm = best_of(2, draw_normal)
+        _, t_norm = best_of(REPEATS, draw_normal)
         Uc = rng.random((chunk, d))
 
         def inverse_normal():   # the JCGM 101 §6.3 transform of N x D uniforms, nothing else
             for s in range(0, N, chunk):
                 special.ndtri(Uc[:min(chunk, N - s)])
 
-        _, t_ndtri = best_of(2, inverse_normal)
+        _, t_ndtri = best_of(REPEATS, inverse_normal)
         row = {"inputs": d, "outputs": m.n_reported, "numpy_generator_s": t_rng, "numpy_normal_s": t_norm,
                "ndtri_s": t_ndtri}
         for name, sampling, kw in (("sobol", "sobol", {}), ("sobol_axes", "sobol", {"rotate": False}),
                                    ("random", "random", {})):
-            _, t = best_of(2, propagate_monte_carlo, m.f, m.inputs, samples=N, sampling=sampling, seed=4, **kw)
+            _, t = best_of(REPEATS, propagate_monte_carlo, m.f, m.inputs, samples=N, sampling=sampling, seed=4, **kw)
             row[f"pipeline_{name}_s"] = t
             row[f"ratio_{name}"] = t / t_rng
             row[f"ratio_{name}_vs_normal"] = t / t_norm
@@ -498,7 +500,7 @@ def render(results: dict) -> str:
           "`Generator.standard_normal` (the target's floor, in bold). For information, the cost of N x D bare "
           "uniforms (`Generator.random`), which any normal variate costs several times over, is shown too. "
           "Pipeline = the whole `propagate_monte_carlo` run (sampling, JCGM 101 §6.3 inverse-CDF transform, "
-          "model, JCGM 101 §7 statistics). Each time is the best of two runs. *Sobol'* is the default design "
+          f"model, JCGM 101 §7 statistics). Each time is the best of {REPEATS} runs. *Sobol'* is the default design "
           "(normal scores rotated onto the model's linear directions, one extra D x D product per row); "
           "*Sobol' axes* is `sobol_rotation = false`.", "",
           "| case | D | M | normals s | uniforms s | pipeline Sobol' s | ratio (normals / uniforms) | "
