@@ -524,7 +524,8 @@ def render(results: dict) -> str:
     L += ["", f"Target: {b['target']}.", ""]
     b = results["3_adaptive"]
     L += ["## 3. Adaptive Monte Carlo: scrambled Sobol' against pseudo-random", "",
-          f"Outputs of the methanation demo case; JCGM 101 §7.9 batches of {b['batch_size']} trials; seeds "
+          f"Outputs of the methanation demo case; JCGM 101 §7.9 batches of {b['batch_size']['sobol']} (Sobol') and "
+          f"{b['batch_size']['random']} (random) trials; seeds "
           f"{b['seeds']}. Pseudo-random batches continue one PCG64 stream. Each Sobol' batch is its own "
           "independently scrambled net; *Sobol'* drives the inputs' normal scores rotated onto the model's linear "
           "directions (`uq/montecarlo.py::score_rotation`, the default), *Sobol' axes* gives each input its own "
