@@ -66,9 +66,10 @@ from ..errors import StatisticsError
 from .inputs import InputSet
 from .montecarlo import (HISTOGRAM_BINS, KEEP_VALUES, MAX_STORED_VALUES, MonteCarloResult, _batch_summary,
                          _Collector, adaptive_batch_size, batch_origin, batch_test, check_run_arguments,
-                         collected_result, evaluate_model, sobol_rotation)
+                         collected_result, evaluate_model, sobol_rotation,
+                         summarised_result)
 from .sampling import UniformStream
-from .stats import BinLayout, BinnedCDF, Moments, intervals_from_sorted, numerical_tolerance, quantile_sorted
+from .stats import BinLayout, BinnedCDF, Moments
 
 __all__ = ["propagate_monte_carlo_dask", "merge_moments", "block_plan"]
 
@@ -338,39 +339,22 @@ def _finish(blocks: dict, d, m, p, ndigits, exact, layout, warnings, method, see
             if c is None:   # pilot blocks returned values: count them on the layout
                 c = layout.count(br.values)
             counts = c if counts is None else counts + c
-    mean, u, skew = mom.mean.copy(), mom.std.copy(), mom.skewness
     if exact:
         ys = np.concatenate([blocks[k].values for k in order], axis=0)
         ys.sort(axis=0)
-        sym, short = intervals_from_sorted(ys, p)
-        median = quantile_sorted(ys, 0.5)
-        qmethod, resolution, binned = "exact", np.zeros_like(mean), None
+        binned = None
     else:
         ys = None
         binned = BinnedCDF.from_counts(layout, counts, mom.n, mom.min, mom.max)  # no pilot re-counting
-        sym, short = binned.intervals(p)
-        median = binned.quantile(0.5)
-        qmethod = "histogram"
-        resolution = binned.resolution(np.concatenate([sym.T, short.T], axis=0))
-    tol = np.atleast_1d(numerical_tolerance(u, ndigits))
-    if qmethod == "histogram" and np.any(resolution > 0.1 * tol):
-        warnings.append("quantile histogram bins are not much finer than the numerical tolerance; "
-                        "raise max_stored_values or histogram_bins")
     # kept rows: the first K rows of the run, K as in the local engine
     kp = int(max(0, min(keep, max(1000, KEEP_VALUES // max(1, d + m)))))
     Xk = [blocks[k].X_kept for k in order if blocks[k].X_kept is not None]
     Yk = [blocks[k].Y_kept for k in order if blocks[k].Y_kept is not None]
     Xk = np.concatenate(Xk, axis=0)[:kp] if Xk else np.empty((0, d))
     Yk = np.concatenate(Yk, axis=0)[:kp] if Yk else np.empty((0, m))
-    convergence = [[(n, float(uu[j])) for n, uu in zip(conv_n, conv_u)] for j in range(m)]
-    return MonteCarloResult(
-        mean=mean, standard_uncertainty=u, coverage_interval=sym, shortest_interval=short, median=median,
-        skewness=skew, coverage_probability=p, samples_used=int(mom.n), convergence=convergence,
-        Y_kept=Yk, X_kept=Xk, adaptive=False, converged=True, tolerance=tol,
-        stability={}, batch_size=0, batches=0, seed=int(seed), sampling=method,
-        quantile_method=qmethod, quantile_resolution=resolution, ndigits=int(ndigits), warnings=warnings,
-        minimum=mom.min.copy(), maximum=mom.max.copy(), rotated_scores=rotated, _sorted=ys, _binned=binned,
-    )
+    return summarised_result(mom, ys, binned, Xk, Yk, p, ndigits, warnings, conv_n, conv_u, adaptive=False,
+                             converged=True, stability={}, batch_size=0, batches=0, seed=int(seed),
+                             sampling=method, rotated_scores=rotated)
 
 
 def _adaptive(client, n_workers, f_remote, in_remote, inputs, method, seed, p, chunk_size, ndigits, progress,

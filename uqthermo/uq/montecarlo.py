@@ -427,25 +427,22 @@ class _Collector:
         return self._sorted_rows().T
 
 
-def collected_result(collector: _Collector, d: int, p: float, ndigits: int, warnings: list[str],
-                     conv_n: list[int], conv_u: list[np.ndarray], **fields) -> MonteCarloResult:
-    """The JCGM 101 §7.5–7.7 summary of everything a collector holds, as a :class:`MonteCarloResult`.
+def summarised_result(mom: Moments, ys: np.ndarray | None, binned: BinnedCDF | None, X_kept: np.ndarray,
+                      Y_kept: np.ndarray, p: float, ndigits: int, warnings: list[str], conv_n: list[int],
+                      conv_u: list[np.ndarray], **fields) -> MonteCarloResult:
+    """The JCGM 101 §7.5–7.7 summary of a run as a :class:`MonteCarloResult`.
 
-    Exact intervals from the sorted values, or from the fixed histogram (with a warning if
-    its bins are not much finer than δ). ``fields``: adaptive, converged, stability,
-    batch_size, batches, seed, sampling, rotated_scores. Shared by the local and the Dask
-    adaptive engine.
+    ``mom``: moments of all values; ``ys``: all values sorted per output (N, M) for exact
+    intervals, or None with the fixed histogram ``binned`` (a warning is added if its bins
+    are not much finer than δ). ``fields``: adaptive, converged, stability, batch_size,
+    batches, seed, sampling, rotated_scores. Shared by the local and the Dask engines.
     """
-    mom = collector.moments
     mean, u = mom.mean.copy(), mom.std.copy()
-    if collector.binned is None:
-        ys = collector.sorted_values()
+    if ys is not None:
         sym, short = intervals_from_sorted(ys, p)
         median = quantile_sorted(ys, 0.5)
         qmethod, resolution, binned = "exact", np.zeros_like(mean), None
     else:
-        ys = None
-        binned = collector.binned
         sym, short = binned.intervals(p)
         median = binned.quantile(0.5)
         qmethod = "histogram"
@@ -454,14 +451,22 @@ def collected_result(collector: _Collector, d: int, p: float, ndigits: int, warn
     if qmethod == "histogram" and np.any(resolution > 0.1 * tol):
         warnings.append("quantile histogram bins are not much finer than the numerical tolerance; "
                         "raise max_stored_values or histogram_bins")
-    Xk, Yk = collector.kept(d)
     convergence = [[(int(n), float(uu[j])) for n, uu in zip(conv_n, conv_u)] for j in range(mean.shape[0])]
     return MonteCarloResult(
         mean=mean, standard_uncertainty=u, coverage_interval=sym, shortest_interval=short, median=median,
         skewness=mom.skewness, coverage_probability=p, samples_used=int(mom.n), convergence=convergence,
-        Y_kept=Yk, X_kept=Xk, tolerance=tol, quantile_method=qmethod, quantile_resolution=resolution,
+        Y_kept=Y_kept, X_kept=X_kept, tolerance=tol, quantile_method=qmethod, quantile_resolution=resolution,
         ndigits=int(ndigits), warnings=warnings, minimum=mom.min.copy(), maximum=mom.max.copy(),
         _sorted=ys, _binned=binned, **fields)
+
+
+def collected_result(collector: _Collector, d: int, p: float, ndigits: int, warnings: list[str],
+                     conv_n: list[int], conv_u: list[np.ndarray], **fields) -> MonteCarloResult:
+    """:func:`summarised_result` of everything a collector holds (exact or histogram)."""
+    ys = collector.sorted_values() if collector.binned is None else None
+    Xk, Yk = collector.kept(d)
+    return summarised_result(collector.moments, ys, collector.binned, Xk, Yk, p, ndigits, warnings,
+                             conv_n, conv_u, **fields)
 
 
 def _batch_summary(Y: np.ndarray, p: float) -> np.ndarray:
