@@ -592,7 +592,7 @@ def render(results: dict) -> str:
           "than the arithmetic on it). The rest is the model (one folded "
           "(reactions·temperatures) x inputs product per 4096-row block) and the per-output JCGM 101 "
           "statistics (running moments; fixed histogram counted by arithmetic on equal-width central bins and one "
-          "`bincount` per 8 values per bin; a contiguous sort for exact intervals), which grow with M. "
+          "`bincount` per 8 values per bin; exact intervals from one partition and sorted tails), which grow with M. "
           f"Against the normal variates the pipeline takes {_span(results)} as long. A bare uniform costs "
           "about a fifth of a normal variate on this machine, so no pipeline that must produce normal inputs "
           "can come within 3x of the uniforms alone.",

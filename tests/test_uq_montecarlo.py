@@ -420,3 +420,41 @@ def test_rotated_rows_do_not_depend_on_the_chunking():
     a = propagate_monte_carlo(f, s2, samples=4097, sampling="sobol", seed=2, chunk_size=4096)
     b = propagate_monte_carlo(f, s2, samples=4097, sampling="sobol", seed=2, chunk_size=65536)
     np.testing.assert_array_equal(a.X_kept, b.X_kept)
+
+
+@pytest.mark.parametrize("n", [17, 255, 1000, 40_001])
+@pytest.mark.parametrize("p", [0.5, 0.9, 0.95, 0.99])
+def test_order_statistics_equal_a_full_sort(n, p):
+    """Partial ordering (partition + sorted tails) gives exactly the order statistics of a
+    full sort: both §7.7 intervals, §7.5.2 quantiles anywhere (middle ranks included), counts
+    at or below limits; with ties (rounded values) and for an interval at another p."""
+    from uqthermo.uq.stats import OrderStatistics, quantile_sorted
+
+    rng = np.random.default_rng(n)
+    Y = np.column_stack([rng.standard_normal(n), np.round(rng.gamma(2.0, size=n), 1), rng.random(n)])
+    ys = np.sort(Y, axis=0)
+    order = OrderStatistics(Y.T.copy(), p)
+    sym, short = order.intervals(p)
+    sym_ref, short_ref = intervals_from_sorted(ys, p)
+    np.testing.assert_array_equal(sym, sym_ref)
+    np.testing.assert_array_equal(short, short_ref)
+    ps = np.array([0.0, 1e-6, 0.01, 0.025, 0.3, 0.5, 0.77, 0.95, 0.975, 0.999, 1.0])
+    np.testing.assert_array_equal(order.quantile(ps), quantile_sorted(ys, ps))
+    np.testing.assert_array_equal(order.quantile(0.5), quantile_sorted(ys, 0.5))
+    lim = np.array([0.1, 2.0, 0.5])
+    np.testing.assert_array_equal(order.count_at_most(lim), (Y <= lim).sum(axis=0))
+    other = 0.8 if p != 0.8 else 0.9
+    for a, b in zip(order.intervals(other), intervals_from_sorted(ys, other)):
+        np.testing.assert_array_equal(a, b)
+
+
+@pytest.mark.parametrize("p", [0.501, 0.51, 0.6827])
+def test_order_statistics_near_half_coverage(p):
+    from uqthermo.uq.stats import OrderStatistics, quantile_sorted
+
+    Y = np.random.default_rng(7).standard_normal((1000, 2))
+    ys = np.sort(Y, axis=0)
+    order = OrderStatistics(Y.T.copy(), p)
+    for a, b in zip(order.intervals(p), intervals_from_sorted(ys, p)):
+        np.testing.assert_array_equal(a, b)
+    np.testing.assert_array_equal(order.quantile([0.25, 0.5, 0.75]), quantile_sorted(ys, [0.25, 0.5, 0.75]))

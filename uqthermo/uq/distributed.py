@@ -69,7 +69,7 @@ from .montecarlo import (HISTOGRAM_BINS, KEEP_VALUES, MAX_STORED_VALUES, MonteCa
                          collected_result, evaluate_model, sobol_rotation,
                          summarised_result)
 from .sampling import UniformStream
-from .stats import BinLayout, BinnedCDF, Moments
+from .stats import BinLayout, BinnedCDF, Moments, OrderStatistics
 
 __all__ = ["propagate_monte_carlo_dask", "merge_moments", "block_plan"]
 
@@ -339,12 +339,11 @@ def _finish(blocks: dict, d, m, p, ndigits, exact, layout, warnings, method, see
             if c is None:   # pilot blocks returned values: count them on the layout
                 c = layout.count(br.values)
             counts = c if counts is None else counts + c
-    if exact:
-        ys = np.concatenate([blocks[k].values for k in order], axis=0)
-        ys.sort(axis=0)
+    if exact:   # one contiguous row per output, as the local engine stores them
+        stats_order = OrderStatistics(np.concatenate([blocks[k].values.T for k in order], axis=1), p)
         binned = None
     else:
-        ys = None
+        stats_order = None
         binned = BinnedCDF.from_counts(layout, counts, mom.n, mom.min, mom.max)  # no pilot re-counting
     # kept rows: the first K rows of the run, K as in the local engine
     kp = int(max(0, min(keep, max(1000, KEEP_VALUES // max(1, d + m)))))
@@ -352,7 +351,7 @@ def _finish(blocks: dict, d, m, p, ndigits, exact, layout, warnings, method, see
     Yk = [blocks[k].Y_kept for k in order if blocks[k].Y_kept is not None]
     Xk = np.concatenate(Xk, axis=0)[:kp] if Xk else np.empty((0, d))
     Yk = np.concatenate(Yk, axis=0)[:kp] if Yk else np.empty((0, m))
-    return summarised_result(mom, ys, binned, Xk, Yk, p, ndigits, warnings, conv_n, conv_u, adaptive=False,
+    return summarised_result(mom, stats_order, binned, Xk, Yk, p, ndigits, warnings, conv_n, conv_u, adaptive=False,
                              converged=True, stability={}, batch_size=0, batches=0, seed=int(seed),
                              sampling=method, rotated_scores=rotated)
 

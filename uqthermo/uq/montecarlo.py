@@ -35,7 +35,8 @@ stratified, then carry the linear part of the outputs. The rotation is orthogona
 every trial is still a draw from the joint input distribution (JCGM 101 §7).
 
 **Memory.** All model values are kept while N·M ≤ ``max_stored_values`` (default 2·10⁷)
-and the quantities above are computed exactly from the sorted values. Beyond that the
+and the quantities above are computed exactly from their order statistics
+(:class:`~uqthermo.uq.stats.OrderStatistics`: the same values as a full sort). Beyond that the
 stored values become the pilot of a fixed fine histogram per output
 (:class:`~uqthermo.uq.stats.BinnedCDF`, up to 10⁵ bins: equal-width over the central pilot
 range, equal-probability in the far tails); later chunks only add counts. When a fixed N
@@ -58,7 +59,7 @@ import numpy as np
 from ..errors import StatisticsError
 from .inputs import InputSet
 from .sampling import UniformStream, _method
-from .stats import BinLayout, BinnedCDF, Moments, intervals_from_sorted, numerical_tolerance, quantile_sorted
+from .stats import BinLayout, BinnedCDF, Moments, OrderStatistics, numerical_tolerance
 
 __all__ = ["MonteCarloResult", "propagate_monte_carlo", "adaptive_batch_size"]
 
@@ -276,7 +277,7 @@ class MonteCarloResult:
     minimum: np.ndarray | None = None
     maximum: np.ndarray | None = None
     rotated_scores: bool = False
-    _sorted: np.ndarray | None = field(default=None, repr=False)
+    _order: OrderStatistics | None = field(default=None, repr=False)
     _binned: BinnedCDF | None = field(default=None, repr=False)
 
     @property
@@ -297,8 +298,8 @@ class MonteCarloResult:
         pa = np.asarray(p, dtype=float)
         if np.any((pa < 0) | (pa > 1)) or np.any(np.isnan(pa)):
             raise StatisticsError(f"probability must lie in [0, 1], got {p!r}")
-        if self._sorted is not None:
-            return quantile_sorted(self._sorted, pa)
+        if self._order is not None:
+            return self._order.quantile(pa)
         return self._binned.quantile(pa)
 
     def probability_above(self, limit) -> tuple[np.ndarray, np.ndarray]:
@@ -310,10 +311,8 @@ class MonteCarloResult:
         """
         lim = np.broadcast_to(np.asarray(limit, dtype=float), (self.n_outputs,))
         n = self.samples_used
-        if self._sorted is not None:
-            below = np.array([np.searchsorted(self._sorted[:, j], lim[j], side="right")
-                              for j in range(self.n_outputs)], dtype=float)
-            pr = 1.0 - below / n
+        if self._order is not None:
+            pr = 1.0 - self._order.count_at_most(lim) / n
         else:
             pr = 1.0 - self._binned.cdf(lim)
         pr = np.clip(pr, 0.0, 1.0)
@@ -321,9 +320,9 @@ class MonteCarloResult:
 
     def histogram(self, output: int = 0, bins: int = 50, range_p: tuple[float, float] = (0.0, 1.0)):
         """(edges (bins+1,), counts (bins,)) of one output over its quantile range ``range_p``."""
-        if self._sorted is not None:
-            col = self._sorted[:, output]
-            lo, hi = quantile_sorted(col[:, None], range_p[0])[0], quantile_sorted(col[:, None], range_p[1])[0]
+        if self._order is not None:
+            col = self._order.rows[output]
+            lo, hi = self._order.quantile(np.asarray(range_p, dtype=float))[:, output]
             if not hi > lo:
                 lo, hi = lo - 0.5, hi + 0.5
             counts, edges = np.histogram(col, bins=bins, range=(lo, hi))
@@ -422,25 +421,30 @@ class _Collector:
         ys.sort(axis=1)
         return ys
 
-    def sorted_values(self) -> np.ndarray:
-        """All stored values sorted per output, shape (N, M) (a transposed view)."""
-        return self._sorted_rows().T
+    def order_statistics(self, p: float) -> OrderStatistics:
+        """All stored values as :class:`OrderStatistics` for coverage probability p; releases the store."""
+        if self.store is not None:
+            rows, self.store, self.stored = self.store[:, :self.n_stored], None, None
+        else:
+            parts, self.stored = self.stored, None
+            rows = parts[0] if len(parts) == 1 else np.concatenate(parts, axis=1)
+        return OrderStatistics(rows, p)
 
 
-def summarised_result(mom: Moments, ys: np.ndarray | None, binned: BinnedCDF | None, X_kept: np.ndarray,
+def summarised_result(mom: Moments, order: OrderStatistics | None, binned: BinnedCDF | None, X_kept: np.ndarray,
                       Y_kept: np.ndarray, p: float, ndigits: int, warnings: list[str], conv_n: list[int],
                       conv_u: list[np.ndarray], **fields) -> MonteCarloResult:
     """The JCGM 101 §7.5–7.7 summary of a run as a :class:`MonteCarloResult`.
 
-    ``mom``: moments of all values; ``ys``: all values sorted per output (N, M) for exact
-    intervals, or None with the fixed histogram ``binned`` (a warning is added if its bins
-    are not much finer than δ). ``fields``: adaptive, converged, stability, batch_size,
+    ``mom``: moments of all values; ``order``: all values as :class:`OrderStatistics` for
+    exact intervals, or None with the fixed histogram ``binned`` (a warning is added if its
+    bins are not much finer than δ). ``fields``: adaptive, converged, stability, batch_size,
     batches, seed, sampling, rotated_scores. Shared by the local and the Dask engines.
     """
     mean, u = mom.mean.copy(), mom.std.copy()
-    if ys is not None:
-        sym, short = intervals_from_sorted(ys, p)
-        median = quantile_sorted(ys, 0.5)
+    if order is not None:
+        sym, short = order.intervals(p)
+        median = order.quantile(0.5)
         qmethod, resolution, binned = "exact", np.zeros_like(mean), None
     else:
         sym, short = binned.intervals(p)
@@ -457,22 +461,21 @@ def summarised_result(mom: Moments, ys: np.ndarray | None, binned: BinnedCDF | N
         skewness=mom.skewness, coverage_probability=p, samples_used=int(mom.n), convergence=convergence,
         Y_kept=Y_kept, X_kept=X_kept, tolerance=tol, quantile_method=qmethod, quantile_resolution=resolution,
         ndigits=int(ndigits), warnings=warnings, minimum=mom.min.copy(), maximum=mom.max.copy(),
-        _sorted=ys, _binned=binned, **fields)
+        _order=order, _binned=binned, **fields)
 
 
 def collected_result(collector: _Collector, d: int, p: float, ndigits: int, warnings: list[str],
                      conv_n: list[int], conv_u: list[np.ndarray], **fields) -> MonteCarloResult:
     """:func:`summarised_result` of everything a collector holds (exact or histogram)."""
-    ys = collector.sorted_values() if collector.binned is None else None
+    order = collector.order_statistics(p) if collector.binned is None else None
     Xk, Yk = collector.kept(d)
-    return summarised_result(collector.moments, ys, collector.binned, Xk, Yk, p, ndigits, warnings,
+    return summarised_result(collector.moments, order, collector.binned, Xk, Yk, p, ndigits, warnings,
                              conv_n, conv_u, **fields)
 
 
 def _batch_summary(Y: np.ndarray, p: float) -> np.ndarray:
     """(6, M): mean, std, symmetric low/high, shortest low/high of one batch."""
-    ys = np.sort(Y, axis=0)
-    sym, short = intervals_from_sorted(ys, p)
+    sym, short = OrderStatistics(Y.T.copy(order="C"), p).intervals(p)
     return np.stack([Y.mean(axis=0), Y.std(axis=0, ddof=1), sym[:, 0], sym[:, 1], short[:, 0], short[:, 1]])
 
 

@@ -23,7 +23,8 @@ import numpy as np
 
 from ..errors import StatisticsError
 
-__all__ = ["Moments", "numerical_tolerance", "intervals_from_sorted", "quantile_sorted", "BinLayout", "BinnedCDF"]
+__all__ = ["Moments", "numerical_tolerance", "intervals_from_sorted", "quantile_sorted", "OrderStatistics",
+           "BinLayout", "BinnedCDF"]
 
 
 def numerical_tolerance(z, ndigits: int = 2):
@@ -141,16 +142,22 @@ def intervals_from_sorted(ys: np.ndarray, p: float) -> tuple[np.ndarray, np.ndar
     if q >= n:
         full = np.stack([ys[0], ys[-1]], axis=1)
         return full, full.copy()
-    if (n - q) % 2 == 0:
-        r = (n - q) // 2
-    else:
-        r = (n - q + 1) // 2
+    return _intervals_from_tails(ys[: n - q], ys[q:], n, q)
+
+
+def _intervals_from_tails(low: np.ndarray, high: np.ndarray, n: int, q: int) -> tuple[np.ndarray, np.ndarray]:
+    """The two §7.7 intervals from low = y_(1) … y_(N−q) and high = y_(q+1) … y_(N), each (N − q, M).
+
+    y_(r) = low[r − 1] and y_(r+q) = high[r − 1]: every order statistic the two intervals
+    can use lies in these two sorted tails (q < N).
+    """
+    r = (n - q) // 2 if (n - q) % 2 == 0 else (n - q + 1) // 2
     r = max(r, 1)
-    sym = np.stack([ys[r - 1], ys[r - 1 + q]], axis=1)
-    widths = ys[q:] - ys[: n - q]  # index i ↔ r = i + 1
+    sym = np.stack([low[r - 1], high[r - 1]], axis=1)
+    widths = high - low  # index i ↔ r = i + 1
     rstar = np.argmin(widths, axis=0)
-    cols = np.arange(m)
-    short = np.stack([ys[rstar, cols], ys[rstar + q, cols]], axis=1)
+    cols = np.arange(low.shape[1])
+    short = np.stack([low[rstar, cols], high[rstar, cols]], axis=1)
     return sym, short
 
 
@@ -162,14 +169,84 @@ def quantile_sorted(ys: np.ndarray, p) -> np.ndarray:
     sorted, so the quantile is read off directly (no partition). Returns shape (M,) for
     scalar p, else (len(p), M).
     """
-    n = ys.shape[0]
+    i0, i1, frac = _hazen_ranks(ys.shape[0], p)
+    out = ys[i0] + (ys[i1] - ys[i0]) * frac
+    return out[0] if np.ndim(p) == 0 else out
+
+
+def _hazen_ranks(n: int, p) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """0-based ranks i0, i1 and weights (len(p), 1) of the §7.5.2 quantile(s) p of n values."""
     pa = np.atleast_1d(np.asarray(p, dtype=float))
     pos = np.clip(pa * n - 0.5, 0.0, n - 1.0)            # 0-based fractional rank
     i0 = np.minimum(np.floor(pos).astype(np.intp), max(n - 2, 0))
     i1 = np.minimum(i0 + 1, n - 1)
-    frac = (pos - i0)[:, None]
-    out = ys[i0] + (ys[i1] - ys[i0]) * frac
-    return out[0] if np.ndim(p) == 0 else out
+    return i0, i1, (pos - i0)[:, None]
+
+
+class OrderStatistics:
+    """Exact order statistics of N values per output without sorting them all.
+
+    ``rows`` (M, N), one row per output, is rearranged in place for a coverage probability
+    p ≥ ½: with q of JCGM 101 §7.7.1, ``np.partition`` (introselect, O(N)) at ranks N − q − 1
+    and q, then a sort of the N − q lowest and of the N − q highest values of each row. Those
+    two tails hold every order statistic of the probabilistically symmetric and the shortest
+    100p % interval (:func:`intervals_from_sorted`); the median's ranks are placed by the same
+    partition, and any other rank in the unsorted middle is selected when asked for (one more
+    partition, cached). All results equal those of a full sort exactly; the work is about a
+    third of it.
+    """
+
+    def __init__(self, rows: np.ndarray, p: float):
+        self.rows = rows
+        self.m, self.n = rows.shape
+        self.q = _q_count(p, self.n)
+        self.a = self.n - self.q                  # rows[:, :a] and rows[:, q:] are sorted
+        if self.q >= self.n or self.a >= self.q or self.n < 256:
+            rows.sort(axis=1)
+            self.a = self.q = self.n
+        self._middle: dict[int, np.ndarray] = {}
+        if self.a < self.n:
+            i0, i1, _ = _hazen_ranks(self.n, 0.5)          # the median's ranks are placed too
+            med = sorted({int(i0[0]), int(i1[0])})
+            rows.partition(sorted({self.a - 1, *med, self.q}), axis=1)
+            self._middle = {r: rows[:, r].copy() for r in med}
+            rows[:, :self.a].sort(axis=1)
+            rows[:, self.q:].sort(axis=1)
+
+    def at(self, ranks: np.ndarray) -> np.ndarray:
+        """Order statistics at 0-based ``ranks`` (K,), shape (K, M)."""
+        ranks = np.asarray(ranks, dtype=np.intp)
+        out = np.empty((ranks.size, self.m))
+        mid = (ranks >= self.a) & (ranks < self.q)
+        out[~mid] = self.rows[:, ranks[~mid]].T
+        need = sorted({int(r) for r in ranks[mid]} - set(self._middle))
+        if need:
+            part = np.partition(self.rows[:, self.a:self.q], [r - self.a for r in need], axis=1)
+            self._middle.update({r: part[:, r - self.a].copy() for r in need})
+        for i in np.flatnonzero(mid):
+            out[i] = self._middle[int(ranks[i])]
+        return out
+
+    def quantile(self, p) -> np.ndarray:
+        """As :func:`quantile_sorted` of the fully sorted values."""
+        i0, i1, frac = _hazen_ranks(self.n, p)
+        lo, hi = self.at(i0), self.at(i1)
+        out = lo + (hi - lo) * frac
+        return out[0] if np.ndim(p) == 0 else out
+
+    def intervals(self, p: float) -> tuple[np.ndarray, np.ndarray]:
+        """As :func:`intervals_from_sorted` of the fully sorted values (p as at construction)."""
+        q = _q_count(p, self.n)
+        if self.a == self.n or q != self.q:
+            if self.a != self.n:
+                self.rows.sort(axis=1)
+                self.a = self.q = self.n
+            return intervals_from_sorted(self.rows.T, p)
+        return _intervals_from_tails(self.rows[:, :self.a].T, self.rows[:, self.q:].T, self.n, q)
+
+    def count_at_most(self, limits: np.ndarray) -> np.ndarray:
+        """Number of values ≤ limit per output, (M,)."""
+        return np.count_nonzero(self.rows <= np.asarray(limits, dtype=float)[:, None], axis=1)
 
 
 #: probability in each open end of the pilot that gets equal-probability bins (see BinLayout)
