@@ -283,10 +283,8 @@ def _first_stable(m, sampling: str, seed: int, ndigits: int, which: tuple[int, .
 
 def _demo_output(name: str):
     """The methanation demo case with one of its own outputs only."""
-    raw = tomllib.loads(DEMO.read_text(encoding="utf-8"))
-    raw.pop("candidate", None)
-    raw["output"] = [o for o in raw["output"] if o["name"] == name]
-    return parse_case(raw, "benchmark.toml", library=False)
+    own = tomllib.loads(DEMO.read_text(encoding="utf-8"))["output"]
+    return demo_case([o for o in own if o["name"] == name])
 
 
 ADAPTIVE_CASES = (

@@ -577,8 +577,8 @@ class InputSet:
                           "normal": (np.array([pos[j] for j in normal], dtype=np.intp), mu, sd),
                           "normal_columns": np.array(normal, dtype=np.intp),
                           "linked": np.array([pos[int(j)] for j in linked] if L is not None else [], dtype=np.intp),
-                          "uncertain": np.flatnonzero(np.asarray(self.stds) > 0),
-                          "score_of": {int(j): k for k, j in enumerate(np.flatnonzero(np.asarray(self.stds) > 0))}}
+                          "uncertain": np.flatnonzero(np.asarray(self.stds) > 0)}
+            self._plan["score_of"] = {int(j): k for k, j in enumerate(self._plan["uncertain"])}
         return self._plan
 
     def describe(self) -> list[dict[str, Any]]:

@@ -121,8 +121,9 @@ def score_rotation(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet) -> n
         g_jk = [f_k(x(s = +e_j)) − f_k(x(s = −e_j))] / 2,
 
     each output's column is scaled to unit length so that all outputs count alike. W's
-    leading columns are the eigenvectors of Σ_k ĝ_k ĝ_kᵀ with non-zero eigenvalues, by
-    decreasing eigenvalue (the principal directions of the gradients); the remaining columns
+    leading columns are the left singular vectors of the matrix of the ĝ_k (the principal
+    directions of the gradients, i.e. the eigenvectors of Σ_k ĝ_k ĝ_kᵀ), by decreasing
+    singular value, as far as those exceed the cut-off below; the remaining columns
     are the score axes in order of decreasing linear importance Σ_k ĝ_jk², each made
     orthogonal to the columns before it, so that the nonlinear remainder of the important
     inputs lands on the next-best coordinates. For one output, W's first column is g/|g|: the whole
@@ -406,29 +407,22 @@ class _Collector:
             return np.concatenate(self.X_kept, axis=0), np.concatenate(self.Y_kept, axis=0)
         return np.empty((0, d)), np.empty((0, self.m))
 
+    def _take_rows(self, extra: np.ndarray | None = None) -> np.ndarray:
+        """All stored values (plus ``extra`` rows) as one (M, N) array, in no order; releases the store."""
+        parts = [self.store[:, :self.n_stored]] if self.store is not None else self.stored
+        parts = parts + ([extra.T] if extra is not None else [])
+        self.store = self.stored = None
+        return parts[0] if len(parts) == 1 and extra is None else np.concatenate(parts, axis=1)
+
     def _sorted_rows(self, extra: np.ndarray | None = None) -> np.ndarray:
         """All stored values (plus ``extra`` rows) as a sorted (M, N) array; releases the store."""
-        if self.store is not None and extra is None:
-            ys, self.store, self.stored = self.store[:, :self.n_stored], None, None
-            ys.sort(axis=1)
-            return ys
-        if self.store is not None:
-            self.stored = [self.store[:, :self.n_stored]]
-            self.store = None
-        parts = self.stored + ([extra.T] if extra is not None else [])
-        self.stored = None
-        ys = parts[0] if len(parts) == 1 and extra is None else np.concatenate(parts, axis=1)
+        ys = self._take_rows(extra)
         ys.sort(axis=1)
         return ys
 
     def order_statistics(self, p: float) -> OrderStatistics:
         """All stored values as :class:`OrderStatistics` for coverage probability p; releases the store."""
-        if self.store is not None:
-            rows, self.store, self.stored = self.store[:, :self.n_stored], None, None
-        else:
-            parts, self.stored = self.stored, None
-            rows = parts[0] if len(parts) == 1 else np.concatenate(parts, axis=1)
-        return OrderStatistics(rows, p)
+        return OrderStatistics(self._take_rows(), p)
 
 
 def summarised_result(mom: Moments, order: OrderStatistics | None, binned: BinnedCDF | None, X_kept: np.ndarray,

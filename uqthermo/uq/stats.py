@@ -235,7 +235,8 @@ class OrderStatistics:
         return out[0] if np.ndim(p) == 0 else out
 
     def intervals(self, p: float) -> tuple[np.ndarray, np.ndarray]:
-        """As :func:`intervals_from_sorted` of the fully sorted values (p as at construction)."""
+        """As :func:`intervals_from_sorted` of the fully sorted values. For another p than the
+        one given at construction the rows are sorted in full first."""
         q = _q_count(p, self.n)
         if self.a == self.n or q != self.q:
             if self.a != self.n:
