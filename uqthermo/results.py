@@ -121,6 +121,9 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
         warnings += [w for w in mc.warnings]
     if mc is not None:
         warnings += negative_cp_warnings(case, model, mc.X_kept)
+    from .pipeline.report_data import kirchhoff_terms
+
+    breakdown = kirchhoff_terms(case, model)
     outputs = []
     for i, o in enumerate(case.outputs):
         cols = model.output_columns(i)
@@ -189,6 +192,8 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
                 pt["whatif"] = whatif.rows(j)
             if margins is not None:
                 pt["margins"] = _margins_point(margins, j, o.design_value)
+            if (i, len(points)) in breakdown:
+                pt["kirchhoff_terms"] = breakdown[(i, len(points))]
             points.append(pt)
         if margins is not None and len(cols) > 1:
             sub = Margins(margins.method, margins.probabilities, margins.estimate[cols], margins.upper[:, cols],

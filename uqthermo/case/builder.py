@@ -253,6 +253,15 @@ def _values_factory(case: Case, cols: dict[str, list[int]]):
     return decode
 
 
+def values_decoder(case: Case, groups: dict[str, list[int]]):
+    """``decode(X) -> (species_values, other_values)``: input rows as the thermo layer's overrides.
+
+    ``groups`` maps datum id → input columns (``InputSet.groups``). Used by the model and by
+    side calculations on the same inputs (e.g. :mod:`uqthermo.case.breakdown`).
+    """
+    return _values_factory(case, groups)
+
+
 _TABLE_KINDS = ("reaction_enthalpy", "reaction_gibbs_energy", "equilibrium_constant")
 
 
