@@ -225,15 +225,20 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
         run["drivers_method"] = ranking.method
         run["drivers_reason"] = ranking.reason
     cautions = list(SAFETY_CAUTIONS) if case.safety_relevant else [SAFETY_CAUTIONS[2]]
+    from .pipeline.report_data import heat_capacity_curves
+
     doc = {
         "format": "uqthermo.results/1",
         "case": {"title": case.title, "sha256": case.sha256, "file": case.path, "description": case.description.strip()},
+        "document": dict(case.document),
+        "display_units": {"temperature": case.temperature_unit},
         "run": run,
         "inputs": _inputs_table(case),
         "correlations": [{"between": [a, b], "coefficient": r} for a, b, r in case.correlations],
         "reactions": [{"name": r.name, "equation": r.equation,
                        "anchor": "measured" if r.measured_enthalpy else "formation"} for r in case.reactions.values()],
         "outputs": outputs,
+        "heat_capacity_curves": heat_capacity_curves(case, model, outputs),
         "convergence": convergence,
         "candidates": [{"datum": c.datum, "u": c.u, "factor": c.factor, "cost": c.cost, "lead_time": c.lead_time,
                         "note": c.note} for c in case.candidates],

@@ -392,7 +392,7 @@ def parse_case(raw: dict, fname: str, sha: str = "", *, library: bool = True) ->
     """Validate an already-parsed TOML document (see :func:`load_case`)."""
     c = Collector(fname)
     c.unknown_keys(raw, {"title", "description", "settings", "species", "reaction", "reaction_set", "output", "correlation",
-                         "candidate", "format", "author", "notes"}, "")
+                         "candidate", "format", "author", "notes", "document"}, "")
     title = raw.get("title", "")
     if not isinstance(title, str) or not title.strip():
         c.add("title", "give the case a title (a non-empty string)")
@@ -418,6 +418,9 @@ def parse_case(raw: dict, fname: str, sha: str = "", *, library: bool = True) ->
     outputs = read_outputs(c, raw.get("output"), species, reactions, data, settings)
     correlations = _correlations(c, raw.get("correlation", []), data)
     candidates = _candidates(c, raw.get("candidate", []), data)
+    from .document_reader import read_document, temperature_unit
+
+    document = read_document(c, raw.get("document"))
     if abs(settings.reference_temperature - 298.15) > 1e-6:
         for d in data.values():
             if d.library:
@@ -427,7 +430,8 @@ def parse_case(raw: dict, fname: str, sha: str = "", *, library: bool = True) ->
     c.raise_if_any()
     return Case(path=fname, sha256=sha, title=title.strip(), description=description, settings=settings,
                 species=species, data=data, reactions=reactions, outputs=outputs, correlations=correlations,
-                candidates=candidates, warnings=c.warnings, raw=raw)
+                candidates=candidates, warnings=c.warnings, raw=raw, document=document,
+                temperature_unit=temperature_unit(raw))
 
 
 def _reaction_set(c: Collector, node: Any, folder: Path, existing: set[str]) -> dict[str, dict]:

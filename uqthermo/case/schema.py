@@ -153,6 +153,8 @@ class Case:
     candidates: list[Candidate]
     warnings: list[str]
     raw: dict[str, Any]
+    document: dict[str, str] = field(default_factory=dict)    # [document] header block (as text)
+    temperature_unit: str = "K"                                # unit the outputs' temperatures are written in
 
     @property
     def safety_relevant(self) -> bool:
