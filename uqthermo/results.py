@@ -180,8 +180,11 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
                 pt["linear_validated"] = bool(v.linear_validated)
                 pt["validation"] = v.as_dict()
                 if not v.linear_validated:
-                    warnings.append(f"output.{o.name} at {model.columns[j].temperature:.2f} K: the linear (GUM) interval is "
-                                    f"not validated by Monte Carlo (JCGM 101 §8, δ = {v.tolerance:.2g}); report the Monte Carlo result")
+                    us = "" if model.units[i] in ("", "1") else f" {model.units[i]}"
+                    worst = max(abs(v.d_low), abs(v.d_high))
+                    warnings.append(f"output.{o.name} at {model.columns[j].temperature:.2f} K: the linear (GUM) interval "
+                                    f"differs from the Monte Carlo interval by {worst:.2g}{us}, more than δ = {v.tolerance:.2g}{us} "
+                                    "(JCGM 101 §8); the Monte Carlo result is reported")
             else:
                 pt["linear_validated"] = None
             if ranking is not None:

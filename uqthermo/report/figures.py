@@ -30,6 +30,8 @@ from pathlib import Path
 import numpy as np
 
 from . import style
+from .safety_marks import draw_marks, split_plateau
+from .units import fmt_T, limit_text, temperature_unit
 from .style import ROLE, mpl_text
 from .tables import (
     coverage_probability, fmt_fixed, fmt_probability, fmt_temperature, headline_index,
@@ -99,6 +101,18 @@ def _axis_label(symbol: str, unit: str) -> str:
     return f"{symbol} / {unit}"
 
 
+def _at(results: Mapping, output: Mapping, point: Mapping) -> str:
+    """Where a point is, in the case's temperature unit with kelvin beside: "at 350 °C (623.15 K)"."""
+    tunit = temperature_unit(results)
+    start = output.get("kind") == "adiabatic_temperature_rise" and num(output.get("start_temperature_K")) is not None
+    T = output.get("start_temperature_K") if start else point.get("temperature_K")
+    if num(T) is None:
+        return ""
+    where = "from" if start else "at"
+    k = f"{fmt_temperature(T)} K"
+    return f"{where} {k}" if tunit == "K" else f"{where} {fmt_T(T, tunit)} ({k})"
+
+
 def _nu(lin: Mapping) -> float:
     v = lin.get("effective_dof")
     if isinstance(v, str):
@@ -126,9 +140,12 @@ def _draw_distribution(results: Mapping, output: Mapping, point: Mapping) -> Fig
 
     fig, ax = plt.subplots(figsize=(style.FIG_WIDTH_IN, 3.9), layout="constrained")
     lo_x, hi_x = (edges[0], edges[-1]) if edges.size else (None, None)
+    atom: tuple[float | None, float] = (None, 0.0)
     if edges.size >= 2 and counts.size == edges.size - 1 and counts.sum() > 0:
         widths = np.diff(edges)
-        dens = counts / (counts.sum() * widths)
+        total = counts.sum()
+        counts, *atom = split_plateau(output, point, edges, counts)   # a boiling plateau is drawn as a spike
+        dens = counts / (total * widths)
         n_lab = f"Monte Carlo histogram, N = {int(num(mc.get('samples')) or counts.sum())}"
         lo, hi = pair(mc.get("coverage_interval"))
         inside = lo is not None and hi is not None
@@ -175,7 +192,7 @@ def _draw_distribution(results: Mapping, output: Mapping, point: Mapping) -> Fig
     if lim is not None:
         ax.axvline(lim, color=ROLE["limit"], linewidth=1.8, linestyle="-.")
         pe = point.get("exceedance_probability")
-        lab = f"limit {fmt_temperature(output.get('limit_K'))} K"
+        lab = f"limit {limit_text(output, temperature_unit(results))}"
         if output.get("kind") == "adiabatic_temperature_rise" and output.get("limit_applies_to", "final_temperature") != "rise":
             lab += " (final T)"
         if pe is not None:
@@ -184,12 +201,14 @@ def _draw_distribution(results: Mapping, output: Mapping, point: Mapping) -> Fig
         if lo_x is not None:
             span = hi_x - lo_x
             lo_x, hi_x = min(lo_x, lim - 0.03 * span), max(hi_x, lim + 0.03 * span)
+    if output.get("kind") == "adiabatic_temperature_rise" and lo_x is not None:
+        lo_x, hi_x = draw_marks(ax, results, output, point, tuple(atom), ymax, (lo_x, hi_x))
     if lo_x is not None:
         ax.set_xlim(lo_x, hi_x)
     ax.set_ylim(0, ymax * 1.08)
     ax.set_xlabel(_axis_label(_sym(output.get("kind")), unit))
     ax.set_ylabel("probability density")
-    _titles(fig, f"{mpl_text(text(output.get('name')))}: output distribution at T = {fmt_temperature(point.get('temperature_K'))} K")
+    _titles(fig, f"{mpl_text(text(output.get('name')))}: output distribution {_at(results, output, point)}")
     fig.legend(*ax.get_legend_handles_labels(), loc="outside lower center", ncols=2, fontsize=8, frameon=False)
     ax.grid(axis="x", visible=False)
     return fig
@@ -356,13 +375,21 @@ def _draw_drivers(output: Mapping, point: Mapping) -> Figure:
 # ---------------------------------------------------------------------------
 
 def _draw_convergence(results: Mapping) -> Figure:
+    """u(y) against N per output; the final value and final ± δ as thin lines, one legend under the panels.
+
+    The y-range follows the data (the last three quarters of the trials, where the value
+    settles, plus the first points when they fit): a tolerance δ much wider than the
+    scatter is drawn as lines at the panel edge (or named in the panel) instead of a band
+    that would fill the plot.
+    """
     conv = results.get("convergence") or {}
     by_name = {text(o.get("name")): o for o in outputs(results)}
     items = [(k, v) for k, v in conv.items() if isinstance(v, list) and v]
     n = len(items)
     ncols = min(n, 2)
     nrows = math.ceil(n / ncols)
-    fig, axes = plt.subplots(nrows, ncols, figsize=(style.FIG_WIDTH_IN, 2.7 * nrows + 0.3), layout="constrained", squeeze=False)
+    fig, axes = plt.subplots(nrows, ncols, figsize=(style.FIG_WIDTH_IN, 2.35 * nrows + 0.7), layout="constrained",
+                             squeeze=False)
     for ax in axes.flat[n:]:
         ax.set_visible(False)
     for ax, (name, hist) in zip(axes.flat, items):
@@ -377,17 +404,30 @@ def _draw_convergence(results: Mapping) -> Figure:
             if pts:
                 p = pts[headline_index(o)]
                 tol = num((p.get("validation") or {}).get("tolerance"))
-            if tol:
-                ax.axhspan(final - tol, final + tol, color=ROLE["mc_band"], alpha=0.55, linewidth=0, label="final u ± δ")
-            ax.axhline(final, color=style.GREY, linewidth=0.9, linestyle="--")
-            ax.plot(arr[:, 0], arr[:, 1], color=ROLE["mc"], marker="o", markersize=3.2, label="u(y)")
+            ax.plot(arr[:, 0], arr[:, 1], color=ROLE["mc"], marker="o", markersize=2.8, linewidth=1.3, label="u(y)")
+            ax.axhline(final, color=style.GREY, linewidth=0.9, linestyle="--", label="final u(y)")
             ax.set_xscale("log")
-            spread = max(np.ptp(arr[:, 1]), (tol or 0) * 2, 1e-12 + abs(final) * 1e-3)
-            ax.set_ylim(arr[:, 1].min() - 0.25 * spread, arr[:, 1].max() + 0.45 * spread)
+            ys = arr[:, 1]
+            spread = max(np.ptp(ys), 1e-12 + abs(final) * 1e-4)
+            lo, hi = ys.min() - 0.12 * spread, ys.max() + 0.12 * spread
+            if tol:
+                if final - tol >= lo - 2 * spread and final + tol <= hi + 2 * spread:
+                    for v in (final - tol, final + tol):
+                        ax.axhline(v, color=ROLE["linear"], linewidth=0.9, linestyle=":")
+                    lo, hi = min(lo, final - tol - 0.05 * spread), max(hi, final + tol + 0.05 * spread)
+                else:
+                    ax.text(0.98, 0.04, mpl_text(f"final u ± δ = {fmt_fixed(final, uncertainty_decimals(tol))} ± {tol:g}: "
+                                                 "δ wider than the axis"), transform=ax.transAxes, ha="right", va="bottom",
+                            fontsize=7.2, color=ROLE["linear"])
+            ax.set_ylim(lo, hi)
         ax.set_title(mpl_text(text(name)), fontsize=9.5)
         ax.set_xlabel("number of Monte Carlo trials $N$")
         ax.set_ylabel(_axis_label("$u(y)$", unit))
-        ax.legend(loc="upper right", fontsize=7.5)
+    handles = [plt.Line2D([], [], color=ROLE["mc"], marker="o", markersize=2.8, linewidth=1.3),
+               plt.Line2D([], [], color=style.GREY, linewidth=0.9, linestyle="--"),
+               plt.Line2D([], [], color=ROLE["linear"], linewidth=0.9, linestyle=":")]
+    fig.legend(handles, ["u(y) after N trials", "final u(y)", "final u(y) ± δ (numerical tolerance, JCGM 101 §7.9)"],
+               loc="outside lower center", ncols=3, fontsize=8, frameon=False)
     _titles(fig, "Monte Carlo convergence of the standard uncertainty")
     return fig
 
@@ -417,16 +457,7 @@ def _draw_plan(plan: Mapping) -> Figure:
     if front:
         ax.step(xs, ys, where="post", color=ROLE["front"], linewidth=1.4, zorder=3)
         ax.scatter(xs, ys, s=26, color=ROLE["front"], zorder=4, label="cost–uncertainty front")
-        cspan = (max(xs) - min(xs)) or 1.0
-        uspan = (max(ys) - min(ys)) or 1.0
-        last = None
-        for i, f in enumerate(front):
-            if last is not None and abs(xs[i] - xs[last]) < 0.06 * cspan and abs(ys[i] - ys[last]) < 0.06 * uspan:
-                continue  # too close to the previous label; the front table lists every set
-            ax.annotate(mpl_text(_set_label(f.get("set"))), (xs[i], ys[i]), xytext=(5, 4), textcoords="offset points",
-                        fontsize=7.5, color=style.INK, ha="left", va="bottom",
-                        bbox=dict(boxstyle="round,pad=0.15", facecolor="white", edgecolor="none", alpha=0.8))
-            last = i
+        labelled = [(xs[i], ys[i], mpl_text(_set_label(f.get("set")))) for i, f in enumerate(front)]
     tU = num(tgt.get("U"))
     if tU is not None:
         ax.axhline(tU, color=ROLE["limit"], linestyle="-.", linewidth=1.4, label=mpl_text(f"target U = {fmt_fixed(tU, 2)} {unit}"))
@@ -448,11 +479,47 @@ def _draw_plan(plan: Mapping) -> Figure:
     ax.legend(loc="upper right", fontsize=8)
     allU = ys + [num(e["U"]) for e in evaluated] + ([tU] if tU is not None else [])
     if allU and max(allU) > min(allU):
-        ax.set_ylim(min(allU) * 0.9, max(allU) * 1.08)
+        du = max(allU) - min(allU)
+        ax.set_ylim(min(allU) - 0.14 * du, max(allU) + 0.1 * du)   # room for labels below the lowest points
     allc = xs + [num(e["cost"]) for e in evaluated] + ([bud] if bud is not None else [])
     if allc and max(allc) > 0:
         ax.set_xlim(-0.03 * max(allc), max(allc) * 1.1)
+    if front:
+        place_labels(fig, ax, labelled)
     return fig
+
+
+#: label offsets tried around a point (points): right-above, right-below, left-above, left-below, then further out
+_OFFSETS = [(5, 4), (5, -11), (-5, 4), (-5, -11), (5, 14), (5, -21), (-5, 14), (-5, -21), (5, 24), (5, -31)]
+
+
+def place_labels(fig: Figure, ax, items: list[tuple[float, float, str]]) -> None:
+    """Label points without overlaps: each label takes the first offset whose box is clear.
+
+    The layout is computed once (one draw) and then frozen, so the boxes measured are the
+    boxes drawn. A label that finds no clear place is left out (the table lists every set).
+    """
+    fig.canvas.draw()
+    fig.set_layout_engine("none")
+    renderer = fig.canvas.get_renderer()
+    taken = [m.get_window_extent(renderer) for m in ax.get_legend().get_texts()] if ax.get_legend() else []
+    if ax.get_legend():
+        taken.append(ax.get_legend().get_window_extent(renderer))
+    axbox = ax.get_window_extent(renderer)
+    figbox = fig.bbox
+    pts = ax.transData.transform([(x, y) for x, y, _ in items]) if items else []
+    for (x, y, label), (px, py) in zip(items, pts):
+        for dx, dy in _OFFSETS:
+            t = ax.annotate(label, (x, y), xytext=(dx, dy), textcoords="offset points", fontsize=7.5, color=style.INK,
+                            ha="left" if dx > 0 else "right", va="bottom",
+                            bbox=dict(boxstyle="round,pad=0.15", facecolor="white", edgecolor="none", alpha=0.85))
+            bb = t.get_window_extent(renderer).expanded(1.04, 1.1)
+            clash = (any(bb.overlaps(o) for o in taken) or bb.x0 < axbox.x0 or bb.x1 > figbox.x1 - 2
+                     or bb.y1 > axbox.y1 + 8 or bb.y0 < axbox.y0)
+            if not clash:
+                taken.append(bb)
+                break
+            t.remove()
 
 
 # ---------------------------------------------------------------------------
