@@ -562,6 +562,11 @@ def figure_specs(results: Mapping) -> list[FigureSpec]:
                 + ("; the hatched bar is the net contribution of correlations (negative when correlations reduce the variance)."
                    if num(hp.get("correlation_share")) else "."),
                 (lambda o=o, hp=hp: _draw_drivers(o, hp))))
+    from . import cp_figure
+
+    for name, entries in cp_figure.figure_groups(results):
+        specs.append(FigureSpec(name, "data", None, "Heat-capacity data used", cp_figure.caption(results),
+                                (lambda entries=entries: cp_figure.draw(results, entries))))
     conv = results.get("convergence") or {}
     if any(isinstance(v, list) and v for v in conv.values()):
         specs.append(FigureSpec("convergence", "convergence", None, "Monte Carlo convergence",
