@@ -589,14 +589,19 @@ def render_figure(spec: FigureSpec) -> RenderedFigure:
         try:
             png, svg = io.BytesIO(), io.BytesIO()
             fig.savefig(png, format="png", dpi=style.PNG_DPI, metadata={"Software": "uqthermo"})
+            # the layout is computed once, for the PNG, and then frozen: the SVG is the same drawing
+            fig.set_layout_engine("none")
             fig.savefig(svg, format="svg", metadata={"Creator": "uqthermo", "Date": None})
         finally:
             plt.close(fig)
     return RenderedFigure(spec.name, spec.section, spec.output_index, spec.title, spec.caption, png.getvalue(), svg.getvalue())
 
 
-def render_figures(results: Mapping) -> list[RenderedFigure]:
-    return [render_figure(s) for s in figure_specs(results)]
+def render_figures(results: Mapping, processes: int | None = None) -> list[RenderedFigure]:
+    """Every figure of the results, in report order (see :mod:`uqthermo.report.parallel` for ``processes``)."""
+    from .parallel import render_all
+
+    return render_all(figure_specs(results), render_figure, processes)
 
 
 def make_figures(results: Mapping, out_dir: Path, _rendered: list[RenderedFigure] | None = None) -> dict[str, dict[str, Path]]:

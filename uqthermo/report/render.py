@@ -30,6 +30,10 @@ from markupsafe import Markup, escape
 
 from . import style
 from . import tables as tb
+from .sections import kirchhoff as kh
+from .sections import ranking
+from .sections.concise import concise_context
+from .sections.warnings import grouped as grouped_warnings
 from .tables import (
     DisplayTable, coverage_probability, fmt_fixed, fmt_interval, fmt_k, fmt_probability,
     fmt_temperature, fmt_u, fmt_value, headline_index, kind_label, num, outputs, pct_label,
@@ -109,6 +113,8 @@ def html_breakable(value: Any) -> Markup:
 
 
 def _environment(kind: str) -> jinja2.Environment:
+    from .sections.numbers import Num, Parts
+
     loader = jinja2.FileSystemLoader(str(_TEMPLATES))
     if kind == "html":
         env = jinja2.Environment(loader=loader, autoescape=True, trim_blocks=True, lstrip_blocks=True,
@@ -118,6 +124,8 @@ def _environment(kind: str) -> jinja2.Environment:
         env = jinja2.Environment(loader=loader, autoescape=False, finalize=_md_finalize, trim_blocks=True,
                                  lstrip_blocks=True, keep_trailing_newline=True, undefined=jinja2.StrictUndefined)
         env.filters["md"] = md_escape
+    env.tests["num"] = lambda x: isinstance(x, Num)
+    env.tests["parts"] = lambda x: isinstance(x, Parts)
     return env
 
 
@@ -386,6 +394,15 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
         "p_label": pct_label(p_cov),
         "css": Markup(style.REPORT_CSS),
     }
+    used_figures: dict[str, dict] = {}
+
+    def concise_figure(name: str) -> dict | None:
+        f = _figure_entry(name, rmap, spec_titles, numbering)
+        if f is not None:
+            used_figures[name] = f
+        return f
+
+    ctx["concise"] = concise_context(results, numbering.table, concise_figure)
     ctx["summary"] = numbering.table(tb.summary_table(results))
     inp = tb.inputs_table(results)
     ctx["inputs"] = numbering.table(inp) if inp else None
@@ -403,6 +420,7 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
             "equation": text(o.get("equation")), "span": _span_text(o), "first": oi == 0,
             "figures": [], "tables": [], "headline": None, "summary_card": None, "headline_note": "",
             "drivers_table": None, "drivers_figure": None, "whatif_table": None, "not_validated": [], "drivers_note": "", "limit": "", "phase_changes": [],
+            "figure_refs": [], "kirchhoff_table": None,
         }
         for pc in o.get("phase_changes") or []:
             if not isinstance(pc, Mapping) or num(pc.get("temperature_K")) is None:
@@ -425,6 +443,9 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
             entry["headline_note"] = ("" if len(pts) == 1 else
                                       f"Headline values at {fmt_temperature(hp.get('temperature_K'))} K, the temperature with the largest standard uncertainty.")
             for fname in (f"curve-{slug}", f"distribution-{slug}"):
+                if fname in used_figures:       # drawn in the concise section: referred to, not repeated
+                    entry["figure_refs"].append(used_figures[fname])
+                    continue
                 f = _figure_entry(fname, rmap, spec_titles, numbering)
                 if f:
                     entry["figures"].append(f)
@@ -435,13 +456,18 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
                     entry["tables"].append(numbering.table(t))
             entry["drivers_note"] = tb.drivers_note(results, hp)
             entry["drivers_figure"] = _figure_entry(f"drivers-{slug}", rmap, spec_titles, numbering)
-            dt = tb.drivers_table(o, hp, f"drivers-{slug}")
+            if o.get("kind") == "reaction_enthalpy":
+                kt = kh.point_table(o, f"kirchhoff-{slug}")
+                entry["kirchhoff_table"] = numbering.table(kt) if kt else None
+            dt = ranking.drivers_table(o, hp, f"drivers-{slug}")
             entry["drivers_table"] = numbering.table(dt) if dt else None
-            wt = tb.whatif_table(o, hp, f"whatif-{slug}", coverage_probability(results, hp))
+            wt = ranking.whatif_table(o, hp, f"whatif-{slug}", coverage_probability(results, hp))
             entry["whatif_table"] = numbering.table(wt) if wt else None
             entry["not_validated"] = [fmt_temperature(p.get("temperature_K")) for p in pts if p.get("linear_validated") is False]
         outs.append(entry)
     ctx["outputs"] = outs
+    ctx["data_figures"] = [f for f in (_figure_entry(s_.name, rmap, spec_titles, numbering) for s_ in specs
+                                       if s_.section == "data") if f]
     ctx["convergence_figure"] = _figure_entry("convergence", rmap, spec_titles, numbering)
 
     plan = results.get("plan")
@@ -485,10 +511,10 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
             "front": numbering.table(front) if front else None,
         }
 
-    ctx["warnings"] = [text(w) for w in results.get("warnings") or [] if text(w)]
+    ctx["warnings"] = [text(w) for w in grouped_warnings(results) if text(w)]
     notes = []
     for e in outs:
-        said = any(e["name"] and e["name"] in w and "validat" in w for w in ctx["warnings"])
+        said = any(e["name"] and e["name"] in w and ("validat" in w or "linear (GUM) interval" in w) for w in ctx["warnings"])
         if e.get("not_validated") and not said:
             notes.append(f"{e['name']}: the linear method is not validated at {len(e['not_validated'])} of "
                          f"{len(points(outputs(results)[e['number'] - 1]))} point(s) (T = {', '.join(e['not_validated'])} K); use the Monte Carlo results there.")
@@ -509,14 +535,22 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
     ctx["cautions"] = cautions
     ctx["cautions_title"] = "Cautions for safety use" if safety else "Cautions"
 
-    toc = [("summary", "Summary"), ("case", "Case and provenance"), ("method", "Method"), ("inputs", "Input data"),
-           ("results", "Results")]
+    c = ctx["concise"]
+    part1 = [("statements", "Results")]
+    if c["design"]:
+        part1.append(("design", "Design and safety numbers"))
+    if c["kirchhoff"]:
+        part1.append(("kirchhoff", "Kirchhoff breakdown"))
+    if c["per_output"]:
+        part1.append(("budgets", "Uncertainty budgets"))
+    part1.append(("brief", "Method in brief"))
+    part1.append(("cautions", ctx["cautions_title"] if ctx["cautions_needed"] else "Warnings"))
+    part2 = [("case", "Case and provenance"), ("method", "Method"), ("inputs", "Input data"), ("results", "Results in full")]
     if ctx["plan"]:
-        toc.append(("plan", "Data purchase plan"))
-    toc.append(("warnings", "Warnings and notes"))
-    if ctx["cautions_needed"]:
-        toc.append(("cautions", ctx["cautions_title"]))
-    ctx["toc"] = [{"id": a, "n": i + 1, "label": b} for i, (a, b) in enumerate(toc)]
+        part2.append(("plan", "Data purchase plan"))
+    part2.append(("warnings", "Warnings and notes"))
+    ctx["toc"] = ([{"id": a, "n": f"1.{i + 1}", "label": b} for i, (a, b) in enumerate(part1)]
+                  + [{"id": a, "n": f"A.{i + 1}", "label": b} for i, (a, b) in enumerate(part2)])
     ctx["sec"] = {t["id"]: t["n"] for t in ctx["toc"]}
     return ctx
 

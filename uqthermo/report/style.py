@@ -178,7 +178,41 @@ figcaption b { color: var(--ink); }
 section.output { border-top: 1px dashed var(--rule); margin-top: 1.6em; }
 section.output.first-output { border-top: 0; margin-top: 0; }
 footer { margin-top: 48px; padding-top: 10px; border-top: 1px solid var(--rule); font-size: .8rem; color: var(--muted); }
+table.doc-control { min-width: 0; font-size: .86rem; margin: 0 0 10px; }
+table.doc-control th { text-align: left; color: var(--muted); font-weight: 600; padding-right: 18px; white-space: nowrap; background: none; border-bottom: 1px solid #e4e8ec; }
+table.doc-control td { word-break: break-all; }
+section.concise { border: 1px solid var(--rule); border-radius: 8px; padding: 4px 22px 14px; margin-top: 18px; }
+section.concise h2 { margin-top: .8em; }
+.statements { margin: 8px 0 6px; }
+.statement { border-left: 4px solid var(--accent); background: var(--soft); padding: 8px 14px; margin: 0 0 10px; border-radius: 0 6px 6px 0; break-inside: avoid; }
+.statement .stmt { font-size: 1.04rem; font-weight: 600; margin: 0 0 .25em; font-variant-numeric: tabular-nums; }
+.statement .detail { font-size: .86rem; color: var(--muted); margin: .1em 0; }
+.budget { margin: 0 0 8px; }
+.budget h4 { color: var(--ink); }
+h3.app { font-size: 1.15rem; margin-top: 1.8em; padding-bottom: .2em; border-bottom: 1px solid var(--rule); }
+h4.output-head { font-size: 1.02rem; color: var(--ink); margin-top: 1.6em; }
+h5 { font-size: .92rem; margin: 1.2em 0 .4em; color: var(--muted); }
+nav.toc > ul { list-style: none; padding-left: 0; margin: .3em 0; }
+nav.toc ul ul { columns: 2; padding-left: 1.3em; margin: .2em 0 .5em; }
+span.num { font-variant-numeric: tabular-nums; }
+@media (max-width: 900px) {
+  main { padding: 18px 14px 40px; }
+  table { font-size: .8rem; min-width: 0; }
+  th, td { padding: 3px 6px; }
+  thead th { white-space: normal; }
+  td.l { white-space: normal; overflow-wrap: anywhere; }
+  td.r { white-space: normal; }
+  td.w { min-width: 5em; }
+  nav.toc ul ul { columns: 1; }
+  section.concise { padding: 2px 10px 10px; }
+  .table-wrap { background: linear-gradient(to right, #fff 30%, rgba(255,255,255,0)), linear-gradient(to left, #fff 30%, rgba(255,255,255,0)) 100% 0,
+                radial-gradient(farthest-side at 0 50%, rgba(0,0,0,.15), rgba(0,0,0,0)), radial-gradient(farthest-side at 100% 50%, rgba(0,0,0,.15), rgba(0,0,0,0)) 100% 0;
+                background-repeat: no-repeat; background-size: 40px 100%, 40px 100%, 12px 100%, 12px 100%; background-attachment: local, local, scroll, scroll; }
+}
 @media print {
+  section.concise { border: 0; padding: 0; }
+  h3.app { break-before: auto; }
+  section.appendix > h2 { break-before: page; page-break-before: always; }
   html { font-size: 10.5pt; }
   main { max-width: none; padding: 0; }
   nav.toc { display: none; }

@@ -46,3 +46,44 @@ def cut(items: Sequence[T], share: Callable[[T], Any], keep: float = KEEP, min_r
 
 
 __all__ = ["cut", "KEEP"]
+
+
+def drivers_table(output, point, key):
+    """The driver table (:func:`uqthermo.report.tables.drivers_table`) cut at 99 % of the variance."""
+    from ..tables import drivers_table as full, fmt_share
+
+    drivers = [d for d in point.get("drivers") or [] if hasattr(d, "get")]
+    kept, rest = cut(drivers, lambda d: d.get("share"))
+    t = full(output, dict(point, drivers=kept), key)
+    if rest and t.rows:
+        share = sum(num(d.get("share")) or 0.0 for d in rest)
+        n_cols = len(t.columns)
+        row = ["", f"{len(rest)} other data (together)", fmt_share(share)] + ["—"] * (n_cols - 3)
+        at = len(kept)              # before the "correlations (net)" row, if any
+        t.rows.insert(at, row)
+        t.notes.append(f"Data are listed up to {round(100 * KEEP)} % of the variance; the others are summed in one row "
+                       "(every datum is in tables/drivers.csv).")
+    return t
+
+
+def whatif_table(output, point, key, p_cov):
+    """The what-if table (:func:`uqthermo.report.tables.whatif_table`) for the data that carry 99 % of the variance."""
+    from ..tables import whatif_table as full
+
+    drivers = [d for d in point.get("drivers") or [] if hasattr(d, "get")]
+    rows = [w for w in point.get("whatif") or [] if hasattr(w, "get")]
+    if not drivers or not rows:
+        return full(output, point, key, p_cov)
+    kept, rest = cut(drivers, lambda d: d.get("share"))
+    keep = {d.get("datum") for d in kept}
+    order = {d.get("datum"): i for i, d in enumerate(kept)}
+    shown = sorted([w for w in rows if w.get("datum") in keep], key=lambda w: order.get(w.get("datum"), 1e9))
+    others = [w for w in rows if w.get("datum") not in keep]
+    t = full(output, dict(point, whatif=shown), key, p_cov)
+    if others and t.rows:
+        share = sum(num(d.get("share")) or 0.0 for d in rest)
+        t.rows.append([f"{len(others)} other data (together {100 * share:.1f} % of the variance)", t.rows[0][1]]
+                      + ["—"] * (len(t.columns) - 2))
+        t.notes.append("The other data together carry less than "
+                       f"{round(100 * (1 - KEEP))} % of the variance; their what-if rows are in tables/whatif.csv.")
+    return t

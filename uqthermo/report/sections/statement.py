@@ -28,7 +28,7 @@ from ..tables import (
     points, text, uncertainty_decimals,
 )
 from . import numbers as N
-from .numbers import Num
+from .numbers import Num, Parts
 
 #: how each quantity is written (results.json "quantity" → symbol)
 SYMBOLS = {"ΔrH": "ΔrH", "ΔrG": "ΔrG", "log10 K": "log₁₀ K", "ΔH": "ΔH", "Q": "Q̇", "ΔT_ad": "ΔT_ad"}
@@ -105,7 +105,8 @@ def statement(results: Mapping, oi: int, tunit: str = "K") -> Statement:
         st.method = "Monte Carlo"
         U = (hi - lo) / 2
         dU = uncertainty_decimals(U)
-        sym_ok = fmt_fixed(y_mc - lo, dU) == fmt_fixed(hi - y_mc, dU)
+        # ± U only when the interval is symmetric about y to the last digit of U (else state the interval)
+        sym_ok = dU is not None and abs((y_mc - lo) - (hi - y_mc)) <= 10.0 ** (-dU) * (1 + 1e-9)
         how = ["Monte Carlo, ", *_trials(results, mc, N.path(base, "monte_carlo", "samples"))]
         if sym_ok:
             st.parts = [*sym, " = ", N.value(y_mc, dU, N.path(base, "monte_carlo", "mean")), unit, ", U = ",
@@ -149,6 +150,8 @@ def statement(results: Mapping, oi: int, tunit: str = "K") -> Statement:
     st.details += _limit_line(o, oi, p, k, tunit)
     v = p.get("linear_validated")
     st.badge = ("ok", "linear validated") if v is True else (("no", "Monte Carlo reported") if v is False else None)
+    st.parts = Parts(st.parts)
+    st.details = [Parts(d) for d in st.details]
     return st
 
 
