@@ -119,6 +119,20 @@ def md_tables(md: str) -> dict[str, tuple[list[str], list[list[str]]]]:
     return out
 
 
+def kept_99(drivers: list[dict]) -> list[dict]:
+    """The drivers a table lists: largest |share| first until 99 % of Σ|share| (a single leftover is listed too)."""
+    total = sum(abs(d["share"]) for d in drivers)
+    kept, acc = [], 0.0
+    for d in sorted(drivers, key=lambda d: -abs(d["share"])):
+        if kept and acc >= 0.99 * total:
+            break
+        kept.append(d)
+        acc += abs(d["share"])
+    if len(drivers) - len(kept) == 1:
+        kept = sorted(drivers, key=lambda d: -abs(d["share"]))
+    return kept
+
+
 def table(tables, prefix: str):
     hits = [v for k, v in tables.items() if k.startswith(prefix)]
     assert len(hits) >= 1, f"no table starting with {prefix!r}; have {list(tables)}"
@@ -291,8 +305,12 @@ def test_markdown_summary_and_drivers_equal_results_json(md, results):
         p = max(o["points"], key=lambda q: q["monte_carlo"]["standard_uncertainty"])
         T = f"{p['temperature_K']:g}"
         (hdr, rows), = table(tables, f"Driver ranking at T = {T} K")
-        drivers = p["drivers"]
+        drivers = kept_99(p["drivers"])
         assert [r[1] for r in rows[: len(drivers)]] == [d["datum"] for d in drivers]
+        rest = [d for d in p["drivers"] if d not in drivers]
+        if rest:        # the data beyond 99 % of the variance: one row with their summed share
+            assert rows[len(drivers)][1] == f"{len(rest)} other data (together)"
+            check_number(rows[len(drivers)][2], 100 * sum(d["share"] for d in rest), 1, "other data")
         for r, dv in zip(rows, drivers):
             check_number(r[2], 100 * dv["share"], 1, "share")
             if dv["share_ci"] is not None:
@@ -303,10 +321,15 @@ def test_markdown_summary_and_drivers_equal_results_json(md, results):
         # what-if, at the decimal position of the point's linear u
         (hdr, rows), = table(tables, f"What-if: expanded uncertainty U (95 %) at T = {T} K")
         d = gum_decimals(p["linear"]["standard_uncertainty"])
-        for r, w in zip(rows, p["whatif"]):
-            assert r[0] == w["datum"]
+        listed = {dv["datum"] for dv in drivers}
+        whatif = sorted([w for w in p["whatif"] if w["datum"] in listed], key=lambda w: [dv["datum"] for dv in drivers].index(w["datum"]))
+        assert [r[0] for r in rows[: len(whatif)]] == [w["datum"] for w in whatif]
+        for r, w in zip(rows, whatif):
             for cell, key in zip(r[1:4], ("U_now", "U_halved", "U_removed")):
                 check_number(cell, w[key], d, key)
+        others = [w for w in p["whatif"] if w["datum"] not in listed]
+        if others:
+            assert rows[-1][0].startswith(f"{len(others)} other data (together")
 
 
 def test_markdown_inputs_and_exceedance_equal_results_json(md, results):
@@ -398,7 +421,7 @@ def test_html_escapes_user_text(results):
     assert p.tags <= {"html", "head", "meta", "title", "link", "style", "body", "main", "header", "div", "h1", "h2", "h3",
                       "h4", "nav", "strong", "ol", "li", "a", "section", "p", "span", "dl", "dt", "dd", "code", "table",
                       "caption", "thead", "tbody", "tr", "th", "td", "sub", "sup", "i", "ul", "figure", "img", "figcaption",
-                      "b", "footer", "wbr"}
+                      "b", "footer", "wbr", "h5"}
 
 
 def test_markdown_escapes_user_text(results):

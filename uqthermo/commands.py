@@ -35,6 +35,16 @@ def _sig(x: float | None, u: float | None = None, digits: int = 2) -> str:
     return f"{round(x, dec):.{max(dec, 0)}f}"
 
 
+def _reported(pt: dict) -> str:
+    """Which result the row shows and how the linear one compared (JCGM 101 §8), in words."""
+    ok = pt.get("linear_validated")
+    if not pt.get("monte_carlo"):
+        return "linear"
+    if ok is None:
+        return "Monte Carlo"
+    return "MC; linear agrees" if ok else "MC; linear differs > δ"
+
+
 def print_summary(results: dict, console=None) -> None:
     """The compact terminal table: estimate, u, coverage interval, top drivers per output point."""
     from rich.table import Table
@@ -42,7 +52,7 @@ def print_summary(results: dict, console=None) -> None:
     console = console or _console()
     p = None
     table = Table(title=results["case"]["title"], title_justify="left", header_style="bold", show_lines=False)
-    for col in ("output", "T / K", "estimate", "u", "coverage interval", "linear ok", "top drivers (share)"):
+    for col in ("output", "T / K", "estimate", "u", "coverage interval", "reported", "top drivers (share)"):
         table.add_column(col, justify="right" if col in ("T / K", "estimate", "u") else "left")
     for out in results["outputs"]:
         pts = out["points"]
@@ -53,11 +63,10 @@ def print_summary(results: dict, console=None) -> None:
             est = src.get("mean", src.get("estimate"))
             u = src.get("standard_uncertainty")
             ci = src.get("coverage_interval") or [None, None]
-            ok = pt.get("linear_validated")
             drivers = ", ".join(f"{d['datum']} ({100 * d['share']:.0f} %)" for d in pt.get("drivers", [])[:3])
             table.add_row(f"{out['name']} [{out['unit']}]", f"{pt['temperature_K']:.2f}", _sig(est, u), _sig(u, u),
                           f"[{_sig(ci[0], u)}, {_sig(ci[1], u)}]",
-                          "—" if ok is None else ("yes" if ok else "NO"), drivers)
+                          _reported(pt), drivers)
             if "exceedance_probability" in pt and pt["exceedance_probability"] is not None:
                 se = pt.get("exceedance_standard_error")
                 table.add_row("", "", "", "", f"P(T_final > {out.get('limit_K'):.1f} K) = "
@@ -70,7 +79,9 @@ def print_summary(results: dict, console=None) -> None:
     if p is not None:
         console.print(f"coverage probability {p:g}; estimate and u from Monte Carlo where run "
                       f"({results['run']['samples']} trials, {results['run']['sampling']}), else the linear method")
-    for w in results.get("warnings", []):
+    from .report.sections.warnings import grouped
+
+    for w in grouped(results):      # per-temperature repeats folded into one line per output
         console.print(f"[yellow]warning:[/yellow] {w}")
     if results.get("cautions"):
         console.print("[bold]caution:[/bold] " + results["cautions"][0])
@@ -103,8 +114,14 @@ def cmd_run(args) -> int:
     write_outputs(result, out, force=args.force, report=not args.no_report)
     if not args.quiet:
         print_summary(result.results)
+        from .report.docx import INSTALL_HINT, available
+
+        docx = available()
         _console().print(f"wrote {out}/results.json" + ("" if args.no_report else f", {out}/report.html, {out}/report.md, "
-                                                                                    f"figures/ and tables/"))
+                                                                                    + (f"{out}/report.docx, " if docx else "")
+                                                                                    + "figures/ and tables/"))
+        if not args.no_report and not docx:
+            _console().print(f"report.docx not written: python-docx is not installed; for the Word file: {INSTALL_HINT}")
     return 0
 
 
@@ -219,7 +236,12 @@ def cmd_report(args) -> int:
         return write_report(doc, tmp)
 
     publish_dir(build, out, args.force)
-    _console().print(f"wrote {out}/report.html and {out}/report.md")
+    from .report.docx import INSTALL_HINT, available
+
+    if available():
+        _console().print(f"wrote {out}/report.html, {out}/report.md and {out}/report.docx")
+    else:
+        _console().print(f"wrote {out}/report.html and {out}/report.md (report.docx needs python-docx: {INSTALL_HINT})")
     return 0
 
 

@@ -538,7 +538,7 @@ def figure_specs(results: Mapping) -> list[FigureSpec]:
             continue
         name = text(o.get("name"))
         hp = pts[headline_index(o)]
-        tlabel = fmt_temperature(hp.get("temperature_K"))
+        where = _at(results, o, hp)
         if len(pts) > 1:
             specs.append(FigureSpec(
                 f"curve-{slug}", "output", oi, f"{name} against temperature",
@@ -547,7 +547,7 @@ def figure_specs(results: Mapping) -> list[FigureSpec]:
                 (lambda o=o: _draw_curve(results, o))))
         hist = (hp.get("monte_carlo") or {}).get("histogram") or {}
         if hist.get("counts") or (hp.get("linear") or {}).get("standard_uncertainty"):
-            cap = (f"{name} at T = {tlabel} K: Monte Carlo histogram with the probabilistically symmetric coverage interval, and the linear (GUM) "
+            cap = (f"{name} {where}: Monte Carlo histogram with the probabilistically symmetric coverage interval, and the linear (GUM) "
                    "approximation as a normal or scaled t density.")
             if len(pts) > 1:
                 cap += " Shown at the temperature with the largest standard uncertainty."
@@ -558,7 +558,7 @@ def figure_specs(results: Mapping) -> list[FigureSpec]:
         if hp.get("drivers"):
             specs.append(FigureSpec(
                 f"drivers-{slug}", "output", oi, f"{name}: drivers",
-                f"{name} at T = {tlabel} K: share of the output variance by datum, with confidence intervals where the method gives them"
+                f"{name} {where}: share of the output variance by datum, with confidence intervals where the method gives them"
                 + ("; the hatched bar is the net contribution of correlations (negative when correlations reduce the variance)."
                    if num(hp.get("correlation_share")) else "."),
                 (lambda o=o, hp=hp: _draw_drivers(o, hp))))

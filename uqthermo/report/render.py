@@ -34,6 +34,7 @@ from .sections import kirchhoff as kh
 from .sections import ranking
 from .sections.concise import concise_context
 from .sections.warnings import grouped as grouped_warnings
+from .units import fmt_T, limit_text, temperature_unit
 from .tables import (
     DisplayTable, coverage_probability, fmt_fixed, fmt_interval, fmt_k, fmt_probability,
     fmt_temperature, fmt_u, fmt_value, headline_index, kind_label, num, outputs, pct_label,
@@ -193,19 +194,20 @@ def _sampling_text(sampling: str | None, rotated: bool = False) -> str:
     }.get((sampling or "").lower(), text(sampling) or "not stated")
 
 
-def _span_text(o: Mapping) -> str:
+def _span_text(o: Mapping, tunit: str = "K") -> str:
     ts = [num(p.get("temperature_K")) for p in points(o)]
     ts = [t for t in ts if t is not None]
     if not ts:
         return ""
     if len(ts) == 1:
-        return f"at {fmt_temperature(ts[0])} K"
-    return f"from {fmt_temperature(min(ts))} to {fmt_temperature(max(ts))} K ({len(ts)} temperatures)"
+        return f"at {fmt_T(ts[0], tunit)}"
+    return f"from {fmt_T(min(ts), tunit, with_symbol=False)} to {fmt_T(max(ts), tunit)} ({len(ts)} temperatures)"
 
 
 def job_sentence(results: Mapping) -> str:
-    """The job of the report in one sentence (plain text)."""
+    """The job of the report in one sentence (plain text; temperatures in the case's unit)."""
     run = results.get("run") or {}
+    tunit = temperature_unit(results)
     parts = []
     said: set[str] = set()
     for o in outputs(results):
@@ -216,13 +218,13 @@ def job_sentence(results: Mapping) -> str:
             said.add(eq)
         elif eq:
             s += " of the same reaction"
-        sp = _span_text(o)
+        sp = _span_text(o, tunit)
         if sp:
             if o.get("kind") in ("adiabatic_temperature_rise", "heating_enthalpy"):
                 sp = sp.replace("at ", "from ", 1) if o.get("kind") == "adiabatic_temperature_rise" else sp
             s += " " + sp
         if num(o.get("limit_K")) is not None:
-            s += f", with the probability of exceeding {fmt_temperature(o.get('limit_K'))} K"
+            s += f", with the probability of exceeding {limit_text(o, tunit)}"
         parts.append(s)
     if not parts:
         what = "no outputs"
@@ -584,12 +586,15 @@ def render_markdown(results: Mapping, figures: bool = True) -> str:
     return _environment("md").get_template("report.md.j2").render(**ctx)
 
 
-def write_report(results: Mapping, out_dir: Path, formats: Sequence[str] = ("html", "md"), figures: bool = True) -> dict[str, Path]:
+def write_report(results: Mapping, out_dir: Path, formats: Sequence[str] = ("html", "md", "docx"),
+                 figures: bool = True) -> dict[str, Path]:
     """Write the report files into ``out_dir``.
 
-    Writes ``report.html`` (self-contained), ``report.md``, ``figures/*.png`` and
-    ``figures/*.svg`` (when ``figures``), and ``tables/*.csv`` (inputs, results per
-    output, drivers, what-if, plan). Every file is written atomically.
+    Writes ``report.html`` (self-contained), ``report.md``, ``report.docx`` (Word, built
+    from the HTML page; only when python-docx is installed — see
+    :func:`uqthermo.report.docx.available`), ``figures/*.png`` and ``figures/*.svg`` (when
+    ``figures``), and ``tables/*.csv`` (inputs, results per output, drivers, what-if,
+    GUM budgets, Kirchhoff terms, plan). Every file is written atomically.
 
     Returns
     -------
@@ -602,9 +607,9 @@ def write_report(results: Mapping, out_dir: Path, formats: Sequence[str] = ("htm
 
     tb.check_results(results)
     formats = tuple(formats)
-    bad = [f for f in formats if f not in ("html", "md")]
+    bad = [f for f in formats if f not in ("html", "md", "docx")]
     if bad:
-        raise InputError(f"unknown report format(s) {', '.join(map(str, bad))}; use 'html' and/or 'md'", key="formats")
+        raise InputError(f"unknown report format(s) {', '.join(map(str, bad))}; use 'html', 'md' and/or 'docx'", key="formats")
     out_dir = Path(out_dir)
     out_dir.mkdir(parents=True, exist_ok=True)
     written: dict[str, Path] = {}
@@ -613,14 +618,35 @@ def write_report(results: Mapping, out_dir: Path, formats: Sequence[str] = ("htm
         for name, paths in make_figures(results, out_dir / "figures", _rendered=rendered).items():
             for ext, p in paths.items():
                 written[f"figures/{name}.{ext}"] = p
-    for stem, df in tb.frames(results).items():
+    for stem, df in report_frames(results).items():
         p = atomic_write(out_dir / "tables" / f"{stem}.csv", tb.csv_safe(df).to_csv(index=False, lineterminator="\n"))
         written[f"tables/{stem}.csv"] = p
+    page = None
+    if "html" in formats or "docx" in formats:
+        page = render_html(results, figures=figures, _rendered=rendered)
     if "html" in formats:
-        written["report.html"] = atomic_write(out_dir / "report.html", render_html(results, figures=figures, _rendered=rendered))
+        written["report.html"] = atomic_write(out_dir / "report.html", page)
+    if "docx" in formats:
+        from . import docx as wd
+
+        if wd.available():
+            written["report.docx"] = atomic_write(out_dir / "report.docx", wd.html_to_docx(page, results))
     if "md" in formats:
         written["report.md"] = atomic_write(out_dir / "report.md", render_markdown(results, figures=figures))
     return written
 
 
-__all__ = ["render_html", "render_markdown", "write_report", "build_context", "md_escape", "atomic_write", "job_sentence"]
+def report_frames(results: Mapping) -> dict:
+    """Every CSV table: :func:`uqthermo.report.tables.frames` plus ``budget-<output>`` and ``kirchhoff``."""
+    from .sections.budget import budget_frames
+
+    out = dict(tb.frames(results))
+    out.update(budget_frames(results))
+    k = kh.kirchhoff_frame(results)
+    if len(k):
+        out["kirchhoff"] = k
+    return out
+
+
+__all__ = ["render_html", "render_markdown", "write_report", "build_context", "md_escape", "atomic_write", "job_sentence",
+           "report_frames"]
