@@ -249,17 +249,10 @@ class _Writer:
             self.block(c)
 
     def callout(self, node: Node, critical: bool, formula: bool) -> None:
-        from docx.oxml import OxmlElement
-        from docx.oxml.ns import qn
-
         t = self.doc.add_table(rows=1, cols=1)
         t.style = self.doc.styles["Table Grid"]
         cell = t.rows[0].cells[0]
-        shd = OxmlElement("w:shd")
-        shd.set(qn("w:val"), "clear")
-        shd.set(qn("w:color"), "auto")
-        shd.set(qn("w:fill"), "F6F8FA" if formula else ("FFEBE9" if critical else "FFF8C5"))
-        cell._tc.get_or_add_tcPr().append(shd)
+        _shade(cell, "F6F8FA" if formula else ("FFEBE9" if critical else "FFF8C5"))
         first = cell.paragraphs[0]
         used = False
         for c in node.children:
@@ -317,14 +310,18 @@ class _Writer:
             for c in caption.children:
                 self.runs(p, c, _Fmt())
             p.paragraph_format.keep_with_next = True
-        ncols = max(len([c for c in tr.children if isinstance(c, Node) and c.tag in ("td", "th")]) for tr in rows)
+        grid = [[c for c in tr.children if isinstance(c, Node) and c.tag in ("td", "th")] for tr in rows]
+        ncols = max(len(r) for r in grid)
         t = self.doc.add_table(rows=0, cols=ncols)
         t.style = self.doc.styles["Table Grid"]
         t.alignment = WD_TABLE_ALIGNMENT.LEFT
         size = self.Pt(7.5 if ncols >= 8 else (8.5 if ncols >= 5 else 9.5))
         head_rows = {id(tr) for th in node.find_all("thead") for tr in th.find_all("tr")}
-        for tr in rows:
-            cells = [c for c in tr.children if isinstance(c, Node) and c.tag in ("td", "th")]
+        widths = _column_widths(grid, ncols, PAGE_W_CM - 2 * MARGIN_CM)
+        t.autofit = False
+        for j, col in enumerate(t.columns):       # the grid (LibreOffice) and each cell (Word) carry the width
+            col.width = self.Cm(widths[j])
+        for tr, cells in zip(rows, grid):
             row = t.add_row()
             header = id(tr) in head_rows
             if header:
@@ -332,6 +329,11 @@ class _Writer:
                 el = OxmlElement("w:tblHeader")
                 el.set(qn("w:val"), "true")
                 trPr.append(el)
+            for j in range(ncols):
+                row.cells[j].width = self.Cm(widths[j])
+            if header:
+                for j in range(ncols):
+                    _shade(row.cells[j], "EEF1F4")
             for j, c in enumerate(cells[:ncols]):
                 p = row.cells[j].paragraphs[0]
                 for cc in c.children:
@@ -363,6 +365,29 @@ class _Writer:
             for c in cap.children:
                 self.runs(p, c, _Fmt())
         self.figures += 1
+
+
+def _column_widths(grid: list[list[Node]], ncols: int, total_cm: float) -> list[float]:
+    """Column widths (cm) in proportion to their longest cell text (capped), at least 1.4 cm each."""
+    need = [4.0] * ncols
+    for row in grid:
+        for j, c in enumerate(row[:ncols]):
+            n = len(_squash(c.text()).strip())
+            need[j] = max(need[j], min(float(n), 34.0))
+    floor = min(1.4, total_cm / ncols)
+    scale = (total_cm - floor * ncols) / sum(need) if sum(need) else 0.0
+    return [floor + scale * x for x in need]
+
+
+def _shade(cell, fill: str) -> None:
+    from docx.oxml import OxmlElement
+    from docx.oxml.ns import qn
+
+    shd = OxmlElement("w:shd")
+    shd.set(qn("w:val"), "clear")
+    shd.set(qn("w:color"), "auto")
+    shd.set(qn("w:fill"), fill)
+    cell._tc.get_or_add_tcPr().append(shd)
 
 
 def _date(text: str) -> _dt.datetime | None:
@@ -403,8 +428,9 @@ def html_to_docx(page: str, results: Mapping | None = None) -> bytes:
     when = _date(str(run.get("date") or ""))
     if when is not None:
         cp.created = cp.modified = when
+    short = title if len(title) <= 90 else title[:89].rstrip() + "…"
     head = " · ".join(x for x in (str(document.get("reference") or ""),
-                                  f"rev. {document['revision']}" if document.get("revision") else "", title[:80]) if x)
+                                  f"rev. {document['revision']}" if document.get("revision") else "", short) if x)
     sec.header.paragraphs[0].text = head
     for r in sec.header.paragraphs[0].runs:
         r.font.size = Pt(8)
