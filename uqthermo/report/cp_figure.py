@@ -146,8 +146,8 @@ def _panel(ax, entry: Mapping, k: float, marks: dict) -> None:
     ax.set_ylim(ymin - pad, ymax + 1.6 * pad)
     ax.legend(loc="best", fontsize=7, handlelength=1.4, borderpad=0.25)
     ax.set_xlim(lo_all, hi_all)
-    ax.set_xlabel("$T$ / K", fontsize=8.5)
-    ax.set_ylabel("$C_p$ / (J/(mol·K))", fontsize=8.5)
+    ax.set_xlabel("T / K", fontsize=8.5)
+    ax.set_ylabel("Cₚ / (J/(mol·K))", fontsize=8.5)
     ax.tick_params(labelsize=7.5)
 
 

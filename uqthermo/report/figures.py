@@ -40,6 +40,7 @@ from .tables import (
 
 import matplotlib.pyplot as plt  # noqa: E402  (style sets the Agg backend first)
 from matplotlib.figure import Figure  # noqa: E402
+from matplotlib.ticker import NullFormatter  # noqa: E402
 
 
 @dataclass
@@ -66,17 +67,17 @@ class RenderedFigure:
 
 
 SYMBOLS = {
-    "reaction_enthalpy": r"$\Delta_\mathrm{r}H$",
-    "heating_enthalpy": r"$\Delta H$",
-    "heat_release": r"$\dot{Q}$",
-    "adiabatic_temperature_rise": r"$\Delta T_\mathrm{ad}$",
-    "reaction_gibbs_energy": r"$\Delta_\mathrm{r}G$",
-    "equilibrium_constant": r"$K$",
+    "reaction_enthalpy": "ΔᵣH",
+    "heating_enthalpy": "ΔH",
+    "heat_release": "Q̇",
+    "adiabatic_temperature_rise": "ΔT_ad",
+    "reaction_gibbs_energy": "ΔᵣG",
+    "equilibrium_constant": "log₁₀ K",
 }
 
 
 def _sym(kind) -> str:
-    return SYMBOLS.get(kind or "", "$y$")
+    return SYMBOLS.get(kind or "", "y")
 
 
 def _titles(fig: Figure, main: str, sub: str | None = None) -> None:
@@ -174,7 +175,7 @@ def _draw_distribution(results: Mapping, output: Mapping, point: Mapping) -> Fig
         xs = np.linspace(min(a, y_lin - 4.5 * u_lin), max(b, y_lin + 4.5 * u_lin), 600)
         if math.isfinite(nu) and nu > 0:
             pdf = stats.t.pdf((xs - y_lin) / u_lin, nu) / u_lin
-            lab = rf"linear (GUM): scaled $t$, $\nu_\mathrm{{eff}}$ = {int(round(nu))}"
+            lab = f"linear (GUM): scaled t, ν_eff = {int(round(nu))}"
         else:
             pdf = stats.norm.pdf(xs, y_lin, u_lin)
             lab = "linear (GUM): normal"
@@ -286,8 +287,8 @@ def _draw_curve(results: Mapping, output: Mapping) -> Figure:
 
     sym = _sym(output.get("kind"))
     ax.set_ylabel(_axis_label(sym, unit))
-    axu.set_ylabel(_axis_label("$u$", unit))
-    axu.set_xlabel("$T$ / K")
+    axu.set_ylabel(_axis_label("u", unit))
+    axu.set_xlabel("T / K")
     _titles(fig, f"{mpl_text(text(output.get('name')))}: {sym} against temperature")
     ax.legend(loc="lower left", fontsize=8, ncols=2)
     axu.legend(loc="upper left", fontsize=8, ncols=2)
@@ -421,8 +422,9 @@ def _draw_convergence(results: Mapping) -> Figure:
                             fontsize=7.2, color=ROLE["linear"])
             ax.set_ylim(lo, hi)
         ax.set_title(mpl_text(text(name)), fontsize=9.5)
-        ax.set_xlabel("number of Monte Carlo trials $N$")
-        ax.set_ylabel(_axis_label("$u(y)$", unit))
+        ax.set_xlabel("number of Monte Carlo trials N")
+        ax.set_ylabel(_axis_label("u(y)", unit))
+        ax.xaxis.set_minor_formatter(NullFormatter())
     handles = [plt.Line2D([], [], color=ROLE["mc"], marker="o", markersize=2.8, linewidth=1.3),
                plt.Line2D([], [], color=style.GREY, linewidth=0.9, linestyle="--"),
                plt.Line2D([], [], color=ROLE["linear"], linewidth=0.9, linestyle=":")]
@@ -469,7 +471,7 @@ def _draw_plan(plan: Mapping) -> Figure:
         ax.scatter([num(best["cost"])], [num(best["U"])], marker="*", s=190, color=ROLE["best"], edgecolor="white",
                    linewidth=0.6, zorder=5, label=mpl_text(f"recommended: {_set_label(best.get('set'))}"))
     ax.set_xlabel(mpl_text(f"cost / {cur}"))
-    ax.set_ylabel(_axis_label(f"$U$ ({pct_label(num(tgt.get('coverage_probability')) or 0.95)})", unit))
+    ax.set_ylabel(_axis_label(f"U ({pct_label(num(tgt.get('coverage_probability')) or 0.95)})", unit))
     where = ""
     if tgt.get("output"):
         where = f" for {text(tgt.get('output'))}"
@@ -588,7 +590,8 @@ def render_figure(spec: FigureSpec) -> RenderedFigure:
         fig = spec.draw()
         try:
             png, svg = io.BytesIO(), io.BytesIO()
-            fig.savefig(png, format="png", dpi=style.PNG_DPI, metadata={"Software": "uqthermo"})
+            fig.savefig(png, format="png", dpi=style.PNG_DPI, metadata={"Software": "uqthermo"},
+                        pil_kwargs={"compress_level": style.PNG_COMPRESS_LEVEL})
             # the layout is computed once, for the PNG, and then frozen: the SVG is the same drawing
             fig.set_layout_engine("none")
             fig.savefig(svg, format="svg", metadata={"Creator": "uqthermo", "Date": None})

@@ -51,6 +51,8 @@ ROLE = {
 
 FIG_WIDTH_IN = 7.2  # fits an A4 page between 18 mm margins at 100 %
 PNG_DPI = 160
+#: zlib level of the PNGs: 1 encodes several times faster than the default 6 for files ~15 % larger
+PNG_COMPRESS_LEVEL = 1
 
 _RC = {
     "font.family": "DejaVu Sans",

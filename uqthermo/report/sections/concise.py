@@ -128,7 +128,7 @@ def design_table(results: Mapping, key: str, tunit: str) -> DisplayTable:
         if p.get("exceedance_probability") is not None:
             what = ("final temperature" if kind == "adiabatic_temperature_rise"
                     and o.get("limit_applies_to", "final_temperature") != "rise" else "output")
-            row(f"P({what} > limit {limit_text(o, tunit)})", Parts(probability_parts(p, "exceedance", base)),
+            row(Parts([f"P({what} > limit ", N.limit(o, oi, tunit), ")"]), Parts(probability_parts(p, "exceedance", base)),
                 "Monte Carlo" if p.get("monte_carlo") else "linear (normal) approximation")
     if t.rows:
         t.notes.append("Estimates from the stated data and model; they support, and never replace, calorimetry and a "

@@ -93,3 +93,16 @@ def join(parts: Sequence[Any]) -> str:
 
 
 __all__ = ["Num", "Parts", "THIN", "path", "value", "temperature", "percent", "count", "join", "u_decimals"]
+
+
+def limit(output, oi: int, unit: str) -> Num:
+    """The output's limit as the user wrote it (``limit.as_written``, op ``as_written``), else ``limit_K`` converted."""
+    from ..units import as_written, limit_text
+
+    lim = output.get("limit")
+    if hasattr(lim, "get") and isinstance(lim.get("as_written"), str) and lim.get("as_written").strip():
+        return Num(as_written(lim["as_written"]), path("outputs", oi, "limit", "as_written"), "as_written")
+    if hasattr(lim, "get") and lim.get("value") is not None:
+        return temperature(lim.get("value"), unit, path("outputs", oi, "limit", "value")) if lim.get("unit") in (None, "K") \
+            else Num(limit_text(output, unit), path("outputs", oi, "limit", "value"))
+    return temperature(output.get("limit_K"), unit, path("outputs", oi, "limit_K"))

@@ -95,7 +95,8 @@ def statement(results: Mapping, oi: int, tunit: str = "K") -> Statement:
     base = N.path("outputs", oi, "points", k)
     unit = _unit(o)
     p_cov = coverage_probability(results, p)
-    lab = pct_label(p_cov)
+    lab = Num(pct_label(p_cov), N.path(base, "coverage_probability") if p.get("coverage_probability") is not None
+              else "run/coverage_probability", "percent")
     sym = [symbol_of(o), *_argument(o, oi, k, p, tunit)]
     mc = p.get("monte_carlo") or {}
     lin = p.get("linear") or {}
@@ -113,16 +114,16 @@ def statement(results: Mapping, oi: int, tunit: str = "K") -> Statement:
                         N.Num(fmt_fixed(U, dU), N.path(base, "monte_carlo", "coverage_interval"), "halfwidth"), unit,
                         " (k = ", Num(fmt_k(U / u_mc), N.path(base, "monte_carlo", "coverage_interval") + " "
                                       + N.path(base, "monte_carlo", "standard_uncertainty"), "ratio"),
-                        f", {lab}, ", *how, ")"]
+                        ", ", lab, ", ", *how, ")"]
         else:
             d = uncertainty_decimals(u_mc)
-            st.parts = [*sym, " = ", N.value(y_mc, d, N.path(base, "monte_carlo", "mean")), unit, f", {lab} coverage interval [",
+            st.parts = [*sym, " = ", N.value(y_mc, d, N.path(base, "monte_carlo", "mean")), unit, ", ", lab, " coverage interval [",
                         N.value(lo, d, N.path(base, "monte_carlo", "coverage_interval", 0)), ", ",
                         N.value(hi, d, N.path(base, "monte_carlo", "coverage_interval", 1)), "]", unit, " (", *how,
                         "; the distribution is asymmetric about the estimate, so no ± U is stated)"]
         d = uncertainty_decimals(u_mc)
         st.details.append(["u(y) = ", N.value(u_mc, d, N.path(base, "monte_carlo", "standard_uncertainty")), unit,
-                           f"; {lab} coverage interval [", N.value(lo, d, N.path(base, "monte_carlo", "coverage_interval", 0)), ", ",
+                           "; ", lab, " coverage interval [", N.value(lo, d, N.path(base, "monte_carlo", "coverage_interval", 0)), ", ",
                            N.value(hi, d, N.path(base, "monte_carlo", "coverage_interval", 1)), "]", unit,
                            " (probabilistically symmetric, JCGM 101 §7.7)"])
         st.details += _validation(o, p, base, unit)
@@ -137,7 +138,7 @@ def statement(results: Mapping, oi: int, tunit: str = "K") -> Statement:
         nu_s = "∞" if num(nu) is None or num(nu) > 1e6 else str(int(round(num(nu))))
         st.parts = [*sym, " = ", N.value(lin.get("estimate"), dU, N.path(base, "linear", "estimate")), unit, ", U = ",
                     N.value(U, dU, N.path(base, "linear", "expanded_uncertainty")), unit,
-                    " (k = ", N.value(kf, 2, N.path(base, "linear", "coverage_factor")), f", {lab}, linear propagation (GUM), ν_eff = ",
+                    " (k = ", N.value(kf, 2, N.path(base, "linear", "coverage_factor")), ", ", lab, ", linear propagation (GUM), ν_eff = ",
                     Num(nu_s, N.path(base, "linear", "effective_dof"), "dof") if nu_s != "∞" else "∞", ")"]
         d = uncertainty_decimals(u)
         st.details.append(["u(y) = ", N.value(u, d, N.path(base, "linear", "standard_uncertainty")), unit])
@@ -203,7 +204,7 @@ def _curve_line(results: Mapping, oi: int, tunit: str) -> list[list[Any]]:
     d = uncertainty_decimals(max((u_of(pts[i]) or 0) for i in idx) or None)
     line = ["Over ", N.temperature(pts[t_lo].get("temperature_K"), tunit, N.path("outputs", oi, "points", t_lo, "temperature_K"), False),
             " to ", N.temperature(pts[t_hi].get("temperature_K"), tunit, N.path("outputs", oi, "points", t_hi, "temperature_K")),
-            f" ({len(pts)} temperatures) the estimate runs from ",
+            " the estimate runs from ",
             N.value(val(pts[y_lo]), d, N.path("outputs", oi, "points", y_lo, *est(pts[y_lo]))), " to ",
             N.value(val(pts[y_hi]), d, N.path("outputs", oi, "points", y_hi, *est(pts[y_hi]))), unit,
             "; the statement above is at the temperature with the largest u(y)."]
@@ -213,13 +214,11 @@ def _curve_line(results: Mapping, oi: int, tunit: str) -> list[list[Any]]:
 def _limit_line(o: Mapping, oi: int, p: Mapping, k: int, tunit: str) -> list[list[Any]]:
     if p.get("exceedance_probability") is None:
         return []
-    from ..units import limit_text
-
     what = ("final temperature" if o.get("kind") == "adiabatic_temperature_rise"
             and o.get("limit_applies_to", "final_temperature") != "rise" else "output")
     from .probability import probability_parts
 
-    return [[f"Probability that the {what} exceeds the limit {limit_text(o, tunit)}: ",
+    return [[f"Probability that the {what} exceeds the limit ", N.limit(o, oi, tunit), ": ",
              *probability_parts(p, "exceedance", N.path("outputs", oi, "points", k)), "."]]
 
 
