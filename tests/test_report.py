@@ -170,10 +170,10 @@ def test_write_report_writes_every_file(report_dir, results):
     for key, p in written.items():
         assert p == out / key and p.is_file() and p.stat().st_size > 0
     figs = {k for k in written if k.startswith("figures/")}
-    # one curve (10 points), two distributions, two driver charts, convergence, planner front; PNG + SVG each
+    # one curve (10 points), two distributions, two driver charts, the Cp data, convergence, planner front; PNG + SVG each
     stems = {Path(k).stem for k in figs}
     assert stems == {"curve-hydrogenation_dH", "distribution-hydrogenation_dH", "distribution-batch_rise",
-                     "drivers-hydrogenation_dH", "drivers-batch_rise", "convergence", "plan-front"}
+                     "drivers-hydrogenation_dH", "drivers-batch_rise", "cp-data", "convergence", "plan-front"}
     for k in figs:
         data = written[k].read_bytes()
         if k.endswith(".png"):
@@ -222,7 +222,7 @@ def test_html_is_self_contained(report_dir):
     # every src/href is a data URI or an in-page anchor: nothing to fetch, readable offline
     for attr, val in re.findall(r'\s(src|href)="([^"]*)"', page):
         assert val.startswith("data:") or val.startswith("#"), (attr, val[:60])
-    assert page.count('src="data:image/png;base64,') == 7
+    assert page.count('src="data:image/png;base64,') == 8
     assert "@media print" in page and "break-inside: avoid" in page
 
 
@@ -230,7 +230,7 @@ def test_markdown_references_written_figures(report_dir):
     out, written = report_dir
     text = (out / "report.md").read_text(encoding="utf-8")
     refs = re.findall(r"!\[[^\n]*?\]\(([^)\s]+)\)", text)
-    assert len(refs) == 7
+    assert len(refs) == 8
     for r in refs:
         assert r.startswith("figures/") and r.endswith(".png")
         assert (out / r).is_file()
@@ -358,7 +358,7 @@ def test_markdown_inputs_and_exceedance_equal_results_json(md, results):
 
 def test_report_states_case_method_and_rounding(md, results):
     for needle in (results["case"]["sha256"], "JCGM 101", "JCGM 100:2008", "Kirchhoff", "Welch–Satterthwaite",
-                   "clause 8", "GUM 7.2.6", "131072", "Gaussian copula", "Sobol'"):
+                   "clause 8", "GUM 7.2.6", "20000", "Gaussian copula", "Sobol'"):
         assert needle in md_unescape(md), needle
     assert "reaction calorimetry" in md and "local codes" in md   # cautions: adiabatic output with a limit
 

@@ -103,7 +103,7 @@ def test_report_renders_without_errors_and_every_figure_loads(driver, results, t
     assert not severe, severe
     imgs = driver.execute_script(
         "return Array.from(document.images).map(i => ({src: i.src.slice(0, 30), w: i.naturalWidth, ok: i.complete}))")
-    assert len(imgs) == 7
+    assert len(imgs) == 8
     assert all(i["ok"] and i["w"] > 0 for i in imgs), imgs
     # the document is laid out: title, the sections, the numbered tables
     assert driver.title.endswith("uncertainty report")
@@ -138,3 +138,57 @@ def test_script_in_title_does_not_run(driver, results, tmp_path):
     assert driver.execute_script("return document.querySelectorAll('script, svg, iframe').length") == 0
     h1 = driver.execute_script("return document.querySelector('h1').textContent")
     assert h1 == "<script>window.__pwned = 1</script>Hydrogenation"
+
+
+def _shots_dir(tmp_path: Path) -> Path:
+    """Where screenshots go: $UQTHERMO_SCREENSHOTS (to look at them) or the test's tmp_path."""
+    d = Path(os.environ.get("UQTHERMO_SCREENSHOTS") or tmp_path)
+    d.mkdir(parents=True, exist_ok=True)
+    return d
+
+
+def test_concise_section_and_narrow_screens(driver, results, tmp_path):
+    """The concise section renders first (document control, statements, budgets, cautions) and
+    no table loses columns at 800 px: concise tables reflow to fit, appendix tables fit or scroll."""
+    out = tmp_path / "out"
+    write_report(results, out, formats=("html",))
+    shots = _shots_dir(tmp_path)
+    for width in (1280, 800):
+        driver.set_window_size(width, 1000)
+        _load(driver, out / "report.html")
+        info = driver.execute_script("""
+            const c = document.querySelector('section#concise');
+            const tables = Array.from(document.querySelectorAll('table')).map(t => {
+              const w = t.closest('.table-wrap');
+              return {concise: !!t.closest('section#concise'), tw: t.getBoundingClientRect().width,
+                      ww: w ? w.clientWidth : null, sw: w ? w.scrollWidth : null,
+                      ox: w ? getComputedStyle(w).overflowX : null};
+            });
+            return {page: document.documentElement.scrollWidth, view: window.innerWidth,
+                    top: c ? c.getBoundingClientRect().top + window.scrollY : -1,
+                    appendix: document.querySelector('section#appendix').getBoundingClientRect().top + window.scrollY,
+                    statements: document.querySelectorAll('#concise .statement').length,
+                    nums: document.querySelectorAll('#concise span.num[data-path]').length,
+                    doc: document.querySelector('#document-control').innerText,
+                    budgets: document.querySelectorAll('#budgets table').length,
+                    figures: document.querySelectorAll('#budgets figure img').length,
+                    cautions: document.querySelector('#cautions').innerText,
+                    tables: tables};
+        """)
+        assert info["page"] <= info["view"], f"page scrolls sideways at {width} px"
+        assert 0 < info["top"] < info["appendix"]
+        assert info["statements"] == len(results["outputs"]) and info["nums"] > 30
+        assert "FIX-0001" in info["doc"] and results["case"]["sha256"] in info["doc"].replace("\n", "")
+        assert info["budgets"] == len(results["outputs"]) and info["figures"] == len(results["outputs"])
+        assert "calorimetry" in info["cautions"]
+        for t in info["tables"]:
+            if t["ww"] is None:
+                continue
+            if t["concise"]:
+                assert t["tw"] <= t["ww"] + 1, (width, t)          # reflowed: every column visible
+            else:
+                assert t["tw"] <= t["ww"] + 1 or t["ox"] == "auto", (width, t)   # or it scrolls
+        png = _full_page_png(driver)
+        (shots / f"report-{width}.png").write_bytes(png)
+        assert png[:8] == b"\x89PNG\r\n\x1a\n"
+    driver.set_window_size(1200, 900)

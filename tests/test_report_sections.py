@@ -215,7 +215,8 @@ def test_statements_follow_the_gum_form(demo):
     assert len(stmts) >= len(res["outputs"])
     form = re.compile(r"^(ΔrH|ΔH|Q̇|ΔT_ad|log₁₀ K|ΔrG)(\(.+?\)| from .+?)? = -?[\d.]+( \S+)?, "
                       r"(U = [\d.]+( \S+)? \(k = \d\.\d\d, 95 %, (Monte Carlo, [\d\u202f]+ trials|linear propagation \(GUM\).*)\)"
-                      r"|95 % coverage interval \[.+\].*\(Monte Carlo, [\d\u202f]+ trials; .+\))$")
+                      r"|95 % coverage interval \[.+\].*\(Monte Carlo, [\d\u202f]+ trials; .+\))"
+                      r"( (Monte Carlo reported|linear validated))?$")
     for s in stmts[: len(res["outputs"])]:
         assert form.match(s.strip()), s
     # GUM 7.2.6: U to two significant digits, y at the same decimal position
