@@ -231,3 +231,40 @@ def identify(*, cas: str | None = None, name: str | None = None, formula: str | 
     if smiles and not ident.smiles:
         ident = Identity(ident.cas, ident.name, ident.formula, smiles, ident.how)
     return ident
+
+
+def search(text: str, limit: int = 50) -> list[Match]:
+    """Species of the whole library matching ``text`` (for ``uqthermo data``).
+
+    Exact matches first (CAS number, Hill formula, name or synonym), then names containing the
+    text. ``Match.datasets`` maps quantity -> {"library": phases} (which phases have data).
+    """
+    from .formula import split_phase
+    from .sources import catalog
+
+    q = split_phase(text.strip())[0]
+    low = q.lower()
+    idx = index()
+    cat = catalog()
+    exact: list[str] = []
+    if CAS_RE.match(q) and q in idx:
+        exact.append(q)
+    hill = try_hill(q)
+    if hill:
+        exact += [c for c, (_, f) in idx.items() if f == hill and c not in exact]
+    try:
+        ident = _by_name(q, None)
+        if ident.cas not in exact:
+            exact.insert(0, ident.cas)
+    except LibraryLookupError:
+        pass
+    partial = []
+    if len(low) >= 3:
+        partial = [c for c, (nm, _) in idx.items() if nm and low in nm.lower() and c not in exact]
+        partial.sort(key=lambda c: (len(idx[c][0] or ""), idx[c][0] or ""))
+    rich = [c for c in exact if c not in _atct_only()] + [c for c in exact if c in _atct_only()]
+    out = []
+    for c in (rich + partial)[:limit]:
+        name, form = idx.get(c) or _meta(c)
+        out.append(Match(c, name, form, {k: {"library": tuple(sorted(v))} for k, v in cat.get(c, {}).items()}))
+    return out

@@ -45,6 +45,9 @@ RANK = {
     "fusion_enthalpy": ("CRC", "WebBook", "Joback"),
 }
 
+EXTRAPOLATION_RELATIVE_U = 0.05
+"""Relative u assumed at least for a curve used beyond its range (only where the case allows it)."""
+
 QUANTITY_LABELS = {
     "formation_enthalpy": "formation enthalpy", "standard_entropy": "standard entropy",
     "formation_gibbs_energy": "Gibbs energy of formation", "heat_capacity": "heat capacity",
@@ -288,7 +291,7 @@ def select_curve(ident: Identity, phase: str, window: tuple[float, float], *, so
         chosen = covering[0]
         skipped = [c for c in _one_per_source(curves) if c not in covering]
         reason = (f"{chosen.source.key} ({chosen.form}) ranks first of the curves covering {win} "
-                  f"(range {chosen.t_min:g}-{chosen.t_max:g} K)")
+                  f"(range {chosen.t_min:g}-{chosen.t_max:g} K)") if not extrapolated else chosen.form
         if skipped:
             reason += "; not covering: " + ", ".join(f"{c.source.key} {c.t_min:g}-{c.t_max:g} K" for c in skipped)
         if chosen.estimate:
@@ -299,5 +302,10 @@ def select_curve(ident: Identity, phase: str, window: tuple[float, float], *, so
     others = [c for c in evidence if c is not chosen]
     own = window_class_u(chosen, lo, hi) if chosen.u_basis == "class" else None
     unc, _ = curve_uncertainty(chosen, others, (lo, hi), own)
+    if extrapolated and unc.u < EXTRAPOLATION_RELATIVE_U:
+        unc = Uncertainty(EXTRAPOLATION_RELATIVE_U, True, "assumed",
+                          f"curve extrapolated beyond its range {chosen.t_min:g}-{chosen.t_max:g} K: "
+                          f"{100 * EXTRAPOLATION_RELATIVE_U:g} % assumed (the sources' {100 * unc.u:.2g} % holds "
+                          "only inside the range)")
     not_cov = [c for c in _one_per_source(curves) if c not in evidence]
     return Selection(ident, "heat_capacity", phase, chosen, evidence, unc, reason, (lo, hi), source, not_cov)
