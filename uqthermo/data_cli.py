@@ -274,9 +274,11 @@ def run_data(args) -> int:
                    title_justify="left", header_style="bold")
         for col in ("phase", "source", "equation", "range", f"covers {wtxt}", "Cp J/(mol*K) at window ends", "u"):
             ct.add_column(col)
-        for row in _curve_rows(ident, window):
+        crow = _curve_rows(ident, window)
+        for row in crow:
             ct.add_row(*row)
-        console.print(ct)
+        if crow:
+            console.print(ct)
     if len(matches) > DETAILED:
         console.print(f"(values shown for the first {DETAILED}; search by CAS number for the others)")
     console.print(f"sources via chemicals {chemicals_version()}; uncertainty basis: stated by the source, published for "
