@@ -27,7 +27,7 @@ in :mod:`.crc`, :mod:`.webbook` and :mod:`.perry`):
     mean absolute value);
 ``Riedel``
     ΔvapH at Tb from Tb, Tc, Pc (L. Riedel, Chem. Ing. Tech. 26 (1954) 679; Perry's Handbook
-    eq. 2-?, "errors seldom surpass 5 %", read as a rectangular half-width: u = 5 %/√3), an
+    eq. 4-144 as cited by chemicals, "errors seldom surpass 5 %", read as a rectangular half-width: u = 5 %/√3), an
     estimate used only when nothing else has a value.
 
 Temperatures are at 1 atm (normal points); case files use them as the transition temperatures

@@ -30,7 +30,6 @@ The basis is recorded with each datum (``exact``, ``stated``, ``published``, ``s
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -204,4 +203,4 @@ def curve_uncertainty(chosen: CurveCandidate, others: list[CurveCandidate], wind
     return Uncertainty(ru, True, basis0, why0), spread
 
 
-_ = math
+

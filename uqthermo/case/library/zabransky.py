@@ -23,7 +23,6 @@ the worst class of the pieces it touches applies.
 from __future__ import annotations
 
 import functools
-import math
 
 import numpy as np
 
@@ -151,4 +150,4 @@ def window_class_u(c: CurveCandidate, lo: float, hi: float) -> float:
     return worst or (c.relative_u or 0.0)
 
 
-_ = math
+
