@@ -129,9 +129,9 @@ def _curve_rows(ident, window) -> list[list[str]]:
     lo, hi = window
     rows = []
     for ph in ("g", "l", "s"):
-        from .case.library.selection import _rank_of
+        from .case.library.selection import rank_of
 
-        cands = sorted(curve_candidates(ident.cas, ph), key=lambda c: _rank_of("heat_capacity", ph, c.source.key))
+        cands = sorted(curve_candidates(ident.cas, ph), key=lambda c: rank_of("heat_capacity", ph, c.source.key))
         if not cands:
             continue
         try:

@@ -69,7 +69,7 @@ def resolve_token(token: str):
     """
     from ..case.library.base import LibraryLookupError
     from ..case.library.formula import try_hill
-    from ..case.library.identify import _atct_only, identify, index
+    from ..case.library.identify import atct_only, identify
 
     hill = try_hill(token)
     if hill is None:
@@ -79,7 +79,7 @@ def resolve_token(token: str):
     except LibraryLookupError as e:
         if not e.candidates:
             raise
-        cands = [m for m in e.candidates if m.cas not in _atct_only()] or e.candidates
+        cands = [m for m in e.candidates if m.cas not in atct_only()] or e.candidates
         frags = _fragments(token)
         if not frags:
             raise
@@ -105,7 +105,6 @@ def resolve_token(token: str):
         note = (f"{token}: formula {hill} is shared by {len(cands)} species in the library; read as {m.name} "
                 f"(CAS {m.cas}) from its groups — check (others: "
                 + ", ".join(f"{c.name} {c.cas}" for c in others[:6]) + (" ..." if len(others) > 6 else "") + ")")
-        _ = index
         return ident, note
 
 

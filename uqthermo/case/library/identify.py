@@ -27,7 +27,7 @@ from dataclasses import dataclass
 from .base import LibraryLookupError, Match
 from .formula import CAS_RE, try_hill
 
-__all__ = ["Identity", "identify", "index", "cas_check_digit_ok", "suggest_names"]
+__all__ = ["Identity", "identify", "index", "cas_check_digit_ok", "suggest_names", "atct_only", "search"]
 
 
 @dataclass(frozen=True)
@@ -99,6 +99,11 @@ def _table_names() -> dict[str, tuple[str | None, str | None]]:
             if isinstance(nm, str) and str(cas) not in out:
                 out[str(cas)] = (nm.strip(), None)
     return out
+
+
+def atct_only() -> frozenset:
+    """CAS numbers listed by ATcT alone (isomers, radicals, ions): last resort for formula matches."""
+    return _atct_only()
 
 
 @functools.lru_cache(maxsize=1)

@@ -30,7 +30,7 @@ from .candidates import QUANTITY_UNITS, CurveCandidate, ScalarCandidate
 from .identify import Identity
 from .uncertainty import Uncertainty, curve_uncertainty, scalar_uncertainty
 
-__all__ = ["RANK", "Selection", "select_value", "select_curve", "QUANTITY_LABELS"]
+__all__ = ["RANK", "Selection", "select_value", "select_curve", "QUANTITY_LABELS", "rank_of"]
 
 RANK = {
     "formation_enthalpy": ("ATcT", "CODATA", "JANAF", "WebBook", "CRC", "API-TDB", "Yaws", "Joback"),
@@ -60,6 +60,11 @@ _REPORT = {"J/mol": ("kJ/mol", 1e-3), "J/(mol*K)": ("J/(mol*K)", 1.0), "K": ("K"
 def _rank_of(quantity: str, phase: str, key: str) -> int:
     order = RANK.get((quantity, phase)) or RANK.get(quantity) or ()
     return order.index(key) if key in order else len(order)
+
+
+def rank_of(quantity: str, phase: str, key: str) -> int:
+    """Position of source ``key`` in :data:`RANK` for a quantity and phase (unknown: last)."""
+    return _rank_of(quantity, phase, key)
 
 
 def _one_per_source(cands: list) -> list:
