@@ -111,47 +111,89 @@ class _Fmt:
     sup: bool = False
     small: bool = False
     grey: bool = False
+    size: float | None = None      # points
 
 
 def _squash(s: str) -> str:
     return re.sub(r"\s+", " ", s)
 
 
+W_NS = "http://schemas.openxmlformats.org/wordprocessingml/2006/main"
+TWIPS_PER_CM = 566.93
+
+
+def _esc(t: str) -> str:
+    return t.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+
+
+def _attr(t: str) -> str:
+    return _esc(t).replace('"', "&quot;")
+
+
 class _Writer:
+    """Writes the body as WordprocessingML text, parsed in one go (python-docx's per-element API is
+    slow for a few thousand table cells); pictures go through python-docx (they need image parts)."""
+
     def __init__(self, doc) -> None:
-        from docx.shared import Cm, Pt, RGBColor
+        from docx.shared import Cm
 
         self.doc = doc
-        self.Cm, self.Pt, self.RGB = Cm, Pt, RGBColor
+        self.Cm = Cm
         self.figures = 0
         self.tables = 0
+        self.buf: list[str] = []
+        self._style_ids: dict[str, str] = {}
+
+    # -- plumbing ------------------------------------------------------------
+    def style_id(self, name: str) -> str:
+        sid = self._style_ids.get(name)
+        if sid is None:
+            sid = self._style_ids[name] = self.doc.styles[name].style_id
+        return sid
+
+    def flush(self) -> None:
+        """Parse the buffered XML and put it at the end of the body (before the section properties)."""
+        if not self.buf:
+            return
+        from docx.oxml import parse_xml
+
+        body = parse_xml(f'<w:body xmlns:w="{W_NS}">' + "".join(self.buf) + "</w:body>")
+        anchor = self.doc.element.body.sectPr
+        for el in list(body):
+            if anchor is not None:
+                anchor.addprevious(el)
+            else:
+                self.doc.element.body.append(el)
+        self.buf.clear()
 
     # -- inline ------------------------------------------------------------
-    def runs(self, par, node: Any, fmt: _Fmt) -> None:
+    def runs(self, node: Any, fmt: _Fmt) -> str:
         if isinstance(node, str):
             t = _squash(node)
             if not t:
-                return
-            r = par.add_run(t)
-            r.bold = fmt.bold or None
-            r.italic = fmt.italic or None
+                return ""
+            pr = []
             if fmt.mono:
-                r.font.name = "Consolas"
-            if fmt.sub:
-                r.font.subscript = True
-            if fmt.sup:
-                r.font.superscript = True
-            if fmt.small:
-                r.font.size = self.Pt(8.5)
+                pr.append('<w:rFonts w:ascii="Consolas" w:hAnsi="Consolas" w:cs="Consolas"/>')
+            if fmt.bold:
+                pr.append("<w:b/>")
+            if fmt.italic:
+                pr.append("<w:i/>")
             if fmt.grey:
-                r.font.color.rgb = self.RGB(0x59, 0x63, 0x6E)
-            return
+                pr.append('<w:color w:val="59636E"/>')
+            if fmt.size:
+                pr.append(f'<w:sz w:val="{int(round(2 * fmt.size))}"/><w:szCs w:val="{int(round(2 * fmt.size))}"/>')
+            elif fmt.small:
+                pr.append('<w:sz w:val="17"/><w:szCs w:val="17"/>')
+            if fmt.sub or fmt.sup:
+                pr.append(f'<w:vertAlign w:val="{"subscript" if fmt.sub else "superscript"}"/>')
+            rpr = f"<w:rPr>{''.join(pr)}</w:rPr>" if pr else ""
+            return f'<w:r>{rpr}<w:t xml:space="preserve">{_esc(t)}</w:t></w:r>'
         tag = node.tag
         if tag in ("wbr", "script", "style"):
-            return
+            return ""
         if tag == "br":
-            par.add_run().add_break()
-            return
+            return "<w:r><w:br/></w:r>"
         f = _Fmt(**fmt.__dict__)
         if tag in ("b", "strong"):
             f.bold = True
@@ -164,39 +206,37 @@ class _Writer:
         elif tag == "sup":
             f.sup = True
         if "badge" in node.cls():
-            par.add_run(" [")
-            for c in node.children:
-                self.runs(par, c, _Fmt(italic=True, small=True))
-            par.add_run("]")
-            return
-        for c in node.children:
-            self.runs(par, c, f)
+            inner = "".join(self.runs(c, _Fmt(italic=True, small=True)) for c in node.children)
+            return self.runs(" [", fmt) + inner + self.runs("]", fmt)
+        return "".join(self.runs(c, f) for c in node.children)
 
-    def paragraph(self, node: Node, style: str | None = None, fmt: _Fmt | None = None):
-        p = self.doc.add_paragraph(style=style)
-        for c in node.children:
-            self.runs(p, c, fmt or _Fmt())
-        return p
+    def p_xml(self, runs: str, style: str | None = None, align: str | None = None, keep_next: bool = False) -> str:
+        ppr = ""
+        if style:
+            ppr += f'<w:pStyle w:val="{_attr(self.style_id(style))}"/>'
+        if keep_next:
+            ppr += "<w:keepNext/>"
+        if align:
+            ppr += f'<w:jc w:val="{align}"/>'
+        return f"<w:p>{'<w:pPr>' + ppr + '</w:pPr>' if ppr else ''}{runs}</w:p>"
+
+    def paragraph(self, node: Node, style: str | None = None, fmt: _Fmt | None = None) -> None:
+        self.buf.append(self.p_xml("".join(self.runs(c, fmt or _Fmt()) for c in node.children), style))
 
     # -- blocks ------------------------------------------------------------
     def block(self, node: Any) -> None:
         if isinstance(node, str):
             if node.strip():
-                p = self.doc.add_paragraph()
-                self.runs(p, node, _Fmt())
+                self.buf.append(self.p_xml(self.runs(node, _Fmt())))
             return
         tag, cls = node.tag, node.cls()
         if tag in ("head", "style", "script", "nav", "title", "meta", "link"):
             return
         if tag == "h1":
-            p = self.doc.add_paragraph(style="Title")
-            self.runs(p, Node("x", children=node.children), _Fmt())
+            self.paragraph(node, "Title")
             return
         if tag in ("h2", "h3", "h4", "h5"):
-            level = {"h2": 1, "h3": 2, "h4": 3, "h5": 4}[tag]
-            h = self.doc.add_heading(level=level)
-            for c in node.children:
-                self.runs(h, c, _Fmt())
+            self.paragraph(node, f"Heading {int(tag[1]) - 1}")
             return
         if tag == "p":
             if "stmt" in cls:
@@ -211,9 +251,7 @@ class _Writer:
             for li in node.children:
                 if isinstance(li, Node) and li.tag == "li":
                     inner = [c for c in li.children if not (isinstance(c, Node) and c.tag in ("ul", "ol"))]
-                    p = self.doc.add_paragraph(style=style)
-                    for c in inner:
-                        self.runs(p, c, _Fmt())
+                    self.buf.append(self.p_xml("".join(self.runs(c, _Fmt()) for c in inner), style))
                     for c in li.children:
                         if isinstance(c, Node) and c.tag in ("ul", "ol"):
                             self.block(c)
@@ -248,29 +286,50 @@ class _Writer:
         for c in node.children:
             self.block(c)
 
+    def table_xml(self, rows: list[list[str]], widths_cm: list[float], header_rows: int = 0,
+                  fills: list[str | None] | None = None) -> str:
+        """A Table Grid table; ``rows`` hold each cell's paragraph XML."""
+        grid = "".join(f'<w:gridCol w:w="{int(w * TWIPS_PER_CM)}"/>' for w in widths_cm)
+        out = [f'<w:tbl><w:tblPr><w:tblStyle w:val="{_attr(self.style_id("Table Grid"))}"/><w:tblW w:w="0" w:type="auto"/>'
+               f'<w:tblLayout w:type="fixed"/><w:tblLook w:val="04A0" w:firstRow="1" w:lastRow="0" w:firstColumn="1" '
+               f'w:lastColumn="0" w:noHBand="0" w:noVBand="1"/></w:tblPr><w:tblGrid>{grid}</w:tblGrid>']
+        for i, row in enumerate(rows):
+            trpr = "<w:trPr><w:tblHeader/></w:trPr>" if i < header_rows else ""
+            out.append(f"<w:tr>{trpr}")
+            fill = (fills[i] if fills else None) or ("EEF1F4" if i < header_rows else None)
+            for j, cell in enumerate(row):
+                shd = f'<w:shd w:val="clear" w:color="auto" w:fill="{fill}"/>' if fill else ""
+                w = widths_cm[j] if j < len(widths_cm) else widths_cm[-1]
+                out.append(f'<w:tc><w:tcPr><w:tcW w:w="{int(w * TWIPS_PER_CM)}" w:type="dxa"/>{shd}</w:tcPr>'
+                           f"{cell or '<w:p/>'}</w:tc>")
+            out.append("</w:tr>")
+        out.append("</w:tbl>")
+        return "".join(out)
+
     def callout(self, node: Node, critical: bool, formula: bool) -> None:
-        t = self.doc.add_table(rows=1, cols=1)
-        t.style = self.doc.styles["Table Grid"]
-        cell = t.rows[0].cells[0]
-        _shade(cell, "F6F8FA" if formula else ("FFEBE9" if critical else "FFF8C5"))
-        first = cell.paragraphs[0]
-        used = False
+        paras, inline = [], []
+
+        def close() -> None:            # consecutive inline content is one paragraph
+            text = "".join(inline)
+            if text:
+                paras.append(self.p_xml(text))
+            inline.clear()
+
         for c in node.children:
             if isinstance(c, Node) and c.tag in ("ul", "ol"):
+                close()
                 for li in c.children:
                     if isinstance(li, Node) and li.tag == "li":
-                        p = first if not used else cell.add_paragraph()
-                        used = True
-                        p.add_run("• ")
-                        for cc in li.children:
-                            self.runs(p, cc, _Fmt())
-            elif isinstance(c, str) and not c.strip():
-                continue
+                        paras.append(self.p_xml(self.runs("• ", _Fmt()) + "".join(self.runs(cc, _Fmt()) for cc in li.children)))
+            elif isinstance(c, Node) and c.tag in ("p", "div"):
+                close()
+                paras.append(self.p_xml("".join(self.runs(cc, _Fmt()) for cc in c.children)))
             else:
-                p = first if not used else cell.add_paragraph()
-                used = True
-                self.runs(p, c, _Fmt(mono=formula))
-        self.doc.add_paragraph()
+                inline.append(self.runs(c, _Fmt()))
+        close()
+        fill = "F6F8FA" if formula else ("FFEBE9" if critical else "FFF8C5")
+        self.buf.append(self.table_xml([["".join(paras)]], [PAGE_W_CM - 2 * MARGIN_CM], fills=[fill]))
+        self.buf.append("<w:p/>")
 
     def deflist(self, node: Node) -> None:
         pairs, dt = [], None
@@ -282,68 +341,37 @@ class _Writer:
                 dt = None
         if not pairs:
             return
-        t = self.doc.add_table(rows=0, cols=2)
-        t.style = self.doc.styles["Table Grid"]
-        for a, b in pairs:
-            row = t.add_row().cells
-            p = row[0].paragraphs[0]
-            if a is not None:
-                for c in a.children:
-                    self.runs(p, c, _Fmt(bold=True, small=True))
-            p = row[1].paragraphs[0]
-            for c in b.children:
-                self.runs(p, c, _Fmt(small=True))
-        self.doc.add_paragraph()
+        rows = [[self.p_xml("".join(self.runs(c, _Fmt(bold=True, small=True)) for c in (a.children if a else []))),
+                 self.p_xml("".join(self.runs(c, _Fmt(small=True)) for c in b.children))] for a, b in pairs]
+        total = PAGE_W_CM - 2 * MARGIN_CM
+        self.buf.append(self.table_xml(rows, [0.35 * total, 0.65 * total]))
+        self.buf.append("<w:p/>")
 
     def table(self, node: Node) -> None:
-        from docx.enum.table import WD_TABLE_ALIGNMENT
-        from docx.enum.text import WD_ALIGN_PARAGRAPH
-        from docx.oxml import OxmlElement
-        from docx.oxml.ns import qn
-
         caption = next((c for c in node.children if isinstance(c, Node) and c.tag == "caption"), None)
-        rows = [tr for tr in node.find_all("tr")]
-        if not rows:
+        trs = node.find_all("tr")
+        if not trs:
             return
         if caption is not None:
-            p = self.doc.add_paragraph(style="Caption")
-            for c in caption.children:
-                self.runs(p, c, _Fmt())
-            p.paragraph_format.keep_with_next = True
-        grid = [[c for c in tr.children if isinstance(c, Node) and c.tag in ("td", "th")] for tr in rows]
+            self.buf.append(self.p_xml("".join(self.runs(c, _Fmt()) for c in caption.children), "Caption", keep_next=True))
+        grid = [[c for c in tr.children if isinstance(c, Node) and c.tag in ("td", "th")] for tr in trs]
         ncols = max(len(r) for r in grid)
-        t = self.doc.add_table(rows=0, cols=ncols)
-        t.style = self.doc.styles["Table Grid"]
-        t.alignment = WD_TABLE_ALIGNMENT.LEFT
-        size = self.Pt(7.5 if ncols >= 8 else (8.5 if ncols >= 5 else 9.5))
-        head_rows = {id(tr) for th in node.find_all("thead") for tr in th.find_all("tr")}
-        widths = _column_widths(grid, ncols, PAGE_W_CM - 2 * MARGIN_CM)
-        t.autofit = False
-        for j, col in enumerate(t.columns):       # the grid (LibreOffice) and each cell (Word) carry the width
-            col.width = self.Cm(widths[j])
-        for tr, cells in zip(rows, grid):
-            row = t.add_row()
-            header = id(tr) in head_rows
-            if header:
-                trPr = row._tr.get_or_add_trPr()
-                el = OxmlElement("w:tblHeader")
-                el.set(qn("w:val"), "true")
-                trPr.append(el)
-            for j in range(ncols):
-                row.cells[j].width = self.Cm(widths[j])
-            if header:
-                for j in range(ncols):
-                    _shade(row.cells[j], "EEF1F4")
-            for j, c in enumerate(cells[:ncols]):
-                p = row.cells[j].paragraphs[0]
-                for cc in c.children:
-                    self.runs(p, cc, _Fmt(bold=header or c.tag == "th"))
-                for r in p.runs:
-                    r.font.size = size
-                if "r" in c.cls():
-                    p.alignment = WD_ALIGN_PARAGRAPH.RIGHT
+        size = 7.5 if ncols >= 8 else (8.5 if ncols >= 5 else 9.5)
+        head = {id(tr) for th in node.find_all("thead") for tr in th.find_all("tr")}
+        n_head = sum(1 for tr in trs if id(tr) in head)
+        rows = []
+        for tr, cells in zip(trs, grid):
+            header = id(tr) in head
+            row = []
+            for c in cells[:ncols]:
+                runs = "".join(self.runs(cc, _Fmt(bold=header or c.tag == "th", size=size)) for cc in c.children)
+                row.append(self.p_xml(runs, align="right" if "r" in c.cls() else None))
+            row += ["<w:p/>"] * (ncols - len(row))
+            rows.append(row)
+        order = [r for tr, r in zip(trs, rows) if id(tr) in head] + [r for tr, r in zip(trs, rows) if id(tr) not in head]
+        self.buf.append(self.table_xml(order, _column_widths(grid, ncols, PAGE_W_CM - 2 * MARGIN_CM), header_rows=n_head))
+        self.buf.append("<w:p/>")
         self.tables += 1
-        self.doc.add_paragraph()
 
     def figure(self, node: Node) -> None:
         from docx.enum.text import WD_ALIGN_PARAGRAPH
@@ -351,19 +379,17 @@ class _Writer:
         img = next(iter(node.find_all("img")), None)
         if img is None:
             return
-        src = img.attrs.get("src", "")
-        m = re.match(r"data:image/png;base64,(.*)$", src, re.S)
+        m = re.match(r"data:image/png;base64,(.*)$", img.attrs.get("src", ""), re.S)
         if not m:
             return
-        data = base64.b64decode(m.group(1))
-        self.doc.add_picture(io.BytesIO(data), width=self.Cm(PAGE_W_CM - 2 * MARGIN_CM))
-        self.doc.paragraphs[-1].alignment = WD_ALIGN_PARAGRAPH.CENTER
-        self.doc.paragraphs[-1].paragraph_format.keep_with_next = True
+        self.flush()
+        self.doc.add_picture(io.BytesIO(base64.b64decode(m.group(1))), width=self.Cm(PAGE_W_CM - 2 * MARGIN_CM))
+        last = self.doc.paragraphs[-1]
+        last.alignment = WD_ALIGN_PARAGRAPH.CENTER
+        last.paragraph_format.keep_with_next = True
         cap = next(iter(node.find_all("figcaption")), None)
         if cap is not None:
-            p = self.doc.add_paragraph(style="Caption")
-            for c in cap.children:
-                self.runs(p, c, _Fmt())
+            self.buf.append(self.p_xml("".join(self.runs(c, _Fmt()) for c in cap.children), "Caption"))
         self.figures += 1
 
 
@@ -377,17 +403,6 @@ def _column_widths(grid: list[list[Node]], ncols: int, total_cm: float) -> list[
     floor = min(1.4, total_cm / ncols)
     scale = (total_cm - floor * ncols) / sum(need) if sum(need) else 0.0
     return [floor + scale * x for x in need]
-
-
-def _shade(cell, fill: str) -> None:
-    from docx.oxml import OxmlElement
-    from docx.oxml.ns import qn
-
-    shd = OxmlElement("w:shd")
-    shd.set(qn("w:val"), "clear")
-    shd.set(qn("w:color"), "auto")
-    shd.set(qn("w:fill"), fill)
-    cell._tc.get_or_add_tcPr().append(shd)
 
 
 def _date(text: str) -> _dt.datetime | None:
@@ -439,6 +454,7 @@ def html_to_docx(page: str, results: Mapping | None = None) -> bytes:
     body = next(iter(root.find_all("main")), None) or next(iter(root.find_all("body")), None) or root
     for c in body.children:
         w.block(c)
+    w.flush()
     out = io.BytesIO()
     doc.save(out)
     return out.getvalue()
