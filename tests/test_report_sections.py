@@ -143,6 +143,8 @@ def expected(doc, num: dict) -> float:
         return (hi - lo) / 2
     if op == "ratio":
         return val(paths[0]) / val(paths[1])
+    if op == "product":
+        return val(paths[0]) * val(paths[1])
     if op == "sum_percent":
         return 100 * sum(val(p) for p in paths)
     if op == "rss":
@@ -368,7 +370,8 @@ def _budget_results() -> dict:
     rows.sort(key=lambda r: -r["variance"])
     budget = {"method": "linear", "unit": "kJ/mol", "variance": var, "standard_uncertainty": math.sqrt(var), "rows": rows,
               "covariance_rows": [{"between": ["X1", "X2"], "correlation": 0.5, "variance": cov, "share": cov / var}]}
-    pt = {"temperature_K": 500.0, "linear": {"estimate": -5.0, "standard_uncertainty": math.sqrt(var)},
+    pt = {"temperature_K": 500.0, "linear": {"estimate": -5.0, "standard_uncertainty": math.sqrt(var),
+                                             "coverage_factor": 1.959963984540054},
           "coverage_probability": 0.95, "budget": budget, "drivers": []}
     return {"format": "uqthermo.results/1", "case": {"title": "budget test"}, "display_units": {"temperature": "degC"},
             "outputs": [{"name": "y", "kind": "reaction_enthalpy", "unit": "kJ/mol", "points": [pt]}], "warnings": []}

@@ -131,15 +131,27 @@ def statement(results: Mapping, oi: int, tunit: str = "K") -> Statement:
         st.method = "linear"
         U, kf = num(lin.get("expanded_uncertainty")), num(lin.get("coverage_factor"))
         u = num(lin.get("standard_uncertainty"))
-        if U is None and kf is not None:
+        U_num = None
+        if U is not None:
+            U_num = lambda dec: N.value(U, dec, N.path(base, "linear", "expanded_uncertainty"))  # noqa: E731
+        elif kf is not None:
             U = kf * u
-        dU = uncertainty_decimals(U)
+            U_num = lambda dec: Num(fmt_fixed(U, dec), N.path(base, "linear", "coverage_factor") + " "  # noqa: E731
+                                    + N.path(base, "linear", "standard_uncertainty"), "product")
         nu = lin.get("effective_dof")
         nu_s = "∞" if num(nu) is None or num(nu) > 1e6 else str(int(round(num(nu))))
-        st.parts = [*sym, " = ", N.value(lin.get("estimate"), dU, N.path(base, "linear", "estimate")), unit, ", U = ",
-                    N.value(U, dU, N.path(base, "linear", "expanded_uncertainty")), unit,
-                    " (k = ", N.value(kf, 2, N.path(base, "linear", "coverage_factor")), ", ", lab, ", linear propagation (GUM), ν_eff = ",
-                    Num(nu_s, N.path(base, "linear", "effective_dof"), "dof") if nu_s != "∞" else "∞", ")"]
+        if U_num is not None:
+            dU = uncertainty_decimals(U)
+            st.parts = [*sym, " = ", N.value(lin.get("estimate"), dU, N.path(base, "linear", "estimate")), unit, ", U = ",
+                        U_num(dU), unit, " (k = ", N.value(kf if kf is not None else U / u, 2,
+                                                             N.path(base, "linear", "coverage_factor")),
+                        ", ", lab, ", linear propagation (GUM), ν_eff = ",
+                        Num(nu_s, N.path(base, "linear", "effective_dof"), "dof") if nu_s != "∞" else "∞", ")"]
+        else:       # no coverage factor in the results: state y and u(y) (GUM 7.2.2)
+            d = uncertainty_decimals(u)
+            st.parts = [*sym, " = ", N.value(lin.get("estimate"), d, N.path(base, "linear", "estimate")), unit,
+                        ", u(y) = ", N.value(u, d, N.path(base, "linear", "standard_uncertainty")), unit,
+                        " (standard uncertainty, linear propagation (GUM))"]
         d = uncertainty_decimals(u)
         st.details.append(["u(y) = ", N.value(u, d, N.path(base, "linear", "standard_uncertainty")), unit])
     else:
