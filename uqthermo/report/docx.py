@@ -457,6 +457,21 @@ def html_to_docx(page: str, results: Mapping | None = None) -> bytes:
     w.flush()
     out = io.BytesIO()
     doc.save(out)
+    return _fixed_zip(out.getvalue())
+
+
+def _fixed_zip(data: bytes) -> bytes:
+    """The same .docx with fixed member timestamps, so the same results give the same bytes."""
+    import zipfile
+
+    src = zipfile.ZipFile(io.BytesIO(data))
+    out = io.BytesIO()
+    with zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as dst:
+        for info in src.infolist():
+            zi = zipfile.ZipInfo(info.filename, date_time=(1980, 1, 1, 0, 0, 0))
+            zi.compress_type = zipfile.ZIP_DEFLATED
+            zi.external_attr = 0o644 << 16
+            dst.writestr(zi, src.read(info.filename))
     return out.getvalue()
 
 
