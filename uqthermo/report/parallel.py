@@ -47,6 +47,14 @@ def workers(n_items: int, processes: int | None = None) -> int:
     return max(1, min(processes, n_items))
 
 
+def _worker_init() -> None:
+    """Workers leave signals to the parent: Ctrl-C is the parent's to handle, SIGTERM ends them quietly."""
+    import signal
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+
+
 def _run(i: int):
     specs, fn = _JOB
     return i, fn(specs[i])
@@ -66,8 +74,13 @@ def render_all(specs: Sequence[Any], fn: Callable[[Any], Any], processes: int | 
         _JOB = (specs, fn)
         try:
             ctx = mp.get_context("fork")
-            with ctx.Pool(n) as pool:
+            pool = ctx.Pool(n, initializer=_worker_init)
+            try:
                 done = dict(pool.map_async(_run, order, chunksize=1).get(timeout=TIMEOUT_S))
+                pool.close()            # orderly exit: the workers finish and leave
+            finally:
+                pool.terminate()
+                pool.join()
             return [done[i] for i in range(len(specs))]
         except (OSError, mp.TimeoutError, RuntimeError, ValueError, EOFError):
             pass        # fall back to drawing here
