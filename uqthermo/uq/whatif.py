@@ -32,9 +32,12 @@ independent replicates of n/h rows (for Sobol' sampling h independently scramble
 :func:`uqthermo.uq.montecarlo.batch_seed` — randomised quasi-Monte Carlo, Owen 1997; the same
 batches as the adaptive procedure of JCGM 101 §7.9). Every scenario is evaluated on all of
 them; the change ΔU = U_scenario − U_now is computed per replicate b (common random numbers
-inside each replicate) and its standard error is ``s(ΔU_b) / √h`` (JCGM 101 §7.9.4: the
-standard deviation of the average of h batch results). The reported U are those of the pooled
-n rows. A change smaller than twice its standard error is *not measurable* at this sample size
+inside each replicate); the reported change is their average and its standard error
+``s(ΔU_b) / √h`` (JCGM 101 §7.9.4: the standard deviation of the average of h batch results), so
+U_scenario = U_now + mean ΔU_b with U_now, u and the intervals from the pooled n rows. (A
+pooled quantile would not average a small perturbation down: it rests on the few rows near the
+interval's ends.) A change smaller than k standard errors, k = max(2, t_0.975(h − 1)) (2.36 for h = 8, the
+Student-t factor the adaptive procedure uses too), is *not measurable* at this sample size
 (``measurable`` false): the report says "no measurable change" instead of printing noise.
 Linear what-if values are exact (standard error 0).
 
@@ -277,15 +280,26 @@ class WhatIfResult:
     U_se: np.ndarray | None = None
     batches: int | None = None
 
-    #: a change is measurable when |ΔU| ≥ MEASURABLE_SE standard errors (two: about a 95 % test)
+    #: a change is measurable when |ΔU| ≥ k standard errors, k = max(MEASURABLE_SE, t_0.975(h − 1))
+    #: for h replicates (2.36 for h = 8): at least two standard errors, and a two-sided 95 % test
+    #: that allows for the few degrees of freedom of the standard error
     MEASURABLE_SE = 2.0
+
+    def measurable_factor(self) -> float:
+        """k of :meth:`change` (``MEASURABLE_SE`` without replicates)."""
+        if not self.batches or self.batches < 2:
+            return self.MEASURABLE_SE
+        from scipy import stats
+
+        return max(self.MEASURABLE_SE, float(stats.t.ppf(0.975, self.batches - 1)))
 
     def change(self, s: int, m: int) -> tuple[float | None, bool]:
         """Standard error of ΔU = U[s, m] − U_now[m] and whether the change is measurable.
 
         Linear (exact): standard error 0, measurable when ΔU is not zero to rounding
-        (|ΔU| > 1e-9 U_now). Monte Carlo: measurable when |ΔU| ≥ 2 standard errors; without a
-        standard error (``batches`` < 2) the standard error is None and every change counts.
+        (|ΔU| > 1e-9 U_now). Monte Carlo: measurable when |ΔU| ≥ k standard errors
+        (:meth:`measurable_factor`, at least 2); without a standard error (``batches`` < 2) the
+        standard error is None and every change counts.
         """
         d = float(self.U[s, m] - self.U_now[m])
         if self.method == "linear":
@@ -293,7 +307,7 @@ class WhatIfResult:
         if self.U_se is None:
             return None, True
         se = float(self.U_se[s, m])
-        return se, abs(d) >= self.MEASURABLE_SE * se and d != 0.0
+        return se, abs(d) >= self.measurable_factor() * se and d != 0.0
 
     def rows(self, m: int, scale: float = 1.0) -> list[dict]:
         """Per-datum table rows for output column ``m`` (the contract's ``"whatif"`` list).
@@ -579,6 +593,7 @@ def _what_if_mc(f, inputs, scenarios, fmaps, A, coverage, n, sampling, seed, sca
         Ub = np.asarray(Ub)                                   # (S + 1, batches, M)
         dU = Ub[1:] - Ub[:1]                                  # per-replicate changes (S, batches, M)
         U_se = dU.std(axis=1, ddof=1) / np.sqrt(batches)
+        dU_mean = dU.mean(axis=1)                             # (S, M)
         u_now, iv_now = res[0]
         res = res[1:]
         n = m * batches
@@ -592,6 +607,11 @@ def _what_if_mc(f, inputs, scenarios, fmaps, A, coverage, n, sampling, seed, sca
     interval = np.array([r[1] for r in res]).reshape(S, M, 2)
     U = 0.5 * (interval[..., 1] - interval[..., 0])
     U_now = 0.5 * (iv_now[:, 1] - iv_now[:, 0])
+    if U_se is not None:
+        # the change is the mean of the replicates' changes (its standard error is U_se); a
+        # pooled quantile would not average a small perturbation down (it rests on the few rows
+        # near the interval's ends), so U = U_now + mean ΔU_b
+        U = U_now[None, :] + dU_mean
     return WhatIfResult("monte-carlo", coverage, list(scenarios), fmaps, u_now, U_now, iv_now, u, U, interval,
                         samples=n, seed=seed, sampling=sampling, scaling=scaling,
                         U_se=None if U_se is None else U_se.reshape(S, M), batches=batches if U_se is not None else None)
