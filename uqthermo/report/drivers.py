@@ -53,15 +53,20 @@ def driver_rows(point: Mapping, max_data: int | None = None, skip_zero: bool = F
     prints as 0.0 % go into that row too, and an "others" row that prints as 0.0 % is left out.
     """
     drivers = [d for d in point.get("drivers") or [] if isinstance(d, Mapping) and num(d.get("share")) is not None]
-    named = [d for d in drivers if not (skip_zero and share_text(float(num(d["share"]))) == "0.0")
-             and not (skip_zero and d.get("share_ci") and share_text(float(num(d["share_ci"][1]))) == "0.0")]
+    def zero(d) -> bool:
+        ci = d.get("share_ci")
+        hi = num(ci[1]) if isinstance(ci, (list, tuple)) and len(ci) == 2 else None
+        return share_text(float(num(d["share"]))) == "0.0" and (hi is None or share_text(hi) == "0.0")
+
+    named = [d for d in drivers if not (skip_zero and zero(d))]
     shown = named if max_data is None else named[:max_data]
     ids = {id(d) for d in shown}
     rest = [d for d in drivers if id(d) not in ids]
     out = []
     for d in shown:
         ci = d.get("share_ci")
-        ci = (float(ci[0]), float(ci[1])) if isinstance(ci, (list, tuple)) and len(ci) == 2 and None not in ci else None
+        ci = ((float(num(ci[0])), float(num(ci[1]))) if isinstance(ci, (list, tuple)) and len(ci) == 2
+              and num(ci[0]) is not None and num(ci[1]) is not None else None)
         out.append(DriverRow(text(d.get("datum")), float(num(d["share"])), "datum", ci))
     if rest:
         total = float(sum(num(d["share"]) for d in rest))
