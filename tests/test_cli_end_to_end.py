@@ -71,7 +71,8 @@ def check_contract_keys(doc: dict, samples: int, share_range: bool = True) -> No
             for d in drivers:
                 assert isinstance(d["datum"], str) and d["datum"], where
                 assert _num(d["share"]), (where, d)
-                if share_range:
+                if share_range and not any(c["share"] < 0 for c in pt.get("covariance_terms") or []):
+                    # above 1 only beside negative covariance rows (JCGM 100 §5.2.2)
                     assert -1e-9 <= d["share"] <= 1 + 1e-9, (where, d)
             shares = [d["share"] for d in drivers]
             assert shares == sorted(shares, reverse=True), f"{where}: drivers not sorted, largest first: {shares}"
