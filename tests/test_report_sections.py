@@ -113,8 +113,10 @@ def shown(text: str) -> tuple[float, int]:
     if "e" in s:
         mant = s.split("e")[0]
         dec = (len(mant.split(".")[1]) if "." in mant else 0) - int(s.split("e")[1])
-    else:
-        dec = len(s.split(".")[1]) if "." in s else 0
+    elif "." in s:
+        dec = len(s.split(".")[1])
+    else:                       # an integer rounded to significant digits: 1250 is 1247.4 to three digits
+        dec = -(len(s) - len(s.rstrip("0"))) if s.strip("-0") else 0
     return float(s), dec
 
 
@@ -383,7 +385,7 @@ def test_budget_table_and_csv_from_the_budget_block(tmp_path):
     # GUM 5.2.2: rows and covariance rows add up to u²(y)
     assert sum(r["variance"] for r in b["rows"]) + sum(r["variance"] for r in b["covariance_rows"]) == pytest.approx(b["variance"])
     t = bud.budget_table(res["outputs"][0], 0, 0, "budget-y", "y")
-    assert t.columns[4] == "Sensitivity coefficient c_i" and t.columns[5].startswith("Contribution c_i·u(x_i)")
+    assert t.columns[4] == "Sensitivity c_i" and t.columns[5].startswith("Contribution c_i·u(x_i)")
     names = [str(r[0]) for r in t.rows]
     assert names[:3] == ["X1", "X2", "X3"]     # X3 is beyond 99 %, but a single leftover row is listed, not summarised
     assert any(n.startswith("correlation r(X1, X2) = 0.5") for n in names)

@@ -190,6 +190,8 @@ section.concise h2 { margin-top: .8em; }
 .statement .stmt { font-size: 1.04rem; font-weight: 600; margin: 0 0 .25em; font-variant-numeric: tabular-nums; }
 .statement .detail { font-size: .86rem; color: var(--muted); margin: .1em 0; }
 .budget { margin: 0 0 8px; }
+section.concise thead th { white-space: normal; vertical-align: bottom; }
+section.concise td.l { white-space: normal; }
 .budget h4 { color: var(--ink); }
 h3.app { font-size: 1.15rem; margin-top: 1.8em; padding-bottom: .2em; border-bottom: 1px solid var(--rule); }
 h4.output-head { font-size: 1.02rem; color: var(--ink); margin-top: 1.6em; }

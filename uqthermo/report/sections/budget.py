@@ -61,7 +61,7 @@ def budget_table(output: Mapping, oi: int, k: int, key: str, slug: str, label: s
     b = p.get("budget") if has_budget(p) else None
     unit = text((b or {}).get("unit")) or text(output.get("unit")) or "1"
     ustr = "" if unit in ("", "1") else f" / {unit}"
-    cols = ["Input quantity X_i", "Estimate x_i", "u(x_i)", "Unit of x_i", "Sensitivity coefficient c_i",
+    cols = ["Input quantity X_i", "Estimate x_i", "u(x_i)", "Unit of x_i", "Sensitivity c_i",
             f"Contribution c_i·u(x_i){ustr}", "Share of u²(y) / %", "ν_i"]
     t = DisplayTable(key, f"GUM uncertainty budget of {text(output.get('name'))}{label}", cols,
                      ["l", "r", "r", "w", "r", "r", "r", "r"])
