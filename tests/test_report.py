@@ -317,11 +317,12 @@ def test_markdown_summary_and_drivers_equal_results_json(md, results):
                 check_interval(r[3], [100 * dv["share_ci"][0], 100 * dv["share_ci"][1]], 1, "share CI")
         # covariance terms between correlated data: their own signed rows (JCGM 100 §5.2.2), and
         # the rows sum to 100 %
-        for r, c in zip(rows[len(drivers):], p.get("covariance_terms") or []):
+        for r, c in zip(rows[len(drivers) + (1 if rest else 0):], p.get("covariance_terms") or []):
             assert r[1] == f"covariance {c['between'][0]} ~ {c['between'][1]}"
             check_number(r[2], 100 * c["share"], 1, "covariance share")
         if p.get("drivers_method") == "linear":
-            total = sum(d["share"] for d in drivers) + sum(c["share"] for c in p.get("covariance_terms") or [])
+            total = (sum(d["share"] for d in drivers) + sum(d["share"] for d in rest)
+                     + sum(c["share"] for c in p.get("covariance_terms") or []))
             assert total == pytest.approx(1.0, abs=2e-3)
         # what-if, at the decimal position of the point's linear u
         (hdr, rows), = table(tables, f"What-if: expanded uncertainty U (95 %) at T = {T} K")
