@@ -21,10 +21,10 @@ from collections.abc import Callable, Mapping
 from typing import Any
 
 from ..tables import (
-    DisplayTable, coverage_probability, fmt_fixed, fmt_sig, headline_index, kind_label, num, outputs, pct_label, points,
+    DisplayTable, coverage_probability, fmt_fixed, headline_index, kind_label, num, outputs, pct_label, points,
     slugs, text, uncertainty_decimals,
 )
-from ..units import limit_text, symbol, temperature_unit
+from ..units import fmt_T, symbol, temperature_unit
 from . import budget as bud
 from . import kirchhoff as kh
 from . import numbers as N
@@ -98,7 +98,8 @@ def design_table(results: Mapping, key: str, tunit: str) -> DisplayTable:
         d = uncertainty_decimals((p.get("monte_carlo") or {}).get("standard_uncertainty")
                                  or (p.get("linear") or {}).get("standard_uncertainty"))
         name = text(o.get("name"))
-        basis = "Monte Carlo quantile" if (p.get("margins") or {}).get("basis", "").startswith("Monte") or p.get("monte_carlo") else "linear (normal) approximation"
+        basis = ("Monte Carlo quantile" if str((p.get("margins") or {}).get("basis") or "").startswith("Monte")
+                 or p.get("monte_carlo") else "linear (normal) approximation")
         sym = symbol_of(o)
 
         def row(label, value, basis_text=""):
@@ -182,8 +183,6 @@ def concise_context(results: Mapping, table: Callable[[DisplayTable], dict], fig
             continue
         k = headline_index(o)
         p = pts[k]
-        from ..units import fmt_T
-
         label = f" at {fmt_T(p.get('temperature_K'), tunit)}" if num(p.get("temperature_K")) is not None else ""
         if bud.has_budget(p):
             tb = bud.budget_table(o, oi, k, f"budget-{slug}", slug, label)
