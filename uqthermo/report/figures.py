@@ -589,10 +589,14 @@ def render_figure(spec: FigureSpec) -> RenderedFigure:
         fig = spec.draw()
         try:
             png, svg = io.BytesIO(), io.BytesIO()
+            # the layout is computed once and frozen: savefig would otherwise draw the whole figure
+            # an extra time per format just to run the layout engine; PNG and SVG are the same drawing
+            engine = fig.get_layout_engine()
+            if engine is not None:
+                engine.execute(fig)
+                fig.set_layout_engine(None)     # no engine at all: savefig then skips its layout pre-draw
             fig.savefig(png, format="png", dpi=style.PNG_DPI, metadata={"Software": "uqthermo"},
                         pil_kwargs={"compress_level": style.PNG_COMPRESS_LEVEL})
-            # the layout is computed once, for the PNG, and then frozen: the SVG is the same drawing
-            fig.set_layout_engine("none")
             fig.savefig(svg, format="svg", metadata={"Creator": "uqthermo", "Date": None})
         finally:
             plt.close(fig)
