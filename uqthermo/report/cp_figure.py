@@ -144,7 +144,7 @@ def _panel(ax, entry: Mapping, k: float, marks: dict) -> None:
                 fontsize=6.8, color=style.GREY)
     pad = 0.12 * (ymax - ymin if ymax > ymin else max(abs(ymax), 1.0))
     ax.set_ylim(ymin - pad, ymax + 1.6 * pad)
-    ax.legend(loc="best", fontsize=7, handlelength=1.4, borderpad=0.25)
+    ax.legend(loc="upper left" if _rising(entry) else "lower left", fontsize=7, handlelength=1.4, borderpad=0.25)
     ax.set_xlim(lo_all, hi_all)
     ax.set_xlabel("T / K", fontsize=8.5)
     ax.set_ylabel("Cₚ / (J/(mol·K))", fontsize=8.5)
@@ -152,3 +152,12 @@ def _panel(ax, entry: Mapping, k: float, marks: dict) -> None:
 
 
 __all__ = ["draw", "figure_groups", "caption", "curves", "PANELS_PER_FIGURE"]
+
+
+def _rising(entry: Mapping) -> bool:
+    """Whether Cp rises over the panel (the legend then goes top left, where the curves are low)."""
+    first = [p for p in entry.get("phases") or [] if p.get("cp")]
+    if not first:
+        return True
+    a, b = first[0]["cp"][0], first[-1]["cp"][-1]
+    return a is None or b is None or b >= a
