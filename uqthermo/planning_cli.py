@@ -13,29 +13,44 @@ def _fmt(x, digits: int = 3) -> str:
 
 
 def run_plan(args) -> int:
+    import math
+
+    if args.budget is not None and not (math.isfinite(args.budget) and args.budget >= 0):
+        raise InputError([Problem(args.case, "--budget", f"must be a finite non-negative number, got {args.budget!r}")])
+    folder = None
+    if args.out:
+        from .pipeline.publish import OutputFolder
+
+        # checked and locked before any computation, released at the end
+        folder = OutputFolder(args.out, force=args.force, protected=(args.case,), command="plan").open()
+    try:
+        return _plan(args, folder)
+    except InputError as e:
+        # problems found outside the case reader (the target, the planner) belong to the case file too
+        raise InputError([Problem(p.file or str(args.case), p.key, p.message) for p in e.problems]) from None
+    finally:
+        if folder is not None:
+            folder.close()
+
+
+def _plan(args, folder) -> int:
     from rich.console import Console
     from rich.table import Table
 
     from .plan import compute_plan
-
-    if args.budget is not None and not (args.budget >= 0):
-        raise InputError([Problem(args.case, "--budget", "must be a non-negative number")])
-    out = None
-    if args.out:
-        from .run import prepare_out_dir
-
-        out = prepare_out_dir(args.out, args.force, (args.case,))
     from .run import prepare_model
+    from .text_safety import markup, markup_view
 
     case = load_case(args.case)
     model, _ = prepare_model(case)
-    plan = compute_plan(case, model, target=args.target, budget=args.budget, output_name=args.output_name)
-    console = Console(highlight=False, width=140)
+    raw_plan = compute_plan(case, model, target=args.target, budget=args.budget, output_name=args.output_name)
+    plan = markup_view(raw_plan)         # user text (names, notes, units) printed as written, never as markup
+    console = Console(highlight=False, width=140, emoji=False)
     unit = plan["target"]["unit"]
     metric = plan["target"]["metric"]
     label = {"U": f"U{round(100 * (plan['target']['coverage_probability'] or 0.95))}", "u": "u",
              "halfwidth": "half-width"}.get(metric, metric)
-    console.print(f"[bold]{case.title}[/bold]")
+    console.print(f"[bold]{markup(case.title)}[/bold]")
     console.print(f"planned for: {plan['target']['output']}  ({plan['method']})")
     console.print(f"now: worst {label} = {_fmt(plan['U_now'])} {unit} at {plan['target']['worst_point_now']}")
     if plan["target"]["text"]:
@@ -66,30 +81,31 @@ def run_plan(args) -> int:
                       f"→ worst {label} = {_fmt(best['U'])} {unit}")
     for w in plan["warnings"]:
         console.print(f"[yellow]warning:[/yellow] {w}")
-    if out is not None:
-        _write(plan, case, out, args.force)
+    if folder is not None:
+        from .commands import print_publish_notes
+
+        _write(raw_plan, case, folder, args.force)
+        print_publish_notes(folder)
+        out = markup(folder.given)
         console.print(f"wrote {out}/plan.json, {out}/plan.csv and {out}/figures/plan-front.png|svg")
     return 0 if (best is not None) else 1
 
 
-def _write(plan: dict, case, out: Path, force: bool) -> None:
-    import csv
-    import io
-
+def _write(plan: dict, case, out, force: bool) -> None:
     from .report.figures import _draw_plan
     from .report.style import figure_style
     from .run import publish_dir, write_json_atomic
+    from .text_safety import csv_text
 
     def build(tmp: Path):
         write_json_atomic(tmp / "plan.json", {"format": "uqthermo.plan/1", "case": {"title": case.title,
                                               "sha256": case.sha256, "file": case.path}, "plan": plan})
-        buf = io.StringIO()
-        w = csv.writer(buf)
-        w.writerow(["cost", "worst_U", "unit", "set", "meets_target"])
+        rows = []
         for p in plan["front"]:
             meets = "" if plan["target"]["U"] is None else p["U"] <= plan["target"]["U"]
-            w.writerow([p["cost"], p["U"], plan["target"]["unit"], " ".join(p["set"]), meets])
-        (tmp / "plan.csv").write_text(buf.getvalue(), encoding="utf-8")
+            rows.append([p["cost"], p["U"], plan["target"]["unit"], " ".join(p["set"]), meets])
+        (tmp / "plan.csv").write_text(csv_text(["cost", "worst_U", "unit", "set", "meets_target"], rows),
+                                      encoding="utf-8")
         (tmp / "figures").mkdir()
         with figure_style():
             fig = _draw_plan(plan)
