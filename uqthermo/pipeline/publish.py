@@ -48,9 +48,10 @@ Testing hook
 ------------
 ``UQTHERMO_TEST_PAUSE="POINT:GOFILE"`` (test suite only; unset in normal use, where
 :func:`checkpoint` does nothing) makes the command print ``uqthermo-test: paused at POINT``
-on stderr at a named point (``locked``: lock taken, before the computation; ``built``:
-files built, before publishing; ``commit``: during a ``--force`` replacement, earlier
-files moved aside) and wait until GOFILE exists (at most 120 s). The tests use it to
+on stderr (and write ``GOFILE.paused``) at a named point (``locked``: lock taken, before
+the computation; ``built``: files built, before publishing; ``commit``: during a
+``--force`` replacement, earlier files moved aside) and wait until GOFILE exists (at
+most 120 s). The tests use it to
 race two processes, to create a folder during a run and to kill a run at a known point.
 """
 
@@ -129,6 +130,9 @@ def checkpoint(point: str) -> None:
         return
     sys.stderr.write(f"uqthermo-test: paused at {point}\n")
     sys.stderr.flush()
+    if go:
+        with contextlib.suppress(OSError):
+            Path(go + ".paused").write_text(point)
     deadline = time.monotonic() + 120
     while go and not os.path.exists(go) and time.monotonic() < deadline:
         time.sleep(0.02)
@@ -313,6 +317,18 @@ def check_target(out: str | Path, *, force: bool, protected: tuple = ()) -> tupl
     replace, what it holds. Raises :class:`InputError` (key ``--out``) otherwise.
     """
     given = str(out)
+    target = _check_place(given)
+    earlier = None
+    if target.is_dir() and not _is_empty_dir(target):
+        if not force:
+            raise _problem(given, "folder exists and is not empty; choose another folder or add --force (which "
+                                  "replaces only the files an earlier uqthermo run wrote there, after the new run succeeds)")
+        earlier = _check_force(given, target, protected)
+    return target, earlier
+
+
+def _check_place(given: str) -> Path:
+    """The path-level checks of :func:`check_target` (not the folder's content); the absolute target."""
     if not given.strip():
         raise _problem(given, "give a folder name")
     target = Path(os.path.abspath(given))
@@ -343,13 +359,7 @@ def check_target(out: str | Path, *, force: bool, protected: tuple = ()) -> tupl
     if free is not None and free < MIN_FREE_BYTES:
         raise _problem(given, f"only {free / 1e6:.1f} MB free on the device of {parent}; the output needs at least "
                               f"{MIN_FREE_BYTES / 1e6:.0f} MB — free some space or choose another place")
-    earlier = None
-    if target.is_dir() and not _is_empty_dir(target):
-        if not force:
-            raise _problem(given, "folder exists and is not empty; choose another folder or add --force (which "
-                                  "replaces only the files an earlier uqthermo run wrote there, after the new run succeeds)")
-        earlier = _check_force(given, target, protected)
-    return target, earlier
+    return target
 
 
 def _check_force(given: str, target: Path, protected: tuple) -> _Earlier:
@@ -563,6 +573,7 @@ class OutputFolder:
         self.outcome: Published | None = None
         self._lock: _Lock | None = None
         self._partial: Path | None = None
+        self._replacing = False             # an earlier output was there when the command started
 
     # -- context
     def __enter__(self) -> "OutputFolder":
@@ -573,7 +584,7 @@ class OutputFolder:
 
     def open(self) -> "OutputFolder":
         """Check the target and take its lock (before any computation)."""
-        target, _ = check_target(self.given, force=self.force, protected=self.protected)
+        target = _check_place(self.given)
         lock = _Lock(target, self.command)
         try:
             lock.acquire(self.given)
@@ -584,13 +595,14 @@ class OutputFolder:
         self._lock = lock
         self.path = target
         try:
-            if lock.stale is not None:
+            if lock.stale is not None:            # a dead run's leftovers first: they may hold the earlier output
                 _clean_after(target, lock.stale)
-            check_target(self.given, force=self.force, protected=self.protected)   # again, now that we hold the lock
+            _, earlier = check_target(self.given, force=self.force, protected=self.protected)
+            self._replacing = earlier is not None
+            checkpoint("locked")
         except BaseException:
             self.close()
             raise
-        checkpoint("locked")
         return self
 
     def close(self) -> None:
@@ -676,11 +688,17 @@ class OutputFolder:
         if not target.is_dir() or target.is_symlink():
             raise _problem(self.given, "a file appeared at this path while the command ran; it was left untouched and "
                                        "nothing was written — choose another folder")
+        appeared = ("a folder appeared at this path while the command ran (or got files); it was left untouched and "
+                    "nothing was written — ")
         if not self.force:
-            raise _problem(self.given, "a folder appeared at this path while the command ran (or got files); it was "
-                                       "left untouched and nothing was written — choose another folder, or add --force "
-                                       "if it is an earlier uqthermo output")
-        earlier = _check_force(self.given, target, self.protected)
+            raise _problem(self.given, appeared + "choose another folder, or add --force if it is an earlier uqthermo "
+                                                  "output")
+        try:
+            earlier = _check_force(self.given, target, self.protected)
+        except InputError as e:
+            if self._replacing:
+                raise
+            raise _problem(self.given, appeared + e.problems[0].message) from None
         return self._replace(partial, manifest, token, earlier)
 
     def _replace(self, partial: Path, manifest: dict, token: str, earlier: _Earlier) -> Published:
