@@ -26,7 +26,7 @@ import numpy as np
 from .case.builder import QUANTITY, Model, build_model, check_model
 from .case.loader import load_case
 from .case.schema import Case
-from .errors import InputError, Problem
+from .errors import InputError, Problem, UqthermoError
 from .pipeline.publish import MANIFEST, OutputFolder, check_target
 
 FORMAT = "uqthermo.results/1"
@@ -84,6 +84,13 @@ def _jsonable(x):
     return x
 
 
+#: what run_case is doing, and on what sizes (for the out-of-memory message)
+_STAGE: dict[str, Any] = {}
+
+#: at most this many model values (trials x output columns) per Monte Carlo chunk
+CHUNK_VALUES = 2**22
+
+
 def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | None = None,
              method: str | None = None, sampling: str | None = None, engine: str = "local",
              scheduler: str | None = None, progress: Callable[[int, int], None] | None = None,
@@ -92,7 +99,44 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
 
     Parameters override the case's ``[settings]``; ``progress(done, total)`` is called
     as Monte Carlo chunks complete.
+
+    Raises
+    ------
+    InputError
+        Bad input (exit 2).
+    UqthermoError
+        Other failures; running out of memory is reported with the stage and the sizes
+        involved (output points, input variables, trials).
     """
+    _STAGE.clear()
+    _STAGE["stage"] = "reading the case"
+    try:
+        return _run_case(path, samples=samples, seed=seed, method=method, sampling=sampling, engine=engine,
+                         scheduler=scheduler, progress=progress, what_if=what_if)
+    except MemoryError:
+        raise UqthermoError(_out_of_memory_text()) from None
+
+
+def _out_of_memory_text() -> str:
+    st = _STAGE
+    sizes = []
+    if st.get("points") is not None:
+        sizes.append(f"{st['points']} output points")
+    if st.get("inputs") is not None:
+        sizes.append(f"{st['inputs']} input variables")
+    if st.get("samples") is not None:
+        sizes.append(f"{st['samples']} trials")
+    what = f" ({' x '.join(sizes)})" if sizes else ""
+    advice = "use fewer output points (fewer outputs or a larger temperatures.step)"
+    if isinstance(st.get("samples"), int) and st.get("points") and st["samples"] > 100 * st["points"]:
+        advice = "use fewer samples, or samples = \"adaptive\""
+    elif st.get("inputs") and st.get("points") and st["inputs"] > st["points"]:
+        advice = "use fewer uncertain inputs (species or data not needed by the outputs can be removed)"
+    return f"out of memory while {st.get('stage', 'running')}{what}; {advice}"
+
+
+def _run_case(path: str | Path, *, samples, seed, method, sampling, engine, scheduler, progress,
+              what_if) -> RunResult:
     from .uq.linear import propagate_linear
     from .uq.montecarlo import propagate_monte_carlo
     from .uq.validation import validate_linear
@@ -110,11 +154,18 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
         s.sampling = sampling
     if what_if is not None:
         s.what_if = what_if
+    if engine == "dask" and isinstance(scheduler, str):     # a wrong address fails now, not after the linear method
+        from .uq.distributed import check_scheduler
+
+        check_scheduler(scheduler)
+    _STAGE.update(stage="building the model", points=sum(len(o.temperatures) if o.temperatures is not None else 1
+                                                          for o in case.outputs))
     model, model_warnings = prepare_model(case)
     warnings = list(case.warnings) + model_warnings
     inputs = model.inputs
     p = s.coverage_probability
     D = len(inputs.variables)
+    _STAGE.update(stage="propagating by the linear method", inputs=D)
     lin = mc = None
     validation = None
     if D == 0:
@@ -127,6 +178,11 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
         if s.samples == "adaptive":
             mc_kwargs["max_samples"] = s.max_samples
             mc_kwargs["check_shortest"] = s.adaptive_intervals == "both"
+        n_cols = len(model.columns) + len(model.aux)
+        if n_cols > 64:     # many output columns: smaller chunks keep a chunk's values within CHUNK_VALUES
+            mc_kwargs["chunk_size"] = max(256, min(65_536, CHUNK_VALUES // max(n_cols, D)))
+        _STAGE.update(stage="propagating by Monte Carlo", samples=s.samples if isinstance(s.samples, int)
+                      else s.max_samples)
         if engine == "dask":
             from .uq.distributed import propagate_monte_carlo_dask
 
@@ -143,6 +199,7 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
                                    coverage_probability=mc.coverage_probability)
         validation = validate_linear(lin, reported, ndigits=s.significant_digits)
     y0 = model.evaluate(np.asarray(inputs.estimates, dtype=float)[None, :] if D else np.zeros((1, 0)))[0]
+    _STAGE.update(stage="ranking drivers and assembling the results")
     from .results import assemble
 
     results = assemble(case, model, lin, mc, validation, y0, warnings, time.perf_counter() - t0, engine)

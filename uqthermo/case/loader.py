@@ -31,6 +31,7 @@ from .schema import (
     OutputSpec,
     Settings,
 )
+from .limits import MAX_NAME_LENGTH, MAX_REACTIONS, MAX_SEED, SEED_RANGE_TEXT, short_key, toml_nesting_problem
 from .units import UnitProblem, parse_quantity
 
 __all__ = ["load_case", "Collector", "MAX_SAMPLES_LIMIT"]
@@ -276,6 +277,9 @@ def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positiv
 
 
 def _check_name(c: Collector, name: str, key: str) -> bool:
+    if isinstance(name, str) and len(name) > MAX_NAME_LENGTH:
+        c.add(key.replace(name, short_key(name)), f"name is {len(name)} characters long; at most {MAX_NAME_LENGTH}")
+        return False
     if not isinstance(name, str) or not _NAME_RE.match(name):
         c.add(key, f"name {name!r} must start with a letter and use only letters, digits, '_', '+' or '-'")
         return False
@@ -326,6 +330,9 @@ def load_case(path: str | Path, *, library: bool = True) -> Case:
         text = raw_bytes.decode("utf-8")
     except UnicodeDecodeError as e:
         raise InputError([Problem(fname, "", f"not UTF-8 text (byte {e.start}); save the case file as UTF-8")]) from None
+    deep = toml_nesting_problem(text)
+    if deep is not None:
+        raise InputError([Problem(fname, *deep)])
     try:
         raw = tomllib.loads(text)
     except tomllib.TOMLDecodeError as e:
@@ -412,6 +419,9 @@ def parse_case(raw: dict, fname: str, sha: str = "", *, library: bool = True) ->
     if "reaction_set" in raw and _is_table(reaction_node):
         reaction_node = dict(reaction_node)
         reaction_node.update(_reaction_set(c, raw["reaction_set"], Path(fname).parent, set(reaction_node)))
+    if _is_table(reaction_node) and len(reaction_node) > MAX_REACTIONS:
+        c.add("reaction", f"{len(reaction_node)} reactions; a case holds at most {MAX_REACTIONS}")
+        reaction_node = {}
     reactions = read_reactions(c, reaction_node, species, data)
     from .outputs_reader import read_outputs
 
@@ -516,8 +526,8 @@ def _settings(c: Collector, node: Any) -> Settings:
     _choice(c, node, s, "sampling", SAMPLING_METHODS)
     if "seed" in node:
         seed = node["seed"]
-        if isinstance(seed, bool) or not isinstance(seed, int) or seed < 0 or seed >= 2**63:
-            c.add("settings.seed", f"must be a non-negative whole number, got {seed!r}")
+        if isinstance(seed, bool) or not isinstance(seed, int) or not 0 <= seed <= MAX_SEED:
+            c.add("settings.seed", f"must be {SEED_RANGE_TEXT}, got {short_key(repr(seed), 60)}")
         else:
             s.seed = seed
     _choice(c, node, s, "method", METHODS)

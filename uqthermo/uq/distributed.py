@@ -71,7 +71,63 @@ from .montecarlo import (HISTOGRAM_BINS, KEEP_VALUES, MAX_STORED_VALUES, MonteCa
 from .sampling import UniformStream
 from .stats import BinLayout, BinnedCDF, Moments, OrderStatistics
 
-__all__ = ["propagate_monte_carlo_dask", "merge_moments", "block_plan"]
+__all__ = ["propagate_monte_carlo_dask", "merge_moments", "block_plan", "check_scheduler"]
+
+#: seconds a scheduler address has to send the Dask greeting (see :func:`check_scheduler`)
+PROBE_SECONDS = 5.0
+
+
+def check_scheduler(address: str, timeout: float = PROBE_SECONDS) -> None:
+    """Make sure a ``tcp://host:port`` (or ``host:port``) address is a Dask scheduler, before any work.
+
+    A Dask scheduler greets every new TCP connection at once with its handshake: an 8-byte
+    little-endian message length, the frame count and a msgpack map holding keys such as
+    ``compression`` and ``pickle-protocol`` (the framing of ``distributed.comm.tcp``). A
+    service that says nothing (a web server waiting for a request) or something else (an SSH
+    banner, whose first bytes ``distributed`` would read as a huge length and try to
+    allocate) is reported as "not a Dask scheduler". Other schemes (``tls://``, ``inproc://``)
+    are left to ``distributed``.
+
+    Raises
+    ------
+    StatisticsError
+        The address cannot be reached or is not a Dask scheduler.
+    """
+    import socket
+
+    text = str(address)
+    rest = text[len("tcp://"):] if text.startswith("tcp://") else text
+    if "://" in rest:
+        return
+    host, _, port = rest.rpartition(":")
+    host = host.strip("[]")
+    try:
+        port_n = int(port)
+    except ValueError:
+        raise StatisticsError(f"scheduler address {text!r} is not of the form tcp://HOST:PORT") from None
+    try:
+        conn = socket.create_connection((host or "127.0.0.1", port_n), timeout=timeout)
+    except OSError as exc:
+        raise StatisticsError(f"cannot reach the Dask scheduler at {text!r} ({exc.strerror or exc})") from None
+    data = b""
+    try:
+        conn.settimeout(timeout)
+        while len(data) < 64:
+            chunk = conn.recv(64 - len(data))
+            if not chunk:
+                break
+            data += chunk
+    except OSError:
+        pass
+    finally:
+        conn.close()
+    if not data:
+        raise StatisticsError(f"the service at {text!r} is not a Dask scheduler: it sent no Dask greeting within "
+                              f"{timeout:g} s (check the address and port of the scheduler)")
+    length = int.from_bytes(data[:8], "little") if len(data) >= 8 else -1
+    if not (0 < length < 1 << 20) or not any(k in data for k in (b"compression", b"pickle-protocol", b"python")):
+        raise StatisticsError(f"the service at {text!r} is not a Dask scheduler: it answered {data[:24]!r}… "
+                              "(check the address and port of the scheduler)")
 
 #: largest block (rows) of a fixed-N run; more, smaller blocks balance the workers
 MAX_BLOCK_ROWS = 2**22
@@ -196,10 +252,14 @@ class _Cluster:
         elif isinstance(scheduler, Client):
             self.client = scheduler
         else:
+            check_scheduler(scheduler)
             try:
                 self.client = Client(scheduler, timeout="10s")
             except (OSError, TimeoutError, ValueError) as exc:
                 raise StatisticsError(f"cannot reach the Dask scheduler at {scheduler!r} ({exc})") from None
+            except MemoryError:
+                raise StatisticsError(f"the service at {scheduler!r} is not a Dask scheduler (its answer could not be "
+                                      "read as Dask messages)") from None
             self._own = [self.client]
 
     @property
