@@ -239,6 +239,10 @@ def cmd_report(args) -> int:
     if not isinstance(doc, dict) or doc.get("format") != "uqthermo.results/1":
         raise InputError([Problem(str(path), "format", "not a uqthermo results file (format uqthermo.results/1)")])
     problems = _results_shape(doc, str(path))
+    if not problems:
+        from .pipeline.results_check import results_value_problems
+
+        problems = results_value_problems(doc, str(path))
     if problems:
         raise InputError(problems)
     log = _read_run_log(path.with_name(RUN_LOG))
@@ -249,7 +253,14 @@ def cmd_report(args) -> int:
         write_json_atomic(tmp / "results.json", doc)
         if log:
             write_json_atomic(tmp / RUN_LOG, log)
-        return write_report(with_run_log(doc, log), tmp)
+        try:
+            return write_report(with_run_log(doc, log), tmp)
+        except (TypeError, ValueError, KeyError, IndexError, AttributeError, OverflowError, ZeroDivisionError) as e:
+            # the file passed the checks above but still holds something the report cannot draw: it is the
+            # input that is wrong (a hand-edited value), not the run
+            raise InputError([Problem(str(path), "", f"cannot render this results.json ({type(e).__name__}: {e}); was "
+                                                     "it edited by hand? (if it was written by uqthermo unchanged, "
+                                                     "please report it)")]) from None
 
     with OutputFolder(args.out, force=args.force, protected=(args.results,), command="report") as folder:
         folder.publish(build)

@@ -27,7 +27,8 @@ def run_plan(args) -> int:
         return _plan(args, folder)
     except InputError as e:
         # problems found outside the case reader (the target, the planner) belong to the case file too
-        raise InputError([Problem(p.file or str(args.case), p.key, p.message) for p in e.problems]) from None
+        raise InputError([p if p.file else Problem(str(args.case), {"target": "--target", "budget": "--budget"}.get(
+            p.key, p.key), p.message) for p in e.problems]) from None
     finally:
         if folder is not None:
             folder.close()

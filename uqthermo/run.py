@@ -154,6 +154,11 @@ def _run_case(path: str | Path, *, samples, seed, method, sampling, engine, sche
         s.sampling = sampling
     if what_if is not None:
         s.what_if = what_if
+    from .case.loader import adaptive_cap_problem
+
+    cap = adaptive_cap_problem(s)
+    if cap is not None:
+        raise InputError([Problem(case.path, "settings.max_samples", cap)])
     if engine == "dask" and isinstance(scheduler, str):     # a wrong address fails now, not after the linear method
         from .uq.distributed import check_scheduler
 

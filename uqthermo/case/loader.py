@@ -34,7 +34,7 @@ from .schema import (
 from .limits import MAX_NAME_LENGTH, MAX_REACTIONS, MAX_SEED, SEED_RANGE_TEXT, short_key, toml_nesting_problem
 from .units import UnitProblem, parse_quantity
 
-__all__ = ["load_case", "Collector", "MAX_SAMPLES_LIMIT"]
+__all__ = ["load_case", "Collector", "MAX_SAMPLES_LIMIT", "adaptive_cap_problem"]
 
 #: Hard cap on a fixed sample count: beyond this a run would take hours on one machine
 #: (the distributed engine raises it explicitly).
@@ -558,6 +558,9 @@ def _settings(c: Collector, node: Any) -> Settings:
             c.add("settings.plan_budget", "must be a non-negative number")
         else:
             s.plan_budget = float(b)
+    cap = adaptive_cap_problem(s)
+    if cap is not None and "max_samples" in node:
+        c.add("settings.max_samples", cap)
     if "design_probabilities" in node:
         v = node["design_probabilities"]
         if not isinstance(v, list) or not v or not all(isinstance(x, (int, float)) and not isinstance(x, bool)
@@ -566,6 +569,25 @@ def _settings(c: Collector, node: Any) -> Settings:
         else:
             s.design_probabilities = [float(x) for x in v]
     return s
+
+
+def adaptive_cap_problem(s: Settings) -> str | None:
+    """Why ``max_samples`` cannot work with adaptive Monte Carlo (None if it can).
+
+    The JCGM 101 §7.9 procedure runs in whole batches (:func:`uqthermo.uq.montecarlo.adaptive_batch_size`)
+    and needs at least two to test stability; a cap below two batches could only be honoured
+    by stopping before the first test (or passed by finishing the batch), so it is refused.
+    """
+    if s.samples != "adaptive":
+        return None
+    from ..uq.montecarlo import adaptive_batch_size
+
+    batch = adaptive_batch_size(s.coverage_probability, s.sampling)
+    if s.max_samples >= 2 * batch:
+        return None
+    return (f"{s.max_samples} trials are fewer than two adaptive batches: with {s.sampling} sampling and coverage "
+            f"probability {s.coverage_probability:g} a batch has {batch} trials (JCGM 101 §7.9) and at least two are "
+            f"needed; give max_samples of at least {2 * batch}")
 
 
 def _correlations(c: Collector, node: Any, data: dict[str, Datum]) -> list[tuple[str, str, float]]:

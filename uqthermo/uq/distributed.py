@@ -77,7 +77,7 @@ __all__ = ["propagate_monte_carlo_dask", "merge_moments", "block_plan", "check_s
 PROBE_SECONDS = 5.0
 
 
-def check_scheduler(address: str, timeout: float = PROBE_SECONDS) -> None:
+def check_scheduler(address: str, timeout: float | None = None) -> None:
     """Make sure a ``tcp://host:port`` (or ``host:port``) address is a Dask scheduler, before any work.
 
     A Dask scheduler greets every new TCP connection at once with its handshake: an 8-byte
@@ -95,6 +95,7 @@ def check_scheduler(address: str, timeout: float = PROBE_SECONDS) -> None:
     """
     import socket
 
+    timeout = PROBE_SECONDS if timeout is None else timeout
     text = str(address)
     rest = text[len("tcp://"):] if text.startswith("tcp://") else text
     if "://" in rest:
@@ -434,8 +435,11 @@ def _adaptive(client, n_workers, f_remote, in_remote, inputs, method, seed, p, c
     converged = False
     done = 0
     batches = 0
-    while not converged and done < max_samples:
-        n_round = min(per_round, max(1, (max_samples - done) // M_b))
+    if max_samples < 2 * M_b:
+        raise StatisticsError(f"max_samples = {max_samples} is below two adaptive batches of {M_b} trials "
+                              "(the §7.9 test needs at least two)")
+    while not converged and done + M_b <= max_samples:     # whole batches only: the cap is never passed
+        n_round = min(per_round, (max_samples - done) // M_b)
         futs = [client.submit(_run_block, f_remote, in_remote, method, *batch_origin(method, seed, batches + i, M_b),
                               M_b, min(chunk_size, M_b), keep if done + i * M_b < keep else 0, True, None, p,
                               rotation, pure=False)
@@ -460,13 +464,14 @@ def _adaptive(client, n_workers, f_remote, in_remote, inputs, method, seed, p, c
             if batches < 2:
                 continue
             stable, spread = batch_test(summaries, u_all, ndigits, check_shortest)
-            if stable or done >= max_samples:
+            if stable or done + M_b > max_samples:
                 converged, stability = stable, spread
                 break
     warnings: list[str] = []
     if not converged:
-        warnings.append(f"adaptive Monte Carlo stopped at the cap of {done} trials before u(y) and the "
-                        f"interval endpoints were stable to {ndigits} significant digits")
+        warnings.append(f"adaptive Monte Carlo stopped at {done} trials (the cap max_samples = {max_samples}, in "
+                        f"whole batches of {M_b}) before u(y) and the interval endpoints were stable to "
+                        f"{ndigits} significant digits")
     return collected_result(collector, d, p, ndigits, warnings, conv_n, conv_u, adaptive=True,
                             converged=converged, stability=stability, batch_size=M_b, batches=batches,
                             seed=int(seed), sampling=method, rotated_scores=rotation is not None)
