@@ -439,6 +439,17 @@ def test_bad_input_counts():
     print(f"bad inputs: {len(CASES)} case files in {len(classes)} classes, plus {len(CLI_CASES)} bad command lines")
 
 
+def test_readme_reliability_table_is_true():
+    """The README's reliability table gives the counts of this file (issue 15: keep it true)."""
+    text = (Path(__file__).resolve().parents[1] / "README.md").read_text(encoding="utf-8")
+    m = re.search(r"(\d+) distinct files in (\d+) classes", text)
+    assert m and int(m.group(1)) == len(CASES) and int(m.group(2)) == len({b.cls for b in CASES})
+    m = re.search(r"(\d+) command lines", text)
+    assert m and int(m.group(1)) == len(CLI_CASES)
+    m = re.search(r"(\d+) broken results\.json files", text)
+    assert m and int(m.group(1)) == len(BAD_RESULTS)
+
+
 def test_check_lists_every_problem_at_once(make_case):
     """Several independent problems in one file: `check` reports each on its own line."""
     path = make_case(replace=[
