@@ -117,13 +117,13 @@ def test_plan_prints_user_text_as_written(tmp_path):
 
 
 def test_a_key_with_a_newline_cannot_forge_an_error_line(tmp_path):
-    forged = f"{tmp_path}/case.toml: settings.seed: forged"
+    forged = "c.toml: settings.seed: forged"
     case = write_case(tmp_path, BASE_CASE + f'[species."X\\n{forged}\\u001b[2K"]\nformula = "H2"\n')
     code, stdout, err = main_in_process("check", case)
     assert code == 2
     lines = err.splitlines()
     assert lines[-1] == "1 problem(s) found" and len(lines) == 2
-    assert lines[0].startswith(f"{case}: species.X\\n{tmp_path}/case.toml: settings.seed: forged\\x1b[2K")
+    assert lines[0].startswith(f"{case}: species.X\\nc.toml: settings.seed: forged\\x1b[2K")
     assert "\x1b" not in err
 
 

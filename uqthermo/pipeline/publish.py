@@ -597,6 +597,7 @@ class OutputFolder:
         try:
             if lock.stale is not None:            # a dead run's leftovers first: they may hold the earlier output
                 _clean_after(target, lock.stale)
+            _clean_lock_names(lock)
             _, earlier = check_target(self.given, force=self.force, protected=self.protected)
             self._replacing = earlier is not None
             checkpoint("locked")
@@ -794,6 +795,21 @@ def _roll_back(target: Path, backup: Path, moved_in: list[str], moved_out: list[
                 dst.parent.mkdir(parents=True, exist_ok=True)
                 os.rename(backup / rel, dst)
     shutil.rmtree(backup, ignore_errors=True)
+
+
+def _clean_lock_names(lock: _Lock) -> None:
+    """Remove temporary lock names (``.NAME.uqthermo-lock.<pid>-<token>``) of dead processes on this host:
+    a run killed in the instant between creating its lock and linking it leaves one."""
+    pattern = re.compile(r"^%s\.(\d+)-[0-9a-f]{8}$" % re.escape(lock.path.name))
+    try:
+        names = os.listdir(lock.path.parent)
+    except OSError:
+        return
+    for name in names:
+        m = pattern.match(name)
+        if m and not _pid_alive(int(m.group(1))):
+            with contextlib.suppress(OSError):
+                os.unlink(lock.path.parent / name)
 
 
 def _clean_after(target: Path, stale: dict) -> None:
