@@ -409,10 +409,22 @@ def test_modes_follow_the_umask(make_case, tmp_path, mask):
     out = tmp_path / "out"
     old = os.umask(mask)
     try:
-        code, _, err = main_in_process("run", case, "--out", out, "--samples", "1000", "--quiet")
+        code, _, err = main_in_process("run", case, "--out", out, *FAST)
     finally:
         os.umask(old)
     assert code == 0, err
     for p in [out, *out.rglob("*")]:
         mode = p.stat().st_mode & 0o777
         assert mode == (0o777 & ~mask if p.is_dir() else 0o666 & ~mask), (p, oct(mode))
+
+
+def test_leftover_lock_names_of_dead_processes_are_removed(make_case, tmp_path):
+    """A run killed between creating its lock file and linking it into place leaves a temporary
+    lock name; the next run removes it (the process id it names is not alive)."""
+    case, work = _work(tmp_path)
+    pid = 4_000_000                                     # above any pid_max: no such process
+    (work / f".out.uqthermo-lock.{pid}-0123abcd").write_text("{}")
+    (work / ".out.uqthermo-lock").write_text('{"pid": 4000000}')          # a stale lock nobody holds
+    code, _, err = main_in_process("run", case, "--out", work / "out", *FAST)
+    assert code == 0, err
+    assert _hidden(work) == []

@@ -100,6 +100,10 @@ def _seed_arg(text: str) -> int:
     return s
 
 
+FORCE_HELP = ("replace an earlier uqthermo output in --out: only the files its manifest lists are replaced, "
+              "other files stay")
+
+
 def build_parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(
         prog="uqthermo",
@@ -114,15 +118,16 @@ def build_parser() -> argparse.ArgumentParser:
                        description="Run a case file and write results.json, report.html, report.md, figures (PNG, SVG) "
                                    "and CSV tables into --out.")
     r.add_argument("case", help="case file (TOML)")
-    r.add_argument("--out", required=True, help="output folder (must not exist or be empty, unless --force)")
+    r.add_argument("--out", required=True, help="output folder (must not exist or be empty, unless --force); locked "
+                                                 "while the command runs")
     r.add_argument("--samples", type=_samples_arg, help="Monte Carlo trials, or 'adaptive' (JCGM 101 7.9)")
     r.add_argument("--seed", type=_seed_arg, help="random seed (recorded in results.json)")
     r.add_argument("--method", choices=["linear", "monte-carlo", "both"], help="propagation method (default: both)")
     r.add_argument("--sampling", choices=["random", "latin-hypercube", "sobol"], help="sampling scheme")
     r.add_argument("--engine", choices=["local", "dask"], default="local", help="where Monte Carlo runs")
     r.add_argument("--scheduler", help="Dask scheduler address (with --engine dask; default: a local cluster)")
-    r.add_argument("--force", action="store_true", help="replace an existing output folder")
-    r.add_argument("--no-report", action="store_true", help="write results.json and tables only")
+    r.add_argument("--force", action="store_true", help=FORCE_HELP)
+    r.add_argument("--no-report", action="store_true", help="write results.json, run-log.json and the CSV tables only")
     r.add_argument("--quiet", action="store_true", help="no progress bar or summary table")
 
     c = sub.add_parser("check", help="validate case files without running them",
@@ -138,7 +143,7 @@ def build_parser() -> argparse.ArgumentParser:
     g.add_argument("--budget", type=float, help="spend at most this much; minimise the expanded uncertainty")
     pl.add_argument("--output", dest="output_name", help="plan for this output only (default: all outputs)")
     pl.add_argument("--out", help="folder for plan.json, plan.csv and the front figure")
-    pl.add_argument("--force", action="store_true", help="replace an existing output folder")
+    pl.add_argument("--force", action="store_true", help=FORCE_HELP)
 
     f = sub.add_parser("fit", help="fit a heat-capacity curve with coefficient covariance to measured points",
                        description="Fit Cp(T) to measured (T, Cp[, u]) points by weighted least squares and print the "
@@ -150,7 +155,7 @@ def build_parser() -> argparse.ArgumentParser:
     f.add_argument("--phase", default="g", help="phase symbol for the printed table")
     f.add_argument("--range", nargs=2, metavar=("T_LO", "T_HI"), help="temperature range the curve will be used over")
     f.add_argument("--out", help="write the TOML snippet and fit report here (a folder)")
-    f.add_argument("--force", action="store_true", help="replace an existing output folder")
+    f.add_argument("--force", action="store_true", help=FORCE_HELP)
 
     d = sub.add_parser("data", help="search the built-in data library",
                        description="List species matching SEARCH (formula, name or CAS number) in the datasets shipped "
@@ -162,7 +167,7 @@ def build_parser() -> argparse.ArgumentParser:
                         description="Render report.html, report.md, figures and tables from an existing results.json.")
     rp.add_argument("results", help="results.json written by 'uqthermo run'")
     rp.add_argument("--out", required=True, help="output folder")
-    rp.add_argument("--force", action="store_true", help="replace an existing output folder")
+    rp.add_argument("--force", action="store_true", help=FORCE_HELP)
     return p
 
 
