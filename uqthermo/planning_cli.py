@@ -17,6 +17,12 @@ def run_plan(args) -> int:
 
     if args.budget is not None and not (math.isfinite(args.budget) and args.budget >= 0):
         raise InputError([Problem(args.case, "--budget", f"must be a finite non-negative number, got {args.budget!r}")])
+    if not args.target and args.budget is None:
+        raise InputError([Problem(args.case, "--target", "give a target (--target \"U95 <= 2 kJ/mol\") or a budget "
+                                                         "(--budget 10000), or both")])
+    if getattr(args, "relative", False) and args.target:
+        raise InputError([Problem(args.case, "--relative", "--relative is for a budget without target; write a "
+                                                           "relative target as \"U95 <= 5 %\" instead")])
     folder = None
     if args.out:
         from .pipeline.publish import OutputFolder
@@ -44,7 +50,8 @@ def _plan(args, folder) -> int:
 
     case = load_case(args.case)
     model, _ = prepare_model(case)
-    raw_plan = compute_plan(case, model, target=args.target, budget=args.budget, output_name=args.output_name)
+    raw_plan = compute_plan(case, model, target=args.target, budget=args.budget, output_name=args.output_name,
+                            relative=getattr(args, "relative", False))
     plan = markup_view(raw_plan)         # user text (names, notes, units) printed as written, never as markup
     console = Console(highlight=False, width=140, emoji=False)
     unit = plan["target"]["unit"]
@@ -53,6 +60,12 @@ def _plan(args, folder) -> int:
              "halfwidth": "half-width"}.get(metric, metric)
     console.print(f"[bold]{markup(case.title)}[/bold]")
     console.print(f"planned for: {plan['target']['output']}  ({plan['method']})")
+    if unit == "of target":
+        label = f"{label}/target"
+        unit = ""
+    elif unit == "%":
+        label = f"{label} as % of the estimate"
+        unit = "%"
     console.print(f"now: worst {label} = {_fmt(plan['U_now'])} {unit} at {plan['target']['worst_point_now']}")
     if plan["target"]["text"]:
         console.print(f"target: {plan['target']['text']}")
@@ -64,7 +77,8 @@ def _plan(args, folder) -> int:
     for c in plan["candidates"]:
         cands.add_row(c["id"], c["datum"], c["action"], f"{c['factor']:.3g}", f"{c['cost']:g}", _fmt(c["lead_time_days"]))
     console.print(cands)
-    front = Table(title=f"Pareto front: cost against worst-point {label} ({unit})", title_justify="left")
+    front = Table(title=f"Pareto front: cost against worst-point {label}" + (f" ({unit})" if unit else ""),
+                  title_justify="left")
     for c in ("cost", label, "buy", "meets target"):
         front.add_column(c)
     best = plan["best"]

@@ -167,6 +167,11 @@ def _run_case(path: str | Path, *, samples, seed, method, sampling, engine, sche
                                                           for o in case.outputs))
     model, model_warnings = prepare_model(case)
     warnings = list(case.warnings) + model_warnings
+    if case.candidates and (s.plan_target or s.plan_budget is not None) and len(model.inputs.variables):
+        from .plan import resolve_plan_request   # a plan that cannot be made is an input error, before any work
+
+        resolve_plan_request(case, model, target=s.plan_target, budget=s.plan_budget,
+                             key="settings.plan_target" if s.plan_target else "settings.plan_budget")
     inputs = model.inputs
     p = s.coverage_probability
     D = len(inputs.variables)
