@@ -252,3 +252,25 @@ def test_no_report_writes_results_and_tables(make_case, tmp_path):
     assert {"tables/inputs.csv", "tables/drivers.csv"} <= set(files) and any(f.startswith("tables/results-") for f in files)
     assert not any(f.startswith("figures/") or f.startswith("report.") for f in files)
     assert "tables/" in stdout
+
+
+def test_starter_case_file_is_never_written_over_a_folder_or_without_force(tmp_path):
+    """``data --case … --out FILE`` (one file): a folder is refused, an existing file needs --force, and
+    the file is written under a fresh temporary name then renamed, with the umask's permissions."""
+    import os
+
+    eq = "C6H5CH3(l) + 3 H2(g) -> C6H11CH3(l)"
+    code, _, err = main_in_process("data", "--case", eq, "--T", "150 degC", "--out", tmp_path)
+    assert code == 2 and f"{tmp_path}: --out: is a folder" in err
+    mine = tmp_path / "mine.toml"
+    mine.write_text("keep")
+    code, _, err = main_in_process("data", "--case", eq, "--T", "150 degC", "--out", mine)
+    assert code == 2 and "exists; give --force" in err and mine.read_text() == "keep"
+    old = os.umask(0o027)
+    try:
+        code, _, err = main_in_process("data", "--case", eq, "--T", "150 degC", "--out", mine, "--force")
+    finally:
+        os.umask(old)
+    assert code == 0, err
+    assert mine.read_text().startswith(("title", "#")) and mine.stat().st_mode & 0o777 == 0o640
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["mine.toml"]
