@@ -7,7 +7,8 @@ import sys
 from pathlib import Path
 
 from .errors import InputError, Problem, UqthermoError
-from .run import SAFETY_CAUTIONS, prepare_out_dir, publish_dir, run_case, write_json_atomic, write_outputs
+from .pipeline.publish import OutputFolder
+from .run import RUN_LOG, SAFETY_CAUTIONS, run_case, with_run_log, write_json_atomic, write_outputs
 
 
 def _console(stderr: bool = False):
@@ -16,7 +17,7 @@ def _console(stderr: bool = False):
     from rich.console import Console
 
     width = max(shutil.get_terminal_size((150, 40)).columns, 120)
-    return Console(stderr=stderr, highlight=False, width=width)
+    return Console(stderr=stderr, highlight=False, width=width, emoji=False)
 
 
 def _sig(x: float | None, u: float | None = None, digits: int = 2) -> str:
@@ -46,11 +47,17 @@ def _reported(pt: dict) -> str:
 
 
 def print_summary(results: dict, console=None) -> None:
-    """The compact terminal table: estimate, u, coverage interval, top drivers per output point."""
+    """The compact terminal table: estimate, u, coverage interval, top drivers per output point.
+
+    Every string of ``results`` is user text or derived from it: it is shown through
+    :func:`uqthermo.text_safety.markup_view` (control characters made visible, markup escaped).
+    """
     from rich.table import Table
 
     from .report.drivers import driver_rows, rows_sum_note, share_text
+    from .text_safety import markup_view
 
+    results = markup_view(results)
     console = console or _console()
     p = None
     notes: dict[str, None] = {}
@@ -69,7 +76,7 @@ def print_summary(results: dict, console=None) -> None:
             drivers = ", ".join(f"{r.label} {share_text(r.share)} %" for r in driver_rows(pt, max_data=3, skip_zero=True))
             if drivers and rows_sum_note(pt):
                 notes[rows_sum_note(pt)] = None
-            table.add_row(f"{out['name']} [{out['unit']}]", f"{pt['temperature_K']:.2f}", _sig(est, u), _sig(u, u),
+            table.add_row(f"{out['name']} \\[{out['unit']}]", f"{pt['temperature_K']:.2f}", _sig(est, u), _sig(u, u),
                           f"[{_sig(ci[0], u)}, {_sig(ci[1], u)}]",
                           _reported(pt), drivers)
             if "exceedance_probability" in pt and pt["exceedance_probability"] is not None:
@@ -96,9 +103,28 @@ def print_summary(results: dict, console=None) -> None:
         console.print("[bold]caution:[/bold] " + results["cautions"][0])
 
 
-#: what an earlier uqthermo output folder holds at its top (run, report, plan, fit)
 def cmd_run(args) -> int:
-    out = prepare_out_dir(args.out, args.force, (args.case,))
+    # the output folder is checked and locked before any computation, released at the end
+    folder = OutputFolder(args.out, force=args.force, protected=(args.case,), command="run").open()
+    try:
+        return _run_into(args, folder)
+    finally:
+        folder.close()
+
+
+def print_publish_notes(folder: OutputFolder) -> None:
+    """What ``--force`` replaced and which files it left alone (stderr)."""
+    from .text_safety import terminal_text
+
+    if folder.outcome is not None:
+        for line in folder.outcome.notes():
+            print(f"uqthermo: {terminal_text(line)}", file=sys.stderr)
+
+
+def _run_into(args, folder: OutputFolder) -> int:
+    from .text_safety import markup
+
+    out = markup(folder.given)
     quiet = args.quiet or not sys.stderr.isatty()
     progress = None
     bar = None
@@ -120,15 +146,16 @@ def cmd_run(args) -> int:
     finally:
         if bar is not None:
             bar.stop()
-    write_outputs(result, out, force=args.force, report=not args.no_report)
+    write_outputs(result, folder, report=not args.no_report)
+    print_publish_notes(folder)
     if not args.quiet:
         print_summary(result.results)
         from .report.docx import INSTALL_HINT, available
 
         docx = available()
-        _console().print(f"wrote {out}/results.json" + ("" if args.no_report else f", {out}/report.html, {out}/report.md, "
-                                                                                    + (f"{out}/report.docx, " if docx else "")
-                                                                                    + "figures/ and tables/"))
+        _console().print(f"wrote {out}/results.json, {out}/run-log.json" + (
+            f" and {out}/tables/" if args.no_report else f", {out}/report.html, {out}/report.md, "
+            + (f"{out}/report.docx, " if docx else "") + "figures/ and tables/"))
         if not args.no_report and not docx:
             _console().print(f"report.docx not written: python-docx is not installed; for the Word file: {INSTALL_HINT}")
     return 0
@@ -137,6 +164,8 @@ def cmd_run(args) -> int:
 def cmd_check(args) -> int:
     from .case.loader import load_case
     from .run import prepare_model
+
+    from .text_safety import markup, terminal_text
 
     problems: list[Problem] = []
     console = _console()
@@ -149,13 +178,13 @@ def cmd_check(args) -> int:
             problems += e.problems
             continue
         n_unc = sum(1 for d in case.data.values() if d.uncertain)
-        console.print(f"{path}: OK — {len(case.species)} species, {len(case.reactions)} reactions, "
+        console.print(f"{markup(path)}: OK — {len(case.species)} species, {len(case.reactions)} reactions, "
                       f"{len(case.outputs)} outputs, {n_unc} uncertain data ({len(model.inputs.variables)} variables)")
         for w in warnings:
-            console.print(f"{path}: warning: {w}")
+            console.print(f"{markup(path)}: warning: {markup(w)}")
     if problems:
         for p in problems:
-            print(str(p), file=sys.stderr)
+            print(terminal_text(str(p)), file=sys.stderr)
         print(f"{len(problems)} problem(s) found", file=sys.stderr)
         return 2
     return 0
@@ -235,23 +264,53 @@ def cmd_report(args) -> int:
     if not isinstance(doc, dict) or doc.get("format") != "uqthermo.results/1":
         raise InputError([Problem(str(path), "format", "not a uqthermo results file (format uqthermo.results/1)")])
     problems = _results_shape(doc, str(path))
+    if not problems:
+        from .pipeline.results_check import results_value_problems
+
+        problems = results_value_problems(doc, str(path))
     if problems:
         raise InputError(problems)
-    out = prepare_out_dir(args.out, args.force, (args.results,))
+    log = _read_run_log(path.with_name(RUN_LOG))
     from .report import write_report
+    from .text_safety import markup
 
     def build(tmp: Path):
         write_json_atomic(tmp / "results.json", doc)
-        return write_report(doc, tmp)
+        if log:
+            write_json_atomic(tmp / RUN_LOG, log)
+        try:
+            return write_report(with_run_log(doc, log), tmp)
+        except (TypeError, ValueError, KeyError, IndexError, AttributeError, OverflowError, ZeroDivisionError) as e:
+            # the file passed the checks above but still holds something the report cannot draw: it is the
+            # input that is wrong (a hand-edited value), not the run
+            raise InputError([Problem(str(path), "", f"cannot render this results.json ({type(e).__name__}: {e}); was "
+                                                     "it edited by hand? (if it was written by uqthermo unchanged, "
+                                                     "please report it)")]) from None
 
-    publish_dir(build, out, args.force)
+    with OutputFolder(args.out, force=args.force, protected=(args.results,), command="report") as folder:
+        folder.publish(build)
+    print_publish_notes(folder)
     from .report.docx import INSTALL_HINT, available
 
     if available():
-        _console().print(f"wrote {out}/report.html, {out}/report.md and {out}/report.docx")
+        _console().print(f"wrote {markup(args.out)}/report.html, {markup(args.out)}/report.md and {markup(args.out)}/report.docx")
     else:
-        _console().print(f"wrote {out}/report.html and {out}/report.md (report.docx needs python-docx: {INSTALL_HINT})")
+        _console().print(f"wrote {markup(args.out)}/report.html and {markup(args.out)}/report.md "
+                         f"(report.docx needs python-docx: {INSTALL_HINT})")
     return 0
+
+
+def _read_run_log(path: Path) -> dict | None:
+    """The run log beside a results.json (date, duration, versions for the report), if there is a valid one."""
+    try:
+        if not path.is_file() or path.stat().st_size > 1_000_000:
+            return None
+        log = json.loads(path.read_text(encoding="utf-8"))
+    except (OSError, ValueError, UnicodeDecodeError, RecursionError):
+        return None
+    if not isinstance(log, dict) or log.get("format") != "uqthermo.run-log/1":
+        return None
+    return {k: v for k, v in log.items() if isinstance(v, (str, int, float)) and not isinstance(v, bool)}
 
 
 __all__ = ["cmd_run", "cmd_check", "cmd_plan", "cmd_fit", "cmd_data", "cmd_report", "print_summary", "SAFETY_CAUTIONS",

@@ -106,7 +106,7 @@ def _phase_changes(case: Case, o, lo: float, hi: float) -> list[dict]:
 def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warnings: list[str],
              duration: float, engine: str) -> dict:
     """Build the results.json document (see the module docstring)."""
-    from .run import SAFETY_CAUTIONS, environment, now_iso
+    from .run import SAFETY_CAUTIONS
 
     s = case.settings
     p = s.coverage_probability
@@ -227,13 +227,12 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
     run = {
         "seed": s.seed, "samples": int(mc.samples_used) if mc is not None else 0,
         "samples_requested": s.samples, "sampling": s.sampling, "version": __version__, "method": s.method,
-        "date": now_iso(), "engine": engine, "duration_s": round(duration, 3),
+        "engine": engine,
         "reference_temperature_K": s.reference_temperature, "coverage_probability": p,
         "adaptive": s.samples == "adaptive", "significant_digits": s.significant_digits,
         "adaptive_intervals": s.adaptive_intervals if s.samples == "adaptive" else None,
         "sobol_rotation": bool(mc.rotated_scores) if mc is not None else None,
         "n_variables": len(inputs.variables), "n_data": sum(1 for d in case.data.values() if d.uncertain),
-        **environment(),
     }
     if mc is not None:
         run.update(mc_converged=bool(mc.converged), mc_batches=int(mc.batches), quantile_method=mc.quantile_method)

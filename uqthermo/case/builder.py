@@ -190,13 +190,47 @@ class Model:
         return [j for j, col in enumerate(self.columns) if col.output == i]
 
 
+def used_data(case: Case) -> set[str]:
+    """Ids of the data the outputs can depend on: every datum of a species that an output
+    uses (through its reaction, extent rates, species, mixture or charge), the measured
+    enthalpies of the reactions used, every datum that is not a species' or a reaction's
+    (output parameters), and every datum named in a ``[[correlation]]`` (so that the stated
+    correlations are always checked as one matrix). The rest of the case costs nothing:
+    a species no output uses gets no input column.
+    """
+    reactions: set[str] = set()
+    species: set[str] = set()
+    for o in case.outputs:
+        for r in ([o.reaction] if o.reaction else []) + list(o.extent_rates):
+            reactions.add(r)
+        species |= {o.species} | {sp for sp, _ in o.mixture} | {sp for sp, _ in o.charge}
+    for r in reactions:
+        if r in case.reactions:
+            species |= {p.species for p in case.reactions[r].participants}
+    used = set()
+    for did, d in case.data.items():
+        if d.species:
+            if d.species in species:
+                used.add(did)
+        elif did.startswith("reaction."):
+            if did.split(".")[1] in reactions:
+                used.add(did)
+        else:
+            used.add(did)
+    for a, b, _ in case.correlations:
+        used |= {a, b}
+    return used
+
+
 def build_inputs(case: Case) -> tuple[InputSet, dict[str, list[int]]]:
-    """The uncertain inputs (exact data get no column) and each datum's columns."""
+    """The uncertain inputs (exact data and data no output uses, :func:`used_data`, get no
+    column) and each datum's columns."""
     variables: list[InputVariable] = []
     cols: dict[str, list[int]] = {}
     blocks: list[tuple[list[int], np.ndarray | None]] = []
+    used = used_data(case)
     for d in case.data.values():
-        if not d.uncertain:
+        if not d.uncertain or d.id not in used:
             continue
         idx = list(range(len(variables), len(variables) + len(d.distributions)))
         for name, dist in zip(d.variable_names, d.distributions):

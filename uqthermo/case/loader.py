@@ -31,9 +31,10 @@ from .schema import (
     OutputSpec,
     Settings,
 )
+from .limits import MAX_NAME_LENGTH, MAX_REACTIONS, MAX_SEED, SEED_RANGE_TEXT, short_key, toml_nesting_problem
 from .units import UnitProblem, parse_quantity
 
-__all__ = ["load_case", "Collector", "MAX_SAMPLES_LIMIT"]
+__all__ = ["load_case", "Collector", "MAX_SAMPLES_LIMIT", "adaptive_cap_problem"]
 
 #: Hard cap on a fixed sample count: beyond this a run would take hours on one machine
 #: (the distributed engine raises it explicitly).
@@ -276,6 +277,9 @@ def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positiv
 
 
 def _check_name(c: Collector, name: str, key: str) -> bool:
+    if isinstance(name, str) and len(name) > MAX_NAME_LENGTH:
+        c.add(key.replace(name, short_key(name)), f"name is {len(name)} characters long; at most {MAX_NAME_LENGTH}")
+        return False
     if not isinstance(name, str) or not _NAME_RE.match(name):
         c.add(key, f"name {name!r} must start with a letter and use only letters, digits, '_', '+' or '-'")
         return False
@@ -326,6 +330,9 @@ def load_case(path: str | Path, *, library: bool = True) -> Case:
         text = raw_bytes.decode("utf-8")
     except UnicodeDecodeError as e:
         raise InputError([Problem(fname, "", f"not UTF-8 text (byte {e.start}); save the case file as UTF-8")]) from None
+    deep = toml_nesting_problem(text)
+    if deep is not None:
+        raise InputError([Problem(fname, *deep)])
     try:
         raw = tomllib.loads(text)
     except tomllib.TOMLDecodeError as e:
@@ -415,6 +422,9 @@ def parse_case(raw: dict, fname: str, sha: str = "", *, library: bool = True) ->
     if "reaction_set" in raw and _is_table(reaction_node):
         reaction_node = dict(reaction_node)
         reaction_node.update(_reaction_set(c, raw["reaction_set"], Path(fname).parent, set(reaction_node)))
+    if _is_table(reaction_node) and len(reaction_node) > MAX_REACTIONS:
+        c.add("reaction", f"{len(reaction_node)} reactions; a case holds at most {MAX_REACTIONS}")
+        reaction_node = {}
     reactions = read_reactions(c, reaction_node, species, data)
     from .outputs_reader import read_outputs
 
@@ -523,8 +533,8 @@ def _settings(c: Collector, node: Any) -> Settings:
     _choice(c, node, s, "sampling", SAMPLING_METHODS)
     if "seed" in node:
         seed = node["seed"]
-        if isinstance(seed, bool) or not isinstance(seed, int) or seed < 0 or seed >= 2**63:
-            c.add("settings.seed", f"must be a non-negative whole number, got {seed!r}")
+        if isinstance(seed, bool) or not isinstance(seed, int) or not 0 <= seed <= MAX_SEED:
+            c.add("settings.seed", f"must be {SEED_RANGE_TEXT}, got {short_key(repr(seed), 60)}")
         else:
             s.seed = seed
     _choice(c, node, s, "method", METHODS)
@@ -557,6 +567,9 @@ def _settings(c: Collector, node: Any) -> Settings:
             c.add("settings.plan_budget", "must be a non-negative number")
         else:
             s.plan_budget = float(b)
+    cap = adaptive_cap_problem(s)
+    if cap is not None and "max_samples" in node:
+        c.add("settings.max_samples", cap)
     if "design_probabilities" in node:
         v = node["design_probabilities"]
         if not isinstance(v, list) or not v or not all(isinstance(x, (int, float)) and not isinstance(x, bool)
@@ -565,6 +578,25 @@ def _settings(c: Collector, node: Any) -> Settings:
         else:
             s.design_probabilities = [float(x) for x in v]
     return s
+
+
+def adaptive_cap_problem(s: Settings) -> str | None:
+    """Why ``max_samples`` cannot work with adaptive Monte Carlo (None if it can).
+
+    The JCGM 101 §7.9 procedure runs in whole batches (:func:`uqthermo.uq.montecarlo.adaptive_batch_size`)
+    and needs at least two to test stability; a cap below two batches could only be honoured
+    by stopping before the first test (or passed by finishing the batch), so it is refused.
+    """
+    if s.samples != "adaptive":
+        return None
+    from ..uq.montecarlo import adaptive_batch_size
+
+    batch = adaptive_batch_size(s.coverage_probability, s.sampling)
+    if s.max_samples >= 2 * batch:
+        return None
+    return (f"{s.max_samples} trials are fewer than two adaptive batches: with {s.sampling} sampling and coverage "
+            f"probability {s.coverage_probability:g} a batch has {batch} trials (JCGM 101 §7.9) and at least two are "
+            f"needed; give max_samples of at least {2 * batch}")
 
 
 def _correlations(c: Collector, node: Any, data: dict[str, Datum]) -> list[tuple[str, str, float]]:

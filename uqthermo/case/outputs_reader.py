@@ -203,8 +203,17 @@ def read_outputs(c: Collector, node: Any, species: dict, reactions: dict, data: 
     if not isinstance(node, list) or not node:
         c.add("output", "must be an array of tables ([[output]])")
         return outs
+    from .limits import MAX_OUTPUTS, MAX_POINTS
+
+    if len(node) > MAX_OUTPUTS:
+        c.add("output", f"{len(node)} outputs; a case holds at most {MAX_OUTPUTS}")
+        return outs
     names: set[str] = set()
     for i, o in _expand_reaction_lists(c, node, reactions):
+        if len(names) >= MAX_OUTPUTS:
+            c.add("output", f"more than {MAX_OUTPUTS} outputs (after expanding reactions = [\"*\"]); a case holds at "
+                            f"most {MAX_OUTPUTS}")
+            return outs
         key = f"output[{i}]"
         if not _is_table(o):
             c.add(key, "must be a table with name and kind")
@@ -238,6 +247,10 @@ def read_outputs(c: Collector, node: Any, species: dict, reactions: dict, data: 
         ok = _read_kind(c, o, key, out, species, reactions, data)
         if ok:
             outs.append(out)
+    points = sum(len(o.temperatures) if o.temperatures is not None else 1 for o in outs)
+    if points > MAX_POINTS:
+        c.add("output", f"{points} output points (temperatures of all outputs together); a case holds at most "
+                        f"{MAX_POINTS} — use larger temperature steps or fewer outputs")
     return outs
 
 

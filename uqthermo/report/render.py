@@ -586,6 +586,19 @@ def render_markdown(results: Mapping, figures: bool = True) -> str:
     return _environment("md").get_template("report.md.j2").render(**ctx)
 
 
+def write_tables(results: Mapping, out_dir: Path) -> dict[str, Path]:
+    """Write the CSV tables (``tables/*.csv``: inputs, results per output, drivers, what-if,
+    GUM budgets, Kirchhoff terms, plan) into ``out_dir``, each atomically, through the tool's one CSV writer
+    (:func:`uqthermo.text_safety.csv_frame_text`: formula-like text neutralised, cells with
+    CR/LF quoted). Returns the paths keyed by their path relative to ``out_dir``."""
+    from ..text_safety import csv_frame_text
+
+    written: dict[str, Path] = {}
+    for stem, df in report_frames(results).items():
+        written[f"tables/{stem}.csv"] = atomic_write(Path(out_dir) / "tables" / f"{stem}.csv", csv_frame_text(df))
+    return written
+
+
 def write_report(results: Mapping, out_dir: Path, formats: Sequence[str] = ("html", "md", "docx"),
                  figures: bool = True) -> dict[str, Path]:
     """Write the report files into ``out_dir``.
@@ -618,9 +631,7 @@ def write_report(results: Mapping, out_dir: Path, formats: Sequence[str] = ("htm
         for name, paths in make_figures(results, out_dir / "figures", _rendered=rendered).items():
             for ext, p in paths.items():
                 written[f"figures/{name}.{ext}"] = p
-    for stem, df in report_frames(results).items():
-        p = atomic_write(out_dir / "tables" / f"{stem}.csv", tb.csv_safe(df).to_csv(index=False, lineterminator="\n"))
-        written[f"tables/{stem}.csv"] = p
+    written.update(write_tables(results, out_dir))
     page = None
     if "html" in formats or "docx" in formats:
         page = render_html(results, figures=figures, _rendered=rendered)
@@ -648,5 +659,5 @@ def report_frames(results: Mapping) -> dict:
     return out
 
 
-__all__ = ["render_html", "render_markdown", "write_report", "build_context", "md_escape", "atomic_write", "job_sentence",
-           "report_frames"]
+__all__ = ["render_html", "render_markdown", "write_report", "write_tables", "build_context", "md_escape", "atomic_write",
+           "job_sentence", "report_frames"]

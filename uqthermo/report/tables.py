@@ -974,11 +974,10 @@ def plan_frame(results: Mapping) -> pd.DataFrame:
     return pd.DataFrame(rows, columns=["cost", "U", "set", "best"])
 
 
-_CSV_TRIGGERS = ("=", "+", "@", "\t", "\r")
-
-
 def csv_safe(df: pd.DataFrame) -> pd.DataFrame:
-    """Guard text cells against spreadsheet formula injection (OWASP "CSV injection")."""
+    """Guard text cells against spreadsheet formula injection (OWASP "CSV injection");
+    see :func:`uqthermo.text_safety.csv_cell`. The CSV files themselves are written by
+    :func:`uqthermo.text_safety.csv_frame_text`, which also quotes cells holding CR/LF."""
     out = df.copy()
     for c in out.columns:
         if out[c].dtype == object or pd.api.types.is_string_dtype(out[c]):
@@ -987,15 +986,9 @@ def csv_safe(df: pd.DataFrame) -> pd.DataFrame:
 
 
 def _csv_cell(v: Any) -> Any:
-    if isinstance(v, str) and v:
-        if v.startswith(_CSV_TRIGGERS):
-            return "'" + v
-        if v.startswith("-"):
-            try:
-                float(v)
-            except ValueError:
-                return "'" + v
-    return v
+    from ..text_safety import csv_cell
+
+    return csv_cell(v)
 
 
 def frames(results: Mapping) -> dict[str, pd.DataFrame]:

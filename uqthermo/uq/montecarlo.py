@@ -648,8 +648,11 @@ def propagate_monte_carlo(
         summaries: list[np.ndarray] = []
         converged = False
         done = 0
-        while not converged and done < max_samples:
-            group = min(per_call, max(1, (max_samples - done) // M_b))
+        if max_samples < 2 * M_b:
+            raise StatisticsError(f"max_samples = {max_samples} is below two adaptive batches of {M_b} trials "
+                                  "(the §7.9 test needs at least two)")
+        while not converged and done + M_b <= max_samples:     # whole batches only: the cap is never passed
+            group = min(per_call, (max_samples - done) // M_b)
             U = np.concatenate([draw_batch(batches + g) for g in range(group)], axis=0)
             parts = [evaluate(U[i:i + chunk_size]) for i in range(0, U.shape[0], chunk_size)]
             X = np.concatenate([a for a, _ in parts], axis=0)
@@ -670,12 +673,13 @@ def propagate_monte_carlo(
                 if batches < 2:
                     continue
                 stable, spread = batch_test(summaries, u_all, ndigits, check_shortest)
-                if stable or done >= max_samples:
+                if stable or done + M_b > max_samples:
                     converged, stability = stable, spread
                     break
         if not converged:
-            warnings.append(f"adaptive Monte Carlo stopped at the cap of {done} trials before u(y) and the "
-                            f"interval endpoints were stable to {ndigits} significant digits")
+            warnings.append(f"adaptive Monte Carlo stopped at {done} trials (the cap max_samples = {max_samples}, in "
+                            f"whole batches of {M_b}) before u(y) and the interval endpoints were stable to "
+                            f"{ndigits} significant digits")
 
     assert collector is not None
     return collected_result(collector, d, p, ndigits, warnings, conv_n, conv_u, adaptive=adaptive,
