@@ -81,7 +81,7 @@ _RC = {
     "legend.facecolor": "white",
     "legend.edgecolor": "none",
     "legend.borderpad": 0.35,
-    "figure.dpi": 100,
+    "figure.dpi": PNG_DPI,     # the layout then measures text with the renderer the PNG reuses (metrics cached)
     "figure.facecolor": "white",
     "savefig.facecolor": "white",
     "savefig.dpi": PNG_DPI,
