@@ -1,0 +1,1 @@
+"""Pipeline layer: what a command calls (the job, results assembly, publishing output folders)."""
