@@ -115,12 +115,16 @@ def cmd_check(args) -> int:
     problems: list[Problem] = []
     console = _console()
     for path in args.cases:
+        case = None
         try:
             case = load_case(path)
             model, model_warnings = prepare_model(case)
             warnings = case.warnings + model_warnings
         except InputError as e:
             problems += e.problems
+            # the warnings often name the slip behind the problems (e.g. a reference temperature in degC)
+            for w in (case.warnings if case is not None else getattr(e, "warnings", [])):
+                console.print(f"{path}: warning: {w}")
             continue
         n_unc = sum(1 for d in case.data.values() if d.uncertain)
         console.print(f"{path}: OK — {len(case.species)} species, {len(case.reactions)} reactions, "

@@ -27,7 +27,7 @@ import numpy as np
 from .case.builder import QUANTITY, Model, build_model, check_model
 from .case.loader import load_case
 from .case.schema import Case
-from .errors import InputError, Problem
+from .errors import InputError, Problem, UqthermoError
 
 FORMAT = "uqthermo.results/1"
 
@@ -91,10 +91,6 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
     Parameters override the case's ``[settings]``; ``progress(done, total)`` is called
     as Monte Carlo chunks complete.
     """
-    from .uq.linear import propagate_linear
-    from .uq.montecarlo import propagate_monte_carlo
-    from .uq.validation import validate_linear
-
     t0 = time.perf_counter()
     case = load_case(path)
     s = case.settings
@@ -110,6 +106,27 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
         s.what_if = what_if
     model, model_warnings = prepare_model(case)
     warnings = list(case.warnings) + model_warnings
+    try:
+        return _propagate(case, model, warnings, t0, engine, scheduler, progress)
+    except (InputError, KeyboardInterrupt):
+        raise
+    except UqthermoError as e:
+        if not e.key:
+            raise
+        # a corner the probes before the run did not reach: still one line naming the key, nothing written
+        key = e.key if e.key.startswith(("output", "candidate", "species", "reaction", "settings")) else \
+            (f"species.{e.key}" if e.key.split(".")[0] in case.species else e.key)
+        raise InputError([Problem(case.path, key, f"{e.message} (met during the run, beyond the probes of "
+                                                  "'uqthermo check')")]) from None
+
+
+def _propagate(case: Case, model: Model, warnings: list[str], t0: float, engine: str, scheduler, progress) -> RunResult:
+    """Linear and Monte Carlo propagation, validation and results assembly (see :func:`run_case`)."""
+    from .uq.linear import propagate_linear
+    from .uq.montecarlo import propagate_monte_carlo
+    from .uq.validation import validate_linear
+
+    s = case.settings
     inputs = model.inputs
     p = s.coverage_probability
     D = len(inputs.variables)

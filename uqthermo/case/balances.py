@@ -147,19 +147,21 @@ def _unreachable(plan: AdiabaticPlan, Tf, target, h, T0: float, hi: float, lo: f
         would = edge + (target - h_edge) / np.where(c > 0, c, np.nan)
     w = would[sel]
     w = w[np.isfinite(w)]
-    where = plan.bound_names.get("hi_nb" if side_hot and which == "nb" else "hi_bl" if side_hot else "lo", "the charge")
+    where = plan.bound_names.get("hi_nb" if side_hot and which == "nb" else "hi_bl" if side_hot else "lo", "")
+    where = ("the output's max_temperature" if where == "max_temperature" else
+             f"where the heat-capacity data of {where} end" if where else "the end of the search")
     frac = np.count_nonzero(bad) / n
-    share = f"{100 * frac:.3g} % of {n} samples" if n > 1 else "the best estimates"
+    share = f"{100 * frac:.3g} % of {n} samples" if n > 1 else "this input row"
     if w.size:
         lo_w, med, hi_w = np.percentile(w, [0, 50, 100])
-        est = (f"their final temperature would be about {med:.0f} K" +
+        est = (f"the final temperature would be about {med:.0f} K" +
                (f" ({lo_w:.0f}-{hi_w:.0f} K)" if hi_w - lo_w >= 1 else "") +
                f" with the heat capacity held at its value at {edge:.0f} K")
     else:
         est = "the final temperature cannot be estimated"
     direction = "above" if side_hot else "below"
     return PhysicsError(
-        f"the energy balance ends {direction} {edge:g} K, where the heat-capacity data of {where} end, for {share} "
+        f"the energy balance ends {direction} {edge:g} K ({where}) for {share} "
         f"(start {T0:g} K): {est}. Widen that temperature range (or allow extrapolation), or check the extent, "
         f"the charge and the reaction enthalpy", key=plan.output.key)
 

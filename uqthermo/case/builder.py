@@ -768,8 +768,8 @@ def _is_linear(case: Case, o: OutputSpec, moving_transitions: bool | None = None
 
 
 def check_model(case: Case, model: Model) -> list[str]:
-    """Evaluate the model at the best estimates, output by output (and with each uncertain
-    temperature at its 1e-9 / 1 − 1e-9 quantiles, see :func:`_temperature_tails`).
+    """Evaluate the model at the best estimates, output by output, and at the probes a run will
+    reach (:mod:`uqthermo.case.probes`: 1e-9 tails, candidate what-if variants).
 
     Raises :class:`InputError` for outputs whose path leaves a correlation's validity
     range (when extrapolation is not allowed) or that the physics cannot evaluate;
@@ -790,13 +790,13 @@ def check_model(case: Case, model: Model) -> list[str]:
             cp.allow_extrapolation = a
     allowed_errors = _try_outputs(case, model, x0) if strict_errors else {}
     for i, o in enumerate(case.outputs):
-        err = allowed_errors.get(i) if strict_errors else None
-        strict = strict_errors.get(i)
+        err, key = allowed_errors.get(i, (None, None)) if strict_errors else (None, None)
+        strict = strict_errors.get(i, (None, None))[0]
         if err is not None:
             msg = err.message if isinstance(err, UqthermoError) else str(err)
             if isinstance(err, ValidityError) and err.key:
                 msg = f"{msg} (datum {err.key}; allow with extrapolate = true on that heat_capacity or settings.allow_extrapolation = true)"
-            problems.append(Problem(case.path, o.key, msg))
+            problems.append(Problem(case.path, key or o.key, msg))
         elif strict is not None:
             warnings.append(f"{o.key}: extrapolated beyond a correlation's validity range — {strict.message if isinstance(strict, UqthermoError) else strict}")
     if problems:
@@ -806,59 +806,37 @@ def check_model(case: Case, model: Model) -> list[str]:
     if bad:
         raise InputError([Problem(case.path, k, "the model gives a non-finite value at the best estimates; check the data")
                           for k in dict.fromkeys(bad)])
-    return warnings
+    from .plausibility import model_warnings
+
+    return warnings + model_warnings(case, model, y[0])
 
 
-#: uncertain temperatures are also tried at these probabilities (the loader's absolute-zero check uses 1e-9)
-TAIL_PROBABILITY = 1e-9
+def _try_outputs(case: Case, model: Model, x0: np.ndarray) -> dict[int, tuple[Exception, str | None]]:
+    """Evaluate each output alone at the best estimates, then at the probes a run will reach
+    (:func:`uqthermo.case.probes.probe_rows`: input tails, the output's combined tail, candidate
+    what-if variants); map output index → (the first error it raised, the key path that causes it)."""
+    from .probes import first_failure, probe_rows
 
-
-def _temperature_tails(case: Case, inputs: InputSet) -> list[tuple[str, float, np.ndarray]]:
-    """(datum, temperature, input row) with one uncertain temperature at its 1e-9 or 1 − 1e-9 quantile.
-
-    A Monte Carlo run draws temperatures far into the tails; a path that leaves a Cp
-    validity range there must be refused by ``check``, not fail in the middle of a run.
-    """
-    x0 = np.asarray(inputs.estimates, dtype=float)
-    rows = []
-    for j, v in enumerate(inputs.variables):
-        d = case.data.get(v.datum)
-        if d is None or "temperature" not in d.quantity or not v.distribution.std > 0:
-            continue
-        for p in (TAIL_PROBABILITY, 1.0 - TAIL_PROBABILITY):
-            t = float(np.asarray(v.distribution.ppf(np.array([p])), dtype=float).reshape(-1)[0])
-            if np.isfinite(t) and t > 0:
-                x = x0.copy()
-                x[j] = t
-                rows.append((v.datum, t, x))
-    return rows
-
-
-def _try_outputs(case: Case, model: Model, x0: np.ndarray) -> dict[int, Exception]:
-    """Evaluate each output alone at the best estimates, then with each uncertain temperature at
-    its tails (:func:`_temperature_tails`); map output index → the first error it raised."""
-    errors: dict[int, Exception] = {}
+    errors: dict[int, tuple[Exception, str | None]] = {}
     for i, o in enumerate(case.outputs):
         sub = Case(**{**case.__dict__, "outputs": [o]})
         try:
             m = build_model(sub)
             m.evaluate(np.asarray(m.inputs.estimates, dtype=float)[None, :])
         except UqthermoError as e:
-            errors[i] = e
+            errors[i] = (e, None)
             continue
         except (ValueError, FloatingPointError, ZeroDivisionError) as e:
-            errors[i] = e
+            errors[i] = (e, None)
             continue
-        for did, t, x in _temperature_tails(sub, m.inputs):
-            try:
-                m.evaluate(x[None, :])
-            except UqthermoError as e:
-                errors[i] = _annotated(e, f"reached when {did} = {t:.6g} K (its {TAIL_PROBABILITY:g} tail quantile, "
-                                          f"which a Monte Carlo run can draw); give a smaller or bounded uncertainty")
-                break
-            except (ValueError, FloatingPointError, ZeroDivisionError) as e:
-                errors[i] = e
-                break
+        full = not (m.linear_in_inputs[0] and not o.temperature_datum)
+        hit = first_failure(m, probe_rows(sub, m, o, full=full),
+                            (UqthermoError, ValueError, FloatingPointError, ZeroDivisionError))
+        if hit is not None:
+            probe, e = hit
+            if isinstance(e, UqthermoError):
+                e = _annotated(e, f"{probe.note} (in {o.key})" if probe.key != o.key else probe.note)
+            errors[i] = (e, probe.key)
     return errors
 
 

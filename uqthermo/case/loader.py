@@ -81,7 +81,9 @@ class Collector:
 
     def raise_if_any(self) -> None:
         if self.problems:
-            raise InputError(self.problems)
+            err = InputError(self.problems)
+            err.warnings = list(self.warnings)   # shown by `check` beside the problems
+            raise err
 
 
 # ----------------------------------------------------------------------------- helpers
@@ -453,6 +455,9 @@ def parse_case(raw: dict, fname: str, sha: str = "", *, library: bool = True) ->
     outputs = read_outputs(c, raw.get("output"), species, reactions, data, settings)
     correlations = _correlations(c, raw.get("correlation", []), data)
     candidates = _candidates(c, raw.get("candidate", []), data)
+    from .plausibility import check_case
+
+    check_case(c, raw, species, data, settings, library)
     if abs(settings.reference_temperature - 298.15) > 1e-6:
         for d in data.values():
             if d.library:
