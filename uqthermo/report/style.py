@@ -310,10 +310,10 @@ def probability_text(p, upper_bound=None, trials=None, *, lower_bound=None, conf
     if ub is not None and not math.isfinite(ub):
         ub = None
     nt = f"{count_text(n)} trials" if n else ""
+    if p <= 0 and ub is None and n:
+        ub = 1.0 - (1.0 - confidence) ** (1.0 / n)     # Clopper-Pearson bound for no hit (closed form)
     if p <= 0 and ub is not None:
         return f"< {_prob_number(ub, up=True)} ({level} upper bound" + (f", {nt})" if nt else ")")
-    if p <= 0 and n:
-        return f"0 ({nt}; no bound given)"
     if p >= 1 and n:
         lb = None
         try:
