@@ -120,7 +120,7 @@ def _linear_tail(model, lin, j: int, o: OutputSpec, case: Case, y: float, offset
         z = g / u
     else:
         z = math.inf if g > 0 else -math.inf
-    p = float(stats.norm.sf(z)) if o.limit_side == "above" else float(stats.norm.cdf(-z))
+    p = float(stats.norm.sf(z)) if o.limit_side == "above" else float(stats.norm.cdf(z))   # P(g < 0) or P(g > 0)
     return p, u
 
 
