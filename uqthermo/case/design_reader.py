@@ -230,6 +230,30 @@ def read_feeds(c: Collector, node: Any, key: str, out: OutputSpec, species: dict
     return ok
 
 
+def check_feed_phases(c: Collector, out: OutputSpec, species: dict, reactions: dict) -> bool:
+    """A fed species that takes part in a reaction must reach the reactor temperature in the phase its
+    equation gives it (otherwise the open-system balance would not close by Hess's law)."""
+    t_out = out.temperature_nominal
+    ok = True
+    for stream in out.feeds:
+        for (sp, ph) in stream.flows:
+            try:
+                reached = species[sp].final_phase(ph, stream.temperature, t_out)
+            except UqthermoError as e:
+                c.add(f"{stream.key}.flows", f"{sp}({ph}): {e.message}")
+                ok = False
+                continue
+            for rname in out.extent_rates:
+                used = {p.phase for p in reactions[rname].participants if p.species == sp}
+                if used and reached not in used:
+                    c.add(f"{stream.key}.flows", f"{sp} is fed as {ph} and reaches the reactor temperature "
+                                                 f"({t_out:g} K) as {reached}, but reaction {rname} uses "
+                                                 f"{sp}({'/'.join(sorted(used))}); write the equation with the phase the "
+                                                 "species has in the reactor")
+                    ok = False
+    return ok
+
+
 def mass_hint(what: str) -> str:
     """The message for a mass written where the species is not known."""
     return f"to convert it to mol, {what}"

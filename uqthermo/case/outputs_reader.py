@@ -342,6 +342,7 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
                 out.extent_divisor[rname] = 1.0
         if "feed" in o:
             ok = design.read_feeds(c, o["feed"], key, out, species, data, _species_ref) and ok
+            ok = ok and t and design.check_feed_phases(c, out, species, reactions)
         return ok
     # adiabatic_temperature_rise
     r = _reaction(c, o, key, reactions)
