@@ -214,7 +214,7 @@ def job_sentence(results: Mapping) -> str:
                 sp = sp.replace("at ", "from ", 1) if o.get("kind") == "adiabatic_temperature_rise" else sp
             s += " " + sp
         if tb.limit_text(o):
-            s += f", with the probability that {tb.limit_text(o)}"
+            s += f", with P({tb.limit_text(o)})"
         parts.append(s)
     if not parts:
         what = "no outputs"

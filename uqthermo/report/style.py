@@ -246,10 +246,10 @@ def _prob_number(x: float, up: bool = False) -> str:
         pct = m * 10.0 ** (e + 2)
         dec = max(0, 1 - (e + 2))
         s = f"{pct:.{dec}f}"
-        if "." in s:
+        if up and "." in s:           # a bound rounded up needs no trailing zero; an estimate keeps two digits
             s = s.rstrip("0").rstrip(".")
         return f"{s} %"
-    ms = f"{m:.1f}".rstrip("0").rstrip(".")
+    ms = f"{m:.1f}".rstrip("0").rstrip(".") if up else f"{m:.1f}"
     return f"{ms}×10{str(e).translate(_SUPERSCRIPT)}" if math.isfinite(m) else "—"
 
 

@@ -671,7 +671,7 @@ def bounds_table(results: Mapping, output: Mapping, key: str) -> DisplayTable:
 
 def safety_table(results: Mapping, output: Mapping, key: str) -> DisplayTable:
     """Thermal-safety indicators of an adiabatic output (final temperature, MTSR, criticality class)."""
-    t = DisplayTable(key, "Thermal-safety indicators (estimates; see the cautions)", ["Indicator", "Value"], ["w", "r"])
+    t = DisplayTable(key, "Thermal-safety indicators (estimates; see the cautions)", ["Indicator", "Value"], ["w", "w"])
     pts = points(output)
     if output.get("kind") != "adiabatic_temperature_rise" or not pts:
         return t
@@ -707,9 +707,9 @@ def safety_table(results: Mapping, output: Mapping, key: str) -> DisplayTable:
     if isinstance(probs, Mapping) and probs:
         ubs = p.get("criticality_class_probabilities_upper_bounds") or {}
         n = (p.get("monte_carlo") or {}).get("samples")
-        add("Probability of each criticality class", "; ".join(
-            f"{text(k)}: {probability_text(v, ubs.get(k), n) if ubs else fmt_fixed(100 * (num(v) or 0), 1) + ' %'}"
-            for k, v in probs.items()))
+        for k, v in probs.items():
+            add(f"P(criticality class {text(k)})",
+                probability_text(v, ubs.get(k), n) if ubs else fmt_fixed(100 * (num(v) or 0), 1) + " %")
     for k, lab in (("p_mtsr_above_mtt", "P(MTSR > MTT)"), ("p_mtsr_above_td24", "P(MTSR > T_D24)"),
                    ("p_phase_change", "P(the charge reaches a phase change on its real path, e.g. the solvent boils)")):
         if p.get(k) is not None:
