@@ -76,6 +76,7 @@ def _inputs_table(case: Case) -> list[dict]:
             "estimate": est, "standard_uncertainty": u, "unit": unit, "source": d.source,
             "n_parameters": len(d.distributions), "library": d.library or None, "assumed": bool(d.assumed),
             "uncertain": d.uncertain,
+            **({"provenance": d.provenance} if getattr(d, "provenance", None) else {}),
         })
     return rows
 

@@ -442,7 +442,10 @@ def parse_case(raw: dict, fname: str, sha: str = "", *, library: bool = True) ->
     data: dict[str, Datum] = {}
     from .species_reader import read_species  # local import keeps the module graph one-way
 
-    species = read_species(c, raw.get("species"), data, settings, library=library)
+    from .temperature_windows import species_demands
+
+    species = read_species(c, raw.get("species"), data, settings, library=library,
+                           demands=species_demands(raw, settings.reference_temperature))
     from .reactions_reader import read_reactions
 
     reaction_node = raw.get("reaction", {})

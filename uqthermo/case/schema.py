@@ -93,6 +93,7 @@ class Datum:
     positions: list[int] = field(default_factory=list)
     nominal: np.ndarray | float | None = None
     assumed: bool = False
+    provenance: dict | None = None     # library = "auto": where value and uncertainty come from (results.json)
 
     @property
     def uncertain(self) -> bool:

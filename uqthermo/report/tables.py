@@ -535,6 +535,9 @@ def inputs_table(results: Mapping) -> DisplayTable:
         ])
     if any(i.get("assumed") for i in rows):
         t.notes.append("(assumed): the dataset states no uncertainty for this value; the uncertainty written in the case is an assumption — check it.")
+    from .library_notes import provenance_notes
+
+    t.notes += provenance_notes(rows)
     n_multi = [i for i in rows if (num(i.get("n_parameters")) or 1) > 1]
     if n_multi:
         t.notes.append("Heat-capacity data with several coefficients count as one datum in the driver ranking; their parameter count is in tables/inputs.csv.")
