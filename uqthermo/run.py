@@ -138,7 +138,8 @@ def _propagate(case: Case, model: Model, warnings: list[str], t0: float, engine:
         lin = propagate_linear(model.f_reported, inputs, coverage=p)
     if s.method in ("monte-carlo", "both") and D > 0:
         mc_kwargs = dict(samples=s.samples, sampling=s.sampling, seed=s.seed, coverage=p,
-                         ndigits=s.significant_digits, progress=progress, rotate=s.sobol_rotation)
+                         ndigits=s.significant_digits, progress=progress, rotate=s.sobol_rotation,
+                         stop_columns=model.n_reported)   # auxiliary indicators do not stop an adaptive run
         if s.samples == "adaptive":
             mc_kwargs["max_samples"] = s.max_samples
             mc_kwargs["check_shortest"] = s.adaptive_intervals == "both"
