@@ -480,3 +480,15 @@ charge = {{ {charge} }}
     gas.TPX = 300.0, 1e5, nf
     gas.HP = h0, 1e5
     assert 300.0 + hp["linear"]["estimate"] == pytest.approx(gas.T, abs=0.02)
+
+
+def test_adaptive_run_stops_on_the_outputs_not_on_rare_class_indicators(tmp_path):
+    # P(MTSR > TD24) ≈ Φ(−(440 − 400)/5) ≈ 6e-16 and P(class 3) ≈ 1.3e-3: indicator columns whose batch
+    # standard deviations cannot settle to two digits; the JCGM 101 §7.9 test looks at ΔT_ad only.
+    text = case_text(output=adiabatic(more='process_temperature = "300 K"\nmtt = "415 K"\ntd24 = "440 K"'))
+    text = text.replace("samples = 20000", 'samples = "adaptive"\nmax_samples = 400000')
+    res = run(tmp_path, text, method="monte-carlo")
+    assert res.results["run"]["mc_converged"] is True
+    pt = point(res)
+    assert pt["p_mtsr_above_td24"] == 0.0
+    assert pt["p_mtsr_above_td24_upper_bound"] == pytest.approx(1 - 0.05 ** (1 / pt["p_mtsr_above_td24_trials"]))
