@@ -86,9 +86,14 @@ def build_parser() -> argparse.ArgumentParser:
                         description="Find the cheapest set of candidate measurements ([[candidate]] in the case) that "
                                     "meets a target on the expanded uncertainty, and the cost–uncertainty Pareto front.")
     pl.add_argument("case", help="case file (TOML) with [[candidate]] entries")
-    g = pl.add_mutually_exclusive_group(required=True)
-    g.add_argument("--target", help="e.g. \"U95 <= 2 kJ/mol\" (U95: expanded uncertainty at 95 %%; also u, halfwidth)")
-    g.add_argument("--budget", type=float, help="spend at most this much; minimise the expanded uncertainty")
+    pl.add_argument("--target", action="append",
+                    help="e.g. \"U95 <= 2 kJ/mol\" (U95: expanded uncertainty at 95 %%; also u, halfwidth); "
+                         "\"U95 <= 5 %%\" relative to the estimate; \"NAME: U95 <= 2 kJ/mol\" for one output "
+                         "(repeat --target for several outputs)")
+    pl.add_argument("--budget", type=float, help="spend at most this much; with no target, minimise the worst "
+                                                 "expanded uncertainty (outputs of one unit, or --relative)")
+    pl.add_argument("--relative", action="store_true",
+                    help="with --budget and no target: compare U as %% of each point's estimate")
     pl.add_argument("--output", dest="output_name", help="plan for this output only (default: all outputs)")
     pl.add_argument("--out", help="folder for plan.json, plan.csv and the front figure")
     pl.add_argument("--force", action="store_true", help="replace an existing output folder")

@@ -60,7 +60,7 @@ class Settings:
     sobol_samples: int = 1024
     design_probabilities: list[float] = field(default_factory=lambda: [0.95, 0.99])
     what_if: bool = True
-    plan_target: str | None = None       # e.g. "U95 <= 2 kJ/mol": run the purchase planner in `run`
+    plan_target: str | list[str] | None = None   # e.g. "U95 <= 2 kJ/mol" (or per output): plan inside `run`
     plan_budget: float | None = None
 
 

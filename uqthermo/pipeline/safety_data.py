@@ -76,12 +76,8 @@ def limit_block(case: Case, o: OutputSpec, unit: str) -> dict | None:
 
 
 def _drivers(shares: dict[str, float], corr: float) -> list[dict]:
-    """Rows largest first; when correlations reduce the variance (corr < 0) the shares are fractions of the gross
-    budget Σ shares + |corr| (as the output's own drivers, results._budget_shares), so each lies in [0, 1]."""
-    if corr < 0:
-        gross = 1.0 + 2.0 * abs(corr)
-        shares = {d: s / gross for d, s in shares.items()}
-        corr = corr / gross
+    """Rows largest first, as fractions of u²(margin) like the outputs' own drivers: the covariance terms
+    between data are one signed row, so that the rows sum to 1 (a share may exceed 1 beside a negative row)."""
     rows = [{"datum": d, "share": s} for d, s in sorted(shares.items(), key=lambda kv: -kv[1]) if s > 1e-12]
     if abs(corr) > 1e-12:
         rows.append({"datum": "(correlations between data)", "share": corr})
