@@ -201,13 +201,12 @@ def adiabatic_point(case: Case, model, o: OutputSpec, i: int, pt: dict, mc, lin,
         elif y0 is not None:
             bl["tempering_point_reached_at_estimates"] = bool(y0[tc] > 0.5)
         ev = []
-        from .. import thermo  # noqa: F401  (molar masses below come from the case's formulas)
-        from ..case.balances import _molar_mass
+        from ..case.design_reader import molar_mass
 
         for a in model.aux:
             if a.output == i and a.name.startswith("evaporated:"):
                 sp, ph = a.name.split(":", 1)[1].rsplit(".", 1)
-                M = _molar_mass(case.species[sp])
+                M = molar_mass(None, case.species[sp], "")
                 tr = next((t for t in case.species[sp].transitions if t.from_phase == ph and t.to_phase == "g"), None)
                 mol = continuous_fields(mc, y0, a.column, "mol")
                 row = {"species": sp, "phase": ph, "boiling_point_K": tr.temperature if tr else None,
