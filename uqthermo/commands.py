@@ -55,9 +55,9 @@ def print_summary(results: dict, console=None) -> None:
     from rich.table import Table
 
     from .report.drivers import driver_rows, rows_sum_note, share_text
-    from .text_safety import markup_view
+    from .text_safety import markup_view, terminal_text
 
-    results = markup_view(results)
+    raw, results = results, markup_view(results)
     console = console or _console()
     p = None
     notes: dict[str, None] = {}
@@ -79,17 +79,13 @@ def print_summary(results: dict, console=None) -> None:
             table.add_row(f"{out['name']} \\[{out['unit']}]", f"{pt['temperature_K']:.2f}", _sig(est, u), _sig(u, u),
                           f"[{_sig(ci[0], u)}, {_sig(ci[1], u)}]",
                           _reported(pt), drivers)
-            if "exceedance_probability" in pt and pt["exceedance_probability"] is not None:
-                se = pt.get("exceedance_standard_error")
-                table.add_row("", "", "", "", f"P(T_final > {out.get('limit_K'):.1f} K) = "
-                              f"{pt['exceedance_probability']:.3g}" + (f" ± {se:.1g}" if se else ""), "", "")
-            if pt.get("p_phase_change") is not None:
-                table.add_row("", "", "", "", f"P(phase change of the charge) = {pt['p_phase_change']:.3g}", "", "")
         if len(pts) > len(show):
             table.add_row(f"  … {len(pts) - len(show)} more temperatures in results.json", "", "", "", "", "", "")
     console.print(table)
     for n in notes:
         console.print(f"top drivers: {n}")
+    for line in safety_lines(raw):     # plain text: control characters made visible, no markup
+        console.print(terminal_text(line), highlight=False, markup=False)
     if p is not None:
         console.print(f"coverage probability {p:g}; estimate and u from Monte Carlo where run "
                       f"({results['run']['samples']} trials, {results['run']['sampling']}), else the linear method; "
@@ -101,6 +97,74 @@ def print_summary(results: dict, console=None) -> None:
         console.print(f"[yellow]warning:[/yellow] {w}")
     if results.get("cautions"):
         console.print("[bold]caution:[/bold] " + results["cautions"][0])
+
+
+def safety_lines(results: dict) -> list[str]:
+    """Design and safety numbers under the summary table: every probability with its one-sided
+    upper bound (report.style.probability_text), the MTSR (no evaporative cooling) and, separately,
+    the boiling-limited end state."""
+    from .report.style import count_text, probability_text
+    from .report.tables import limit_text, probability_cell
+
+    def P(label: str, txt: str) -> str:
+        return f"P({label}) {'' if txt.startswith('<') else '= '}{txt}"
+
+    lines = []
+    for out in results.get("outputs", []):
+        name = out.get("name")
+        pts = out.get("points") or []
+        lim = limit_text(out)
+        probs = [pt for pt in pts if pt.get("exceedance_probability") is not None]
+        if probs:
+            worst = max(probs, key=lambda pt: pt["exceedance_probability"])
+            where = "" if len(pts) == 1 else f" (highest of {len(pts)} temperatures, at {worst['temperature_K']:.2f} K)"
+            lines.append(f"{name}: {P(lim or 'beyond the limit', probability_cell(worst, 'exceedance_probability'))}{where}")
+        if out.get("kind") != "adiabatic_temperature_rise" or not pts:
+            continue
+        pt = pts[0]
+        if pt.get("mtsr_K") is not None:
+            parts = [f"MTSR {pt['mtsr_K']:.1f} K (rise without evaporative cooling)"]
+            for key, lab in (("p_mtsr_above_mtt", "MTSR > MTT"), ("p_mtsr_above_td24", "MTSR > TD24")):
+                if pt.get(key) is not None:
+                    parts.append(P(lab, probability_cell(pt, key)))
+            if pt.get("criticality_class") is not None:
+                cp = pt.get("criticality_class_probabilities") or {}
+                ub = pt.get("criticality_class_probabilities_upper_bounds") or {}
+                n = (pt.get("monte_carlo") or {}).get("samples")
+                shown = [f"{k}: {probability_text(v, ub.get(k), None)}" for k, v in cp.items() if v]
+                parts.append(f"criticality class {pt['criticality_class']} at the estimates" +
+                             (f" (class probabilities {', '.join(shown)}; {count_text(n)} trials)" if shown and n else ""))
+            lines.append(f"{name}: " + "; ".join(parts))
+        bl = pt.get("boiling_limited")
+        if bl:
+            ft = bl.get("final_temperature_K") or {}
+            t_end = ft.get("mean", ft.get("estimate"))
+            parts = ["boiling-limited end state (evaporative cooling)"]
+            if bl.get("p_tempering_point_reached") is not None:
+                parts.append(P("tempering point reached", probability_text(
+                    bl["p_tempering_point_reached"], bl.get("p_tempering_point_reached_upper_bound"), bl.get("trials"))))
+            if t_end is not None:
+                parts.append(f"end temperature {t_end:.1f} K")
+            for ev in bl.get("evaporated") or []:
+                mol, kg = ev.get("mol") or {}, ev.get("kg") or {}
+                m = mol.get("mean", mol.get("estimate"))
+                if m is None:
+                    continue
+                txt = f"{ev['species']}({ev['phase']}) evaporated: mean {m:.3g} mol"
+                if kg.get("mean", kg.get("estimate")) is not None:
+                    txt += f" ({kg.get('mean', kg.get('estimate')):.3g} kg)"
+                if mol.get("P95") is not None:
+                    txt += f", 95th percentile {mol['P95']:.3g} mol"
+                parts.append(txt)
+            lines.append(f"{name}: " + "; ".join(parts))
+        for key, lab, unit in (("specific_heat_of_reaction", "Q'_r", "kJ/kg"), ("specific_heat_capacity", "c'_p", "J/(g*K)"),
+                               ("final_pressure", "final pressure of the closed vessel (ideal gas)", "kPa")):
+            blk = pt.get(key)
+            if blk:
+                v = blk.get("mean", blk.get("estimate"))
+                u = blk.get("standard_uncertainty")
+                lines.append(f"{name}: {lab} = {_sig(v, u)}" + (f" ± {_sig(u, u)}" if u else "") + f" {unit}")
+    return lines
 
 
 def cmd_run(args) -> int:
@@ -170,12 +234,16 @@ def cmd_check(args) -> int:
     problems: list[Problem] = []
     console = _console()
     for path in args.cases:
+        case = None
         try:
             case = load_case(path)
             model, model_warnings = prepare_model(case)
             warnings = case.warnings + model_warnings
         except InputError as e:
             problems += e.problems
+            # the warnings often name the slip behind the problems (e.g. a reference temperature in degC)
+            for w in (case.warnings if case is not None else getattr(e, "warnings", [])):
+                console.print(f"{path}: warning: {w}")
             continue
         n_unc = sum(1 for d in case.data.values() if d.uncertain)
         console.print(f"{markup(path)}: OK — {len(case.species)} species, {len(case.reactions)} reactions, "

@@ -137,10 +137,6 @@ def _out_of_memory_text() -> str:
 
 def _run_case(path: str | Path, *, samples, seed, method, sampling, engine, scheduler, progress,
               what_if) -> RunResult:
-    from .uq.linear import propagate_linear
-    from .uq.montecarlo import propagate_monte_carlo
-    from .uq.validation import validate_linear
-
     t0 = time.perf_counter()
     case = load_case(path)
     s = case.settings
@@ -172,6 +168,27 @@ def _run_case(path: str | Path, *, samples, seed, method, sampling, engine, sche
 
         resolve_plan_request(case, model, target=s.plan_target, budget=s.plan_budget,
                              key="settings.plan_target" if s.plan_target else "settings.plan_budget")
+    try:
+        return _propagate(case, model, warnings, t0, engine, scheduler, progress)
+    except (InputError, KeyboardInterrupt):
+        raise
+    except UqthermoError as e:
+        if not e.key:
+            raise
+        # a corner the probes before the run did not reach: still one line naming the key, nothing written
+        key = e.key if e.key.startswith(("output", "candidate", "species", "reaction", "settings")) else \
+            (f"species.{e.key}" if e.key.split(".")[0] in case.species else e.key)
+        raise InputError([Problem(case.path, key, f"{e.message} (met during the run, beyond the probes of "
+                                                  "'uqthermo check')")]) from None
+
+
+def _propagate(case: Case, model: Model, warnings: list[str], t0: float, engine: str, scheduler, progress) -> RunResult:
+    """Linear and Monte Carlo propagation, validation and results assembly (see :func:`run_case`)."""
+    from .uq.linear import propagate_linear
+    from .uq.montecarlo import propagate_monte_carlo
+    from .uq.validation import validate_linear
+
+    s = case.settings
     inputs = model.inputs
     p = s.coverage_probability
     D = len(inputs.variables)
@@ -184,7 +201,8 @@ def _run_case(path: str | Path, *, samples, seed, method, sampling, engine, sche
         lin = propagate_linear(model.f_reported, inputs, coverage=p)
     if s.method in ("monte-carlo", "both") and D > 0:
         mc_kwargs = dict(samples=s.samples, sampling=s.sampling, seed=s.seed, coverage=p,
-                         ndigits=s.significant_digits, progress=progress, rotate=s.sobol_rotation)
+                         ndigits=s.significant_digits, progress=progress, rotate=s.sobol_rotation,
+                         stop_columns=model.n_reported)   # auxiliary indicators do not stop an adaptive run
         if s.samples == "adaptive":
             mc_kwargs["max_samples"] = s.max_samples
             mc_kwargs["check_shortest"] = s.adaptive_intervals == "both"

@@ -82,7 +82,9 @@ class Collector:
 
     def raise_if_any(self) -> None:
         if self.problems:
-            raise InputError(self.problems)
+            err = InputError(self.problems)
+            err.warnings = list(self.warnings)   # shown by `check` beside the problems
+            raise err
 
 
 # ----------------------------------------------------------------------------- helpers
@@ -95,10 +97,27 @@ def _is_table(x: Any) -> bool:
     return isinstance(x, dict)
 
 
-def _quantity(c: Collector, value: Any, key: str, dimension: str, *, difference: bool = False) -> float | None:
+#: the mass dimension an amount (rate) may be written in, converted with a molar mass
+MASS_OF = {"amount": "mass", "amount_rate": "mass_rate"}
+
+
+def _quantity(c: Collector, value: Any, key: str, dimension: str, *, difference: bool = False,
+              molar_mass: float | str | None = None) -> float | None:
+    """Parse ``value`` as ``dimension``; an amount (rate) may also be a mass (rate) when ``molar_mass``
+    (kg/mol) is given — a string there is the hint shown when a mass cannot be converted."""
     try:
         return parse_quantity(value, dimension, difference=difference)
     except UnitProblem as e:
+        if dimension in MASS_OF and molar_mass is not None:
+            try:
+                m = parse_quantity(value, MASS_OF[dimension], difference=difference)
+            except UnitProblem:
+                pass
+            else:
+                if isinstance(molar_mass, str):
+                    c.add(key, f"{value!r} is a mass; {molar_mass}")
+                    return None
+                return m / molar_mass
         c.add(key, str(e))
         return None
 
@@ -136,17 +155,23 @@ _REPORT = {
     "amount": ("mol", 1.0),
     "amount_rate": ("mol/s", 1.0),
     "dimensionless": ("1", 1.0),
+    "power": ("kW", 1e-3),
+    "energy": ("kJ", 1e-3),
+    "specific_energy": ("kJ/kg", 1e-3),
+    "pressure": ("kPa", 1e-3),
 }
 
 
 def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positive: bool = False,
-                   temperature: bool = False) -> tuple[float, Any, str, str] | None:
+                   temperature: bool = False, molar_mass: float | str | None = None) -> tuple[float, Any, str, str] | None:
     """Read an uncertain quantity: a plain string (exact) or a table (contract §2).
 
     Returns ``(estimate, distribution, stated, source)`` in engine units, or ``None``
-    after recording the problem.
+    after recording the problem. ``molar_mass`` (kg/mol): an amount (rate) may be written
+    as a mass (rate), e.g. ``"252 kg"`` or ``"900 kg/h"`` (see :func:`_quantity`).
     """
-    reader = (lambda v, k: _temperature(c, v, k)) if temperature else (lambda v, k: _quantity(c, v, k, dimension))
+    reader = (lambda v, k: _temperature(c, v, k)) if temperature else (
+        lambda v, k: _quantity(c, v, k, dimension, molar_mass=molar_mass))
     if not _is_table(node):
         v = reader(node, key)
         if v is None:
@@ -187,7 +212,7 @@ def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positiv
 
     def _diff(val: Any, k: str) -> float | None:
         # uncertainties are differences: "5 degC" means 5 K
-        x = _quantity(c, val, k, dimension, difference=True)
+        x = _quantity(c, val, k, dimension, difference=True, molar_mass=molar_mass)
         if x is None:
             return None
         if not (x > 0):
@@ -214,6 +239,10 @@ def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positiv
         if U is not None:
             std = U / float(kf)
         stated = f"U = {node['U']} (k = {kf})"
+        if kf > 13 or kf < 1:   # t_0.975 with one degree of freedom is 12.7; k < 1 makes U smaller than u
+            c.warn(f"{key}.k", f"coverage factor k = {kf:g} is outside anything in use (about 1 to 3; up to 12.7 for a "
+                               "95 % t-interval with one degree of freedom); was a confidence level (e.g. 95) or a "
+                               f"count written as k? It is used as stated: u = U/k")
     elif kind == "half_width":
         half = _diff(node["half_width"], f"{key}.half_width")
         stated = f"half-width {node['half_width']}"
@@ -227,6 +256,10 @@ def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positiv
                 c.add(f"{key}.relative_u", "a relative uncertainty of a zero value is zero; give u instead")
                 return None
             std = abs(v) * r
+            if temperature and isinstance(node["value"], str) and re.search(r"deg\s*[CF]|°|℃", node["value"]):
+                c.warn(f"{key}.relative_u", f"a relative uncertainty of a temperature is taken of the absolute value: "
+                                            f"{node['relative_u']} of {_fmt(v)} K = {_fmt(std)} K, not of the "
+                                            f"{node['value']!r} number; give u in K if that was meant")
         stated = f"relative u = {node['relative_u']}"
     if std is None and half is None:
         return None
@@ -267,6 +300,10 @@ def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positiv
     except UqthermoError as e:
         c.add(key, e.message)
         return None
+    sd = float(getattr(d, "std", 0.0))
+    if v != 0 and sd > abs(v):
+        c.warn(key, f"the standard uncertainty is {100 * sd / abs(v):.0f} % of the value; a relative uncertainty written "
+                    "as u (use relative_u = \"… %\"), or a unit slip in u? It is used as stated")
     if temperature and getattr(d, "std", 0.0) > 0:
         lo = float(np.asarray(d.ppf(np.array([1e-9])), dtype=float).reshape(-1)[0])
         if not lo > 0:
@@ -431,6 +468,9 @@ def parse_case(raw: dict, fname: str, sha: str = "", *, library: bool = True) ->
     outputs = read_outputs(c, raw.get("output"), species, reactions, data, settings)
     correlations = _correlations(c, raw.get("correlation", []), data)
     candidates = _candidates(c, raw.get("candidate", []), data)
+    from .plausibility import check_case
+
+    check_case(c, raw, species, data, settings, library)
     from .document_reader import read_document, temperature_unit
 
     document = read_document(c, raw.get("document"))
@@ -690,7 +730,8 @@ def _candidates(c: Collector, node: Any, data: dict[str, Datum]) -> list[Candida
                                   "(e.g. 0.5 halves its uncertainty)")
                 continue
             dim = {"kJ/mol": "molar_energy", "J/(mol*K)": "molar_entropy", "K": "temperature", "mol": "amount",
-                   "mol/s": "amount_rate", "1": "dimensionless"}[datum.unit]
+                   "mol/s": "amount_rate", "1": "dimensionless", "kW": "power", "kJ": "energy",
+                   "kJ/kg": "specific_energy", "kPa": "pressure"}[datum.unit]
             val = _quantity(c, item["u"], f"{key}.u", dim, difference=True)
             if val is None:
                 continue

@@ -296,6 +296,7 @@ def propagate_monte_carlo_dask(
     rotate: bool = True,
     block_rows: int | None = None,
     n_workers: int = 2,
+    stop_columns: int | None = None,
 ) -> MonteCarloResult:
     """Propagate distributions by Monte Carlo (JCGM 101 §7) on a Dask cluster.
 
@@ -327,7 +328,8 @@ def propagate_monte_carlo_dask(
         if adaptive:
             return _adaptive(client, cluster.n_workers, f_remote, in_remote, inputs, method, int(seed), p,
                              chunk_size, int(ndigits), progress, keep, int(max_samples), batch_size,
-                             check_shortest, int(max_stored_values), int(histogram_bins), rotation)
+                             check_shortest, int(max_stored_values), int(histogram_bins), rotation,
+                             stop_columns=stop_columns)
         return _fixed(client, cluster.n_workers, f_remote, in_remote, d, method, int(seed), p, int(samples),
                       chunk_size, int(ndigits), progress, keep, int(max_stored_values), int(histogram_bins),
                       block_rows, rotation)
@@ -418,7 +420,8 @@ def _finish(blocks: dict, d, m, p, ndigits, exact, layout, warnings, method, see
 
 
 def _adaptive(client, n_workers, f_remote, in_remote, inputs, method, seed, p, chunk_size, ndigits, progress,
-              keep, max_samples, batch_size, check_shortest, cap, bins, rotation) -> MonteCarloResult:
+              keep, max_samples, batch_size, check_shortest, cap, bins, rotation, *,
+              stop_columns: int | None = None) -> MonteCarloResult:
     """JCGM 101 §7.9 with batches computed in parallel rounds, stopping rule applied in order."""
     d = len(inputs)
     M_b = int(batch_size) if batch_size is not None else adaptive_batch_size(p, method)
@@ -463,7 +466,7 @@ def _adaptive(client, n_workers, f_remote, in_remote, inputs, method, seed, p, c
                 progress(done, None)
             if batches < 2:
                 continue
-            stable, spread = batch_test(summaries, u_all, ndigits, check_shortest)
+            stable, spread = batch_test(summaries, u_all, ndigits, check_shortest, stop_columns)
             if stable or done + M_b > max_samples:
                 converged, stability = stable, spread
                 break

@@ -474,14 +474,18 @@ def _batch_summary(Y: np.ndarray, p: float) -> np.ndarray:
 
 
 def batch_test(summaries: list[np.ndarray], u_all: np.ndarray, ndigits: int,
-               check_shortest: bool) -> tuple[bool, dict]:
+               check_shortest: bool, stop_columns: int | None = None) -> tuple[bool, dict]:
     """JCGM 101 §7.9.4 test after h ≥ 2 batches: (stable for every output, k·s per quantity).
 
     ``summaries``: the h (6, M) :func:`_batch_summary` arrays; s_z = [Σ_r (z⁽ʳ⁾ − z̄)²/(h(h − 1))]^{1/2}
     is the standard deviation of the average of the h batch values, k = :func:`stability_factor`,
-    δ from u(y) of all h·M values (§7.9.2). An output with u(y) = 0 is stable.
+    δ from u(y) of all h·M values (§7.9.2). An output with u(y) = 0 is stable. ``stop_columns``:
+    only the first columns are output quantities (the rest, e.g. indicators of rare events whose
+    batch standard deviation cannot settle to two digits, are carried along but do not stop the run).
     """
     S = np.stack(summaries)  # (h, 6, M)
+    if stop_columns is not None:
+        S, u_all = S[:, :, :stop_columns], np.asarray(u_all)[:stop_columns]
     h = S.shape[0]
     s = np.sqrt(np.var(S, axis=0, ddof=1) / h)
     delta = numerical_tolerance(u_all, ndigits)
@@ -545,6 +549,7 @@ def propagate_monte_carlo(
     max_stored_values: int = MAX_STORED_VALUES,
     histogram_bins: int = HISTOGRAM_BINS,
     rotate: bool = True,
+    stop_columns: int | None = None,
 ) -> MonteCarloResult:
     """Propagate the input distributions through f by Monte Carlo (JCGM 101 §7).
 
@@ -581,6 +586,8 @@ def propagate_monte_carlo(
     rotate : bool
         Sobol' sampling: drive the input scores rotated onto the model's linear directions
         (:func:`score_rotation`); False keeps one Sobol' coordinate per input.
+    stop_columns : int, optional
+        Adaptive: only the first ``stop_columns`` outputs must be stable (:func:`batch_test`).
 
     Returns
     -------
@@ -672,7 +679,7 @@ def propagate_monte_carlo(
                     progress(done, None)
                 if batches < 2:
                     continue
-                stable, spread = batch_test(summaries, u_all, ndigits, check_shortest)
+                stable, spread = batch_test(summaries, u_all, ndigits, check_shortest, stop_columns)
                 if stable or done + M_b > max_samples:
                     converged, stability = stable, spread
                     break
