@@ -213,7 +213,10 @@ def _draw_distribution(results: Mapping, output: Mapping, point: Mapping) -> Fig
     ax.set_xlabel(_axis_label(_sym(output.get("kind")), unit))
     ax.set_ylabel("probability density")
     _titles(fig, f"{mpl_text(text(output.get('name')))}: output distribution {_at(results, output, point)}")
-    fig.legend(*ax.get_legend_handles_labels(), loc="outside lower center", ncols=2, fontsize=8, frameon=False)
+    handles, labels = ax.get_legend_handles_labels()
+    ncols = 2 if max(map(len, labels), default=0) <= 58 else 1
+    fig.set_figheight(2.85 + 0.19 * math.ceil(len(labels) / ncols))     # the plot keeps its height beside a long legend
+    fig.legend(handles, labels, loc="outside lower center", ncols=ncols, fontsize=8, frameon=False)
     ax.grid(axis="x", visible=False)
     return fig
 

@@ -33,6 +33,8 @@ def split_plateau(output: Mapping, point: Mapping, edges: np.ndarray, counts: np
     p = num(point.get("p_phase_change"))
     if output.get("kind") != "adiabatic_temperature_rise" or not p or edges.size < 2 or counts.sum() <= 0:
         return counts, None, 0.0
+    if "boiling_limited" in point or point.get("mtsr_basis"):
+        return counts, None, 0.0        # the rise is computed without evaporative cooling: no atom at the boiling point
     total = counts.sum()
     c = counts.astype(float).copy()
     c[-1] = max(c[-1] - p * total, 0.0)
@@ -67,6 +69,23 @@ def draw_marks(ax, results: Mapping, output: Mapping, point: Mapping, atom: tupl
                 label=mpl_text(f"phase change{at}: {fmt_probability(p_atom, point.get('p_phase_change_standard_error'))} "
                                "of trials pile up there (spike)"))
     span = max(hi_x - lo_x, 1e-9)
+    bl = point.get("boiling_limited")
+    if isinstance(bl, Mapping):        # rise without evaporative cooling: mark where the solvent starts to boil
+        from .style import probability_text
+
+        seen = set()
+        for ev in bl.get("evaporated") or []:
+            tb = num(ev.get("boiling_point_K"))
+            x = _rise_of(tb, output, process=False)
+            if x is None or tb in seen or not (lo_x - 0.6 * span <= x <= hi_x + 0.6 * span):
+                continue
+            seen.add(tb)
+            ax.axvline(x, color=ROLE["phase"], linewidth=2.2, linestyle="-")
+            ptxt = probability_text(bl.get("p_tempering_point_reached"), bl.get("p_tempering_point_reached_upper_bound"),
+                                    bl.get("trials"))
+            ax.plot([], [], color=ROLE["phase"], linewidth=2.2,
+                    label=mpl_text(f"{ev.get('species')} boils at {fmt_T(tb, tunit)}: reached in {ptxt}"))
+            lo_x, hi_x = min(lo_x, x - 0.02 * span), max(hi_x, x + 0.02 * span)
     for key, name, ls in (("mtt_K", "MTT", (0, (5, 2))), ("td24_K", "T_D24", (0, (1, 1.5)))):
         T = num(output.get(key))
         x = _rise_of(T, output, process=True)

@@ -21,8 +21,8 @@ from collections.abc import Callable, Mapping
 from typing import Any
 
 from ..tables import (
-    DisplayTable, coverage_probability, fmt_fixed, headline_index, kind_label, num, outputs, pct_label, points,
-    slugs, text, uncertainty_decimals,
+    DisplayTable, coverage_probability, fmt_fixed, headline_index, kind_label, limit_text, num, outputs, pct_label,
+    points, slugs, text, uncertainty_decimals,
 )
 from ..units import fmt_T, symbol, temperature_unit
 from . import budget as bud
@@ -110,27 +110,78 @@ def design_table(results: Mapping, key: str, tunit: str) -> DisplayTable:
             if v is not None and kind in ("heat_release", "adiabatic_temperature_rise"):
                 row(f"{sym}: {lab}", Parts([N.value(v, d, N.path(base, rel)), us]), basis)
         if kind == "adiabatic_temperature_rise":
+            no_evap = "boiling_limited" in p or p.get("mtsr_basis")
             if num(p.get("final_temperature_K")) is not None:
-                row("final temperature T_start + ΔT_ad (estimate)",
+                row("final temperature T_start + ΔT_ad" + (" (no evaporative cooling)" if no_evap else ""),
                     N.temperature(p.get("final_temperature_K"), tunit, N.path(base, "final_temperature_K")), "estimate")
             if num(p.get("mtsr_K")) is not None:
                 row("MTSR (maximum temperature of the synthesis reaction)",
-                    N.temperature(p.get("mtsr_K"), tunit, N.path(base, "mtsr_K")), "estimate")
-            for k2, lab in (("mtt_K", "MTT (maximum technical temperature), stated"), ("td24_K", "T_D24, stated")):
-                if num(o.get(k2)) is not None:
-                    row(lab, N.temperature(o.get(k2), tunit, N.path("outputs", oi, k2)), "case")
+                    N.temperature(p.get("mtsr_K"), tunit, N.path(base, "mtsr_K")),
+                    "estimate; rise without evaporative cooling (Stoessel)" if p.get("mtsr_basis") else "estimate")
+            for k2, lab in (("mtt", "MTT (maximum technical temperature), stated"), ("td24", "T_D24, stated")):
+                written = (o.get(k2) or {}).get("as_written") if isinstance(o.get(k2), Mapping) else None
+                if isinstance(written, str) and written.strip():
+                    from ..units import as_written
+
+                    row(lab, Num(as_written(written), N.path("outputs", oi, k2, "as_written"), "as_written"), "case")
+                elif num(o.get(f"{k2}_K")) is not None:
+                    row(lab, N.temperature(o.get(f"{k2}_K"), tunit, N.path("outputs", oi, f"{k2}_K")), "case")
             if p.get("criticality_class") is not None:
                 row("criticality class (Stoessel, 1 lowest to 5 highest)",
-                    Num(text(p.get("criticality_class")), N.path(base, "criticality_class")), "estimate")
+                    Num(text(p.get("criticality_class")), N.path(base, "criticality_class")), "at the estimates")
+            probs = p.get("criticality_class_probabilities")
+            if isinstance(probs, Mapping) and probs:
+                for c, v in probs.items():
+                    if num(v):
+                        row(f"P(criticality class {text(c)})",
+                            Parts([N.percent(v, 1, N.path(base, "criticality_class_probabilities", c)), " %"]),
+                            "Monte Carlo, all trials")
             for k2, lab in (("p_mtsr_above_mtt", "P(MTSR > MTT)"), ("p_mtsr_above_td24", "P(MTSR > T_D24)"),
-                            ("p_phase_change", "P(the charge reaches a phase change)")):
+                            ("p_phase_change", "P(the charge reaches a phase change on its real path)")):
                 if p.get(k2) is not None:
                     row(lab, Parts(probability_parts(p, k2, base)), "Monte Carlo")
-        if p.get("exceedance_probability") is not None:
-            what = ("final temperature" if kind == "adiabatic_temperature_rise"
-                    and o.get("limit_applies_to", "final_temperature") != "rise" else "output")
-            row(Parts([f"P({what} > limit ", N.limit(o, oi, tunit), ")"]), Parts(probability_parts(p, "exceedance", base)),
-                "Monte Carlo" if p.get("monte_carlo") else "linear (normal) approximation")
+            bl = p.get("boiling_limited")
+            if isinstance(bl, Mapping):
+                bbase = N.path(base, "boiling_limited")
+                ft = bl.get("final_temperature_K") if isinstance(bl.get("final_temperature_K"), Mapping) else {}
+                if num(ft.get("estimate")) is not None:
+                    row("end state if the solvent boils: final temperature (tempering point)",
+                        N.temperature(ft.get("estimate"), tunit, N.path(bbase, "final_temperature_K", "estimate")),
+                        "estimate; evaporative cooling, open system")
+                if bl.get("p_tempering_point_reached") is not None:
+                    row("P(the tempering point is reached)", Parts(probability_parts(bl, "p_tempering_point_reached", bbase)),
+                        "Monte Carlo")
+                for ei, ev in enumerate(bl.get("evaporated") or []):
+                    kg = ev.get("kg") if isinstance(ev.get("kg"), Mapping) else {}
+                    if num(kg.get("P95")) is not None:
+                        row(f"{text(ev.get('species'))} evaporated, one-sided 95 % upper bound",
+                            Parts([Num(fmt_fixed(kg.get("P95"), 3), N.path(bbase, "evaporated", ei, "kg", "P95")), " kg"]),
+                            "Monte Carlo quantile")
+            for k2, lab in (("specific_heat_of_reaction", "heat of reaction per mass of charge"),
+                            ("specific_heat_capacity", "specific heat capacity of the charge"),
+                            ("charge_mass", "mass of the charge"), ("final_pressure", "final pressure of the closed vessel")):
+                blk = p.get(k2) if isinstance(p.get(k2), Mapping) else None
+                if not blk or num(blk.get("estimate")) is None:
+                    continue
+                u2 = num(blk.get("standard_uncertainty"))
+                d2 = uncertainty_decimals(u2) if u2 else None
+                val = N.value(blk.get("estimate"), d2, N.path(base, k2, "estimate")) if d2 is not None else \
+                    Num(fmt_fixed(blk.get("estimate"), None), N.path(base, k2, "estimate"))
+                b_text: list[Any] = ["estimate"]
+                if d2 is not None:
+                    b_text += ["; u = ", N.value(u2, d2, N.path(base, k2, "standard_uncertainty")), f" {text(blk.get('unit'))}"]
+                row(lab, Parts([val, f" {text(blk.get('unit'))}"]), Parts(b_text))
+        worst = max((q for q in range(len(pts)) if pts[q].get("exceedance_probability") is not None),
+                    key=lambda q: num(pts[q].get("exceedance_probability")) or 0.0, default=None)
+        if worst is not None:
+            pw = pts[worst]
+            wbase = N.path("outputs", oi, "points", worst)
+            label: list[Any] = ["P(", limit_text(o) or "beyond the limit", ")"]
+            if len(pts) > 1:
+                label += [" at ", N.temperature(pw.get("temperature_K"), tunit, N.path(wbase, "temperature_K")),
+                          " (the highest over the window)"]
+            row(Parts(label), Parts(probability_parts(pw, "exceedance", wbase)),
+                "Monte Carlo" if pw.get("monte_carlo") else "linear (normal) approximation")
     if t.rows:
         t.notes.append("Estimates from the stated data and model; they support, and never replace, calorimetry and a "
                        "qualified hazard review (see the cautions).")

@@ -25,7 +25,9 @@ def probability_parts(point: Mapping, key: str, base: str) -> list[Any]:
     se = point.get(f"{key}_standard_error") if f"{key}_standard_error" in point else point.get(f"{pk}_standard_error")
     ub_key = f"{key}_upper_bound" if f"{key}_upper_bound" in point else f"{pk}_upper_bound"
     ub = point.get(ub_key)
-    trials = (point.get("monte_carlo") or {}).get("samples")
+    stem = pk[: -len("_probability")] if pk.endswith("_probability") else pk
+    trials = next((point.get(k) for k in (f"{stem}_trials", f"{pk}_trials", "trials") if point.get(k) is not None),
+                  (point.get("monte_carlo") or {}).get("samples"))
     helper = getattr(style, "probability_text", None)
     if helper is not None:
         try:
