@@ -162,6 +162,13 @@ name = "dH"
 kind = "reaction_enthalpy"
 reaction = "ox"
 temperatures = { from = "400 K", to = "600 K", step = "100 K" }
+[[output]]
+name = "dH_mass"
+kind = "reaction_enthalpy"
+reaction = "ox"
+temperature = "500 K"
+basis = "mass"
+mass_of = "P"
 '''
 
 
@@ -194,3 +201,12 @@ def test_results_carry_kirchhoff_terms_with_closed_form_uncertainties(tmp_path):
         # independent terms: u(y)² = Σ u(term)²
         u2 = sum(k[x]["standard_uncertainty"] ** 2 for x in k)
         assert np.sqrt(u2) == pytest.approx(p["linear"]["standard_uncertainty"], rel=1e-6)
+
+    # per kg of P (C2H4O2, M = 60.052 g/mol from the IUPAC standard atomic weights C 12.011, H 1.008, O 15.999):
+    # the terms are in the output's unit, kJ/kg, and still sum to its estimate
+    out = res["outputs"][1]
+    assert out["unit"] == "kJ/kg"
+    p = out["points"][0]
+    k = p["kirchhoff_terms"]
+    assert sum(k[x]["estimate"] for x in k) == pytest.approx(p["linear"]["estimate"], rel=1e-12)
+    assert k["at_reference"]["estimate"] == pytest.approx((-430 - 241.826 + 250) / 0.060052, rel=2e-5)

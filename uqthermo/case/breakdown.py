@@ -3,7 +3,7 @@
 :func:`kirchhoff_function` returns ``f(X[N, D]) -> T[N, K]``: for every point of every
 ``reaction_enthalpy`` output, the terms of Kirchhoff's law
 (:func:`uqthermo.thermo.kirchhoff.reaction_enthalpy_terms`) — at reference, sensible, latent
-and each latent term — in kJ/mol, from the same decoded inputs as the model, so that the
+and each latent term — in the output's unit (kJ/mol, or kJ/kg on a mass basis), from the same decoded inputs as the model, so that the
 orchestration can propagate them with the model's :class:`~uqthermo.uq.inputs.InputSet`
 (the terms at the best estimates sum to the model's value there). :class:`TermLayout` says
 which column is which.
@@ -78,8 +78,11 @@ def kirchhoff_function(case: Case, model: Model) -> tuple[Callable[[np.ndarray],
                 T = np.asarray(o.temperatures, dtype=float)
             t = reaction_enthalpy_terms(case.reactions[o.reaction], case.species, T, Tref, _values(sv, ov, o.reaction))
 
-            def col(a):
-                return np.broadcast_to(np.asarray(a, dtype=float), (n, len(rows))) / 1e3
+            # J/mol -> kJ/mol, or kJ/kg on a mass basis (the output's own unit: the builder divides by the same mass)
+            scale = 1e3 * (o.mass_per_unit if getattr(o, "basis", "") == "mass" and getattr(o, "mass_per_unit", None) else 1.0)
+
+            def col(a, scale=scale):
+                return np.broadcast_to(np.asarray(a, dtype=float), (n, len(rows))) / scale
 
             at, se, la = col(t.at_reference), col(t.sensible), col(t.latent)
             lts = {(lt.species, lt.transition): col(lt.value) for lt in t.latent_terms}

@@ -28,7 +28,7 @@ def kirchhoff_terms(case: Case, model: Model) -> dict[tuple[int, int], dict[str,
     """``{(output index, point index): kirchhoff_terms}`` for every reaction-enthalpy point.
 
     Each block is ``{"at_reference": {...}, "sensible": {...}, "latent": {...}}`` with
-    ``estimate`` and ``standard_uncertainty`` in kJ/mol; ``at_reference`` also carries the
+    ``estimate`` and ``standard_uncertainty`` in the output's unit (kJ/mol; kJ/kg on a mass basis); ``at_reference`` also carries the
     ``temperature_K`` and ``anchor`` ("formation" or "measured"), ``latent`` the list
     ``terms`` of the phase changes met (species, transition, temperature_K, coefficient =
     ν·(±1), estimate, standard_uncertainty). The estimates are the terms at the best

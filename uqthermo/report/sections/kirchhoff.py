@@ -56,8 +56,8 @@ def _latent_label(kt: Mapping) -> str:
 
 def concise_table(results: Mapping, key: str, tunit: str = "K") -> DisplayTable:
     """One block of rows per reaction-enthalpy output at its headline point: the three terms and the total."""
-    t = DisplayTable(key, "Kirchhoff breakdown of the reaction enthalpies (at the headline temperature), in kJ/mol",
-                     ["Output", "Term", "Estimate", "u"], ["l", "w", "r", "r"])
+    t = DisplayTable(key, "Kirchhoff breakdown of the reaction enthalpies (at the headline temperature)",
+                     ["Output", "Term", "Estimate", "u", "Unit"], ["l", "w", "r", "r", "l"])
     for oi, o in enumerate(outputs(results)):
         pts = points(o)
         if o.get("kind") != "reaction_enthalpy" or not pts:
@@ -73,14 +73,15 @@ def concise_table(results: Mapping, key: str, tunit: str = "K") -> DisplayTable:
         T = N.temperature(p.get("temperature_K"), tunit, N.path(base, "temperature_K"))
         anchor = "measured ΔrH" if ref.get("anchor") == "measured" else "ΔrH from formation enthalpies"
         name = text(o.get("name"))
-        t.rows.append([name, Parts([f"{anchor} at ", tref]), *_pair(ref, N.path(base, "kirchhoff_terms", "at_reference"))])
+        u_out = text(o.get("unit")) or "kJ/mol"
+        t.rows.append([name, Parts([f"{anchor} at ", tref]), *_pair(ref, N.path(base, "kirchhoff_terms", "at_reference")), u_out])
         t.rows.append(["", Parts(["sensible heat ∫ΔrCp dT from ", tref, " to ", T]),
-                       *_pair(kt["sensible"], N.path(base, "kirchhoff_terms", "sensible"))])
-        t.rows.append(["", _latent_label(kt), *_pair(kt["latent"], N.path(base, "kirchhoff_terms", "latent"))])
+                       *_pair(kt["sensible"], N.path(base, "kirchhoff_terms", "sensible")), u_out])
+        t.rows.append(["", _latent_label(kt), *_pair(kt["latent"], N.path(base, "kirchhoff_terms", "latent")), u_out])
         lin = p.get("linear") or {}
         t.rows.append(["", Parts(["ΔrH(", T, ") (sum; u of the result)"]),
                        *_pair({"estimate": lin.get("estimate"), "standard_uncertainty": lin.get("standard_uncertainty")},
-                              N.path(base, "linear"))])
+                              N.path(base, "linear")), u_out])
     if t.rows:
         t.notes.append("The terms are evaluated at the best estimates of the inputs and sum to the linear (GUM) estimate; "
                        "each u is from the GUM law of propagation. Terms can be correlated, so their u need not add in "
@@ -90,7 +91,8 @@ def concise_table(results: Mapping, key: str, tunit: str = "K") -> DisplayTable:
 
 def point_table(output: Mapping, key: str) -> DisplayTable:
     """All points of one reaction-enthalpy output, temperatures in K (appendix)."""
-    t = DisplayTable(key, f"Kirchhoff breakdown of {text(output.get('name'))} at every temperature, in kJ/mol",
+    t = DisplayTable(key, f"Kirchhoff breakdown of {text(output.get('name'))} at every temperature, in "
+                          f"{text(output.get('unit')) or 'kJ/mol'}",
                      ["T / K", "ΔrH(T_ref)", "u", "∫ΔrCp dT", "u", "Latent heats", "u", "ΔrH(T)", "u"], ["r"] * 9)
     ref_T = None
     for p in points(output):
@@ -112,14 +114,14 @@ def point_table(output: Mapping, key: str) -> DisplayTable:
 
 
 def kirchhoff_frame(results: Mapping) -> pd.DataFrame:
-    """``tables/kirchhoff.csv``: one row per reaction-enthalpy point and term (full precision, kJ/mol)."""
+    """``tables/kirchhoff.csv``: one row per reaction-enthalpy point and term (full precision, the output's unit)."""
     rows = []
     for o in outputs(results):
         for p in points(o):
             if not has_terms(p):
                 continue
             kt = p["kirchhoff_terms"]
-            base = {"output": o.get("name"), "temperature_K": num(p.get("temperature_K")),
+            base = {"output": o.get("name"), "unit": o.get("unit"), "temperature_K": num(p.get("temperature_K")),
                     "reference_temperature_K": num(kt["at_reference"].get("temperature_K"))}
             for name, _ in TERMS:
                 rows.append({**base, "term": name, "estimate": num(kt[name].get("estimate")),
@@ -132,7 +134,7 @@ def kirchhoff_frame(results: Mapping) -> pd.DataFrame:
             lin = p.get("linear") or {}
             rows.append({**base, "term": "total", "estimate": num(lin.get("estimate")),
                          "standard_uncertainty": num(lin.get("standard_uncertainty"))})
-    return pd.DataFrame(rows, columns=["output", "temperature_K", "reference_temperature_K", "term", "coefficient",
+    return pd.DataFrame(rows, columns=["output", "unit", "temperature_K", "reference_temperature_K", "term", "coefficient",
                                        "estimate", "standard_uncertainty"])
 
 
