@@ -362,9 +362,10 @@ def test_markdown_inputs_and_exceedance_equal_results_json(md, results):
     k = round(p["exceedance_probability"] * n)
     m = re.fullmatch(r"([\d.]+) % \(95 % upper bound ([\d.]+) %, ([\d ]+) trials\)", md_unescape(rows[0][2]))
     assert m, rows[0][2]
-    assert float(m.group(1)) == round(100 * p["exceedance_probability"], 1)
+    assert float(m.group(1)) == float(f"{100 * p['exceedance_probability']:.2g}")     # two significant digits
     ub = 100 * stats.beta.ppf(0.95, k + 1, n - k)
-    assert ub <= float(m.group(2)) < ub + 0.1
+    step = 10.0 ** (math.floor(math.log10(ub)) - 1)          # the bound rounded up at two significant digits
+    assert ub <= float(m.group(2)) < ub + step
     assert int(m.group(3).replace(" ", "")) == n
     se = 100 * p["exceedance_standard_error"]
     check_number(rows[0][3].rstrip(" %"), se, gum_decimals(se), "standard error")
