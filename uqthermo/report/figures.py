@@ -295,6 +295,14 @@ def _draw_curve(results: Mapping, output: Mapping) -> Figure:
     ax.set_ylabel(_axis_label(sym, unit))
     axu.set_ylabel(_axis_label("u", unit))
     axu.set_xlabel("T / K")
+    tunit = temperature_unit(results)
+    if tunit != "K":      # the case's own unit on top (the concise section shows this figure)
+        from .units import OFFSET, symbol
+
+        a, b = OFFSET[tunit]
+        top = ax.secondary_xaxis("top", functions=(lambda T: a * T + b, lambda t: (t - b) / a))
+        top.set_xlabel(f"t / {symbol(tunit)}", fontsize=8.5)
+        top.tick_params(labelsize=8)
     _titles(fig, f"{mpl_text(text(output.get('name')))}: {sym} against temperature")
     ax.legend(loc="lower left", fontsize=8, ncols=2)
     axu.legend(loc="upper left", fontsize=8, ncols=2)

@@ -113,10 +113,10 @@ def design_table(results: Mapping, key: str, tunit: str) -> DisplayTable:
             no_evap = "boiling_limited" in p or p.get("mtsr_basis")
             if num(p.get("final_temperature_K")) is not None:
                 row("final temperature T_start + ΔT_ad" + (" (no evaporative cooling)" if no_evap else ""),
-                    N.temperature(p.get("final_temperature_K"), tunit, N.path(base, "final_temperature_K")), "estimate")
+                    N.temperature(p.get("final_temperature_K"), tunit, N.path(base, "final_temperature_K"), dec=d), "estimate")
             if num(p.get("mtsr_K")) is not None:
                 row("MTSR (maximum temperature of the synthesis reaction)",
-                    N.temperature(p.get("mtsr_K"), tunit, N.path(base, "mtsr_K")),
+                    N.temperature(p.get("mtsr_K"), tunit, N.path(base, "mtsr_K"), dec=d),
                     "estimate; rise without evaporative cooling (Stoessel)" if p.get("mtsr_basis") else "estimate")
             for k2, lab in (("mtt", "MTT (maximum technical temperature), stated"), ("td24", "T_D24, stated")):
                 written = (o.get(k2) or {}).get("as_written") if isinstance(o.get(k2), Mapping) else None
@@ -131,11 +131,18 @@ def design_table(results: Mapping, key: str, tunit: str) -> DisplayTable:
                     Num(text(p.get("criticality_class")), N.path(base, "criticality_class")), "at the estimates")
             probs = p.get("criticality_class_probabilities")
             if isinstance(probs, Mapping) and probs:
+                ubs = p.get("criticality_class_probabilities_upper_bounds")
+                ubs = ubs if isinstance(ubs, Mapping) else {}
                 for c, v in probs.items():
                     if num(v):
-                        row(f"P(criticality class {text(c)})",
-                            Parts([N.percent(v, 1, N.path(base, "criticality_class_probabilities", c)), " %"]),
-                            "Monte Carlo, all trials")
+                        view = {"p": v, "p_upper_bound": ubs.get(c), "p_trials": (p.get("monte_carlo") or {}).get("samples")}
+                        parts = probability_parts(view, "p", "")
+                        if parts and isinstance(parts[0], Num):      # point the number at its place in results.json
+                            paths = [N.path(base, "criticality_class_probabilities", c)]
+                            if ubs.get(c) is not None:
+                                paths.append(N.path(base, "criticality_class_probabilities_upper_bounds", c))
+                            parts = [Num(parts[0].text, " ".join(paths), parts[0].op)]
+                        row(f"P(criticality class {text(c)})", Parts(parts), "Monte Carlo, all trials")
             for k2, lab in (("p_mtsr_above_mtt", "P(MTSR > MTT)"), ("p_mtsr_above_td24", "P(MTSR > T_D24)"),
                             ("p_phase_change", "P(the charge reaches a phase change on its real path)")):
                 if p.get(k2) is not None:
@@ -145,9 +152,10 @@ def design_table(results: Mapping, key: str, tunit: str) -> DisplayTable:
                 bbase = N.path(base, "boiling_limited")
                 ft = bl.get("final_temperature_K") if isinstance(bl.get("final_temperature_K"), Mapping) else {}
                 if num(ft.get("estimate")) is not None:
-                    row("end state if the solvent boils: final temperature (tempering point)",
-                        N.temperature(ft.get("estimate"), tunit, N.path(bbase, "final_temperature_K", "estimate")),
-                        "estimate; evaporative cooling, open system")
+                    row("final temperature with evaporative cooling (boiling-limited end state)",
+                        N.temperature(ft.get("estimate"), tunit, N.path(bbase, "final_temperature_K", "estimate"),
+                                      dec=uncertainty_decimals(ft.get("standard_uncertainty"))),
+                        "estimate; the charge may boil, open system")
                 if bl.get("p_tempering_point_reached") is not None:
                     row("P(the tempering point is reached)", Parts(probability_parts(bl, "p_tempering_point_reached", bbase)),
                         "Monte Carlo")

@@ -61,12 +61,16 @@ def value(v: Any, dec: int | None, where: str) -> Num:
     return Num(fmt_fixed(v, dec), where, "value")
 
 
-def temperature(T_K: Any, unit: str, where: str, with_symbol: bool = True) -> Num:
-    """An absolute temperature in the display unit (``where`` is the path of the kelvin value)."""
+def temperature(T_K: Any, unit: str, where: str, with_symbol: bool = True, dec: int | None = None) -> Num:
+    """An absolute temperature in the display unit (``where`` is the path of the kelvin value).
+
+    ``dec``: decimals of an estimated temperature (from its standard uncertainty, GUM 7.2.6); stated
+    temperatures are shown to at most two decimals without trailing zeros.
+    """
     v = from_kelvin(T_K, unit)
     if v is None:
         return Num("—")
-    s = fmt_temperature(round(v, 10))
+    s = fmt_fixed(v, max(dec, 0)) if dec is not None else fmt_temperature(round(v, 10))
     return Num(f"{s} {symbol(unit)}" if with_symbol else s, where, {"degC": "degC", "degF": "degF"}.get(unit, "value"))
 
 
