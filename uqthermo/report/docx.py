@@ -399,7 +399,8 @@ def _column_widths(grid: list[list[Node]], ncols: int, total_cm: float) -> list[
     for row in grid:
         for j, c in enumerate(row[:ncols]):
             n = len(_squash(c.text()).strip())
-            need[j] = max(need[j], min(float(n), 34.0))
+            cap = 12.0 if c.tag == "th" else 34.0          # header words wrap; data cells (ids, numbers) should not
+            need[j] = max(need[j], min(float(n), cap))
     floor = min(1.4, total_cm / ncols)
     scale = (total_cm - floor * ncols) / sum(need) if sum(need) else 0.0
     return [floor + scale * x for x in need]
