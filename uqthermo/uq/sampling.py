@@ -18,6 +18,12 @@ drawing it at once, whatever the chunk size.
   own, seeded from ``(seed, skip, block)``) so that memory stays bounded; chunked
   iteration slices these blocks and is therefore chunk-size independent too.
   Different ``skip`` values give independent designs.
+
+:class:`ScoreStream` is the pseudo-random stream of the Monte Carlo engine: it draws standard
+normal scores directly with ``Generator.standard_normal`` (numpy's ziggurat) instead of
+uniforms through Φ⁻¹, and uniforms for the inputs that are not driven by a normal score. Its
+rows come in blocks of :data:`SCORE_BLOCK` rows with their own seeded generators, so that any
+row range can be drawn on its own (``skip``) and chunked draws equal one draw.
 """
 
 from __future__ import annotations
@@ -30,13 +36,16 @@ from scipy.stats import qmc
 
 from ..errors import StatisticsError
 
-__all__ = ["METHODS", "UniformStream", "uniform_sample", "iter_uniform_chunks", "LHS_BLOCK"]
+__all__ = ["METHODS", "UniformStream", "ScoreStream", "uniform_sample", "iter_uniform_chunks", "LHS_BLOCK",
+           "SCORE_BLOCK"]
 
 METHODS = ("random", "latin-hypercube", "sobol")
 #: largest number of points in one Latin-hypercube block
 LHS_BLOCK = 2**18
 SOBOL_BITS = 30
 SOBOL_MAX = 2**SOBOL_BITS
+#: rows per block of :class:`ScoreStream` (each block has its own generators)
+SCORE_BLOCK = 2**14
 
 _ALIASES = {"lhs": "latin-hypercube", "latin_hypercube": "latin-hypercube", "pseudo-random": "random",
             "qmc": "sobol", "sobol'": "sobol"}
@@ -197,3 +206,75 @@ def iter_uniform_chunks(n: int, d: int, method: str = "sobol", seed: int = 0, ch
     The concatenation is bit-identical to the single draw for every method and chunk size.
     """
     yield from UniformStream(d, method, seed, skip).chunks(n, chunk_size)
+
+
+class ScoreStream:
+    """A reproducible pseudo-random stream of rows (z, v): k standard normal scores and m uniforms.
+
+    Parameters
+    ----------
+    k, m : int
+        Normal scores and uniforms per row.
+    seed : int
+        Non-negative seed.
+    skip : int
+        Rows to skip at the start of the stream.
+
+    The rows are grouped in blocks of :data:`SCORE_BLOCK`. Block b draws its k·SCORE_BLOCK
+    normal scores row by row with ``Generator.standard_normal`` (numpy's ziggurat method,
+    Marsaglia & Tsang 2000, J. Stat. Softw. 5(8)) from ``PCG64(SeedSequence(seed,
+    spawn_key=(0, b)))`` and its uniforms (``Generator.random``, [0, 1) at 2⁻⁵³ resolution) from
+    spawn key (1, b): independent streams in the sense of numpy's ``SeedSequence.spawn``
+    (O'Neill 2014, PCG). A ziggurat draw consumes a variable number of 64-bit outputs, so a
+    row range that starts inside a block is reached by drawing and discarding the block's
+    earlier rows (at most one block). ``draw(10)`` then ``draw(20)`` equals ``draw(30)``.
+    """
+
+    def __init__(self, k: int, m: int = 0, seed: int = 0, skip: int = 0):
+        for name, v in (("k", k), ("m", m), ("skip", skip)):
+            if int(v) != v or v < 0:
+                raise StatisticsError(f"{name} must be a non-negative integer, got {v!r}")
+        self.k, self.m = int(k), int(m)
+        self.seed = _seed(seed)
+        self.position = int(skip)
+        self._block = -1
+        self._normal = self._uniform = None
+
+    def _open(self, block: int) -> None:
+        """Generators of ``block``, advanced to the current position."""
+        def gen(kind):
+            return np.random.Generator(np.random.PCG64(np.random.SeedSequence(self.seed, spawn_key=(kind, block))))
+
+        self._normal = gen(0) if self.k else None
+        self._uniform = gen(1) if self.m else None
+        self._block = block
+        lead = self.position - block * SCORE_BLOCK
+        if lead and self._uniform is not None:
+            self._uniform.bit_generator.advance(lead * self.m)   # one 64-bit output per uniform
+        todo = lead * self.k
+        if todo:
+            waste = np.empty(min(todo, 1 << 16))
+            while todo:
+                t = min(todo, waste.size)
+                self._normal.standard_normal(out=waste[:t])
+                todo -= t
+
+    def draw(self, n: int, out: tuple[np.ndarray, np.ndarray] | None = None) -> tuple[np.ndarray, np.ndarray]:
+        """The next ``n`` rows as (Z (n, k), V (n, m)); ``out``: C-contiguous arrays to fill instead."""
+        if int(n) != n or n < 0:
+            raise StatisticsError(f"number of samples must be a non-negative integer, got {n!r}")
+        n = int(n)
+        Z, V = out if out is not None else (np.empty((n, self.k)), np.empty((n, self.m)))
+        done = 0
+        while done < n:
+            block = self.position // SCORE_BLOCK
+            if block != self._block:
+                self._open(block)
+            t = min(n - done, (block + 1) * SCORE_BLOCK - self.position)
+            if self.k:
+                self._normal.standard_normal(out=Z[done:done + t])
+            if self.m:
+                self._uniform.random(out=V[done:done + t])
+            done += t
+            self.position += t
+        return Z, V

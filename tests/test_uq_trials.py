@@ -1,0 +1,155 @@
+"""How Monte Carlo trials are drawn and evaluated (uq/trials.py, uq/sampling.ScoreStream, case/dependence.py).
+
+References: scipy.stats.norm / uniform (Kolmogorov-Smirnov tests of the drawn variates); the
+exact normal distribution of an additive model of normal inputs (JCGM 101 §9.2-style, mean
+Σ c_i x_i, variance Σ c_i² u_i², scipy.stats.norm); the model itself row by row (kept input
+rows must reproduce the kept model values).
+"""
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+from scipy import stats
+
+from uqthermo.errors import StatisticsError
+from uqthermo.uq import InputSet, InputVariable, Normal, Rectangular, propagate_monte_carlo
+from uqthermo.uq.sampling import SCORE_BLOCK, ScoreStream
+from uqthermo.uq.trials import TrialDesign, fit_affine
+
+ROOT = Path(__file__).resolve().parents[1]
+
+
+def _additive(n_inputs=6, extra_unused=0):
+    """Y = X @ c over independent normal inputs (plus inputs Y does not use): exactly normal."""
+    rng = np.random.default_rng(42)
+    c = np.concatenate([rng.uniform(-2.0, 2.0, n_inputs) * np.logspace(0, -1.5, n_inputs), np.zeros(extra_unused)])
+    d = n_inputs + extra_unused
+    xs = rng.normal(0.0, 3.0, d)
+    us = rng.uniform(0.2, 1.0, d)
+    s = InputSet([InputVariable(f"x{i}", f"x{i}", Normal(xs[i], us[i])) for i in range(d)])
+    return (lambda X: X @ c), s, float(c @ xs), float(np.sqrt(np.sum((c * us) ** 2)))
+
+
+def test_score_stream_chunks_and_skips_equal_one_draw():
+    whole_z, whole_v = ScoreStream(3, 2, 5).draw(3 * SCORE_BLOCK + 11)
+    s = ScoreStream(3, 2, 5)
+    parts = [s.draw(n) for n in (1, SCORE_BLOCK - 1, 7, SCORE_BLOCK, SCORE_BLOCK + 4)]
+    np.testing.assert_array_equal(np.concatenate([p[0] for p in parts]), whole_z)
+    np.testing.assert_array_equal(np.concatenate([p[1] for p in parts]), whole_v)
+    start = SCORE_BLOCK + 123
+    z, v = ScoreStream(3, 2, 5, skip=start).draw(500)
+    np.testing.assert_array_equal(z, whole_z[start:start + 500])
+    np.testing.assert_array_equal(v, whole_v[start:start + 500])
+    assert not np.array_equal(ScoreStream(3, 2, 6).draw(10)[0], whole_z[:10])
+
+
+def test_score_stream_draws_standard_normals_and_uniforms():
+    """Kolmogorov-Smirnov against scipy.stats.norm and uniform; the columns are uncorrelated."""
+    z, v = ScoreStream(2, 1, 11).draw(100_000)
+    assert stats.kstest(z[:, 0], "norm").pvalue > 1e-3 and stats.kstest(z[:, 1], "norm").pvalue > 1e-3
+    assert stats.kstest(v[:, 0], "uniform").pvalue > 1e-3
+    assert abs(np.corrcoef(z.T)[0, 1]) < 0.02 and abs(np.corrcoef(z[:, 0], v[:, 0])[0, 1]) < 0.02
+
+
+def test_fit_affine_is_exact_for_a_linear_model_and_refuses_a_curved_one():
+    f, s, _, _ = _additive(5, extra_unused=2)
+    y0, J = fit_affine(f, s)
+    np.testing.assert_allclose(J[0], f(np.eye(7)) - f(np.zeros((1, 7))), rtol=1e-12, atol=1e-15)
+    assert np.all(J[0, 5:] == 0.0)              # an input f does not read: exactly zero
+    assert fit_affine(lambda X: np.exp(0.01 * X[:, 0]), s) is None
+    assert fit_affine(lambda X: X[:, :2] * X[:, 2:4], s) is None
+
+
+@pytest.mark.parametrize("sampling", ["random", "latin-hypercube", "sobol"])
+def test_affine_map_gives_the_model_values(sampling):
+    """The folded map (normal scores times diag(u) Jᵀ, rotation included) gives the same results
+    as evaluating the model, to rounding; kept rows reproduce the kept values; the output equals
+    the exact normal distribution (scipy.stats.norm) within Monte Carlo error."""
+    f, s, mean, sd = _additive(6, extra_unused=3)
+    kw = dict(samples=50_000, sampling=sampling, seed=9)
+    fast = propagate_monte_carlo(f, s, affine=True, **kw)
+    assert fast.samples_used == 50_000
+    np.testing.assert_allclose(fast.Y_kept[:, 0], f(fast.X_kept), rtol=0, atol=1e-12 * sd)
+    slow = propagate_monte_carlo(f, s, depends_on=range(6), **kw)     # the same trials, through f
+    np.testing.assert_allclose(fast.Y_kept, slow.Y_kept, rtol=0, atol=1e-12 * sd)
+    np.testing.assert_allclose(fast.coverage_interval, slow.coverage_interval, rtol=0, atol=1e-12 * sd)
+    np.testing.assert_allclose(fast.standard_uncertainty, slow.standard_uncertainty, rtol=1e-12)
+    se = sd / np.sqrt(50_000)
+    assert abs(fast.mean[0] - mean) < 5 * se
+    assert np.all(np.abs(fast.coverage_interval[0] - stats.norm.ppf([0.025, 0.975], mean, sd)) < 0.03 * sd)
+
+
+def test_affine_rows_do_not_depend_on_the_chunking():
+    f, s, _, _ = _additive(4)
+    for sampling in ("random", "sobol"):
+        a = propagate_monte_carlo(f, s, samples=5001, sampling=sampling, seed=2, affine=True, chunk_size=5001)
+        b = propagate_monte_carlo(f, s, samples=5001, sampling=sampling, seed=2, affine=True, chunk_size=1000)
+        assert a.coverage_interval.tobytes() == b.coverage_interval.tobytes()
+        assert a.Y_kept.tobytes() == b.Y_kept.tobytes() and a.X_kept.tobytes() == b.X_kept.tobytes()
+
+
+def test_inactive_inputs_are_drawn_for_the_kept_rows_only():
+    """depends_on: the model sees only the active inputs sampled; the kept rows still hold a draw
+    of every input (mean and u of each column as stated), and reproduce the kept values."""
+    v = [InputVariable("a", "a", Normal(1.0, 0.5)), InputVariable("b", "b", Rectangular(2.0, 1.0)),
+         InputVariable("c", "c", Normal(-3.0, 2.0)), InputVariable("d", "d", Normal(4.0, 0.1))]
+    s = InputSet(v)
+    seen = []
+
+    def f(X):
+        seen.append(X[:, [1, 3]].copy())
+        return X[:, 0] * X[:, 2]
+
+    mc = propagate_monte_carlo(f, s, samples=40_000, sampling="random", seed=3, depends_on=[0, 2])
+    big = [x for x in seen if len(x) > 100]
+    assert all(np.all(x == [2.0, 4.0]) for x in big)            # inactive at their estimates in the model rows
+    X = mc.X_kept
+    assert X.shape == (40_000, 4)
+    np.testing.assert_allclose(X.mean(axis=0), s.estimates, atol=0.03)
+    np.testing.assert_allclose(X.std(axis=0), s.stds, rtol=0.02)
+    np.testing.assert_array_equal(mc.Y_kept[:, 0], X[:, 0] * X[:, 2])
+
+
+def test_a_wrong_dependence_declaration_is_not_relied_on():
+    f, s, _, _ = _additive(3)
+    d = TrialDesign(f, s, "random", 1, depends_on=[0, 1])       # f also reads column 2
+    assert list(d.active) == [0, 1, 2]
+    assert list(TrialDesign(lambda X: X[:, 0] + X[:, 1], s, "random", 1, depends_on=[0, 1]).active) == [0, 1]
+    with pytest.raises(StatisticsError):
+        TrialDesign(f, s, "random", 1, depends_on=[7])
+
+
+def test_copula_linked_inputs_are_active_together():
+    v = [InputVariable(n, n, Normal(0.0, 1.0)) for n in "abcd"]
+    R = np.eye(4)
+    R[0, 3] = R[3, 0] = 0.5
+    s = InputSet(v, R)
+    d = TrialDesign(lambda X: X[:, 0] + X[:, 1], s, "sobol", 1, depends_on=[0, 1])
+    assert list(d.active) == [0, 1, 3]
+    mc = propagate_monte_carlo(lambda X: X[:, 0] + X[:, 1], s, samples=50_000, sampling="random", seed=4,
+                               depends_on=[0, 1])
+    assert np.corrcoef(mc.X_kept[:, 0], mc.X_kept[:, 3])[0, 1] == pytest.approx(0.5, abs=0.02)
+
+
+def test_dependence_rule_of_the_demo_cases():
+    """case.dependence: moving every datum outside an output's set leaves that output's columns
+    unchanged, bit for bit, on rows of the joint input distribution (both demo cases)."""
+    from uqthermo.case.builder import build_model
+    from uqthermo.case.dependence import output_data
+    from uqthermo.case.loader import load_case
+
+    for name in ("methanation_reactor.toml", "epoxide_hydration_batch.toml"):
+        case = load_case(ROOT / "inputs" / name)
+        m = build_model(case)
+        X = m.inputs.from_uniform(np.random.default_rng(1).random((64, len(m.inputs))))
+        for i, o in enumerate(case.outputs):
+            keep = [j for did in output_data(case, o) for j in m.inputs.groups.get(did, [])]
+            X0 = np.tile(m.inputs.estimates, (64, 1))
+            X0[:, keep] = X[:, keep]
+            cols = m.output_columns(i) + [a.column for a in m.aux if a.output == i]
+            np.testing.assert_array_equal(m.f(X)[:, cols], m.f(X0)[:, cols])
+        if name.startswith("methanation"):
+            d = output_data(case, case.outputs[0])      # ΔrH at the sampled bed temperature
+            assert "output.dH_operating.temperature" in d and "CO.g.formation_enthalpy" not in d
+            assert "CH4.g.standard_entropy" not in d and "output.cooling_duty.extent_rate.methanation.feed" not in d
