@@ -25,6 +25,7 @@ from typing import Any, Callable
 import numpy as np
 
 from .case.builder import QUANTITY, Model, build_model, check_model
+from .case.dependence import model_columns
 from .case.loader import load_case
 from .case.schema import Case
 from .errors import InputError, Problem
@@ -121,7 +122,8 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
         lin = propagate_linear(model.f_reported, inputs, coverage=p)
     if s.method in ("monte-carlo", "both") and D > 0:
         mc_kwargs = dict(samples=s.samples, sampling=s.sampling, seed=s.seed, coverage=p,
-                         ndigits=s.significant_digits, progress=progress, rotate=s.sobol_rotation)
+                         ndigits=s.significant_digits, progress=progress, rotate=s.sobol_rotation,
+                         affine=model.affine, depends_on=model_columns(case, inputs))
         if s.samples == "adaptive":
             mc_kwargs["max_samples"] = s.max_samples
             mc_kwargs["check_shortest"] = s.adaptive_intervals == "both"

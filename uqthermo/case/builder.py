@@ -186,6 +186,12 @@ class Model:
     def f_reported(self, X: np.ndarray) -> np.ndarray:
         return self.evaluate(X)[:, : self.n_reported]
 
+    @property
+    def affine(self) -> bool:
+        """Every column (auxiliary ones included) is exactly affine in the inputs (the Monte
+        Carlo engine may then evaluate trials from the model's affine map, ``uq.trials``)."""
+        return bool(self.linear_in_inputs) and all(self.linear_in_inputs) and not self.aux
+
     def output_columns(self, i: int) -> list[int]:
         return [j for j, col in enumerate(self.columns) if col.output == i]
 
