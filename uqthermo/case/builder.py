@@ -25,7 +25,7 @@ times a dozen inputs). Multi-threaded OpenBLAS handles such shapes badly when th
 are busy: on the 2-core development machine under load, one model call of the methanation
 demo took 3.9 µs per sample with the default two BLAS threads and 0.17 µs with one.
 ``evaluate`` therefore runs with OpenBLAS limited to one thread (:func:`one_blas_thread`,
-restored afterwards; a no-op where the library cannot be found). Parallelism comes from
+restored afterwards; a no-op where the library cannot be found; it lives in ``uq/blas.py``). Parallelism comes from
 processes instead (``--engine dask``; distributed's workers default to one BLAS thread).
 
 Batch mode: many reactions from shared species samples
@@ -61,8 +61,6 @@ outputs: the shared table is used whatever the number of reactions.
 
 from __future__ import annotations
 
-import contextlib
-import ctypes
 import math
 from dataclasses import dataclass, field
 from typing import Callable
@@ -73,6 +71,7 @@ from ..errors import InputError, Problem, UqthermoError, ValidityError
 from ..thermo import reaction as rx
 from ..thermo.cp import R as GAS_CONSTANT
 from ..thermo.energy import solve_final_temperature
+from ..uq.blas import one_blas_thread
 from ..uq.inputs import InputSet, InputVariable
 from .schema import Case, OutputSpec
 
@@ -100,58 +99,6 @@ QUANTITY = {
     "heat_release": "Q",
     "adiabatic_temperature_rise": "ΔT_ad",
 }
-
-
-_BLAS_THREAD_SYMBOLS = (
-    ("scipy_openblas_get_num_threads64_", "scipy_openblas_set_num_threads64_"),
-    ("scipy_openblas_get_num_threads", "scipy_openblas_set_num_threads"),
-    ("openblas_get_num_threads", "openblas_set_num_threads"),
-)
-_blas_controls: list | None = None
-
-
-def _openblas_controls() -> list:
-    """(get, set) thread-count functions of the OpenBLAS libraries loaded in this process."""
-    global _blas_controls
-    if _blas_controls is None:
-        _blas_controls = []
-        try:
-            with open("/proc/self/maps", encoding="utf-8", errors="replace") as fh:
-                paths = sorted({ln.split()[-1] for ln in fh if "openblas" in ln.lower() and "/" in ln})
-        except OSError:
-            paths = []
-        for path in paths:
-            try:
-                lib = ctypes.CDLL(path)
-            except OSError:
-                continue
-            for get, put in _BLAS_THREAD_SYMBOLS:
-                if hasattr(lib, get) and hasattr(lib, put):
-                    _blas_controls.append((getattr(lib, get), getattr(lib, put)))
-                    break
-    return _blas_controls
-
-
-@contextlib.contextmanager
-def one_blas_thread():
-    """Limit OpenBLAS to one thread inside the block, restoring the previous count after.
-
-    See "One BLAS thread" in the module docstring. The setting is per process, so do not
-    rely on BLAS threads in other Python threads meanwhile.
-    """
-    controls = _openblas_controls()
-    saved = []
-    for get, put in controls:
-        n = int(get())
-        saved.append((put, n))
-        if n != 1:
-            put(1)
-    try:
-        yield
-    finally:
-        for put, n in saved:
-            if n != 1:
-                put(n)
 
 
 @dataclass

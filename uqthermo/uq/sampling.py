@@ -11,8 +11,8 @@ drawing it at once, whatever the chunk size.
   scrambling seeded by ``seed`` (Sobol' 1967; Joe & Kuo 2008 direction numbers; Owen 1995);
   ``skip`` uses ``fast_forward``. The 30-bit points k·2⁻³⁰ are shifted by half a cell
   (+2⁻³¹) so that no value is exactly 0; at most 2³⁰ points per sequence.
-* ``"latin-hypercube"`` -- ``scipy.stats.qmc.LatinHypercube`` (McKay, Beckman & Conover
-  1979). A design is stratified over the points drawn *together*: one call of
+* ``"latin-hypercube"`` -- random-within-stratum Latin hypercube (McKay, Beckman & Conover
+  1979; the design of ``scipy.stats.qmc.LatinHypercube(scramble=True)``). A design is stratified over the points drawn *together*: one call of
   :func:`uniform_sample` (or one ``draw`` of a :class:`UniformStream`) of n points is one
   design, built from ⌈n/2¹⁸⌉ equal blocks of at most 2¹⁸ points (each block an LHS of its
   own, seeded from ``(seed, skip, block)``) so that memory stays bounded; chunked
@@ -173,12 +173,21 @@ class UniformStream:
 
 
 def _lhs_blocks(n: int, d: int, seed: int, start: int) -> Iterator[np.ndarray]:
+    """Latin-hypercube blocks: u_ij = (π_j(i) + v_ij)/m with an independent random permutation
+    π_j of the m strata per column and v_ij uniform on [0, 1) (McKay, Beckman & Conover 1979;
+    the random-within-stratum form of ``scipy.stats.qmc.LatinHypercube(scramble=True)``),
+    drawn with numpy's ``Generator.permuted`` (Fisher-Yates) on 32-bit stratum indices."""
     nb = -(-n // LHS_BLOCK)
     sizes = [n // nb + (1 if b < n % nb else 0) for b in range(nb)]
     for b, m in enumerate(sizes):
-        ss = np.random.SeedSequence(seed, spawn_key=(start, b))
-        eng = qmc.LatinHypercube(d, scramble=True, rng=np.random.Generator(np.random.PCG64(ss)))
-        yield eng.random(m)
+        gen = np.random.Generator(np.random.PCG64(np.random.SeedSequence(seed, spawn_key=(start, b))))
+        strata = np.empty((d, m), dtype=np.int32)
+        strata[:] = np.arange(m, dtype=np.int32)
+        gen.permuted(strata, axis=1, out=strata)
+        U = gen.random((m, d))
+        U += strata.T
+        U *= 1.0 / m
+        yield U
 
 
 def uniform_sample(n: int, d: int, method: str = "sobol", seed: int = 0, skip: int = 0) -> np.ndarray:

@@ -45,6 +45,7 @@ import numpy as np
 from scipy import special
 
 from ..errors import StatisticsError
+from .blas import one_blas_thread
 from .inputs import U_CLIP, InputSet, rows_times
 from .sampling import ScoreStream, UniformStream
 
@@ -340,18 +341,19 @@ class TrialDesign:
             Z, V = self._coordinates(chunk, need=None if len(need) == self.n_scores else need)
             M = A.shape[1]
             YT = np.empty((M, n))
-            if n == 1:     # one row as two: BLAS rounds a single row differently
-                YT[:] = (A.T @ np.vstack([Z, Z]).T)[:, :1] if len(need) else 0.0
-            elif len(need):
-                np.matmul(A.T, Z.T, out=YT)
-            else:
-                YT[:] = 0.0
-            YT += c[:, None]
-            if len(self._o_cols):
-                Xo = np.empty_like(V)
-                for i, j in enumerate(self._o_cols):
-                    Xo[:, i] = self.inputs.variables[j].distribution.ppf(np.clip(V[:, i], U_CLIP, 1.0 - U_CLIP))
-                YT += rows_times(Xo, Jo).T
+            with one_blas_thread():     # tall and skinny: one thread (see uq/blas.py)
+                if n == 1:     # one row as two: BLAS rounds a single row differently
+                    YT[:] = (A.T @ np.vstack([Z, Z]).T)[:, :1] if len(need) else 0.0
+                elif len(need):
+                    np.matmul(A.T, Z.T, out=YT)
+                else:
+                    YT[:] = 0.0
+                YT += c[:, None]
+                if len(self._o_cols):
+                    Xo = np.empty_like(V)
+                    for i, j in enumerate(self._o_cols):
+                        Xo[:, i] = self.inputs.variables[j].distribution.ppf(np.clip(V[:, i], U_CLIP, 1.0 - U_CLIP))
+                    YT += rows_times(Xo, Jo).T
             Xk = self._inputs(*self._coordinates(chunk, slice(0, t))) if t else np.empty((0, len(self.inputs)))
             self._fill_inactive(Xk, row0)
             return Xk, YT.T
