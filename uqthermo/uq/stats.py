@@ -189,6 +189,8 @@ SELECT_MIN = 2**14
 #: standard deviations of a pilot quantile near 5 %)
 SELECT_PILOT = 2**14
 SELECT_MARGIN = 0.015
+#: values marked per step of that pass (kept in cache)
+SELECT_BLOCK = 2**15
 
 
 class OrderStatistics:
@@ -317,13 +319,23 @@ def _select_row(y: np.ndarray, n_low: int, n_high: int, med: list[int]):
     m_lo, m_hi = at(min(med) / n - SELECT_MARGIN), at(max(med) / n + SELECT_MARGIN)
     if not (t_lo < m_lo and m_hi < t_hi):
         return None
-    mark = y <= t_lo
-    mark |= y >= t_hi
-    band = y >= m_lo
-    below = n - int(np.count_nonzero(band))
-    band &= y <= m_hi
-    mark |= band
-    c = y[np.flatnonzero(mark)]
+    # one marking pass in cache-sized blocks: values ≤ t_lo, ≥ t_hi or in [m_lo, m_hi]
+    size = min(n, SELECT_BLOCK)
+    mark, tmp = np.empty(size, dtype=bool), np.empty(size, dtype=bool)
+    parts, below = [], 0
+    for s in range(0, n, size):
+        v = y[s:s + size]
+        mk, tm = mark[:v.size], tmp[:v.size]
+        np.greater_equal(v, m_lo, out=mk)
+        below += v.size - int(np.count_nonzero(mk))
+        np.less_equal(v, m_hi, out=tm)
+        mk &= tm
+        np.less_equal(v, t_lo, out=tm)
+        mk |= tm
+        np.greater_equal(v, t_hi, out=tm)
+        mk |= tm
+        parts.append(v[np.flatnonzero(mk)])
+    c = np.concatenate(parts)
     low, high = c[c <= t_lo], c[c >= t_hi]
     if low.size < n_low or high.size < n_high:
         return None
