@@ -32,21 +32,25 @@ def _additive(n_inputs=6, extra_unused=0):
 
 
 def test_score_stream_chunks_and_skips_equal_one_draw():
-    whole_z, whole_v = ScoreStream(3, 2, 5).draw(3 * SCORE_BLOCK + 11)
-    s = ScoreStream(3, 2, 5)
+    whole_z, whole_v = ScoreStream([0, 1, 2], [3, 4], 5).draw(3 * SCORE_BLOCK + 11)
+    s = ScoreStream([0, 1, 2], [3, 4], 5)
     parts = [s.draw(n) for n in (1, SCORE_BLOCK - 1, 7, SCORE_BLOCK, SCORE_BLOCK + 4)]
     np.testing.assert_array_equal(np.concatenate([p[0] for p in parts]), whole_z)
     np.testing.assert_array_equal(np.concatenate([p[1] for p in parts]), whole_v)
     start = SCORE_BLOCK + 123
-    z, v = ScoreStream(3, 2, 5, skip=start).draw(500)
+    z, v = ScoreStream([0, 1, 2], [3, 4], 5, skip=start).draw(500)
     np.testing.assert_array_equal(z, whole_z[start:start + 500])
     np.testing.assert_array_equal(v, whole_v[start:start + 500])
-    assert not np.array_equal(ScoreStream(3, 2, 6).draw(10)[0], whole_z[:10])
+    assert not np.array_equal(ScoreStream([0, 1, 2], [3, 4], 6).draw(10)[0], whole_z[:10])
+    # a column's numbers do not depend on the other columns (common random numbers)
+    z, v = ScoreStream([2], [4], 5).draw(SCORE_BLOCK + 11)
+    np.testing.assert_array_equal(z[:, 0], whole_z[:SCORE_BLOCK + 11, 2])
+    np.testing.assert_array_equal(v[:, 0], whole_v[:SCORE_BLOCK + 11, 1])
 
 
 def test_score_stream_draws_standard_normals_and_uniforms():
     """Kolmogorov-Smirnov against scipy.stats.norm and uniform; the columns are uncorrelated."""
-    z, v = ScoreStream(2, 1, 11).draw(100_000)
+    z, v = ScoreStream([0, 1], [2], 11).draw(100_000)
     assert stats.kstest(z[:, 0], "norm").pvalue > 1e-3 and stats.kstest(z[:, 1], "norm").pvalue > 1e-3
     assert stats.kstest(v[:, 0], "uniform").pvalue > 1e-3
     assert abs(np.corrcoef(z.T)[0, 1]) < 0.02 and abs(np.corrcoef(z[:, 0], v[:, 0])[0, 1]) < 0.02

@@ -22,8 +22,9 @@ drawing it at once, whatever the chunk size.
 :class:`ScoreStream` is the pseudo-random stream of the Monte Carlo engine: it draws standard
 normal scores directly with ``Generator.standard_normal`` (numpy's ziggurat) instead of
 uniforms through Φ⁻¹, and uniforms for the inputs that are not driven by a normal score. Its
-rows come in blocks of :data:`SCORE_BLOCK` rows with their own seeded generators, so that any
-row range can be drawn on its own (``skip``) and chunked draws equal one draw.
+rows come in blocks of :data:`SCORE_BLOCK` rows, each column of a block with its own seeded
+generator, so that any row range can be drawn on its own (``skip``), chunked draws equal one
+draw, and a column's numbers do not depend on the other columns.
 """
 
 from __future__ import annotations
@@ -218,72 +219,83 @@ def iter_uniform_chunks(n: int, d: int, method: str = "sobol", seed: int = 0, ch
 
 
 class ScoreStream:
-    """A reproducible pseudo-random stream of rows (z, v): k standard normal scores and m uniforms.
+    """A reproducible pseudo-random stream of rows (z, v): standard normal scores and uniforms.
 
     Parameters
     ----------
-    k, m : int
-        Normal scores and uniforms per row.
+    normal, uniform : sequences of int
+        Column labels (e.g. input column indices) of the normal scores and of the uniforms;
+        every label has its own generators, so a column's numbers do not depend on which
+        other columns are drawn (common random numbers across runs that differ in them).
     seed : int
         Non-negative seed.
     skip : int
         Rows to skip at the start of the stream.
 
-    The rows are grouped in blocks of :data:`SCORE_BLOCK`. Block b draws its k·SCORE_BLOCK
-    normal scores row by row with ``Generator.standard_normal`` (numpy's ziggurat method,
-    Marsaglia & Tsang 2000, J. Stat. Softw. 5(8)) from ``PCG64(SeedSequence(seed,
-    spawn_key=(0, b)))`` and its uniforms (``Generator.random``, [0, 1) at 2⁻⁵³ resolution) from
-    spawn key (1, b): independent streams in the sense of numpy's ``SeedSequence.spawn``
+    The rows are grouped in blocks of :data:`SCORE_BLOCK`. In block b, column label c draws
+    its values one after the other from ``PCG64(SeedSequence(seed, spawn_key=(b, c)))``:
+    normal scores with ``Generator.standard_normal`` (numpy's ziggurat method, Marsaglia &
+    Tsang 2000, J. Stat. Softw. 5(8)), uniforms with ``Generator.random`` ([0, 1) at 2⁻⁵³
+    resolution) — independent streams in the sense of numpy's ``SeedSequence.spawn``
     (O'Neill 2014, PCG). A ziggurat draw consumes a variable number of 64-bit outputs, so a
-    row range that starts inside a block is reached by drawing and discarding the block's
-    earlier rows (at most one block). ``draw(10)`` then ``draw(20)`` equals ``draw(30)``.
+    row range that starts inside a block is reached by drawing and discarding that block's
+    earlier rows. ``draw(10)`` then ``draw(20)`` equals ``draw(30)``.
     """
 
-    def __init__(self, k: int, m: int = 0, seed: int = 0, skip: int = 0):
-        for name, v in (("k", k), ("m", m), ("skip", skip)):
-            if int(v) != v or v < 0:
-                raise StatisticsError(f"{name} must be a non-negative integer, got {v!r}")
-        self.k, self.m = int(k), int(m)
+    def __init__(self, normal, uniform=(), seed: int = 0, skip: int = 0):
+        if int(skip) != skip or skip < 0:
+            raise StatisticsError(f"skip must be a non-negative integer, got {skip!r}")
+        self.normal = [int(c) for c in normal]
+        self.uniform = [int(c) for c in uniform]
+        if len(set(self.normal + self.uniform)) != len(self.normal) + len(self.uniform) or \
+                any(c < 0 for c in self.normal + self.uniform):
+            raise StatisticsError("column labels of a score stream must be distinct non-negative integers")
         self.seed = _seed(seed)
         self.position = int(skip)
         self._block = -1
-        self._normal = self._uniform = None
+        self._gens: list = []
+
+    @property
+    def k(self) -> int:
+        return len(self.normal)
+
+    @property
+    def m(self) -> int:
+        return len(self.uniform)
 
     def _open(self, block: int) -> None:
         """Generators of ``block``, advanced to the current position."""
-        def gen(kind):
-            return np.random.Generator(np.random.PCG64(np.random.SeedSequence(self.seed, spawn_key=(kind, block))))
-
-        self._normal = gen(0) if self.k else None
-        self._uniform = gen(1) if self.m else None
+        self._gens = [np.random.Generator(np.random.PCG64(np.random.SeedSequence(self.seed, spawn_key=(block, c))))
+                      for c in self.normal + self.uniform]
         self._block = block
         lead = self.position - block * SCORE_BLOCK
-        if lead and self._uniform is not None:
-            self._uniform.bit_generator.advance(lead * self.m)   # one 64-bit output per uniform
-        todo = lead * self.k
-        if todo:
-            waste = np.empty(min(todo, 1 << 16))
-            while todo:
-                t = min(todo, waste.size)
-                self._normal.standard_normal(out=waste[:t])
-                todo -= t
+        if lead:
+            waste = np.empty(min(lead, 1 << 16))
+            for g in self._gens[:self.k]:
+                todo = lead
+                while todo:
+                    t = min(todo, waste.size)
+                    g.standard_normal(out=waste[:t])
+                    todo -= t
+            for g in self._gens[self.k:]:
+                g.bit_generator.advance(lead)     # one 64-bit output per uniform
 
     def draw(self, n: int, out: tuple[np.ndarray, np.ndarray] | None = None) -> tuple[np.ndarray, np.ndarray]:
-        """The next ``n`` rows as (Z (n, k), V (n, m)); ``out``: C-contiguous arrays to fill instead."""
+        """The next ``n`` rows as (Z (n, k), V (n, m)), column-major; ``out``: such arrays to fill instead."""
         if int(n) != n or n < 0:
             raise StatisticsError(f"number of samples must be a non-negative integer, got {n!r}")
         n = int(n)
-        Z, V = out if out is not None else (np.empty((n, self.k)), np.empty((n, self.m)))
+        Z, V = out if out is not None else (np.empty((n, self.k), order="F"), np.empty((n, self.m), order="F"))
         done = 0
         while done < n:
             block = self.position // SCORE_BLOCK
             if block != self._block:
                 self._open(block)
             t = min(n - done, (block + 1) * SCORE_BLOCK - self.position)
-            if self.k:
-                self._normal.standard_normal(out=Z[done:done + t])
-            if self.m:
-                self._uniform.random(out=V[done:done + t])
+            for i, g in enumerate(self._gens[:self.k]):
+                g.standard_normal(out=Z[done:done + t, i])
+            for i, g in enumerate(self._gens[self.k:]):
+                g.random(out=V[done:done + t, i])
             done += t
             self.position += t
         return Z, V

@@ -122,7 +122,7 @@ class TrialStream:
     def __init__(self, design: "TrialDesign", seed: int, skip: int):
         self.design = design
         if design.method == "random":
-            self._scores = ScoreStream(design.n_scores, design.n_uniforms, seed, skip)
+            self._scores = ScoreStream(design.score_columns, design.uniform_columns, seed, skip)
             self._uniform = None
         else:
             self._scores = None
@@ -140,7 +140,7 @@ class TrialStream:
         done = 0
         while done < n:
             t = min(chunk_size, n - done)
-            yield self._scores.draw(t, out=(_scratch("z", (t, self._scores.k)), _scratch("v", (t, self._scores.m))))
+            yield self._scores.draw(t, out=(_scratch("z", (self._scores.k, t)).T, _scratch("v", (self._scores.m, t)).T))
             done += t
 
 
@@ -185,20 +185,22 @@ class TrialDesign:
         L = plan["factor"]
         linked = [int(j) for j in plan["linked_columns"]] if L is not None else []
         fitted = fit_affine(f, inputs) if affine and d else None
+        # dep: the columns the model depends on (exact ones included), in column order
         if fitted is not None:
-            act = {j for j in unc if np.any(fitted[1][:, j] != 0.0)}
+            dep = {j for j in range(d) if np.any(fitted[1][:, j] != 0.0)}
         elif depends_on is not None:
-            cols = {int(j) for j in depends_on}
-            bad = [j for j in cols if not 0 <= j < d]
+            dep = {int(j) for j in depends_on}
+            bad = [j for j in dep if not 0 <= j < d]
             if bad:
                 raise StatisticsError(f"depends_on refers to input column {bad[0]} of {d}")
-            act = cols & set(unc)
-            if act != set(unc) and not self._unchanged_without(f, sorted(set(unc) - act)):
-                act = set(unc)      # the declaration does not hold: sample every input
+            rest = sorted(set(unc) - dep)
+            if rest and not self._unchanged_without(f, rest):
+                dep = set(range(d))      # the declaration does not hold: sample every input
         else:
-            act = set(unc)
-        if act & set(linked):
-            act |= set(linked)
+            dep = set(range(d))
+        if dep & set(linked):
+            dep |= set(linked)
+        act = dep & set(unc)
         self.active = np.array(sorted(act), dtype=np.intp)
         self.inactive = np.array([j for j in unc if j not in act], dtype=np.intp)
         W = rotation(self.active) if rotation is not None and len(self.active) else None
@@ -207,9 +209,16 @@ class TrialDesign:
         other = {int(j) for j in plan["other"]}
         active = [int(j) for j in self.active]
         rotated = self.rotation is not None
+        # coordinates of a trial: one per dependence column, in column order (so that a column
+        # keeps its coordinate when another input becomes exact: common random numbers), or
+        # with the rotation one per active input
+        self._coords = active if rotated else sorted(dep)
+        at = {j: i for i, j in enumerate(self._coords)}
         # score variables: the columns of S, the (rotated) normal scores
         self._score_vars = active if rotated else [j for j in active if j in normal or j in linked]
         self._o_cols = [] if rotated else [j for j in active if j in other]
+        self._z_at = np.array([at[j] for j in self._score_vars], dtype=np.intp)
+        self._o_at = np.array([at[j] for j in self._o_cols], dtype=np.intp)
         pos = {j: i for i, j in enumerate(self._score_vars)}
         est = np.asarray(inputs.estimates, dtype=float)
         sd = np.asarray(inputs.stds, dtype=float)
@@ -223,7 +232,7 @@ class TrialDesign:
         self._L = L if self._linked else None
         self.n_scores = len(self._score_vars)
         self.n_uniforms = len(self._o_cols)
-        self.dimension = self.n_scores + self.n_uniforms
+        self.dimension = len(self._coords)
         self._companion = int(np.random.SeedSequence([self.seed, 0x6B657074]).generate_state(1, np.uint64)[0] >> 1)
         if fitted is not None:
             self.n_outputs = fitted[1].shape[0]
@@ -269,6 +278,16 @@ class TrialDesign:
         c = y0 - J[:, self._o_cols] @ est[self._o_cols]
         return need, np.ascontiguousarray(A[need]), Jo, c
 
+    @property
+    def score_columns(self) -> list[int]:
+        """Input columns driven by a normal score (pseudo-random: one score stream each)."""
+        return list(self._score_vars)
+
+    @property
+    def uniform_columns(self) -> list[int]:
+        """Input columns driven by a uniform (their own distribution's G⁻¹)."""
+        return list(self._o_cols)
+
     # ------------------------------------------------------------------ streams
     def stream(self, seed: int | None = None, skip: int = 0) -> TrialStream:
         """The run's stream (``seed`` defaults to the run's; a Sobol' adaptive batch has its own)."""
@@ -298,9 +317,7 @@ class TrialDesign:
                 Z, V = Z[rows], V[rows]
             return (Z if need is None else Z[:, need]), V
         U = chunk if rows is None else chunk[rows]
-        k = self.n_scores
-        Uz = U[:, :k] if need is None else U[:, need]
-        return self._ndtri(Uz), U[:, k:]
+        return self._ndtri(U[:, self._z_at if need is None else self._z_at[need]]), U[:, self._o_at]
 
     def _inputs(self, Z: np.ndarray, V: np.ndarray) -> np.ndarray:
         """Input rows X (n, D) from coordinates (all of them); inactive inputs at their estimates."""
