@@ -132,7 +132,8 @@ def test_data_cli_lists_cas_numbers(capsys):
     for cas in ("124-38-9", "138832-57-2", "791121-04-5"):
         assert cas in out
     assert "-393.474 kJ/mol" in out                       # ATcT 1.112 ΔfH°(CO2, g), chemicals Hfg_ATcT_data
-    assert 'cas = "124-38-9"' in out and 'formation_enthalpy = { library = "ATcT" }' in out
+    # the case-file hint takes the species from the library's selection rules (library = "auto")
+    assert 'cas = "124-38-9"' in out and 'formation_enthalpy = { library = "auto" }' in out
     assert main(["data", "methane", "--limit", "2"]) == 0
     out = capsys.readouterr().out
     assert "74-82-8" in out and "raise --limit" in out

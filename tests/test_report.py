@@ -297,9 +297,14 @@ def test_markdown_summary_and_drivers_equal_results_json(md, results):
             check_number(r[2], 100 * dv["share"], 1, "share")
             if dv["share_ci"] is not None:
                 check_interval(r[3], [100 * dv["share_ci"][0], 100 * dv["share_ci"][1]], 1, "share CI")
-        if p.get("correlation_share"):
-            assert rows[-1][1] == "correlations (net)"
-            check_number(rows[-1][2], 100 * p["correlation_share"], 1, "correlation share")
+        # covariance terms between correlated data: their own signed rows (JCGM 100 §5.2.2), and
+        # the rows sum to 100 %
+        for r, c in zip(rows[len(drivers):], p.get("covariance_terms") or []):
+            assert r[1] == f"covariance {c['between'][0]} ~ {c['between'][1]}"
+            check_number(r[2], 100 * c["share"], 1, "covariance share")
+        if p.get("drivers_method") == "linear":
+            total = sum(d["share"] for d in drivers) + sum(c["share"] for c in p.get("covariance_terms") or [])
+            assert total == pytest.approx(1.0, abs=2e-3)
         # what-if, at the decimal position of the point's linear u
         (hdr, rows), = table(tables, f"What-if: expanded uncertainty U (95 %) at T = {T} K")
         d = gum_decimals(p["linear"]["standard_uncertainty"])

@@ -86,9 +86,14 @@ def build_parser() -> argparse.ArgumentParser:
                         description="Find the cheapest set of candidate measurements ([[candidate]] in the case) that "
                                     "meets a target on the expanded uncertainty, and the cost–uncertainty Pareto front.")
     pl.add_argument("case", help="case file (TOML) with [[candidate]] entries")
-    g = pl.add_mutually_exclusive_group(required=True)
-    g.add_argument("--target", help="e.g. \"U95 <= 2 kJ/mol\" (U95: expanded uncertainty at 95 %%; also u, halfwidth)")
-    g.add_argument("--budget", type=float, help="spend at most this much; minimise the expanded uncertainty")
+    pl.add_argument("--target", action="append",
+                    help="e.g. \"U95 <= 2 kJ/mol\" (U95: expanded uncertainty at 95 %%; also u, halfwidth); "
+                         "\"U95 <= 5 %%\" relative to the estimate; \"NAME: U95 <= 2 kJ/mol\" for one output "
+                         "(repeat --target for several outputs)")
+    pl.add_argument("--budget", type=float, help="spend at most this much; with no target, minimise the worst "
+                                                 "expanded uncertainty (outputs of one unit, or --relative)")
+    pl.add_argument("--relative", action="store_true",
+                    help="with --budget and no target: compare U as %% of each point's estimate")
     pl.add_argument("--output", dest="output_name", help="plan for this output only (default: all outputs)")
     pl.add_argument("--out", help="folder for plan.json, plan.csv and the front figure")
     pl.add_argument("--force", action="store_true", help="replace an existing output folder")
@@ -105,11 +110,18 @@ def build_parser() -> argparse.ArgumentParser:
     f.add_argument("--out", help="write the TOML snippet and fit report here (a folder)")
     f.add_argument("--force", action="store_true", help="replace an existing output folder")
 
-    d = sub.add_parser("data", help="search the built-in data library",
-                       description="List species matching SEARCH (formula, name or CAS number) in the datasets shipped "
-                                   "with the chemicals package (ATcT, JANAF, NIST WebBook Shomate).")
-    d.add_argument("search", help="formula, name or CAS number")
+    d = sub.add_parser("data", help="search the built-in data library, or write a starter case from an equation",
+                       description="List species matching SEARCH (formula, name or CAS number) with every source's "
+                                   "values side by side and each heat-capacity curve's range (which cover the --T "
+                                   "window, which one library = \"auto\" selects); or, with --case, write a starter "
+                                   "case file for a reaction with every datum from the library.")
+    d.add_argument("search", nargs="?", default="", help="formula, name or CAS number")
     d.add_argument("--limit", type=int, default=20)
+    d.add_argument("--T", help="temperature or window, e.g. \"150 degC\" or \"298.15K..700K\"")
+    d.add_argument("--case", metavar="EQUATION",
+                   help="write a starter case for this reaction, e.g. \"C6H5CH3(l) + 3 H2(g) -> C6H11CH3(l)\" (needs --T)")
+    d.add_argument("--out", help="with --case: write the case file here (default: print it)")
+    d.add_argument("--force", action="store_true", help="with --case --out: replace an existing file")
 
     rp = sub.add_parser("report", help="re-render a report from results.json",
                         description="Render report.html, report.md, figures and tables from an existing results.json.")

@@ -39,8 +39,11 @@ def print_summary(results: dict, console=None) -> None:
     """The compact terminal table: estimate, u, coverage interval, top drivers per output point."""
     from rich.table import Table
 
+    from .report.drivers import driver_rows, rows_sum_note, share_text
+
     console = console or _console()
     p = None
+    notes: dict[str, None] = {}
     table = Table(title=results["case"]["title"], title_justify="left", header_style="bold", show_lines=False)
     for col in ("output", "T / K", "estimate", "u", "coverage interval", "linear ok", "top drivers (share)"):
         table.add_column(col, justify="right" if col in ("T / K", "estimate", "u") else "left")
@@ -54,7 +57,9 @@ def print_summary(results: dict, console=None) -> None:
             u = src.get("standard_uncertainty")
             ci = src.get("coverage_interval") or [None, None]
             ok = pt.get("linear_validated")
-            drivers = ", ".join(f"{d['datum']} ({100 * d['share']:.0f} %)" for d in pt.get("drivers", [])[:3])
+            drivers = ", ".join(f"{r.label} {share_text(r.share)} %" for r in driver_rows(pt, max_data=3, skip_zero=True))
+            if drivers and rows_sum_note(pt):
+                notes[rows_sum_note(pt)] = None
             table.add_row(f"{out['name']} [{out['unit']}]", f"{pt['temperature_K']:.2f}", _sig(est, u), _sig(u, u),
                           f"[{_sig(ci[0], u)}, {_sig(ci[1], u)}]",
                           "—" if ok is None else ("yes" if ok else "NO"), drivers)
@@ -67,6 +72,8 @@ def print_summary(results: dict, console=None) -> None:
         if len(pts) > len(show):
             table.add_row(f"  … {len(pts) - len(show)} more temperatures in results.json", "", "", "", "", "", "")
     console.print(table)
+    for n in notes:
+        console.print(f"top drivers: {n}")
     if p is not None:
         console.print(f"coverage probability {p:g}; estimate and u from Monte Carlo where run "
                       f"({results['run']['samples']} trials, {results['run']['sampling']}), else the linear method")

@@ -48,40 +48,159 @@ def _convert_target(target, unit_out: str, path: str):
     return target.with_value(float(value), unit_out)
 
 
-def compute_plan(case: Case, model: Model, *, target: str | None = None, budget: float | None = None,
-                 output_name: str | None = None, linear=None) -> dict:
-    """Plan purchases and return the results.json ``plan`` section (see uqthermo.report)."""
-    from .uq.planning import Candidate, parse_target, plan_purchases
+_NAMED = re.compile(r"^\s*([A-Za-z_][A-Za-z0-9_.\-]*)\s*:\s*(.+)$")
+
+
+def _is_relative(tgt) -> bool:
+    return tgt.unit.strip() in ("%", "percent")
+
+
+def resolve_plan_request(case: Case, model: Model, *, target=None, budget: float | None = None,
+                         output_name: str | None = None, relative: bool = False, key: str = "--target"):
+    """Which outputs a plan covers and how their uncertainties are made comparable.
+
+    Targets: ``"U95 <= 2 kJ/mol"`` (absolute, for the outputs whose unit it fits),
+    ``"U95 <= 5 %"`` (relative: U as a percentage of |estimate| at each point, every output), or
+    one per output, ``"NAME: U95 <= 2 kJ/mol"`` (each may be absolute or relative; the planner
+    then works on U / target, so outputs in different units meet their own targets). A budget
+    without a target compares the outputs' U directly, which needs one unit: with outputs in
+    different units it needs ``output_name``, ``relative`` or per-output targets, and is
+    refused otherwise (never a comparison of kJ/mol with kW).
+
+    Returns
+    -------
+    outs : list of int
+        Output indices.
+    scale : ndarray (columns)
+        Factor on each planned column's values (1, 100/|y| for relative, or 1/target).
+    tgt : Target or None
+        In the scaled units.
+    unit : str
+        Unit of the scaled values (the output unit, "%" or "of target").
+
+    Raises
+    ------
+    InputError
+        ``FILE: KEY: message`` for an unknown output, mixed units, a relative target of an
+        output whose estimate is zero, or targets of different metrics.
+    """
+    from .uq.planning import parse_target
 
     s = case.settings
-    if not case.candidates:
-        raise InputError([Problem(case.path, "candidate", "no [[candidate]] measurements in the case to plan with")])
+    path = case.path
+
+    def bad(k, msg):
+        return InputError([Problem(path, k, msg)])
+
+    names = [o.name for o in case.outputs]
     outs = list(range(len(case.outputs)))
     if output_name is not None:
         outs = [i for i, o in enumerate(case.outputs) if o.name == output_name]
         if not outs:
-            raise InputError([Problem(case.path, "--output", f"no output named {output_name!r}; outputs: "
-                                                             + ", ".join(o.name for o in case.outputs))])
-    tgt = None
-    if target is not None:
-        tgt = parse_target(target, s.coverage_probability)
-        if tgt.unit and output_name is None:
-            # plan for the outputs whose unit the target's unit fits
+            raise bad("--output", f"no output named {output_name!r}; outputs: " + ", ".join(names))
+    texts = [] if target is None else ([target] if isinstance(target, str) else list(target))
+    parsed = []
+    for t in texts:
+        m = _NAMED.match(t) if isinstance(t, str) else None
+        name = None
+        if m:
+            if m.group(1) not in names:
+                raise bad(key, f"no output named {m.group(1)!r}; outputs: " + ", ".join(names))
+            name, t = m.group(1), m.group(2)
+        try:
+            parsed.append((name, parse_target(t, s.coverage_probability)))
+        except InputError as e:
+            raise bad(key, e.problems[0].message if getattr(e, "problems", None) else str(e)) from None
+    if len({(tg.metric, tg.probability) for _, tg in parsed}) > 1:
+        raise bad(key, "all targets of one plan must use the same measure (e.g. all U95)")
+    named = [(n, t) for n, t in parsed if n is not None]
+    unnamed = [t for n, t in parsed if n is None]
+    if named and unnamed or len(unnamed) > 1:
+        raise bad(key, "give one target for all outputs, or one per output written 'NAME: U95 <= …'")
+    if len({n for n, _ in named}) < len(named):
+        raise bad(key, "two targets for the same output")
+    cols_of = {i: model.output_columns(i) for i in range(len(case.outputs))}
+    y0 = np.asarray(model.f_reported(np.asarray(model.inputs.estimates, dtype=float)[None, :])[0], dtype=float)
+
+    def rel_scale(i):
+        est = np.abs(y0[cols_of[i]])
+        if np.any(est <= 1e-300):
+            raise bad(key if parsed else "--relative",
+                      f"output {case.outputs[i].name!r} has an estimate of zero; a relative target (U as % of the "
+                      "estimate) has no meaning there — give it an absolute target")
+        return 100.0 / est
+
+    if named:
+        outs = [names.index(n) for n, _ in named if output_name is None or n == output_name]
+        if not outs:
+            raise bad(key, f"no target names the output {output_name!r}")
+        scale, tgts = [], {}
+        for n, tg in named:
+            i = names.index(n)
+            if i not in outs:
+                continue
+            if _is_relative(tg):
+                scale.append(rel_scale(i) / tg.value)
+            else:
+                scale.append(np.full(len(cols_of[i]), 1.0 / _convert_target(tg, model.units[i], path).value))
+            tgts[i] = tg
+        first = named[0][1]
+        text = "; ".join(f"{n}: {t.text}" for n, t in named)
+        tgt = first.with_value(1.0, "of target")
+        from dataclasses import replace
+
+        tgt = replace(tgt, text=text)
+        return outs, np.concatenate(scale), tgt, "of target"
+    if unnamed:
+        tg = unnamed[0]
+        if _is_relative(tg):
+            return outs, np.concatenate([rel_scale(i) for i in outs]), tg.with_value(tg.value, "%"), "%"
+        if tg.unit and output_name is None:
             fits = []
             for i in outs:
                 try:
-                    _convert_target(tgt, model.units[i], case.path)
+                    _convert_target(tg, model.units[i], path)
                     fits.append(i)
                 except InputError:
                     pass
             if not fits:
-                raise InputError([Problem(case.path, "--target", f"no output has a unit that fits {tgt.unit!r}")])
+                raise bad(key, f"no output has a unit that fits {tg.unit!r}")
             outs = fits
         units = {model.units[i] for i in outs}
         if len(units) > 1:
-            raise InputError([Problem(case.path, "--output", "the outputs planned for have different units "
-                                                             f"({', '.join(sorted(units))}); choose one with --output")])
-        tgt = _convert_target(tgt, model.units[outs[0]], case.path)
+            raise bad("--output", "the outputs planned for have different units "
+                                  f"({', '.join(sorted(units))}); choose one with --output, give a target per output "
+                                  "('NAME: U95 <= …') or a relative one ('U95 <= 5 %')")
+        tg = _convert_target(tg, model.units[outs[0]], path)
+        return outs, np.ones(sum(len(cols_of[i]) for i in outs)), tg, model.units[outs[0]]
+    # budget only
+    if relative:
+        return outs, np.concatenate([rel_scale(i) for i in outs]), None, "%"
+    units = {model.units[i] for i in outs}
+    if len(units) > 1:
+        listed = ", ".join(f"{case.outputs[i].name} [{model.units[i]}]" for i in outs)
+        how = ("Plan for one output with --output NAME, give a target per output (--target 'NAME: U95 <= …'), "
+               "or compare relative uncertainties with --relative (U95 as % of the estimate)") if key == "--target" else (
+               "Give settings.plan_target per output ([\"NAME: U95 <= …\", …]) or as a relative target "
+               "(\"U95 <= 5 %\", U95 as % of the estimate)")
+        raise bad("--budget" if key == "--target" else key,
+                  f"the outputs have different units ({listed}); their uncertainties cannot be compared. {how}")
+    return outs, np.ones(sum(len(cols_of[i]) for i in outs)), None, model.units[outs[0]]
+
+
+def compute_plan(case: Case, model: Model, *, target=None, budget: float | None = None,
+                 output_name: str | None = None, linear=None, relative: bool = False) -> dict:
+    """Plan purchases and return the results.json ``plan`` section (see uqthermo.report).
+
+    ``target`` is one target text or a list of them (see :func:`resolve_plan_request`).
+    """
+    from .uq.planning import Candidate, plan_purchases
+
+    s = case.settings
+    if not case.candidates:
+        raise InputError([Problem(case.path, "candidate", "no [[candidate]] measurements in the case to plan with")])
+    outs, scale, tgt, unit = resolve_plan_request(case, model, target=target, budget=budget, output_name=output_name,
+                                                  relative=relative)
     cols = [j for i in outs for j in model.output_columns(i)]
     labels = [f"{case.outputs[model.columns[j].output].name} @ {model.columns[j].temperature:.2f} K" for j in cols]
     cands = []
@@ -95,18 +214,23 @@ def compute_plan(case: Case, model: Model, *, target: str | None = None, budget:
     linear_model = all(model.linear_in_inputs[i] for i in outs)
 
     def f(X: np.ndarray) -> np.ndarray:
-        return model.f_reported(X)[:, cols]
+        return model.f_reported(X)[:, cols] * scale[None, :]
 
     lin = None
     if linear is not None and linear_model:
         from types import SimpleNamespace
 
-        lin = SimpleNamespace(sensitivity=np.asarray(linear.sensitivity)[cols], estimate=np.asarray(linear.estimate)[cols])
+        lin = SimpleNamespace(sensitivity=np.asarray(linear.sensitivity)[cols] * scale[:, None],
+                              estimate=np.asarray(linear.estimate)[cols] * scale)
     plan = plan_purchases(f, model.inputs, cands, target=tgt, budget=budget,
                           method="linear" if linear_model else "monte-carlo", linear=lin,
                           coverage=s.coverage_probability, seed=s.seed, output_labels=labels,
                           samples=4096, rotate=s.sobol_rotation)
-    return shape_plan(plan, case, model, outs, tgt)
+    out = shape_plan(plan, case, model, outs, tgt)
+    out["target"]["unit"] = unit
+    out["target"]["comparison"] = {"%": "relative (U as % of |estimate|)", "of target": "U / own target"}.get(
+        unit, "absolute")
+    return out
 
 
 def shape_plan(plan, case: Case, model: Model, outs: list[int], tgt) -> dict:

@@ -20,6 +20,12 @@ def run_plan(args) -> int:
 
     if args.budget is not None and not (args.budget >= 0):
         raise InputError([Problem(args.case, "--budget", "must be a non-negative number")])
+    if not args.target and args.budget is None:
+        raise InputError([Problem(args.case, "--target", "give a target (--target \"U95 <= 2 kJ/mol\") or a budget "
+                                                         "(--budget 10000), or both")])
+    if getattr(args, "relative", False) and args.target:
+        raise InputError([Problem(args.case, "--relative", "--relative is for a budget without target; write a "
+                                                           "relative target as \"U95 <= 5 %\" instead")])
     out = None
     if args.out:
         from .run import prepare_out_dir
@@ -29,7 +35,8 @@ def run_plan(args) -> int:
 
     case = load_case(args.case)
     model, _ = prepare_model(case)
-    plan = compute_plan(case, model, target=args.target, budget=args.budget, output_name=args.output_name)
+    plan = compute_plan(case, model, target=args.target, budget=args.budget, output_name=args.output_name,
+                        relative=getattr(args, "relative", False))
     console = Console(highlight=False, width=140)
     unit = plan["target"]["unit"]
     metric = plan["target"]["metric"]
@@ -37,6 +44,12 @@ def run_plan(args) -> int:
              "halfwidth": "half-width"}.get(metric, metric)
     console.print(f"[bold]{case.title}[/bold]")
     console.print(f"planned for: {plan['target']['output']}  ({plan['method']})")
+    if unit == "of target":
+        label = f"{label}/target"
+        unit = ""
+    elif unit == "%":
+        label = f"{label} as % of the estimate"
+        unit = "%"
     console.print(f"now: worst {label} = {_fmt(plan['U_now'])} {unit} at {plan['target']['worst_point_now']}")
     if plan["target"]["text"]:
         console.print(f"target: {plan['target']['text']}")
@@ -48,7 +61,8 @@ def run_plan(args) -> int:
     for c in plan["candidates"]:
         cands.add_row(c["id"], c["datum"], c["action"], f"{c['factor']:.3g}", f"{c['cost']:g}", _fmt(c["lead_time_days"]))
     console.print(cands)
-    front = Table(title=f"Pareto front: cost against worst-point {label} ({unit})", title_justify="left")
+    front = Table(title=f"Pareto front: cost against worst-point {label}" + (f" ({unit})" if unit else ""),
+                  title_justify="left")
     for c in ("cost", label, "buy", "meets target"):
         front.add_column(c)
     best = plan["best"]

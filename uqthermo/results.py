@@ -21,6 +21,10 @@ from .uq.margins import Margins, curve_band, level_key, margins_from_linear, mar
 ONE_SIDED = (0.01, 0.05, 0.95, 0.99)
 HISTOGRAM_BINS = 48
 SKEW_WARNING = 0.5
+#: Monte Carlo what-if: trials (at most; never more than the run's) and independent replicates
+#: behind each change's standard error (uqthermo.uq.whatif)
+WHATIF_SAMPLES = 2**13
+WHATIF_BATCHES = 8
 
 
 def _f(x) -> float | None:
@@ -76,6 +80,7 @@ def _inputs_table(case: Case) -> list[dict]:
             "estimate": est, "standard_uncertainty": u, "unit": unit, "source": d.source,
             "n_parameters": len(d.distributions), "library": d.library or None, "assumed": bool(d.assumed),
             "uncertain": d.uncertain,
+            **({"provenance": d.provenance} if getattr(d, "provenance", None) else {}),
         })
     return rows
 
@@ -108,8 +113,14 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
     inputs = model.inputs
     warnings = list(warnings)
     ranking = whatif = None
+    lin_b = lin   # linear result behind the GUM budget (computed here for Monte-Carlo-only runs)
     if lin is not None or mc is not None:
-        ranking, whatif = _drivers_and_whatif(case, model, lin, warnings)
+        if lin_b is None:
+            from .uq.linear import propagate_linear
+
+            lin_b = propagate_linear(model.f_reported, inputs, coverage=p)
+        ranking, whatif = _drivers_and_whatif(case, model, lin_b, warnings, validation)
+    budget_q = _budget_quantities(case, model) if lin_b is not None else None
     mc_q = None
     margins = None
     if mc is not None:
@@ -181,8 +192,10 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
                                     f"not validated by Monte Carlo (JCGM 101 §8, δ = {v.tolerance:.2g}); report the Monte Carlo result")
             else:
                 pt["linear_validated"] = None
+            if budget_q is not None:
+                pt["budget"] = _point_budget(lin_b, j, budget_q, model.units[i], inputs)
             if ranking is not None:
-                pt.update(_budget_shares(ranking.point(j)))
+                pt.update(_driver_rows(ranking.point(j), pt.get("budget")))
             else:
                 pt["drivers"] = []
             if whatif is not None:
@@ -277,25 +290,55 @@ def negative_cp_warnings(case: Case, model: Model, X: np.ndarray) -> list[str]:
     return out
 
 
-def _budget_shares(point: dict) -> dict:
-    """Keep linear driver shares in [0, 1] when correlations between data cancel variance.
+def _budget_quantities(case: Case, model: Model) -> tuple[list, np.ndarray]:
+    """The input quantities of the GUM budget in report units, and each column's factor to them.
 
-    Linear shares are the within-datum variances c_gᵀΣ_gg c_g / u²(y), with the cross-datum
-    covariance terms as a separate, signed ``correlation_share`` (Σ shares + correlation_share
-    = 1). When the correlations *reduce* the variance (correlation_share < 0) the shares sum to
-    more than 1 and a single share can exceed 1; they are then expressed as fractions of the
-    gross variance budget Σ_g V_g + |covariance terms| instead, so that every share lies in
-    [0, 1] and Σ shares + |correlation_share| = 1 (``share_basis`` says which).
+    A single-parameter datum is one quantity named by its datum id; the coefficients of a curve
+    with per-coefficient uncertainties are quantities ``DATUM.COEFFICIENT`` (engine units).
     """
-    c = point.get("correlation_share")
-    if point.get("drivers_method") != "linear" or c is None or c >= 0:
-        point["share_basis"] = "fraction of u²(y)" if point.get("drivers_method") == "linear" else "first-order Sobol' index"
-        return point
-    gross = 1.0 + 2.0 * abs(c)
-    point["drivers"] = [dict(d, share=d["share"] / gross) for d in point["drivers"]]
-    point["correlation_share"] = c / gross
-    point["share_basis"] = ("fraction of the gross variance budget (within-datum variances plus the magnitude of the "
-                            "covariance terms between data, which here reduce u²(y))")
+    from .uq.budget import BudgetQuantity
+
+    qs, to_rep = [], []
+    inputs = model.inputs
+    for var in inputs.variables:
+        d = case.data[var.datum]
+        dist = var.distribution
+        single = len(d.distributions) == 1
+        name = var.datum if single else var.datum + "." + var.name[len(var.datum):].strip("[]")
+        unit = d.unit if d.kind == "scalar" else ("1" if d.kind == "scale" else "coefficient")
+        k = d.to_report if d.kind == "scalar" else 1.0
+        qs.append(BudgetQuantity(name, var.datum, float(dist.estimate) * k, float(dist.std) * k, unit,
+                                 float(getattr(dist, "dof", math.inf))))
+        to_rep.append(k)
+    return qs, np.asarray(to_rep, dtype=float)
+
+
+def _point_budget(lin, j: int, budget_q, unit: str, inputs) -> dict:
+    """The ``budget`` block of column ``j`` (uqthermo.uq.budget.gum_budget, JCGM 100 §5.2.2)."""
+    from .uq.budget import gum_budget
+
+    qs, to_rep = budget_q
+    c = np.asarray(lin.sensitivity, dtype=float)[j] / to_rep      # output unit per report unit of x_i
+    return gum_budget(c, np.asarray(inputs.correlation, dtype=float), qs, unit)
+
+
+def _driver_rows(point: dict, budget: dict | None) -> dict:
+    """Driver shares as fractions of u²(y), with covariance terms between data as signed rows.
+
+    Linear drivers are each datum's own variance c_gᵀΣ_gg c_g / u²(y); the covariance terms
+    between data (JCGM 100 §5.2.2) are listed as their own signed rows in ``covariance_terms``
+    (``{"between": [datum_a, datum_b], "variance", "share"}``, taken from the point's GUM
+    budget), so that Σ drivers + Σ covariance_terms = 1. When correlations between data remove
+    variance (negative rows), a datum's share can exceed 1.
+    """
+    method = point.get("drivers_method")
+    point["share_basis"] = "fraction of u²(y)" if method == "linear" else "first-order Sobol' index"
+    terms: list[dict] = []
+    if method == "linear" and budget is not None:
+        from .uq.budget import datum_terms
+
+        _, terms = datum_terms(budget)
+    point["covariance_terms"] = terms
     return point
 
 
@@ -337,7 +380,7 @@ class _ByColumn:
         return [w for _, r in self.parts for w in getattr(r, "warnings", [])]
 
 
-def _drivers_and_whatif(case: Case, model: Model, lin, warnings: list[str]):
+def _drivers_and_whatif(case: Case, model: Model, lin, warnings: list[str], validation=None):
     from types import SimpleNamespace
 
     from .uq.linear import propagate_linear
@@ -348,8 +391,14 @@ def _drivers_and_whatif(case: Case, model: Model, lin, warnings: list[str]):
     inputs = model.inputs
     if lin is None:
         lin = propagate_linear(model.f_reported, inputs, coverage=s.coverage_probability)
-    linear_cols = [j for j, col in enumerate(model.columns) if model.linear_in_inputs[col.output]]
-    other_cols = [j for j, col in enumerate(model.columns) if not model.linear_in_inputs[col.output]]
+    # what-if from the linear budget (exact) where the linear result is validated by Monte Carlo
+    # (JCGM 101 §8); without a validation (one method only), where the output is exactly linear
+    reported = range(model.n_reported)
+    if validation is not None:
+        linear_cols = [j for j in reported if validation[j].linear_validated]
+    else:
+        linear_cols = [j for j in reported if model.linear_in_inputs[model.columns[j].output]]
+    other_cols = [j for j in reported if j not in set(linear_cols)]
 
     def part(cols):
         def f(X, cols=cols):
@@ -391,11 +440,11 @@ def _drivers_and_whatif(case: Case, model: Model, lin, warnings: list[str]):
                                                linear=sub)))
         if other_cols:
             f, _ = part(other_cols)
-            n = min(2**13, int(s.samples) if s.samples != "adaptive" else 2**13)
+            n = min(WHATIF_SAMPLES, int(s.samples) if s.samples != "adaptive" else WHATIF_SAMPLES)
             parts.append((other_cols, what_if(f, inputs, scenarios, method="monte-carlo",
                                               coverage=s.coverage_probability, samples=n,
                                               sampling="sobol" if s.sampling == "sobol" else "random", seed=s.seed,
-                                              rotate=s.sobol_rotation)))
+                                              rotate=s.sobol_rotation, batches=WHATIF_BATCHES)))
         whatif = _ByColumn(parts)
     return ranking, whatif
 

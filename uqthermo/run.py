@@ -111,6 +111,11 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
         s.what_if = what_if
     model, model_warnings = prepare_model(case)
     warnings = list(case.warnings) + model_warnings
+    if case.candidates and (s.plan_target or s.plan_budget is not None) and len(model.inputs.variables):
+        from .plan import resolve_plan_request   # a plan that cannot be made is an input error, before any work
+
+        resolve_plan_request(case, model, target=s.plan_target, budget=s.plan_budget,
+                             key="settings.plan_target" if s.plan_target else "settings.plan_budget")
     inputs = model.inputs
     p = s.coverage_probability
     D = len(inputs.variables)

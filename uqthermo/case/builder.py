@@ -719,7 +719,10 @@ def check_model(case: Case, model: Model) -> list[str]:
                 msg = f"{msg} (datum {err.key}; allow with extrapolate = true on that heat_capacity or settings.allow_extrapolation = true)"
             problems.append(Problem(case.path, o.key, msg))
         elif strict is not None:
-            warnings.append(f"{o.key}: extrapolated beyond a correlation's validity range — {strict.message if isinstance(strict, UqthermoError) else strict}")
+            text = strict.message if isinstance(strict, UqthermoError) else str(strict)
+            text = text.removesuffix(" (extrapolation not allowed)")
+            warnings.append(f"{o.key}: extrapolated beyond a correlation's validity range, as the case allows "
+                            f"(extrapolate = true) — {text}")
     if problems:
         raise InputError(problems)
     y = model.evaluate(x0)

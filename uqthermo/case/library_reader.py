@@ -62,7 +62,7 @@ _EXAMPLE_U = {"formation enthalpy": 'u = "0.5 kJ/mol"', "standard entropy": 'u =
 
 def library_label(dataset: str, version: str) -> str:
     """Short dataset label for reports, e.g. ``"ATcT 1.112 via chemicals 1.5.2"``."""
-    from .library import _chemicals_version
+    from .library.base import chemicals_version as _chemicals_version
 
     if dataset == "shomate":
         name = f"NIST WebBook Shomate ({version})"
@@ -109,7 +109,7 @@ def _dataset_name(c: Collector, node: dict, key: str, allowed: tuple[str, ...]) 
     for a in allowed:
         if low == a.lower():
             return a
-    from .library import _ALIASES
+    from .library.named import ALIASES as _ALIASES
 
     canon = _ALIASES.get(low)
     if canon is not None and canon.lower() in [a.lower() for a in allowed]:

@@ -405,7 +405,10 @@ def parse_case(raw: dict, fname: str, sha: str = "", *, library: bool = True) ->
     data: dict[str, Datum] = {}
     from .species_reader import read_species  # local import keeps the module graph one-way
 
-    species = read_species(c, raw.get("species"), data, settings, library=library)
+    from .temperature_windows import species_demands
+
+    species = read_species(c, raw.get("species"), data, settings, library=library,
+                           demands=species_demands(raw, settings.reference_temperature))
     from .reactions_reader import read_reactions
 
     reaction_node = raw.get("reaction", {})
@@ -538,8 +541,10 @@ def _settings(c: Collector, node: Any) -> Settings:
     _choice(c, node, s, "sensitivity", ("auto", "linear", "sobol", "none"))
     _choice(c, node, s, "adaptive_intervals", ("both", "symmetric"))
     if "plan_target" in node:
-        if not isinstance(node["plan_target"], str):
-            c.add("settings.plan_target", "must be text such as \"U95 <= 2 kJ/mol\"")
+        t = node["plan_target"]
+        if not (isinstance(t, str) or (isinstance(t, list) and t and all(isinstance(x, str) for x in t))):
+            c.add("settings.plan_target", "must be text such as \"U95 <= 2 kJ/mol\", or a list of per-output "
+                                          "targets such as [\"dH: U95 <= 2 kJ/mol\", \"duty: U95 <= 50 kW\"]")
         else:
             s.plan_target = node["plan_target"]
     if "plan_budget" in node:

@@ -60,7 +60,7 @@ class Settings:
     sobol_samples: int = 1024
     design_probabilities: list[float] = field(default_factory=lambda: [0.95, 0.99])
     what_if: bool = True
-    plan_target: str | None = None       # e.g. "U95 <= 2 kJ/mol": run the purchase planner in `run`
+    plan_target: str | list[str] | None = None   # e.g. "U95 <= 2 kJ/mol" (or per output): plan inside `run`
     plan_budget: float | None = None
 
 
@@ -93,6 +93,7 @@ class Datum:
     positions: list[int] = field(default_factory=list)
     nominal: np.ndarray | float | None = None
     assumed: bool = False
+    provenance: dict | None = None     # library = "auto": where value and uncertainty come from (results.json)
 
     @property
     def uncertain(self) -> bool:

@@ -14,6 +14,7 @@ from ..thermo.species import Phase, Species, Transition
 from . import distributions_adapter as dist
 from .loader import (
     CP_MODELS,
+    PHASE_ALIASES,
     PHASE_SYMBOLS,
     POLY_TERMS,
     Collector,
@@ -28,7 +29,8 @@ from .loader import (
 )
 from .schema import Datum, Settings
 
-SPECIES_KEYS = {"formula", "name", "cas", "note", "transition", "source"} | set(PHASE_SYMBOLS)
+SPECIES_KEYS = {"formula", "name", "cas", "smiles", "note", "transition", "source"} | set(PHASE_SYMBOLS)
+_PRIVATE = {"_assumed", "_dataset", "_provenance", "_estimate", "_label"}
 PHASE_KEYS = {"formation_enthalpy", "standard_entropy", "heat_capacity", "note", "source"}
 CP_KEYS = {"model", "value", "u", "U", "k", "relative_u", "half_width", "distribution", "dof", "coefficients", "ranges",
            "T", "unit", "correlation", "covariance", "source", "extrapolate", "library", "note", "lower", "upper"}
@@ -46,8 +48,12 @@ MAX_ABS_ENTHALPY = 1e8      # J/mol (100 000 kJ/mol): far beyond any molecule
 MAX_CP = 1e4                # J/(mol K)
 
 
-def read_species(c: Collector, node: Any, data: dict[str, Datum], settings: Settings, *, library: bool = True
-                 ) -> dict[str, Species]:
+def read_species(c: Collector, node: Any, data: dict[str, Datum], settings: Settings, *, library: bool = True,
+                 demands: list | None = None) -> dict[str, Species]:
+    """Read ``[species.*]``; ``demands`` (from :mod:`.temperature_windows`) give the temperature
+    windows that ``library = "auto"`` heat-capacity curves must cover."""
+    from .library_auto import SpeciesLibrary
+
     out: dict[str, Species] = {}
     if node is None:
         c.add("species", "no species defined; add at least one [species.NAME] table")
@@ -66,7 +72,14 @@ def read_species(c: Collector, node: Any, data: dict[str, Datum], settings: Sett
             c.add(key, "must be a table with phase data (g, l, s/cr, aq)")
             continue
         c.unknown_keys(sp, SPECIES_KEYS, key)
+        lib = SpeciesLibrary(c, key, name, sp, library)
+        lib.allow_extrapolation = bool(settings.allow_extrapolation)
         formula = sp.get("formula", name)
+        if "formula" not in sp and library and (_uses_library(sp) or any(k in sp for k in ("cas", "name", "smiles"))):
+            filled = _fill_formula(c, lib, sp, name)
+            if filled is None:
+                continue
+            formula = filled
         if not isinstance(formula, str):
             c.add(f"{key}.formula", "must be a string such as \"C2H6O\"")
             continue
@@ -78,24 +91,106 @@ def read_species(c: Collector, node: Any, data: dict[str, Datum], settings: Sett
                   + ("" if "formula" in sp else " (give formula = \"...\")"))
             continue
         phases: dict[str, Phase] = {}
+        windows = _windows(lib, sp, name, demands or [], settings) if _uses_library(sp) else {}
         for sym in PHASE_SYMBOLS:
             if sym in sp:
-                ph = _phase(c, sp[sym], f"{key}.{sym}", name, sym, formula, sp.get("cas"), data, settings, library)
+                ph = _phase(c, sp[sym], f"{key}.{sym}", name, sym, formula, sp.get("cas"), data, settings, library,
+                            lib, windows)
                 if ph is not None:
                     phases[sym] = ph
         if not any(s in sp for s in PHASE_SYMBOLS):
             c.add(key, "no phase data; add e.g. [species.%s.g] with formation_enthalpy and heat_capacity" % name)
             continue
-        transitions = _transitions(c, sp.get("transition", []), key, name, phases, data)
+        transitions = _transitions(c, sp.get("transition", []), key, name, phases, data, lib)
         try:
             out[name] = Species(name=name, formula=formula, phases=phases, transitions=transitions)
         except UqthermoError as e:
             c.add(key, e.message)
+    _library_warnings(c, data)
     return out
 
 
+def _uses_library(sp: dict) -> bool:
+    """Whether a species table has a ``library = "auto"``/source reference anywhere."""
+    from .library_auto import is_auto_reference
+
+    for sym in PHASE_SYMBOLS:
+        ph = sp.get(sym)
+        if _is_table(ph) and any(is_auto_reference(v) for v in ph.values()):
+            return True
+    for t in sp.get("transition", []) if isinstance(sp.get("transition"), list) else []:
+        if _is_table(t) and any(is_auto_reference(t.get(k)) for k in ("temperature", "enthalpy")):
+            return True
+    return False
+
+
+def _fill_formula(c: Collector, lib, sp: dict, name: str) -> str | None:
+    """Formula of a species given by cas/name/smiles (or a key that is a name), from the library."""
+    if not any(k in sp for k in ("cas", "name", "smiles")):
+        try:
+            parse_formula(name)
+            return name                       # the key is a formula: keep today's behaviour
+        except (UqthermoError, ValueError):
+            lib.node = dict(sp, name=name)    # the key is a name: look it up as one
+    ident = lib.identity()
+    if ident is None:
+        return None
+    if ident.formula:
+        return ident.formula
+    if isinstance(sp.get("smiles"), str):
+        try:
+            from rdkit import Chem
+            from rdkit.Chem.rdMolDescriptors import CalcMolFormula
+
+            m = Chem.MolFromSmiles(sp["smiles"])
+            if m is not None:
+                return CalcMolFormula(m)
+        except ImportError:
+            pass
+    c.add(f"species.{name}", "the library has no formula for this species; give formula = \"...\"")
+    return None
+
+
+def _windows(lib, sp: dict, name: str, demands: list, settings: Settings) -> dict:
+    from .temperature_windows import phase_windows
+
+    mine = [d for d in demands if d.species == name]
+    trs = []
+    for t in sp.get("transition", []) if isinstance(sp.get("transition"), list) else []:
+        if not _is_table(t):
+            continue
+        fr, to, tn = t.get("from"), t.get("to"), t.get("temperature")
+        T = None
+        if _is_table(tn) and "library" in tn:
+            T = lib.nominal_transition_temperature(fr, to)
+        else:
+            from .units import parse_quantity
+
+            try:
+                T = parse_quantity(tn.get("value") if _is_table(tn) else tn, "temperature")
+            except Exception:
+                T = None
+        if T is not None and isinstance(fr, str) and isinstance(to, str):
+            trs.append((fr, to, T))
+    syms = [s for s in PHASE_SYMBOLS if s in sp]
+    anchored = {s for s in syms if _is_table(sp[s]) and "formation_enthalpy" in sp[s]}
+    return phase_windows(mine, trs, syms, anchored, settings.reference_temperature)
+
+
+def _library_warnings(c: Collector, data: dict) -> None:
+    """One grouped warning for library data with assumed uncertainties, one for estimates."""
+    assumed = [d for d in data.values() if getattr(d, "provenance", None) and d.assumed]
+    est = [d for d in data.values() if getattr(d, "provenance", None) and d.provenance.get("estimate")]
+    if assumed:
+        c.warn("", f"{len(assumed)} library datum(s) carry an assumed uncertainty (no source states one and the "
+                   "sources do not disagree by more): " + ", ".join(f"{d.id} ({d.stated})" for d in assumed)
+               + " — check them")
+    if est:
+        c.warn("", f"ESTIMATES, not measurements: {len(est)} library datum(s) are group-contribution estimates: "
+                   + ", ".join(d.id for d in est) + " — replace them by measured data where the result matters")
+
 def _phase(c: Collector, node: Any, key: str, sp: str, sym: str, formula: str, cas: Any, data: dict,
-           settings: Settings, library: bool) -> Phase | None:
+           settings: Settings, library: bool, lib=None, windows: dict | None = None) -> Phase | None:
     if not _is_table(node):
         c.add(key, "must be a table with formation_enthalpy, standard_entropy and/or heat_capacity")
         return None
@@ -104,25 +199,35 @@ def _phase(c: Collector, node: Any, key: str, sp: str, sym: str, formula: str, c
     ident = cas if isinstance(cas, str) and cas else formula
     if "formation_enthalpy" in node:
         fh = _sourced_scalar(c, node["formation_enthalpy"], f"{key}.formation_enthalpy", "molar_energy",
-                             f"{sp}.{sym}.formation_enthalpy", "formation enthalpy", sp, sym, data, ident, library)
+                             f"{sp}.{sym}.formation_enthalpy", "formation enthalpy", sp, sym, data, ident, library, lib)
         if fh is not None and abs(fh) > MAX_ABS_ENTHALPY:
             c.add(f"{key}.formation_enthalpy", f"{fh / 1e3:.4g} kJ/mol is not a plausible formation enthalpy")
             fh = None
     if "standard_entropy" in node:
         se = _sourced_scalar(c, node["standard_entropy"], f"{key}.standard_entropy", "molar_entropy",
-                             f"{sp}.{sym}.standard_entropy", "standard entropy", sp, sym, data, ident, library)
+                             f"{sp}.{sym}.standard_entropy", "standard entropy", sp, sym, data, ident, library, lib)
         if se is not None and sym != "aq" and se <= 0:
             c.add(f"{key}.standard_entropy", "the standard entropy of a neutral species is positive (third law)")
             se = None
     cp = None
     if "heat_capacity" in node:
-        cp = _heat_capacity(c, node["heat_capacity"], f"{key}.heat_capacity", sp, sym, data, settings, ident, library)
+        t_ref = settings.reference_temperature
+        win = (windows or {}).get(sym) or (windows or {}).get(PHASE_ALIASES.get(sym, sym)) or (t_ref, t_ref)
+        cp = _heat_capacity(c, node["heat_capacity"], f"{key}.heat_capacity", sp, sym, data, settings, ident, library,
+                            lib, win)
     return Phase(symbol=sym, cp=cp, formation_enthalpy=fh, standard_entropy=se)
 
 
 def _sourced_scalar(c: Collector, node: Any, key: str, dimension: str, datum_id: str, quantity: str, sp: str,
-                    sym: str, data: dict, ident: str, library: bool) -> float | None:
+                    sym: str, data: dict, ident: str, library: bool, lib=None) -> float | None:
     lib_name = ""
+    from .library_auto import is_auto_reference
+
+    if lib is not None and is_auto_reference(node):
+        node = lib.scalar(node, key, quantity, sym)
+        if node is None:
+            return None
+        return _register_auto(c, node, key, dimension, datum_id, quantity, sp, sym, data)
     if _is_table(node) and "library" in node:
         from .library_reader import resolve_scalar
 
@@ -137,6 +242,21 @@ def _sourced_scalar(c: Collector, node: Any, key: str, dimension: str, datum_id:
     if assumed:
         d.assumed = True
         c.warn(key, f"the {lib_name} dataset states no uncertainty for this value; an assumed uncertainty ({d.stated}) is used — check it")
+    register(c, data, d, key)
+    return parsed[0]
+
+
+def _register_auto(c: Collector, node: dict, key: str, dimension: str, datum_id: str, quantity: str, sp: str,
+                   sym: str, data: dict, transition: str = "") -> float | None:
+    """Register a datum resolved by ``library = "auto"`` (private keys consumed here)."""
+    prov, assumed, label = node.pop("_provenance"), node.pop("_assumed"), node.pop("_label")
+    node.pop("_estimate", None)
+    parsed = read_uncertain(c, node, key, dimension, temperature=dimension == "temperature")
+    if parsed is None:
+        return None
+    d = make_datum(datum_id, quantity, dimension, parsed, species=sp, phase=transition or sym, library=label)
+    d.assumed = bool(assumed)
+    d.provenance = prov
     register(c, data, d, key)
     return parsed[0]
 
@@ -169,9 +289,16 @@ def _t_range(c: Collector, node: Any, key: str) -> tuple[float, float] | None:
 
 
 def _heat_capacity(c: Collector, node: Any, key: str, sp: str, sym: str, data: dict, settings: Settings,
-                   ident: str, library: bool):
+                   ident: str, library: bool, lib=None, window: tuple | None = None):
     lib_name = ""
-    if _is_table(node) and "library" in node:
+    from .library_auto import is_auto_reference
+
+    if lib is not None and is_auto_reference(node):
+        node = lib.heat_capacity(node, key, sym, window or (settings.reference_temperature,) * 2)
+        if node is None:
+            return None
+        lib_name = node.pop("_label")
+    elif _is_table(node) and "library" in node:
         from .library_reader import resolve_heat_capacity
 
         node, lib_name = resolve_heat_capacity(c, node, key, ident, sym, enabled=library)
@@ -182,14 +309,14 @@ def _heat_capacity(c: Collector, node: Any, key: str, sp: str, sym: str, data: d
         return None
     model = node.get("model")
     if model not in CP_MODELS:
-        c.unknown_keys(node, CP_KEYS | {"_assumed", "_dataset"}, key)
+        c.unknown_keys(node, CP_KEYS | _PRIVATE, key)
         c.add(f"{key}.model", f"unknown heat-capacity model {model!r}; use one of {', '.join(CP_MODELS)}")
         return None
     before = len(c.problems)
     for k in node:
         if k in CP_KEYS and k not in CP_MODEL_KEYS[model]:
             c.add(f"{key}.{k}", f"not used by the {model} model (its keys: {', '.join(sorted(CP_MODEL_KEYS[model]))})")
-    c.unknown_keys(node, CP_KEYS | {"_assumed", "_dataset"}, key)
+    c.unknown_keys(node, CP_KEYS | _PRIVATE, key)
     if len(c.problems) > before:
         return None
     extrap = node.get("extrapolate", settings.allow_extrapolation)
@@ -349,7 +476,8 @@ def _register_cp_datum(c, node, key, datum_id, sp, sym, data, nominal: np.ndarra
         if model_label == "nasa7":   # a6, a7 are integration constants, not heat-capacity coefficients
             d.positions = [i for i in range(len(nominal)) if i % 7 < 5]
         d.assumed = bool(node.get("_assumed"))
-        if d.assumed:
+        d.provenance = node.get("_provenance")
+        if d.assumed and d.provenance is None:
             c.warn(key, f"{lib_name} states no uncertainty for this curve; relative u = {node['relative_u']} is assumed — check it")
         register(c, data, d, key)
         return
@@ -501,7 +629,8 @@ def _cp_ranges(c, node, key, model, datum_id, sp, sym, data, extrap, source, lib
     return cp
 
 
-def _transitions(c: Collector, node: Any, key: str, sp: str, phases: dict[str, Phase], data: dict) -> list[Transition]:
+def _transitions(c: Collector, node: Any, key: str, sp: str, phases: dict[str, Phase], data: dict, lib=None
+                 ) -> list[Transition]:
     out: list[Transition] = []
     if not isinstance(node, list):
         c.add(f"{key}.transition", "must be an array of tables ([[species.%s.transition]])" % sp)
@@ -537,9 +666,26 @@ def _transitions(c: Collector, node: Any, key: str, sp: str, phases: dict[str, P
             c.add(tk, "needs temperature and enthalpy")
             continue
         tid = f"{sp}.transition.{fr}-{to}"
-        tt = read_uncertain(c, t["temperature"], f"{tk}.temperature", "temperature", temperature=True)
-        th = read_uncertain(c, t["enthalpy"], f"{tk}.enthalpy", "molar_energy")
-        if tt is None or th is None:
+        from .library_auto import is_auto_reference
+
+        auto_t = lib is not None and is_auto_reference(t["temperature"])
+        auto_h = lib is not None and is_auto_reference(t["enthalpy"])
+        tnode, hnode = t["temperature"], t["enthalpy"]
+        if auto_t:
+            tnode = lib.transition(tnode, f"{tk}.temperature", fr, to, "temperature")
+            if tnode is None:
+                continue
+        tt = read_uncertain(c, {k: v for k, v in tnode.items() if not k.startswith("_")} if auto_t else tnode,
+                            f"{tk}.temperature", "temperature", temperature=True)
+        if tt is None:
+            continue
+        if auto_h:
+            hnode = lib.transition(hnode, f"{tk}.enthalpy", fr, to, "enthalpy", T=tt[0])
+            if hnode is None:
+                continue
+        th = read_uncertain(c, {k: v for k, v in hnode.items() if not k.startswith("_")} if auto_h else hnode,
+                            f"{tk}.enthalpy", "molar_energy")
+        if th is None:
             continue
         if th[0] < 0 and (fr, to) in (("cr", "l"), ("s", "l"), ("l", "g"), ("cr", "g"), ("s", "g")):
             c.add(f"{tk}.enthalpy", f"melting/vaporisation/sublimation enthalpy must be positive on heating ({fr}→{to})")
@@ -551,6 +697,11 @@ def _transitions(c: Collector, node: Any, key: str, sp: str, phases: dict[str, P
                                      species=sp, phase=f"{fr}-{to}"), f"{tk}.temperature")
         register(c, data, make_datum(f"{tid}.enthalpy", "transition enthalpy", "molar_energy", th,
                                      species=sp, phase=f"{fr}-{to}"), f"{tk}.enthalpy")
+        for auto, nd, did in ((auto_t, tnode, f"{tid}.temperature"), (auto_h, hnode, f"{tid}.enthalpy")):
+            if auto and did in data:
+                data[did].library = nd["_label"]
+                data[did].provenance = nd["_provenance"]
+                data[did].assumed = bool(nd["_assumed"])
         if data[f"{tid}.temperature"].source == "" and isinstance(t.get("source"), str):
             data[f"{tid}.temperature"].source = t["source"]
         if data[f"{tid}.enthalpy"].source == "" and isinstance(t.get("source"), str):

@@ -290,29 +290,19 @@ MAX_BARS = 10
 
 
 def _draw_drivers(output: Mapping, point: Mapping) -> Figure:
-    drivers = [d for d in point.get("drivers") or [] if num(d.get("share")) is not None]
-    shown = drivers[:MAX_BARS]
-    rest = drivers[MAX_BARS:]
-    labels = [mpl_text(text(d.get("datum"))) for d in shown]
-    vals = [100 * num(d["share"]) for d in shown]
+    from .drivers import driver_rows, share_text
+
+    rows = driver_rows(point, max_data=MAX_BARS, skip_zero=True)
+    labels = [mpl_text(r.label.replace("covariance ", "").replace(" ~ ", " ~\n") + " (cov.)" if r.kind == "covariance"
+                       else r.label) for r in rows]
+    vals = [100 * r.share for r in rows]
     los, his = [], []
-    for d, v in zip(shown, vals):
-        lo, hi = pair(d.get("share_ci"))
-        los.append(v - 100 * lo if lo is not None else np.nan)
-        his.append(100 * hi - v if hi is not None else np.nan)
-    colors = [ROLE["driver"]] * len(shown)
-    hatches = [""] * len(shown)
-    if rest:
-        labels.append(f"{len(rest)} other data")
-        vals.append(100 * sum(num(d["share"]) for d in rest))
-        los.append(np.nan); his.append(np.nan)
-        colors.append(style.GREY); hatches.append("")
-    cs = num(point.get("correlation_share"))
-    if cs is not None and cs != 0:
-        labels.append("correlations (net)")
-        vals.append(100 * cs)
-        los.append(np.nan); his.append(np.nan)
-        colors.append(ROLE["correlation"]); hatches.append("////")
+    for r, v in zip(rows, vals):
+        los.append(v - 100 * r.share_ci[0] if r.share_ci else np.nan)
+        his.append(100 * r.share_ci[1] - v if r.share_ci else np.nan)
+    colors = [{"datum": ROLE["driver"], "others": style.GREY}.get(r.kind, ROLE["correlation"]) for r in rows]
+    hatches = ["////" if r.kind == "covariance" else "" for r in rows]
+    texts = [f"{share_text(r.share)} %" for r in rows]
     n = len(vals)
     fig, ax = plt.subplots(figsize=(style.FIG_WIDTH_IN, 1.25 + 0.34 * max(n, 2)), layout="constrained")
     y = np.arange(n)[::-1]
@@ -329,26 +319,37 @@ def _draw_drivers(output: Mapping, point: Mapping) -> Figure:
     vmax = max([abs(v) for v in vals] + [1.0])
     right = [v + (his[i] if np.isfinite(his[i]) else 0) for i, v in enumerate(vals)]
     for i, (yy, v) in enumerate(zip(y, vals)):
-        x = right[i] if v >= 0 else v
-        ax.text(x + (0.012 * vmax if v >= 0 else -0.012 * vmax), yy, f"{fmt_fixed(v, 1)} %", va="center",
-                ha="left" if v >= 0 else "right", fontsize=8, color=style.INK)
+        x = right[i] if v >= 0 else 0.0     # a negative bar's value sits right of the zero line
+        ax.text(x + 0.012 * vmax, yy, texts[i], va="center", ha="left", fontsize=8, color=style.INK)
     ax.set_yticks(y, labels)
     ax.axvline(0, color=style.GREY, linewidth=0.8)
     lo_lim = min(0.0, min(vals) * 1.25)
     ax.set_xlim(lo_lim - (0.02 * vmax if lo_lim < 0 else 0), max(right + [0]) * 1.18 + 0.02 * vmax)
     ax.grid(axis="y", visible=False)
     method = point.get("drivers_method")
-    how = {"linear": "linear variance contributions", "sobol": "first-order Sobol indices"}.get(method, text(method) or "shares")
-    if "gross" in str(point.get("share_basis") or ""):
-        # correlations between data reduce u²(y): shares of the gross budget (Σ within-datum variances + |covariances|)
-        ax.set_xlabel("share of the gross variance budget / % (correlations reduce $u^2(y)$)")
+    if method == "linear":
+        ax.set_xlabel("share of $u^2(y)$ / % (the rows sum to 100 %)")
+        sub = "linear variance contributions by datum (GUM budget)"
+        if any(r.kind == "covariance" for r in rows):
+            sub = "GUM budget by datum; hatched: covariance terms of correlated data, signed (JCGM 100 §5.2.2)"
     else:
-        ax.set_xlabel("share of the output variance $u^2(y)$ / %")
+        ax.set_xlabel("first-order Sobol index $S_1$ / %" if method == "sobol" else "share / %")
+        sub = "ranking by first-order Sobol indices" if method == "sobol" else f"ranking by {text(method) or 'shares'}"
     _titles(fig, f"{mpl_text(text(output.get('name')))}: what drives u(y) at T = {fmt_temperature(point.get('temperature_K'))} K",
-            f"ranking by {how}")
+            mpl_text(sub))
     if np.isfinite(err).any():
         ax.legend(loc="lower right", fontsize=8)
     return fig
+
+
+def _drivers_caption(point: Mapping) -> str:
+    """Caption of the driver figure: what the bars are and what they sum to."""
+    from .drivers import rows_sum_note
+
+    note = rows_sum_note(point) or "driver shares"
+    ci = "; bars carry confidence intervals" if any(d.get("share_ci") for d in point.get("drivers") or []
+                                                   if isinstance(d, Mapping)) else ""
+    return note[0].upper() + note[1:] + ci + "."
 
 
 # ---------------------------------------------------------------------------
@@ -491,9 +492,7 @@ def figure_specs(results: Mapping) -> list[FigureSpec]:
         if hp.get("drivers"):
             specs.append(FigureSpec(
                 f"drivers-{slug}", "output", oi, f"{name}: drivers",
-                f"{name} at T = {tlabel} K: share of the output variance by datum, with confidence intervals where the method gives them"
-                + ("; the hatched bar is the net contribution of correlations (negative when correlations reduce the variance)."
-                   if num(hp.get("correlation_share")) else "."),
+                f"{name} at T = {tlabel} K: " + _drivers_caption(hp),
                 (lambda o=o, hp=hp: _draw_drivers(o, hp))))
     conv = results.get("convergence") or {}
     if any(isinstance(v, list) and v for v in conv.values()):

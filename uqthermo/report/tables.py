@@ -493,6 +493,9 @@ def inputs_table(results: Mapping) -> DisplayTable:
         ])
     if any(i.get("assumed") for i in rows):
         t.notes.append("(assumed): the dataset states no uncertainty for this value; the uncertainty written in the case is an assumption — check it.")
+    from .library_notes import provenance_notes
+
+    t.notes += provenance_notes(rows)
     n_multi = [i for i in rows if (num(i.get("n_parameters")) or 1) > 1]
     if n_multi:
         t.notes.append("Heat-capacity data with several coefficients count as one datum in the driver ranking; their parameter count is in tables/inputs.csv.")
@@ -683,7 +686,8 @@ def exceedance_table(results: Mapping, output: Mapping, key: str) -> DisplayTabl
 
 DRIVER_WHAT = {
     "linear": ("Shares are the linear variance contributions c_i² u²(x_i) / u²(y) (GUM 5.1.3), summed over the "
-               "coefficients of each datum, with the net effect of correlations as a separate entry."),
+               "coefficients of each datum; covariance terms between correlated data are listed as their own signed "
+               "rows (GUM 5.2.2), so that all rows sum to 100 %."),
     "sobol": ("Shares are first-order variance-based (Sobol) indices of each datum, estimated by sampling the model; "
               "the total-order indices ST also count interactions."),
 }
@@ -734,9 +738,11 @@ def drivers_table(output: Mapping, point: Mapping, key: str) -> DisplayTable:
             entry = sens[k].get(datum)
             row.append(_fmt_index(entry))
         t.rows.append(row)
-    cs = num(point.get("correlation_share"))
-    if cs is not None and cs != 0:
-        t.rows.append(["", "correlations (net)", fmt_share(cs), "—"] + ["—"] * len(extra))
+    if point.get("drivers_method") == "linear":
+        from .drivers import covariance_label
+
+        for c in point.get("covariance_terms") or []:
+            t.rows.append(["", covariance_label(c.get("between") or []), fmt_share(c.get("share")), "—"] + ["—"] * len(extra))
     if t.rows and all(r[3] == "—" for r in t.rows):
         for r in t.rows:
             del r[3]
@@ -744,11 +750,11 @@ def drivers_table(output: Mapping, point: Mapping, key: str) -> DisplayTable:
         del t.align[3]
     if extra:
         t.notes.append("Sensitivity indices given as value ± half-width of the confidence interval reported by the estimator.")
-    basis = point.get("share_basis")
-    if basis and "gross" in str(basis):
-        t.notes.append("Shares here are fractions of the gross variance budget: the within-datum variances plus the "
-                       "magnitude of the covariance terms between data, which reduce u²(y) in this case (row "
-                       "'correlations (net)'); every share lies between 0 and 1.")
+    from .drivers import rows_sum_note
+
+    note = rows_sum_note(point)
+    if note:
+        t.notes.append("Shares: " + note + ".")
     return t
 
 
@@ -779,14 +785,33 @@ def whatif_table(output: Mapping, point: Mapping, key: str, p_cov: float) -> Dis
     if stated:
         t.columns.insert(4, "U with candidate purchase")
         t.align.insert(4, "r")
+    NO_CHANGE = "no measurable change"
+
+    def cell(w, key):
+        ok = (w.get("measurable") or {}).get(key) if isinstance(w.get("measurable"), Mapping) else None
+        if ok is False and w.get("method") == "monte-carlo":
+            return NO_CHANGE
+        return fmt_fixed(w.get(key), dec)
+
+    mc_rows = False
     for w in point.get("whatif") or []:
         now = num(w.get("U_now"))
         rem = num(w.get("U_removed"))
         red = fmt_fixed(100 * (1 - rem / now), 1) if now and rem is not None else "—"
-        row = [text(w.get("datum")), fmt_fixed(now, dec), fmt_fixed(w.get("U_halved"), dec), fmt_fixed(rem, dec), red]
+        if cell(w, "U_removed") == NO_CHANGE:
+            red = NO_CHANGE
+        mc_rows = mc_rows or w.get("method") == "monte-carlo"
+        row = [text(w.get("datum")), fmt_fixed(now, dec), cell(w, "U_halved"), cell(w, "U_removed"), red]
         if stated:
-            row.insert(4, fmt_fixed(w.get("U_stated"), dec))
+            row.insert(4, cell(w, "U_stated"))
         t.rows.append(row)
+    if mc_rows:
+        t.notes.append("Monte Carlo what-if on common random numbers (independent replicates give each change a "
+                       "standard error, in results.json); a change smaller than twice its standard error is shown as "
+                       "'no measurable change'.")
+    elif point.get("whatif"):
+        t.notes.append("From the linear (GUM) budget, which Monte Carlo validates for this point: exact, no sampling "
+                       "noise. Where correlated data cancel variance, making one of them exact can increase U.")
     return t
 
 
@@ -910,10 +935,13 @@ def drivers_frame(results: Mapping) -> pd.DataFrame:
                     r[k] = num(e[0]) if isinstance(e, (list, tuple)) and e else num(e)
                     r[f"{k}_ci"] = num(e[1]) if isinstance(e, (list, tuple)) and len(e) > 1 else None
                 rows.append(r)
-            cs = num(p.get("correlation_share"))
-            if cs is not None:
-                rows.append({"output": o.get("name"), "temperature_K": num(p.get("temperature_K")), "rank": None,
-                             "datum": "(correlations, net)", "share": cs, "method": p.get("drivers_method")})
+            if p.get("drivers_method") == "linear":
+                from .drivers import covariance_label
+
+                for c in p.get("covariance_terms") or []:
+                    rows.append({"output": o.get("name"), "temperature_K": num(p.get("temperature_K")), "rank": None,
+                                 "datum": covariance_label(c.get("between") or []), "share": num(c.get("share")),
+                                 "method": p.get("drivers_method")})
     return pd.DataFrame(rows)
 
 
@@ -922,9 +950,16 @@ def whatif_frame(results: Mapping) -> pd.DataFrame:
     for o in outputs(results):
         for p in points(o):
             for w in p.get("whatif") or []:
+                se = w.get("standard_error") if isinstance(w.get("standard_error"), Mapping) else {}
+                ok = w.get("measurable") if isinstance(w.get("measurable"), Mapping) else {}
                 rows.append({"output": o.get("name"), "temperature_K": num(p.get("temperature_K")), "datum": w.get("datum"),
-                             "U_now": num(w.get("U_now")), "U_halved": num(w.get("U_halved")), "U_removed": num(w.get("U_removed"))})
-    return pd.DataFrame(rows, columns=["output", "temperature_K", "datum", "U_now", "U_halved", "U_removed"])
+                             "U_now": num(w.get("U_now")), "U_halved": num(w.get("U_halved")), "U_removed": num(w.get("U_removed")),
+                             "method": w.get("method"),
+                             "U_halved_standard_error": num(se.get("U_halved")), "U_halved_measurable": ok.get("U_halved"),
+                             "U_removed_standard_error": num(se.get("U_removed")), "U_removed_measurable": ok.get("U_removed")})
+    return pd.DataFrame(rows, columns=["output", "temperature_K", "datum", "U_now", "U_halved", "U_removed", "method",
+                                       "U_halved_standard_error", "U_halved_measurable", "U_removed_standard_error",
+                                       "U_removed_measurable"])
 
 
 def plan_frame(results: Mapping) -> pd.DataFrame:

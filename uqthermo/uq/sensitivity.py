@@ -42,6 +42,7 @@ from typing import Any, Callable, Mapping, Sequence
 import numpy as np
 
 from ..errors import StatisticsError
+from .delta import delta_index, design_rows, grouped_delta
 
 __all__ = [
     "Driver",
@@ -329,7 +330,7 @@ def sobol_indices(
     chunk_size: int = 16384,
     engine: str = "auto",
     delta_outputs: Sequence[int] | None = None,
-    delta_rows: int = 1024,
+    delta_rows: int = 2048,
     delta_resamples: int = 10,
 ) -> SobolResult:
     """Sobol' first-order and total indices grouped by datum, plus the delta index.
@@ -346,15 +347,12 @@ def sobol_indices(
     259–270, eqs. (b) and (f) of their Table 2 (Jansen's total-effect estimator), with
     bootstrap confidence intervals.
 
-    Delta index (Borgonovo 2007): SALib's ``delta`` analyses single variables only (no
-    groups). It is computed on the 2N independent base rows (blocks A and B). A datum with
-    one parameter enters as itself. A multi-parameter datum enters through its linear
-    projection ``z_g = Σ_{i∈g} c_i (x_i − x̂_i)`` per output (``c`` = linear sensitivity
-    coefficients); this is exact when the output depends on the datum only through that
-    linear combination (e.g. Cp coefficients at a fixed temperature, Cp being linear in its
-    coefficients) and an approximation otherwise. Without ``sensitivity`` the largest
-    single-coefficient delta of the group is reported (a lower bound: δ of a set of inputs
-    is never smaller than δ of one of them, Borgonovo 2007, property 3).
+    Delta index (Borgonovo 2007; estimator of Plischke, Borgonovo & Smith 2013): computed by
+    :func:`uqthermo.uq.delta.grouped_delta` on a balanced part of the design — the first n
+    A rows and the first n B rows, n a power of two with 2n ≤ ``delta_rows``
+    (:func:`uqthermo.uq.delta.design_rows`), so the sample is a contiguous prefix of two
+    scrambled Sobol' sequences whatever N is. Multi-parameter data enter through their linear
+    projection on ``sensitivity`` (see that function).
 
     Parameters
     ----------
@@ -390,15 +388,14 @@ def sobol_indices(
         evenly spaced columns including the first and last (others report NaN, and
         :meth:`SobolResult.indices` gives ``"delta": None`` for them).
     delta_rows, delta_resamples : int
-        At most ``delta_rows`` base rows (evenly strided) and ``delta_resamples`` bootstrap
-        resamples enter the delta estimate.
+        At most ``delta_rows`` rows (a power-of-two prefix of the A and of the B rows) and
+        ``delta_resamples`` bootstrap resamples enter the delta estimate.
 
     Returns
     -------
     SobolResult
     """
     try:
-        from SALib.analyze import delta as salib_delta
         from SALib.analyze import sobol as salib_sobol
         from SALib.sample import sobol as salib_sample
     except ImportError as exc:  # pragma: no cover - SALib is a hard dependency
@@ -478,10 +475,12 @@ def sobol_indices(
         if delta_outputs is None:
             delta_outputs = range(M) if M <= 4 else np.unique(np.linspace(0, M - 1, 4).round().astype(int))
         which = sorted({int(m) for m in delta_outputs if 0 <= int(m) < M})
-        dl, dlc, delta_method, dnotes = _delta_indices(
-            salib_delta, Y, U, block_inputs, active, groups, G, M, sensitivity,
-            np.asarray(inputs.estimates, dtype=float), delta_resamples, conf_level, seed, flat,
-            which, delta_rows, engine == "salib",
+        rows = design_rows(Y.shape[0], G + 2, delta_rows)
+        Xd = block_inputs.from_uniform(np.clip(U[rows], _U_LO, _U_HI))
+        dl, dlc, delta_method, dnotes = grouped_delta(
+            Y[rows], Xd, active, groups, sensitivity=sensitivity,
+            estimates=np.asarray(inputs.estimates, dtype=float), which=which, flat=flat,
+            num_resamples=delta_resamples, conf_level=conf_level, seed=seed, use_salib=engine == "salib",
         )
         notes.extend(dnotes)
     return SobolResult(active, S1, S1c, ST, STc, dl, dlc, delta_method, n_base, n_rows, seed, conf_level, cross, notes)
@@ -525,197 +524,6 @@ def _sobol_estimates(Y, G, num_resamples, conf_level, seed):
         S1c[:, j] = z * s1r.std(axis=0, ddof=1)
         STc[:, j] = z * str_.std(axis=0, ddof=1)
     return S1, S1c, ST, STc
-
-
-def _gauss(grid: np.ndarray, Ys: np.ndarray, h: np.ndarray) -> np.ndarray:
-    """Gaussian kernel values φ((g − y)/h)/h, shape (B, N, G), computed in place."""
-    t = np.subtract(grid[None, None, :], Ys[:, :, None])
-    hb = np.broadcast_to(h, Ys.shape)[:, :, None]
-    t /= hb
-    np.square(t, out=t)
-    t *= -0.5
-    np.exp(t, out=t)
-    t /= hb * math.sqrt(2.0 * math.pi)
-    return t
-
-
-def delta_index(
-    X: np.ndarray,
-    Y: np.ndarray,
-    num_resamples: int = 10,
-    conf_level: float = 0.95,
-    seed: int | None = None,
-    grid_points: int = 100,
-) -> tuple[np.ndarray, np.ndarray]:
-    """Borgonovo's moment-independent delta index from given data, vectorised.
-
-    ``δ_i = ½ E_{X_i}[ ∫ |f_Y(y) − f_{Y|X_i}(y)| dy ]`` (Borgonovo 2007, Reliab. Eng. Syst.
-    Saf. 92, 771–784), estimated as in Plischke, Borgonovo & Smith (2013), Eur. J. Oper.
-    Res. 226, 536–550, eqs. (26) and (30), with the choices of SALib 1.6's ``delta``:
-    equal-frequency classes of X_i by rank, ``M = min(⌈N^e⌉, 48)`` classes with
-    ``e = 2 / (7 + tanh((1500 − N)/500))``; Gaussian kernel densities with Silverman's
-    bandwidth ``h = s (3n/4)^(−1/5)`` (s: sample standard deviation) on 100 points spanning
-    the range of Y; class estimate ``δ̂ = Σ_c n_c/(2N) ∫ |f̂_Y − f̂_{Y|c}| dy`` (trapezoid
-    rule; classes with constant Y skipped); bias reduction ``δ = 2 δ̂ − mean(δ̂*_b)`` over
-    bootstrap resamples b and confidence half-width ``z · sd(δ̂*_b)``. Unlike SALib, δ̂ is
-    taken on the full sample (SALib takes it on one more bootstrap resample), and numpy's
-    global generator is not touched.
-
-    Parameters
-    ----------
-    X : (N, k)
-        Inputs (one column per factor; a constant column gives δ = 0).
-    Y : (N,)
-    num_resamples : int
-    conf_level : float
-    seed : int, optional
-    grid_points : int
-
-    Returns
-    -------
-    delta, conf : ndarray (k,)
-    """
-    from scipy.stats import norm
-
-    X = np.asarray(X, dtype=float)
-    if X.ndim == 1:
-        X = X[:, None]
-    Y = np.asarray(Y, dtype=float)
-    N, k = X.shape
-    if Y.shape != (N,):
-        raise StatisticsError(f"delta index: Y has shape {Y.shape}, expected ({N},)")
-    if N < 20 or np.ptp(Y) == 0:
-        return np.zeros(k), np.zeros(k)
-    e = 2.0 / (7.0 + math.tanh((1500.0 - N) / 500.0))
-    M = int(np.round(min(int(np.ceil(N**e)), 48)))
-    thresholds = np.linspace(0, N, M + 1)
-    grid = np.linspace(Y.min(), Y.max(), grid_points)
-    rng = np.random.default_rng(seed)
-    R = max(2, int(num_resamples))
-    idx_sets = np.vstack([np.arange(N)[None, :], rng.integers(N, size=(R, N))])  # (R+1, N)
-    z = norm.ppf(0.5 + conf_level / 2)
-
-    def kde_rows(Ys: np.ndarray) -> np.ndarray:
-        """Unconditional density on the grid for each resample row (B, G)."""
-        n = Ys.shape[1]
-        h = Ys.std(axis=1, ddof=1) * (3.0 * n / 4.0) ** (-0.2)
-        h = np.where(h > 0, h, 1.0)
-        return _gauss(grid, Ys, h[:, None]).sum(axis=1) / n
-
-    Yr = Y[idx_sets]  # (B, N)
-    fy = kde_rows(Yr)  # (B, G)
-    ranks = np.arange(1, N + 1)
-    cls_of_rank = np.searchsorted(thresholds, ranks, side="left") - 1  # class of rank r: m_j < r <= m_j+1
-    cls_of_rank = np.clip(cls_of_rank, 0, M - 1)
-    onehot = np.zeros((M, N))
-    onehot[cls_of_rank, np.arange(N)] = 1.0
-    present = np.flatnonzero(np.bincount(cls_of_rank, minlength=M) > 0)
-    onehot = onehot[present]
-    n_c = onehot.sum(axis=1)  # (M',) non-empty classes
-    starts = np.searchsorted(cls_of_rank, present)  # first sorted position of each class
-    out = np.zeros(k)
-    conf = np.zeros(k)
-    for i in range(k):
-        xi = X[:, i]
-        if np.ptp(xi) == 0:
-            continue
-        Xr = xi[idx_sets]  # (B, N)
-        order = np.argsort(Xr, axis=1, kind="stable")  # ordinal ranks
-        Ys = np.take_along_axis(Yr, order, axis=1)  # Y sorted by X within each resample
-        # per-class sample std (ddof=1) via sums
-        s1 = Ys @ onehot.T  # (B, M)
-        s2 = (Ys * Ys) @ onehot.T
-        nn = n_c[None, :]
-        var = np.where(nn > 1, (s2 - s1 * s1 / nn) / np.maximum(nn - 1, 1), 0.0)
-        sd = np.sqrt(np.maximum(var, 0.0))
-        h = sd * (3.0 * nn / 4.0) ** (-0.2)  # (B, M)
-        ok = h > 0
-        hh = np.where(ok, h, 1.0)
-        h_pt = hh[:, np.searchsorted(present, cls_of_rank)]  # (B, N) bandwidth of each point's class
-        kern = _gauss(grid, Ys, h_pt)  # (B, N, G)
-        # classes are contiguous runs of the X-sorted order: sum each run
-        fyc = np.add.reduceat(kern, starts, axis=1) / nn[:, :, None]  # (B, M, G)
-        diff = np.abs(fy[:, None, :] - fyc)
-        integ = np.trapezoid(diff, grid, axis=2) if hasattr(np, "trapezoid") else np.trapz(diff, grid, axis=2)
-        d = np.sum(np.where(ok, nn / (2.0 * N) * integ, 0.0), axis=1)  # (B,)
-        d_hat, boot = d[0], d[1:]
-        out[i] = 2.0 * d_hat - boot.mean()
-        conf[i] = z * boot.std(ddof=1)
-    return out, conf
-
-
-def _delta_indices(salib_delta, Y, U, block_inputs, active, groups, G, M, sensitivity, est,
-                   num_resamples, conf_level, seed, flat, which, max_rows, use_salib):
-    step = G + 2
-    rows = np.sort(np.concatenate([np.arange(0, Y.shape[0], step), np.arange(step - 1, Y.shape[0], step)]))
-    if rows.size > max_rows:
-        rows = rows[:: int(math.ceil(rows.size / max_rows))]
-    Xb = block_inputs.from_uniform(np.clip(U[rows], _U_LO, _U_HI))
-    Yb = Y[rows]
-    notes: list[str] = []
-    multi = [name for name in active if groups[name].size > 1]
-    C = None if sensitivity is None else np.atleast_2d(np.asarray(sensitivity, dtype=float))
-    if not multi:
-        method = "per datum (single-parameter data)"
-    elif C is not None:
-        method = "multi-parameter data by their linear projection c_gᵀ(x_g − x̂_g)"
-    else:
-        method = "multi-parameter data: largest single-parameter delta (a lower bound)"
-    dl = np.full((M, G), np.nan); dlc = np.full((M, G), np.nan)
-    n = Yb.shape[0]
-    for m in which:
-        dl[m] = 0.0; dlc[m] = 0.0
-        if m in flat:
-            continue
-        cols_x = []  # (group index j, column vector)
-        for j, name in enumerate(active):
-            idx = groups[name]
-            if idx.size == 1:
-                cols_x.append((j, Xb[:, idx[0]]))
-            elif C is not None:
-                cols_x.append((j, (Xb[:, idx] - est[idx]) @ C[m, idx]))
-            else:
-                for i in idx:
-                    cols_x.append((j, Xb[:, i]))
-        keep = [(j, x) for j, x in cols_x if np.ptp(x) > 0]
-        if not keep:
-            continue
-        Xd = np.column_stack([x for _, x in keep])
-        if not use_salib:
-            dv, dc = delta_index(Xd, Yb[:, m], num_resamples=num_resamples, conf_level=conf_level,
-                                 seed=None if seed is None else int(seed) + 1)
-            for k, (j, _) in enumerate(keep):
-                if dv[k] >= dl[m, j]:
-                    dl[m, j] = dv[k]; dlc[m, j] = dc[k]
-            continue
-        prob = {"num_vars": Xd.shape[1], "names": [f"z{k}" for k in range(Xd.shape[1])],
-                "bounds": [[float(x.min()), float(x.max())] for x in Xd.T]}
-        # SALib's delta seeds numpy's *global* generator (only for a truthy seed), switches the
-        # warning filter to "once" and replaces warnings.formatwarning: isolate all three.
-        state = np.random.get_state()
-        fmt = warnings.formatwarning
-        try:
-            with warnings.catch_warnings(record=True), contextlib.redirect_stdout(io.StringIO()):
-                warnings.simplefilter("ignore")
-                res = salib_delta.analyze(prob, Xd, Yb[:, m], num_resamples=num_resamples,
-                                          conf_level=conf_level, print_to_console=False,
-                                          seed=None if seed is None else int(seed) + 1, method="delta")
-        except Exception as exc:  # SALib's KDE can fail on degenerate samples
-            notes.append(f"delta index failed for output column {m}: {type(exc).__name__}")
-            dl[m] = np.nan; dlc[m] = np.nan
-            continue
-        finally:
-            np.random.set_state(state)
-            warnings.formatwarning = fmt
-        key = "delta_raw" if "delta_raw" in res else "delta"  # SALib >= 1.5 / older
-        dv = np.nan_to_num(np.asarray(res[key], dtype=float))
-        dc = np.nan_to_num(np.asarray(res[key + "_conf"], dtype=float))
-        for k, (j, _) in enumerate(keep):
-            if dv[k] >= dl[m, j]:
-                dl[m, j] = dv[k]; dlc[m, j] = dc[k]
-    if n < 500:
-        notes.append(f"delta index from only {n} rows; treat it as a rough cross-check")
-    return dl, dlc, method, notes
 
 
 # ---------------------------------------------------------------------------------------

@@ -27,6 +27,20 @@ expanded uncertainty (and the coverage interval).
     other data changes the copula factor of the remaining ones, so common random numbers
     then hold only approximately for those data.
 
+**Standard error of a Monte Carlo what-if.** With ``batches = h ≥ 2`` the shared sample is h
+independent replicates of n/h rows (for Sobol' sampling h independently scrambled nets, seeds
+:func:`uqthermo.uq.montecarlo.batch_seed` — randomised quasi-Monte Carlo, Owen 1997; the same
+batches as the adaptive procedure of JCGM 101 §7.9). Every scenario is evaluated on all of
+them; the change ΔU = U_scenario − U_now is computed per replicate b (common random numbers
+inside each replicate); the reported change is their average and its standard error
+``s(ΔU_b) / √h`` (JCGM 101 §7.9.4: the standard deviation of the average of h batch results), so
+U_scenario = U_now + mean ΔU_b with U_now, u and the intervals from the pooled n rows. (A
+pooled quantile would not average a small perturbation down: it rests on the few rows near the
+interval's ends.) A change smaller than k standard errors, k = max(2, t_0.975(h − 1)) (2.36 for h = 8, the
+Student-t factor the adaptive procedure uses too), is *not measurable* at this sample size
+(``measurable`` false): the report says "no measurable change" instead of printing noise.
+Linear what-if values are exact (standard error 0).
+
 The module never imports the physics, the case layer or the report.
 """
 
@@ -242,6 +256,11 @@ class WhatIfResult:
         width of the probabilistically symmetric 100p % coverage interval.
     interval : ndarray (S, M, 2)
     samples, seed, sampling, scaling : Monte Carlo settings (None for linear)
+    U_se : ndarray (S, M) or None
+        Standard error of the change U − U_now per scenario (Monte Carlo with ``batches`` ≥ 2;
+        zeros for the exact linear method; None when not estimated).
+    batches : int or None
+        Independent replicates behind ``U_se``.
     """
 
     method: str
@@ -258,43 +277,90 @@ class WhatIfResult:
     seed: int | None = None
     sampling: str | None = None
     scaling: str | None = None
+    U_se: np.ndarray | None = None
+    batches: int | None = None
+
+    #: a change is measurable when |ΔU| ≥ k standard errors, k = max(MEASURABLE_SE, t_0.975(h − 1))
+    #: for h replicates (2.36 for h = 8): at least two standard errors, and a two-sided 95 % test
+    #: that allows for the few degrees of freedom of the standard error
+    MEASURABLE_SE = 2.0
+
+    def measurable_factor(self) -> float:
+        """k of :meth:`change` (``MEASURABLE_SE`` without replicates)."""
+        if not self.batches or self.batches < 2:
+            return self.MEASURABLE_SE
+        from scipy import stats
+
+        return max(self.MEASURABLE_SE, float(stats.t.ppf(0.975, self.batches - 1)))
+
+    def change(self, s: int, m: int) -> tuple[float | None, bool]:
+        """Standard error of ΔU = U[s, m] − U_now[m] and whether the change is measurable.
+
+        Linear (exact): standard error 0, measurable when ΔU is not zero to rounding
+        (|ΔU| > 1e-9 U_now). Monte Carlo: measurable when |ΔU| ≥ k standard errors
+        (:meth:`measurable_factor`, at least 2); without a standard error (``batches`` < 2) the
+        standard error is None and every change counts.
+        """
+        d = float(self.U[s, m] - self.U_now[m])
+        if self.method == "linear":
+            return 0.0, abs(d) > 1e-9 * abs(float(self.U_now[m]))
+        if self.U_se is None:
+            return None, True
+        se = float(self.U_se[s, m])
+        return se, abs(d) >= self.measurable_factor() * se and d != 0.0
 
     def rows(self, m: int, scale: float = 1.0) -> list[dict]:
         """Per-datum table rows for output column ``m`` (the contract's ``"whatif"`` list).
 
         Each row: ``{"datum", "U_now", "U_halved", "U_removed"}`` plus ``"U_stated"`` /
         ``"u_stated_factor"`` when a stated scenario exists and ``"U_scaled"`` entries
-        (``{factor: U}``) for scaled ones. Values are multiplied by ``scale`` (unit
-        conversion). Rows are ordered by the gain of removal, largest first.
+        (``{factor: U}``) for scaled ones; ``"method"`` (``"linear"`` exact, or
+        ``"monte-carlo"``), ``"standard_error"`` and ``"measurable"``: for each U key above
+        the standard error of its change from U_now and whether that change is measurable
+        (:meth:`change`; the same nesting for ``U_scaled``). Values are multiplied by
+        ``scale`` (unit conversion). Rows are ordered by the gain of removal, largest first.
         """
         by: dict[str, dict] = {}
         for s, sc in enumerate(self.scenarios):
             if sc.datum is None:
                 continue
             row = by.setdefault(sc.datum, {"datum": sc.datum, "U_now": float(self.U_now[m] * scale),
-                                           "U_halved": None, "U_removed": None})
+                                           "U_halved": None, "U_removed": None, "method": self.method,
+                                           "standard_error": {}, "measurable": {}})
             val = float(self.U[s, m] * scale)
-            if sc.kind == "halved":
-                row["U_halved"] = val
-            elif sc.kind == "removed":
-                row["U_removed"] = val
-            elif sc.kind == "stated":
-                row["U_stated"] = val
-                row["u_stated_factor"] = float(self.factors[s].get(sc.datum, 1.0))
+            se, ok = self.change(s, m)
+            se = None if se is None else se * abs(scale)
+            if sc.kind in ("halved", "removed", "stated"):
+                key = f"U_{sc.kind}"
+                row[key] = val
+                row["standard_error"][key] = se
+                row["measurable"][key] = ok
+                if sc.kind == "stated":
+                    row["u_stated_factor"] = float(self.factors[s].get(sc.datum, 1.0))
             elif sc.kind == "scaled":
-                row.setdefault("U_scaled", {})[f"{self.factors[s].get(sc.datum, 1.0):g}"] = val
+                fk = f"{self.factors[s].get(sc.datum, 1.0):g}"
+                row.setdefault("U_scaled", {})[fk] = val
+                row["standard_error"].setdefault("U_scaled", {})[fk] = se
+                row["measurable"].setdefault("U_scaled", {})[fk] = ok
             else:
                 row.setdefault("U_custom", {})[sc.label] = val
+                row["standard_error"].setdefault("U_custom", {})[sc.label] = se
+                row["measurable"].setdefault("U_custom", {})[sc.label] = ok
         rows = list(by.values())
         rows.sort(key=lambda r: (r["U_removed"] if r["U_removed"] is not None else r["U_now"]))
         return rows
 
     def scenario_rows(self, m: int, scale: float = 1.0) -> list[dict]:
-        """One row per scenario: ``{"label", "kind", "datum", "factors", "u", "U", "interval"}``."""
-        return [{"label": sc.label, "kind": sc.kind, "datum": sc.datum, "factors": dict(self.factors[s]),
-                 "u": float(self.u[s, m] * scale), "U": float(self.U[s, m] * scale),
-                 "interval": [float(self.interval[s, m, 0] * scale), float(self.interval[s, m, 1] * scale)]}
-                for s, sc in enumerate(self.scenarios)]
+        """One row per scenario: ``{"label", "kind", "datum", "factors", "u", "U", "interval",
+        "standard_error", "measurable"}``."""
+        out = []
+        for s, sc in enumerate(self.scenarios):
+            se, ok = self.change(s, m)
+            out.append({"label": sc.label, "kind": sc.kind, "datum": sc.datum, "factors": dict(self.factors[s]),
+                        "u": float(self.u[s, m] * scale), "U": float(self.U[s, m] * scale),
+                        "interval": [float(self.interval[s, m, 0] * scale), float(self.interval[s, m, 1] * scale)],
+                        "standard_error": None if se is None else se * abs(scale), "measurable": ok})
+        return out
 
     def to_dict(self, m: int | None = None, scale: float = 1.0) -> Any:
         """``rows(m)`` for one output; with ``m=None`` the whole study:
@@ -303,7 +369,7 @@ class WhatIfResult:
         if m is not None:
             return self.rows(m, scale)
         return {"method": self.method, "coverage": self.coverage, "samples": self.samples, "seed": self.seed,
-                "sampling": self.sampling, "scaling": self.scaling,
+                "sampling": self.sampling, "scaling": self.scaling, "batches": self.batches,
                 "outputs": [{"u_now": float(self.u_now[k] * scale), "U_now": float(self.U_now[k] * scale),
                              "interval_now": [float(v * scale) for v in self.interval_now[k]],
                              "rows": self.rows(k, scale), "scenarios": self.scenario_rows(k, scale)}
@@ -335,6 +401,7 @@ def what_if(
     scaling: str = "x-space",
     chunk_size: int = 65536,
     rotate: bool = True,
+    batches: int = 1,
 ) -> WhatIfResult:
     """Output uncertainty if data were measured better (or not at all).
 
@@ -368,6 +435,11 @@ def what_if(
         :func:`uqthermo.uq.montecarlo.score_rotation`). Distribution scaling always uses
         the plain Sobol' axes: each input then keeps its own coordinate in every scenario,
         even when a datum is removed, so the scenarios share their random numbers.
+    batches : int
+        Monte Carlo with x-space scaling: split ``samples`` into this many independent
+        replicates (independently scrambled nets for Sobol' sampling) to estimate the standard
+        error of each change (module docstring). 1 (default): one shared sample, the very rows
+        :func:`uqthermo.uq.montecarlo.propagate_monte_carlo` draws, and no standard error.
 
     Returns
     -------
@@ -391,8 +463,10 @@ def what_if(
                                   "adaptive stopping would break common random numbers")
         if scaling not in ("x-space", "distribution"):
             raise StatisticsError(f"unknown what-if scaling {scaling!r}; use x-space or distribution")
+        if int(batches) < 1 or (int(batches) > 1 and int(samples) // int(batches) < 2):
+            raise StatisticsError(f"what-if batches must be >= 1 with at least 2 samples each, got {batches}")
         return _what_if_mc(f, inputs, scenarios, fmaps, A, coverage, int(samples), sampling, seed, scaling,
-                           chunk_size, rotate)
+                           chunk_size, rotate, int(batches))
     raise StatisticsError(f"unknown what-if method {method!r}; use linear or monte-carlo")
 
 
@@ -415,7 +489,8 @@ def _what_if_linear(f, inputs, scenarios, fmaps, A, coverage, linear):
     U_now = k_now * u_now
     interval = np.stack([y[None, :] - U, y[None, :] + U], axis=-1)
     interval_now = np.stack([y - U_now, y + U_now], axis=-1)
-    return WhatIfResult("linear", coverage, list(scenarios), fmaps, u_now, U_now, interval_now, u, U, interval)
+    return WhatIfResult("linear", coverage, list(scenarios), fmaps, u_now, U_now, interval_now, u, U, interval,
+                        U_se=np.zeros_like(U))
 
 
 class CommonSample:
@@ -481,9 +556,16 @@ class CommonSample:
         return np.array(us), np.array(ivs)
 
 
-def _what_if_mc(f, inputs, scenarios, fmaps, A, coverage, n, sampling, seed, scaling, chunk_size, rotate):
+def _half_widths(Y: np.ndarray, coverage: float) -> np.ndarray:
+    """U = half the width of the probabilistically symmetric interval of each column of Y."""
+    _, iv = _mc_stats(Y, coverage)
+    return 0.5 * (iv[:, 1] - iv[:, 0])
+
+
+def _what_if_mc(f, inputs, scenarios, fmaps, A, coverage, n, sampling, seed, scaling, chunk_size, rotate, batches=1):
     D = len(inputs.stds)
     S = len(scenarios)
+    U_se = None
     if scaling == "distribution":
         from .montecarlo import propagate_monte_carlo  # helper B's module
 
@@ -496,6 +578,25 @@ def _what_if_mc(f, inputs, scenarios, fmaps, A, coverage, n, sampling, seed, sca
 
         u_now, iv_now = run({})
         res = [run(fm) for fm in fmaps]
+    elif batches > 1:
+        from .montecarlo import batch_seed
+
+        m = n // batches
+        reps = [CommonSample(f, inputs, m, sampling=sampling, seed=batch_seed(seed, b), chunk_size=chunk_size,
+                             rotate=rotate) for b in range(batches)]
+        rows = np.vstack([np.ones((1, D)), A])
+        res, Ub = [], []
+        for a in rows:
+            parts = [r.values(a) for r in reps]
+            res.append(_mc_stats(np.concatenate(parts), coverage))
+            Ub.append([_half_widths(p, coverage) for p in parts])
+        Ub = np.asarray(Ub)                                   # (S + 1, batches, M)
+        dU = Ub[1:] - Ub[:1]                                  # per-replicate changes (S, batches, M)
+        U_se = dU.std(axis=1, ddof=1) / np.sqrt(batches)
+        dU_mean = dU.mean(axis=1)                             # (S, M)
+        u_now, iv_now = res[0]
+        res = res[1:]
+        n = m * batches
     else:
         shared = CommonSample(f, inputs, n, sampling=sampling, seed=seed, chunk_size=chunk_size, rotate=rotate)
         uu, ivv = shared.evaluate(np.vstack([np.ones((1, D)), A]), coverage)
@@ -506,5 +607,11 @@ def _what_if_mc(f, inputs, scenarios, fmaps, A, coverage, n, sampling, seed, sca
     interval = np.array([r[1] for r in res]).reshape(S, M, 2)
     U = 0.5 * (interval[..., 1] - interval[..., 0])
     U_now = 0.5 * (iv_now[:, 1] - iv_now[:, 0])
+    if U_se is not None:
+        # the change is the mean of the replicates' changes (its standard error is U_se); a
+        # pooled quantile would not average a small perturbation down (it rests on the few rows
+        # near the interval's ends), so U = U_now + mean ΔU_b
+        U = U_now[None, :] + dU_mean
     return WhatIfResult("monte-carlo", coverage, list(scenarios), fmaps, u_now, U_now, iv_now, u, U, interval,
-                        samples=n, seed=seed, sampling=sampling, scaling=scaling)
+                        samples=n, seed=seed, sampling=sampling, scaling=scaling,
+                        U_se=None if U_se is None else U_se.reshape(S, M), batches=batches if U_se is not None else None)

@@ -1,4 +1,9 @@
-"""Built-in data library over the thermochemical datasets shipped by the ``chemicals`` package.
+"""Look-ups from one named dataset: ``library = "ATcT"``, ``"JANAF"`` or ``"shomate"``.
+
+Owns the explicit look-ups of the three datasets a case file could name before ``library =
+"auto"`` existed, with their original semantics (kept for compatibility): the value from that
+dataset, its stated uncertainty if any, ambiguity errors for formulas shared by several entries
+of that dataset, and :func:`search` for ``uqthermo data``.
 
 Datasets (all read from the installed ``chemicals`` package, no network):
 
@@ -38,242 +43,38 @@ from __future__ import annotations
 
 import functools
 import re
-from dataclasses import dataclass, field
 from typing import Iterable
 
 import numpy as np
 
 from uqthermo.errors import InputError
 
+from . import atct, janaf, webbook_shomate
+from .atct import COVERAGE_FACTOR as ATCT_COVERAGE_FACTOR
+from .base import (
+    T_REF,
+    DatasetInfo,
+    LibraryCp,
+    LibraryLookupError,
+    LibraryValue,
+    Match,
+    nan_to_none as _nan_to_none,
+)
+from .base import PHASES as _PHASES
+from .base import chemicals_version as _chemicals_version
+from .formula import CAS_RE as _CAS
+from .formula import split_phase as _split_phase
+from .formula import try_hill as _try_hill
+
 __all__ = [
-    "DATASETS",
-    "DatasetInfo",
-    "LibraryValue",
-    "LibraryCp",
-    "Match",
-    "LibraryLookupError",
-    "hill_formula",
-    "lookup_formation_enthalpy",
-    "lookup_standard_entropy",
-    "lookup_formation_gibbs_energy",
-    "lookup_heat_capacity",
-    "search",
-    "format_matches",
-    "ATCT_COVERAGE_FACTOR",
+    "DATASETS", "ATCT_COVERAGE_FACTOR", "lookup_formation_enthalpy", "lookup_standard_entropy",
+    "lookup_formation_gibbs_energy", "lookup_heat_capacity", "search", "format_matches", "dataset_key",
+    "ALIASES", "dataset_infos",
 ]
 
-ATCT_COVERAGE_FACTOR = 2.0
-"""ATcT ± values are 95 % expanded uncertainties; u = U / 2 (see module docstring)."""
 
-T_REF = 298.15
-
-# ------------------------------------------------------------------------------------------
-# Formula handling
-# ------------------------------------------------------------------------------------------
-
-_ELEMENTS = set(
-    "H He Li Be B C N O F Ne Na Mg Al Si P S Cl Ar K Ca Sc Ti V Cr Mn Fe Co Ni Cu Zn Ga Ge As Se "
-    "Br Kr Rb Sr Y Zr Nb Mo Tc Ru Rh Pd Ag Cd In Sn Sb Te I Xe Cs Ba La Ce Pr Nd Pm Sm Eu Gd Tb "
-    "Dy Ho Er Tm Yb Lu Hf Ta W Re Os Ir Pt Au Hg Tl Pb Bi Po At Rn Fr Ra Ac Th Pa U Np Pu Am Cm "
-    "Bk Cf Es Fm Md No Lr Rf Db Sg Bh Hs Mt Ds Rg Cn Nh Fl Mc Lv Ts Og D".split()
-)
-_PHASE_SUFFIX = re.compile(r"\s*\(([a-z]{1,3}(?:,[^()]*)?)\)\s*$")
-_CAS = re.compile(r"^\d{2,7}-\d{2}-\d$")
-_TOKEN = re.compile(r"([A-Z][a-z]?)|(\()|(\))|(\[)|(\])|(\d+(?:\.\d+)?)")
-
-
-def _split_phase(text: str) -> tuple[str, str | None]:
-    m = _PHASE_SUFFIX.search(text)
-    if m:
-        return text[: m.start()].strip(), m.group(1).split(",")[0]
-    return text.strip(), None
-
-
-def _parse_counts(s: str) -> dict[str, float]:
-    stack: list[dict[str, float]] = [{}]
-    closers: list[str] = []
-    pos = 0
-    last: dict[str, float] | str | None = None
-    while pos < len(s):
-        m = _TOKEN.match(s, pos)
-        if not m:
-            raise ValueError(f"unexpected {s[pos]!r}")
-        el, op, cp, ob, cb, num = m.groups()
-        pos = m.end()
-        if el:
-            if el not in _ELEMENTS:
-                raise ValueError(f"unknown element {el!r}")
-            stack[-1][el] = stack[-1].get(el, 0.0) + 1.0
-            last = el
-        elif op or ob:
-            stack.append({})
-            closers.append(")" if op else "]")
-            last = None
-        elif cp or cb:
-            if not closers or closers.pop() != (")" if cp else "]"):
-                raise ValueError("unbalanced brackets")
-            grp = stack.pop()
-            for k, v in grp.items():
-                stack[-1][k] = stack[-1].get(k, 0.0) + v
-            last = grp
-        else:
-            n = float(num)
-            if isinstance(last, str):
-                stack[-1][last] += n - 1.0
-            elif isinstance(last, dict):
-                for k, v in last.items():
-                    stack[-1][k] += v * (n - 1.0)
-            else:
-                raise ValueError("count without an element or group")
-            last = None
-    if closers:
-        raise ValueError("unbalanced brackets")
-    return stack[0]
-
-
-def _parse_formula(text: str) -> tuple[dict[str, float], int]:
-    s = text.strip().replace(" ", "")
-    charge = 0
-    # Trailing charge: "+2"/"-2" after the formula (ATcT "[He]+2"), or a bare sign ("CN-",
-    # "O2-": the digits before a bare sign are the atom count, charge 1).
-    m = re.search(r"([+-])(\d+)$", s)
-    if m and m.start() > 0:
-        charge = int(m.group(2)) * (1 if m.group(1) == "+" else -1)
-        s = s[: m.start()]
-    else:
-        m = re.search(r"[+-]$", s)
-        if m and m.start() > 0:
-            charge = 1 if m.group(0) == "+" else -1
-            s = s[: m.start()]
-    counts: dict[str, float] = {}
-    parts = re.split(r"[.·*]", s)
-    for part in parts:
-        if not part:
-            raise ValueError("empty formula part")
-        mult = 1.0
-        mm = re.match(r"^(\d+(?:\.\d+)?)(?=[A-Z(\[])", part)
-        if mm and len(parts) > 1:
-            mult = float(mm.group(1))
-            part = part[mm.end():]
-        for k, v in _parse_counts(part).items():
-            counts[k] = counts.get(k, 0.0) + mult * v
-    if not counts:
-        raise ValueError("no elements")
-    return counts, charge
-
-
-def _fmt_count(v: float) -> str:
-    if abs(v - 1.0) < 1e-12:
-        return ""
-    if abs(v - round(v)) < 1e-9:
-        return str(int(round(v)))
-    return f"{v:g}"
-
-
-def hill_formula(text: str) -> str:
-    """Normalise a chemical formula to Hill order.
-
-    Hill system (E. A. Hill, J. Am. Chem. Soc. 22 (1900) 478-494): with carbon present, C first,
-    then H, then the other elements alphabetically; without carbon, all elements alphabetically.
-    Groups in parentheses/brackets, counts, hydrate dots (``CuSO4.5H2O``) and a trailing phase
-    suffix (``(g)``) are accepted; a trailing charge is kept as ``+``/``-``/``+2``...
-
-    Parameters
-    ----------
-    text : str
-        e.g. ``"CH3C(O)OH"``, ``"[CN]-"``, ``"H2O (g)"``.
-
-    Returns
-    -------
-    str
-        e.g. ``"C2H4O2"``, ``"CN-"``, ``"H2O"``.
-
-    Raises
-    ------
-    ValueError
-        Text that is not a formula.
-    """
-    body, _ = _split_phase(text)
-    counts, charge = _parse_formula(body)
-    counts = {k: v for k, v in counts.items() if abs(v) > 1e-12}
-    if "C" in counts:
-        order = ["C"] + (["H"] if "H" in counts else []) + sorted(k for k in counts if k not in ("C", "H"))
-    else:
-        order = sorted(counts)
-    out = "".join(f"{k}{_fmt_count(counts[k])}" for k in order)
-    if charge:
-        out += ("+" if charge > 0 else "-") + (str(abs(charge)) if abs(charge) != 1 else "")
-    return out
-
-
-def _try_hill(text) -> str | None:
-    if not isinstance(text, str) or not text.strip():
-        return None
-    try:
-        return hill_formula(text)
-    except (ValueError, KeyError, IndexError):
-        return None
-
-
-# ------------------------------------------------------------------------------------------
-# Datasets
-# ------------------------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class DatasetInfo:
-    """Provenance of a dataset.
-
-    Attributes
-    ----------
-    key : str
-        Name used in case files (``library = "ATcT"``).
-    title : str
-    version : str
-    citation : str
-    quantities : dict
-        quantity -> phases available.
-    uncertainty : str
-        What the dataset states about uncertainties and how they are converted.
-    """
-
-    key: str
-    title: str
-    version: str
-    citation: str
-    quantities: dict
-    uncertainty: str
-
-    @property
-    def label(self) -> str:
-        """e.g. ``"Active Thermochemical Tables (ATcT) 1.112, via chemicals 1.5.2"``."""
-        return f"{self.title} ({self.key}) {self.version}, via chemicals {_chemicals_version()}"
-
-
-@functools.lru_cache(maxsize=1)
-def _chemicals_version() -> str:
-    try:
-        import chemicals
-
-        return str(chemicals.__version__)
-    except Exception:  # pragma: no cover - chemicals is a dependency
-        return "?"
-
-
-@functools.lru_cache(maxsize=1)
 def _atct_version() -> str:
-    try:
-        import chemicals.reaction  # noqa: F401  (registers the data files)
-        from chemicals import data_reader
-
-        names = [k for k in data_reader.load_cmds if k.startswith("ATcT ")]
-    except Exception:  # pragma: no cover
-        names = []
-    for n in names:
-        m = re.match(r"ATcT (\S+) \(", n)
-        if m:
-            return m.group(1)
-    return "?"
+    return atct.version()
 
 
 def _datasets() -> dict[str, DatasetInfo]:
@@ -322,10 +123,6 @@ _ALIASES = {
     "nist-shomate": "shomate",
 }
 
-_PHASES = {"g": "g", "gas": "g", "l": "l", "liq": "l", "liquid": "l", "s": "s", "cr": "s", "solid": "s",
-           "c": "s"}
-
-
 def _dataset_key(name: str) -> str:
     key = _ALIASES.get(str(name).strip().lower())
     if key is None:
@@ -340,67 +137,36 @@ def _phase_key(phase: str) -> str:
     return p
 
 
-def _nan_to_none(x):
-    try:
-        v = float(x)
-    except (TypeError, ValueError):
-        return None
-    return None if not np.isfinite(v) else v
+ALIASES = _ALIASES
+dataset_key = _dataset_key
+
+
+def dataset_infos() -> dict[str, DatasetInfo]:
+    """The three named datasets' provenance (``DATASETS``)."""
+    return dict(_dataset_infos())
 
 
 @functools.lru_cache(maxsize=1)
 def _tables():
-    """Load the chemicals tables once: {dataset: {quantity: {phase: {cas: payload}}}} plus
-    metadata {cas: (name, raw formula)}."""
-    import chemicals.reaction  # noqa: F401  (registers the data files)
-    from chemicals import heat_capacity as hc
-    from chemicals.data_reader import data_source
-
-    ver = _atct_version()
+    """The three named datasets as {dataset: {quantity: {phase: {cas: payload}}}} plus metadata
+    {cas: (name, raw formula)} (built from :mod:`.atct`, :mod:`.janaf`, :mod:`.webbook_shomate`)."""
     meta: dict[str, tuple[str | None, str | None]] = {}
     tabs: dict = {"ATcT": {"formation_enthalpy": {}}, "JANAF": {}, "shomate": {"heat_capacity": {}}}
-
-    # --- ATcT (columns CAS, Chemical, Formula, Hf?_0K, Hf?, uncertainty)
-    for ph, col in (("g", "Hfg"), ("l", "Hfl")):
-        df = data_source(f"ATcT {ver} ({ph}).tsv")
-        d = {}
-        for cas, row in zip(df.index, df.itertuples(index=False)):
-            r = row._asdict()
-            val = _nan_to_none(r.get(col))
-            if val is None:
-                continue
-            name = r.get("Chemical") if isinstance(r.get("Chemical"), str) else None
-            form = r.get("Formula") if isinstance(r.get("Formula"), str) else None
-            d[str(cas)] = (val, _nan_to_none(r.get("uncertainty")), name, form)
-            meta.setdefault(str(cas), (name, _split_phase(form)[0] if form else None))
-        tabs["ATcT"]["formation_enthalpy"][ph] = d
-
-    # --- JANAF 1998 298.15 K values (columns Chemical, formula, Hfl Gfl S0l Cpl Hfg Gfg S0g Cpg)
-    df = data_source("JANAF_1998.tsv")
-    jq = {"formation_enthalpy": "Hf", "formation_gibbs_energy": "Gf", "standard_entropy": "S0"}
-    for q in jq:
-        tabs["JANAF"][q] = {"g": {}, "l": {}}
-    for cas, row in zip(df.index, df.itertuples(index=False)):
-        r = row._asdict()
-        cas = str(cas)
-        name = r.get("Chemical") if isinstance(r.get("Chemical"), str) else None
-        form = r.get("formula") if isinstance(r.get("formula"), str) else None
+    for ph, d in atct.table().items():
+        tabs["ATcT"]["formation_enthalpy"][ph] = {cas: (v, U, name, form) for cas, (v, U, name, form) in d.items()}
+        for cas, (_, _, name, form) in d.items():
+            meta.setdefault(cas, (name, form))
+    jt = janaf.table()
+    for cas, (name, form) in jt["_meta"].items():
         # JANAF names/formulas take precedence over ATcT's structural formulas for metadata
         meta[cas] = (name or meta.get(cas, (None, None))[0], form or meta.get(cas, (None, None))[1])
-        for q, stem in jq.items():
-            for ph in ("g", "l"):
-                v = _nan_to_none(r.get(f"{stem}{ph}"))
-                if v is not None:
-                    tabs["JANAF"][q][ph][cas] = (v, None, name, form)
-
-    # --- JANAF 1998 Cp tables (CAS -> [T list, Cp list])
-    tabs["JANAF"]["heat_capacity"] = {
-        "g": dict(hc.Cp_dict_JANAF_gas), "l": dict(hc.Cp_dict_JANAF_liquid), "s": dict(hc.Cp_dict_JANAF_solid)}
-
-    # --- WebBook Shomate (CAS -> [solid, liquid, gas], each None or [[Tlo, Thi, A..E SI form], ...])
-    sh = hc.WebBook_Shomate_coefficients
-    for i, ph in enumerate(("s", "l", "g")):
-        tabs["shomate"]["heat_capacity"][ph] = {cas: v[i] for cas, v in sh.items() if v[i] is not None}
+    for q in ("formation_enthalpy", "formation_gibbs_energy", "standard_entropy"):
+        tabs["JANAF"][q] = {ph: {cas: (v, None) + jt["_meta"].get(cas, (None, None)) for cas, v in d.items()}
+                            for ph, d in jt[q].items()}
+    tabs["JANAF"]["heat_capacity"] = dict(janaf.cp_tables())
+    sh = webbook_shomate.table()
+    for ph in ("s", "l", "g"):
+        tabs["shomate"]["heat_capacity"][ph] = sh[ph]
     return tabs, meta
 
 
@@ -468,184 +234,6 @@ def _deep_index() -> dict[str, tuple[str | None, str | None]]:
 
 
 # ------------------------------------------------------------------------------------------
-# Results
-# ------------------------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class Match:
-    """A species found in the library.
-
-    Attributes
-    ----------
-    cas : str
-    name : str or None
-    formula : str or None
-        Hill formula.
-    datasets : dict
-        quantity -> {dataset key -> phases}, e.g.
-        ``{"formation_enthalpy": {"ATcT": ("g", "l"), "JANAF": ("g",)}, ...}``.
-    """
-
-    cas: str
-    name: str | None
-    formula: str | None
-    datasets: dict = field(default_factory=dict)
-
-    def describe(self) -> str:
-        """One line: ``CAS  name  formula  quantity: dataset (phases); ...``."""
-        parts = []
-        for q, dd in self.datasets.items():
-            parts.append(f"{q}: " + ", ".join(f"{d} ({', '.join(ph)})" for d, ph in dd.items()))
-        return f"{self.cas:<12} {self.name or '?':<28} {self.formula or '?':<10} " + "; ".join(parts)
-
-
-class LibraryLookupError(InputError):
-    """A library look-up failed (unknown species, missing phase, ambiguous formula).
-
-    Attributes
-    ----------
-    candidates : list of Match
-        The species an ambiguous identifier matched (empty otherwise).
-    """
-
-    def __init__(self, message: str, candidates: Iterable[Match] = (), key: str | None = None):
-        super().__init__(message, key=key)
-        self.candidates = list(candidates)
-
-
-@dataclass(frozen=True)
-class LibraryValue:
-    """A scalar taken from a dataset.
-
-    Attributes
-    ----------
-    quantity : str
-        ``"formation_enthalpy"``, ``"standard_entropy"`` or ``"formation_gibbs_energy"``.
-    value : float
-        J/mol (enthalpy, Gibbs energy) or J/(mol K) (entropy), at ``temperature``.
-    u : float or None
-        Standard uncertainty in the same unit; None where the dataset states none.
-    unit : str
-    dataset : str
-        Dataset key (``"ATcT"``, ``"JANAF"``).
-    version : str
-        Dataset version (``"1.112"``, ``"4th edition (1998)"``).
-    dataset_title : str
-    cas, name, formula : str or None
-        Identification (formula in Hill order).
-    phase : str
-        ``"g"``, ``"l"`` or ``"s"``.
-    temperature : float
-        Reference temperature, K (298.15).
-    expanded_uncertainty : float or None
-        The value as published (ATcT ±), if any.
-    coverage_factor : float or None
-        k used for u = U/k.
-    note : str
-        How the uncertainty was obtained or why it is missing.
-    """
-
-    quantity: str
-    value: float
-    u: float | None
-    unit: str
-    dataset: str
-    version: str
-    dataset_title: str
-    cas: str
-    name: str | None
-    formula: str | None
-    phase: str
-    temperature: float = T_REF
-    expanded_uncertainty: float | None = None
-    coverage_factor: float | None = None
-    note: str = ""
-
-    @property
-    def provenance(self) -> str:
-        """Text for the report, e.g. ``"Active Thermochemical Tables (ATcT) 1.112, via chemicals
-        1.5.2: Methane (CAS 74-82-8), g"``."""
-        who = f"{self.name or self.formula or ''} (CAS {self.cas}), {self.phase}"
-        return f"{self.dataset_title} ({self.dataset}) {self.version}, via chemicals {_chemicals_version()}: {who}"
-
-
-@dataclass(frozen=True)
-class LibraryCp:
-    """A heat-capacity curve taken from a dataset, in the case file's Shomate form.
-
-    Attributes
-    ----------
-    model : str
-        ``"shomate"``: Cp = A + B t + C t² + D t³ + E/t², t = T/1000 K, J/(mol K).
-    ranges : list of (T_lo, T_hi, [A, B, C, D, E])
-        Temperature ranges in K with their NIST-form coefficients.
-    dataset, version, dataset_title : str
-    cas, name, formula : str or None
-    phase : str
-    u : None
-        Neither dataset states coefficient uncertainties.
-    note : str
-        Origin (for JANAF: the fit made from the table and its maximum deviation).
-    points : tuple of ndarray or None
-        JANAF only: the tabulated (T K, Cp J/(mol K)) used.
-    """
-
-    model: str
-    ranges: list
-    dataset: str
-    version: str
-    dataset_title: str
-    cas: str
-    name: str | None
-    formula: str | None
-    phase: str
-    u: None = None
-    note: str = ""
-    points: tuple | None = None
-
-    @property
-    def t_min(self) -> float:
-        return float(min(r[0] for r in self.ranges))
-
-    @property
-    def t_max(self) -> float:
-        return float(max(r[1] for r in self.ranges))
-
-    @property
-    def provenance(self) -> str:
-        who = f"{self.name or self.formula or ''} (CAS {self.cas}), {self.phase}"
-        return f"{self.dataset_title} ({self.dataset}) {self.version}, via chemicals {_chemicals_version()}: {who}"
-
-    def cp(self, T) -> np.ndarray:
-        """Cp at T (K) from the nominal coefficients, J/(mol K) (no range check beyond the ends:
-        the nearest range is used)."""
-        T = np.asarray(T, dtype=float)
-        out = np.empty_like(T)
-        edges = [r[1] for r in self.ranges[:-1]]
-        idx = np.searchsorted(edges, T, side="left")
-        for i, (_, _, c) in enumerate(self.ranges):
-            m = idx == i
-            t = T[m] / 1000.0
-            A, B, C, D, E = c
-            out[m] = A + B * t + C * t * t + D * t**3 + E / (t * t)
-        return out
-
-    def to_cp_model(self, allow_extrapolation: bool = False):
-        """The curve as a :class:`uqthermo.thermo.cp.ShomateCp`."""
-        from uqthermo.thermo.cp import ShomateCp
-
-        return ShomateCp(self.ranges, allow_extrapolation=allow_extrapolation)
-
-    def to_case_dict(self) -> dict:
-        """The ``heat_capacity`` table of the case format (without uncertainties)."""
-        return {
-            "model": "shomate",
-            "ranges": [{"T": [f"{lo:g} K", f"{hi:g} K"], "coefficients": list(map(float, c))}
-                       for lo, hi, c in self.ranges],
-            "source": self.provenance,
-        }
-
 
 # ------------------------------------------------------------------------------------------
 # Matching
@@ -820,7 +408,7 @@ def lookup_formation_gibbs_energy(identifier: str, phase: str, dataset: str = "J
     return _scalar(identifier, phase, dataset, "formation_gibbs_energy", "J/mol")
 
 
-def _shomate_si_to_nist(c) -> list[float]:
+def _shomate_si_to_nist(c) -> list[float]:  # noqa: D401 - kept for callers
     """chemicals stores Shomate coefficients for T in K (A, B/1e3, C/1e6, D/1e9, E*1e6);
     return the NIST form for t = T/1000 K."""
     A, B, C, D, E = map(float, c)
@@ -861,8 +449,7 @@ def lookup_heat_capacity(identifier: str, phase: str, dataset: str = "shomate",
     name, hill = ctx["index"].get(cas, (None, None))
     payload = ctx["table"][cas]
     if ds == "shomate":
-        ranges = sorted(((float(r[0]), float(r[1]), _shomate_si_to_nist(r[2:7])) for r in payload),
-                        key=lambda r: r[0])
+        ranges = [(lo, hi, list(c)) for lo, hi, c in payload]   # NIST form already (webbook_shomate.table)
         return LibraryCp("shomate", ranges, ds, info.version, info.title, cas, name, hill, ph,
                          note="NIST WebBook Shomate coefficients (no uncertainty stated)")
     from uqthermo.thermo.fitting import fit_cp

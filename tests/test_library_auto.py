@@ -1,0 +1,393 @@
+"""``library = "auto"``: selection, uncertainty rules, identification, starter cases and the data
+command, checked against sources outside uqthermo: the `chemicals` package's own tables and
+functions (ATcT 1.112, JANAF 1998, NIST WebBook, CRC, Yaws, TRC, Zabransky, Perry/DIPPR), CoolProp's
+reference equations of state, Cantera's GRI-Mech 3.0 NASA-7 data and the `thermo` package's
+Joback implementation."""
+
+from __future__ import annotations
+
+import json
+import math
+import subprocess
+import sys
+
+import numpy as np
+import pytest
+
+from uqthermo.case.library.identify import identify
+from uqthermo.case.library.selection import select_curve, select_value
+from uqthermo.cli import main
+
+chem_reaction = pytest.importorskip("chemicals.reaction")
+chem_hc = pytest.importorskip("chemicals.heat_capacity")
+chem_pc = pytest.importorskip("chemicals.phase_change")
+
+
+def _write(tmp_path, text, name="case.toml"):
+    p = tmp_path / name
+    p.write_text(text, encoding="utf-8")
+    return p
+
+
+# ------------------------------------------------------------------ a dozen species written out
+# (species, quantity, phase, source the rules must choose, reference value from chemicals' own
+#  look-up functions or tables, uncertainty basis)
+DOZEN = [
+    ("methane", "formation_enthalpy", "g", "ATcT", lambda: chem_reaction.Hfg("74-82-8", method="ATCT_G"), "stated"),
+    ("water", "formation_enthalpy", "l", "ATcT", lambda: chem_reaction.Hfl("7732-18-5", method="ATCT_L"), "stated"),
+    ("ethanol", "formation_enthalpy", "l", "ATcT", lambda: chem_reaction.Hfl("64-17-5", method="ATCT_L"), "stated"),
+    ("toluene", "formation_enthalpy", "l", "ATcT", lambda: chem_reaction.Hfl("108-88-3", method="ATCT_L"), "stated"),
+    ("ethyl acetate", "formation_enthalpy", "g", "WebBook", lambda: chem_reaction.Hfg("141-78-6", method="WEBBOOK"),
+     "spread"),
+    ("nitrobenzene", "formation_enthalpy", "l", "WebBook", lambda: chem_reaction.Hfl("98-95-3", method="WEBBOOK"),
+     "assumed"),
+    ("aniline", "formation_enthalpy", "g", "WebBook", lambda: chem_reaction.Hfg("62-53-3", method="WEBBOOK"), "spread"),
+    ("cyclohexene", "standard_entropy", "l", "WebBook", lambda: chem_reaction.S0l("110-83-8", method="WEBBOOK"),
+     "assumed"),
+    ("methylcyclohexane", "standard_entropy", "g", "WebBook", lambda: chem_reaction.S0g("108-87-2", method="WEBBOOK"),
+     "assumed"),
+    ("benzene", "standard_entropy", "l", "WebBook", lambda: chem_reaction.S0l("71-43-2", method="WEBBOOK"), "assumed"),
+    ("ethanol", "standard_entropy", "g", "CRC", lambda: chem_reaction.S0g("64-17-5", method="CRC"), "spread"),
+    ("water", "boiling_temperature", "l-g", "HEOS", lambda: chem_pc.Tb("7732-18-5", method="HEOS"), "assumed"),
+]
+
+
+@pytest.mark.parametrize("name, quantity, phase, source, ref, basis", DOZEN)
+def test_dozen_species_chosen_source_and_uncertainty(name, quantity, phase, source, ref, basis):
+    sel = select_value(identify(name=name), quantity, phase)
+    assert sel.chosen.source.key == source
+    assert sel.value == pytest.approx(ref(), rel=1e-12)
+    assert sel.uncertainty.basis == basis
+    u = sel.uncertainty.u
+    if basis == "stated":       # ATcT: the published ± is a 95 % expanded uncertainty, u = U/2
+        cas = sel.identity.cas
+        df = chem_reaction.Hfg_ATcT_data if phase == "g" else chem_reaction.Hfl_ATcT_data
+        assert u == pytest.approx(float(df.loc[cas, "uncertainty"]) / 2.0)
+    elif basis == "spread":     # half the spread of the sources' values (one per source)
+        vals = [c.value for c in sel.considered if not c.estimate]   # estimates shown, never counted
+        assert u == pytest.approx(0.5 * (max(vals) - min(vals)))
+        assert len(vals) >= 2
+    else:                       # assumed: flagged
+        assert sel.uncertainty.assumed and u > 0
+    prov = sel.provenance()
+    assert prov["selected"].startswith(source) and prov["uncertainty_basis"] == basis
+    assert {s["source"].split()[0] for s in prov["sources"]} >= {source}
+
+
+def test_spread_of_ethyl_acetate_gas_formation_enthalpy_written_out():
+    # Reference values: chemicals.reaction.Hfg with methods WEBBOOK, CRC, YAWS, and the TRC table's
+    # 0 K column left out (its values are 0 K formation enthalpies).
+    cas = "141-78-6"
+    vals = [chem_reaction.Hfg(cas, method=m) for m in ("WEBBOOK", "CRC", "YAWS")]
+    sel = select_value(identify(cas=cas), "formation_enthalpy", "g")
+    used = {c.source.key for c in sel.considered if not c.estimate}
+    assert "TRC" not in used and "Joback" not in used
+    assert all(c.estimate for c in sel.considered if c.source.key == "Joback")
+    assert sel.uncertainty.u >= 0.5 * (max(vals) - min(vals)) - 1e-9
+
+
+def test_h2_entropy_is_the_codata_reference_value():
+    # CODATA 1989 S°(H2, g) = 130.680 ± 0.003 J/(mol K) (recalled from memory); independent copies:
+    # chemicals' WebBook and Yaws tables (130.68), and Cantera's GRI-Mech 3.0 NASA-7 H2 at 298.15 K.
+    ct = pytest.importorskip("cantera")
+    sel = select_value(identify(formula="H2"), "standard_entropy", "g")
+    assert sel.chosen.source.key == "CODATA" and sel.value == 130.680 and sel.uncertainty.u == 0.003
+    assert sel.value == pytest.approx(chem_reaction.S0g("1333-74-0", method="WEBBOOK"), abs=0.01)
+    gas = ct.Solution("gri30.yaml")
+    sp = gas.species("H2")
+    assert sel.value == pytest.approx(sp.thermo.s(298.15) / 1000.0, abs=0.05)
+    # GRI-Mech's own N2 fit gives 191.51 J/(mol K) at 298.15 K, 0.1 below CODATA: 0.15 tolerance
+    for f, cas in (("O2", "7782-44-7"), ("N2", "7727-37-9")):
+        s = select_value(identify(cas=cas), "standard_entropy", "g").value
+        assert s == pytest.approx(gas.species(f).thermo.s(298.15) / 1000.0, abs=0.15)
+    assert select_value(identify(name="hydrogen"), "formation_enthalpy", "g").uncertainty.basis == "exact"
+
+
+def test_liquid_heat_capacities_match_the_source_functions():
+    # Zabransky spline for ethanol and aniline (chemicals' PiecewiseHeatCapacity objects), DIPPR 100
+    # for cyclohexene (Perry Table 2-153 via chemicals), TRC for toluene gas (chemicals.TRCCp).
+    T = np.array([300.0, 330.0, 350.0])
+    for cas in ("64-17-5", "62-53-3"):
+        sel = select_curve(identify(cas=cas), "l", (298.15, 350.0))
+        assert sel.chosen.source.key == "Zabransky"
+        ref = chem_hc.zabransky_dicts["Zabransky spline, constant-pressure"][cas]
+        np.testing.assert_allclose(sel.chosen.cp(T), [ref.force_calculate(t) for t in T], rtol=1e-10)
+        ranges, _ = sel.chosen.shomate()
+        from uqthermo.case.library.candidates import shomate_eval
+
+        np.testing.assert_allclose(shomate_eval(ranges, T), [ref.force_calculate(t) for t in T], rtol=1e-10)
+    sel = select_curve(identify(name="cyclohexene"), "l", (298.15, 350.0))
+    assert sel.chosen.source.key == "Perry-DIPPR"
+    A, B, C, D, E = (float(chem_hc.Cp_data_Perry_Table_153_100.loc["110-83-8", k]) for k in "ABCDE")
+    np.testing.assert_allclose(sel.chosen.cp(T), (A + B * T + C * T**2 + D * T**3 + E * T**4) / 1000.0, rtol=1e-12)
+    sel = select_curve(identify(name="toluene"), "g", (298.15, 700.0))
+    assert sel.chosen.source.key == "TRC"
+    row = chem_hc.TRC_gas_data.loc["108-88-3"]
+    coef = [float(row[f"a{i}"]) for i in range(8)]
+    Tg = np.array([300.0, 500.0, 700.0])
+    np.testing.assert_allclose(sel.chosen.cp(Tg), [chem_hc.TRCCp(t, *coef) for t in Tg], rtol=1e-10)
+    ranges, note = sel.chosen.shomate()
+    from uqthermo.case.library.candidates import FIT_TOLERANCE, shomate_eval
+
+    grid = np.linspace(sel.chosen.t_min, sel.chosen.t_max, 400)
+    assert np.max(np.abs(shomate_eval(ranges, grid) / sel.chosen.cp(grid) - 1)) <= FIT_TOLERANCE * 1.05
+    assert "largest deviation" in note
+
+
+def test_water_gas_curve_covers_the_liquid_path_temperatures():
+    # The WebBook Shomate curve of H2O(g) starts at 500 K (chemicals' WebBook data); it must not be
+    # picked for a window starting at 298.15 K: the JANAF table (100-6000 K) covers it.
+    w = identify(name="water")
+    sel = select_curve(w, "g", (298.15, 450.0))
+    assert sel.chosen.source.key == "JANAF" and sel.chosen.covers(298.15, 450.0)
+    prov = sel.provenance()
+    rows = {r["source"].split()[0]: r for r in prov["sources"]}
+    assert rows["shomate"]["covers_window"] is False and rows["JANAF"]["covers_window"] is True
+    liq = select_curve(w, "l", (298.15, 370.0))
+    assert liq.chosen.covers(298.15, 370.0)
+
+
+# ------------------------------------------------------------------ outside references end to end
+COOLPROP_FLUIDS = [("Water", "water", 420.0), ("Ethanol", "ethanol", 400.0), ("Benzene", "benzene", 400.0),
+                   ("Toluene", "toluene", 430.0)]
+
+
+@pytest.mark.parametrize("fluid, name, T2", COOLPROP_FLUIDS)
+def test_heating_liquid_to_vapour_through_boiling_against_coolprop(tmp_path, fluid, name, T2):
+    # Reference: CoolProp's reference equations of state (IAPWS-95 for water; the Helmholtz-energy
+    # equations of ethanol, benzene and toluene), H(T2, 1 atm, vapour) - H(300 K, 1 atm, liquid).
+    # The library path is liquid Cp + ΔvapH at Tb + ideal-gas Cp; the real-gas departure of the
+    # vapour at 1 atm is well inside the expanded uncertainty the library data carry.
+    CP = pytest.importorskip("CoolProp.CoolProp")
+    T1 = 300.0
+    ref = (CP.PropsSI("Hmolar", "T", T2, "P", 101325.0, fluid) - CP.PropsSI("Hmolar", "T", T1, "P", 101325.0, fluid)) / 1e3
+    p = _write(tmp_path, f'''title = "heat {name} through boiling"
+[species.X]
+name = "{name}"
+[species.X.l]
+formation_enthalpy = {{ library = "auto" }}
+heat_capacity = {{ library = "auto" }}
+[species.X.g]
+heat_capacity = {{ library = "auto" }}
+[[species.X.transition]]
+from = "l"
+to = "g"
+temperature = {{ library = "auto" }}
+enthalpy = {{ library = "auto" }}
+[settings]
+method = "linear"
+[[output]]
+name = "h"
+kind = "heating_enthalpy"
+species = "X(l)"
+from = "{T1} K"
+to = "{T2} K"
+''')
+    out = tmp_path / "out"
+    assert main(["run", str(p), "--out", str(out), "--method", "linear", "--quiet", "--no-report"]) == 0
+    res = json.loads((out / "results.json").read_text())
+    pt = res["outputs"][0]["points"][0]["linear"]
+    assert abs(pt["estimate"] - ref) <= 2.0 * pt["standard_uncertainty"]
+    assert abs(pt["estimate"] - ref) <= 0.02 * ref
+    by = {i["datum"]: i for i in res["inputs"]}
+    assert by["X.transition.l-g.temperature"]["provenance"]["selected"]
+    assert by["X.l.heat_capacity"]["provenance"]["window_K"][1] == pytest.approx(
+        by["X.transition.l-g.temperature"]["estimate"])
+
+
+GAS_REACTIONS = {"combustion": ("CH4(g) + 2 O2(g) -> CO2(g) + 2 H2O(g)", {"CH4": -1, "O2": -2, "CO2": 1, "H2O": 2}),
+                 "shift": ("CO(g) + H2O(g) -> CO2(g) + H2(g)", {"CO": -1, "H2O": -1, "CO2": 1, "H2": 1})}
+
+
+def test_gas_reaction_enthalpies_against_cantera_gri30(tmp_path):
+    # Reference: Cantera's GRI-Mech 3.0 NASA-7 standard enthalpies, ΔrH(T) = Σ ν h°(T), 300-1000 K.
+    ct = pytest.importorskip("cantera")
+    gas = ct.Solution("gri30.yaml")
+    sp = "\n".join(f'''[species.{s}]
+[species.{s}.g]
+formation_enthalpy = {{ library = "auto" }}
+heat_capacity = {{ library = "auto" }}''' for s in ("CH4", "O2", "CO2", "H2O", "CO", "H2"))
+    sp = sp.replace("[species.CO2]", '[species.CO2]\ncas = "124-38-9"').replace("[species.CO]\n", '[species.CO]\ncas = "630-08-0"\n')
+    rx = "\n".join(f'[reaction.{k}]\nequation = "{eq}"' for k, (eq, _) in GAS_REACTIONS.items())
+    outs = "\n".join(f'''[[output]]
+name = "{k}"
+kind = "reaction_enthalpy"
+reaction = "{k}"
+temperatures = {{ from = "300 K", to = "1000 K", step = "100 K" }}''' for k in GAS_REACTIONS)
+    p = _write(tmp_path, f'title = "gas reactions from the library"\n[settings]\nmethod = "linear"\n{sp}\n{rx}\n{outs}\n')
+    out = tmp_path / "out"
+    assert main(["run", str(p), "--out", str(out), "--method", "linear", "--quiet", "--no-report"]) == 0
+    res = json.loads((out / "results.json").read_text())
+    for o in res["outputs"]:
+        nu = GAS_REACTIONS[o["name"]][1]
+        for pt in o["points"]:
+            T = pt["temperature_K"]
+            ref = sum(n * gas.species(s).thermo.h(T) for s, n in nu.items()) / 1e6
+            lin = pt["linear"]
+            assert abs(lin["estimate"] - ref) <= max(2.0 * lin["standard_uncertainty"], 0.3), (o["name"], T)
+
+
+# ------------------------------------------------------------------ case files
+def test_formula_filled_in_from_cas_or_name(tmp_path):
+    from uqthermo.case.loader import load_case
+
+    p = _write(tmp_path, '''title = "names"
+[species.toluene]
+cas = "108-88-3"
+[species.toluene.l]
+formation_enthalpy = { library = "auto" }
+[species.ethyl_acetate]
+name = "ethyl acetate"
+[species.ethyl_acetate.l]
+formation_enthalpy = { library = "auto" }
+[species.aniline]
+[species.aniline.l]
+formation_enthalpy = { library = "auto" }
+[[output]]
+name = "h"
+kind = "heating_enthalpy"
+species = "toluene(l)"
+from = "300 K"
+to = "300 K"
+''')
+    case = load_case(p)
+    # Reference formulas: chemicals.identifiers (pubchem database) for the CAS numbers
+    from chemicals.identifiers import search_chemical
+
+    assert case.species["toluene"].formula == search_chemical("108-88-3").formula == "C7H8"
+    assert case.species["ethyl_acetate"].formula == "C4H8O2"
+    assert case.species["aniline"].formula == "C6H7N"
+    d = case.data["ethyl_acetate.l.formation_enthalpy"]
+    assert d.provenance["cas"] == "141-78-6" and d.library.startswith("WebBook")
+
+
+BAD = {
+    "unknown_cas": ('[species.X]\ncas = "108-88-4"\n[species.X.l]\nformation_enthalpy = { library = "auto" }\n',
+                    "species.X.cas", "check digit"),
+    "unknown_valid_cas": ('[species.X]\ncas = "9999998-88-9"\n[species.X.l]\nformation_enthalpy = { library = "auto" }\n',
+                          "species.X.cas", "unknown CAS"),
+    "ambiguous_formula": ('[species.X]\nformula = "C2H6O"\n[species.X.g]\nformation_enthalpy = { library = "auto" }\n',
+                          "species.X.formula", "64-17-5"),
+    "unknown_name": ('[species.X]\nname = "tolune"\n[species.X.l]\nformation_enthalpy = { library = "auto" }\n',
+                     "species.X.name", "toluene"),
+    "not_covering": ('[species.X]\nname = "methylcyclohexane"\n[species.X.l]\nformation_enthalpy = { library = "auto" }\n'
+                     'heat_capacity = { library = "auto", T = ["298.15 K", "450 K"] }\n',
+                     "species.X.l.heat_capacity", "Zabransky 144-353.2 K"),
+    "source_lacks_phase": ('[species.X]\nname = "toluene"\n[species.X.l]\nformation_enthalpy = { library = "Yaws" }\n',
+                           "species.X.l.formation_enthalpy", "sources that have it: ATcT"),
+    "no_phase_data": ('[species.X]\nname = "hydrogen"\n[species.X.l]\nformation_enthalpy = { library = "auto" }\n',
+                      "species.X.l.formation_enthalpy", "phases with data: g"),
+    "unknown_source": ('[species.X]\nname = "toluene"\n[species.X.l]\nformation_enthalpy = { library = "NIST-X" }\n',
+                       "species.X.l.formation_enthalpy.library", "unknown data source"),
+}
+
+
+@pytest.mark.parametrize("which", sorted(BAD))
+def test_bad_library_input_is_a_keyed_exit_2_error(tmp_path, capsys, which):
+    body, key, text = BAD[which]
+    p = _write(tmp_path, f'title = "bad"\n{body}[[output]]\nname = "h"\nkind = "heating_enthalpy"\n'
+                         f'species = "X(l)"\nfrom = "300 K"\nto = "301 K"\n')
+    rc = main(["check", str(p)])
+    err = capsys.readouterr().err
+    assert rc == 2 and "Traceback" not in err
+    line = next(ln for ln in err.splitlines() if ln.startswith(f"{p}: {key}: "))
+    assert text in line
+
+
+def test_ambiguous_formula_lists_alternatives():
+    from uqthermo.case.library.base import LibraryLookupError
+
+    with pytest.raises(LibraryLookupError) as e:
+        identify(formula="C2H6O")
+    cas = {m.cas for m in e.value.candidates}
+    assert {"64-17-5", "115-10-6"} <= cas
+    assert identify(formula="CO2").cas == "124-38-9"      # ATcT's CO2 isomers count only as a last resort
+
+
+# ------------------------------------------------------------------ starter case and data command
+def test_starter_case_from_an_equation_checks_and_runs(tmp_path, capsys):
+    case = tmp_path / "starter.toml"
+    rc = main(["data", "--case", "C6H5CH3(l) + 3 H2(g) -> C6H11CH3(l)", "--T", "150 degC", "--out", str(case)])
+    assert rc == 0, capsys.readouterr().err
+    text = case.read_text()
+    assert 'cas = "108-88-3"' in text and 'cas = "108-87-2"' in text and 'cas = "1333-74-0"' in text
+    assert text.count('library = "auto"') >= 9 and "# formation enthalpy: 12.36 kJ/mol from ATcT" in text
+    assert "extrapolate = true" in text        # no liquid Cp of methylcyclohexane reaches 423 K
+    assert main(["check", str(case)]) == 0
+    out = tmp_path / "out"
+    assert main(["run", str(case), "--out", str(out), "--method", "linear", "--quiet", "--no-report"]) == 0
+    res = json.loads((out / "results.json").read_text())
+    # Reference at 298.15 K: Σ ν ΔfH°(l/g) with chemicals' ATcT (toluene l) and WebBook (MCH l) values
+    # plus ΔrCp(298.15 K) × 125 K with the CRC Cp values at 298.15 K (chemicals' CRC table): Cp varies
+    # over the 125 K, hence 2.5 kJ/mol
+    dh298 = (chem_reaction.Hfl("108-87-2", method="WEBBOOK") - chem_reaction.Hfl("108-88-3", method="ATCT_L")) / 1e3
+    crc = chem_hc.CRC_standard_data
+    dcp = crc.at["108-87-2", "Cpl"] - crc.at["108-88-3", "Cpl"] - 3 * crc.at["1333-74-0", "Cpg"]
+    est = res["outputs"][0]["points"][0]["linear"]["estimate"]
+    assert est == pytest.approx(dh298 + dcp * (423.15 - 298.15) / 1e3, abs=2.5)
+    assert all(i.get("provenance") for i in res["inputs"])
+    # bad equation and missing --T are keyed errors
+    assert main(["data", "--case", "C6H5CH3 + H2 -> C6H11CH3", "--T", "400 K"]) == 2
+    assert main(["data", "--case", "C6H5CH3(l) + 3 H2(g) -> C6H11CH3(l)"]) == 2
+    err = capsys.readouterr().err
+    assert "--case" in err and "--T" in err
+
+
+def test_data_shows_ranges_and_coverage(capsys):
+    assert main(["data", "water", "--T", "298.15K..700K", "--limit", "1"]) == 0
+    out = capsys.readouterr().out
+    assert "covers 298.15-700 K" in out
+    line = next(ln for ln in out.splitlines() if "NIST WebBook Shomate" in ln and "500-6000 K" in ln)
+    assert " no " in line
+    assert "★ JANAF" in out
+    assert 'heat_capacity = { library = "auto" }' in out
+    assert main(["data", "water", "--T", "banana"]) == 2
+    assert "--T" in capsys.readouterr().err
+
+
+def test_help_does_not_load_the_datasets():
+    code = ("import sys, uqthermo.cli as c\n"
+            "try:\n    c.main(['--help'])\nexcept SystemExit:\n    pass\n"
+            "print('chemicals' in sys.modules, 'pandas' in sys.modules)")
+    r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
+    assert r.stdout.strip().splitlines()[-1] == "False False"
+
+
+# ------------------------------------------------------------------ estimates (optional extra)
+def test_joback_estimate_from_smiles_flagged_in_results(tmp_path):
+    pytest.importorskip("rdkit")
+    joback = pytest.importorskip("thermo.group_contribution.joback")
+    smiles = "CC(O)CC(=O)OC"   # an intermediate of our own choosing, here with no measured data
+    J = joback.Joback(smiles)
+    p = _write(tmp_path, f'''title = "estimate"
+[species.M]
+smiles = "{smiles}"
+[species.M.g]
+formation_enthalpy = {{ library = "auto" }}
+standard_entropy = {{ library = "auto" }}
+heat_capacity = {{ library = "auto" }}
+[settings]
+method = "linear"
+[[output]]
+name = "h"
+kind = "heating_enthalpy"
+species = "M(g)"
+from = "300 K"
+to = "500 K"
+''')
+    out = tmp_path / "out"
+    rc = main(["run", str(p), "--out", str(out), "--method", "linear", "--quiet", "--no-report"])
+    assert rc == 0
+    res = json.loads((out / "results.json").read_text())
+    by = {i["datum"]: i for i in res["inputs"]}
+    hf = by["M.g.formation_enthalpy"]
+    # Reference: the thermo package's Joback implementation (Joback & Reid 1987)
+    assert hf["estimate"] == pytest.approx(J.Hf(J.counts) / 1000.0)
+    assert hf["provenance"]["estimate"] is True and hf["provenance"]["selected"].startswith("Joback")
+    assert hf["standard_uncertainty"] == pytest.approx(math.hypot(2.2, 2.0) * 4.184, rel=1e-9)
+    assert by["M.g.heat_capacity"]["provenance"]["estimate"] is True
+    assert any("ESTIMATES" in w for w in res["warnings"])
+    # S° = (ΔfH° - ΔfG°)/T + Σ S°(elements): Joback's ΔfG°, CODATA element entropies
+    s = by["M.g.standard_entropy"]["estimate"]
+    s_el = 5 * 5.74 + 10 / 2 * 130.680 + 3 / 2 * 205.152
+    assert s == pytest.approx((J.Hf(J.counts) - J.Gf(J.counts)) / 298.15 + s_el)

@@ -1,0 +1,206 @@
+"""Uncertainty rules of the data library: where a library datum's standard uncertainty comes from.
+
+Owns the rule that turns the selected value (or curve) and the other sources' values into one
+standard uncertainty with its basis, and the assumed values used where nothing better exists.
+
+The rule, in order:
+
+1. **Exact**: an element in its reference state has ΔfH° = 0 by definition (u = 0).
+2. **Stated**: the selected source states an uncertainty (ATcT ±, read as U with k = 2; CODATA ±,
+   read as u; Perry's Table 2-151 ±%, read as a rectangular half-width a, u = a/√3 per GUM 4.3.7).
+   For a scalar a stated uncertainty is used as it is: the sources that state one (ATcT, CODATA)
+   are more recent and better founded than the compilations they would be compared with.
+3. **Published**: the method's published typical deviation (an estimation method's average
+   absolute error AAE with its standard deviation s, u = √(AAE² + s²); Alibakhshi's 4.5 %
+   AARE, u = 4.5 % × √(π/2); Riedel's "seldom above 5 %", u = 5 %/√3) — the paper is named in the
+   source module.
+4. **Spread**: where several sources give the quantity (one value per source, estimates left
+   out), u = max(u₀, half the spread), the spread being the largest minus the smallest value
+   (for a curve: the largest relative spread over the temperature window). u₀ is the source's
+   own u from rules 2-3 for a curve, or the assumed value of rule 5 for a scalar. The larger of the
+   two counts: the spread is evidence that the uncertainty is at least that large, and a single
+   source's u says nothing about disagreements between sources.
+5. **Assumed**: otherwise the value in :data:`ASSUMED` for the source's kind — a rule of thumb of
+   our own (common practice for handbook data), flagged as *assumed* in results.json and the
+   report so that the user checks it.
+
+The basis is recorded with each datum (``exact``, ``stated``, ``published``, ``spread``,
+``assumed``), so the report says for every library value where its uncertainty comes from.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .candidates import CurveCandidate, ScalarCandidate
+
+__all__ = ["Uncertainty", "ASSUMED", "scalar_uncertainty", "curve_uncertainty", "assumed_value"]
+
+#: (quantity, source kind) -> assumed standard uncertainty (absolute; relative for heat capacity and
+#: latent heats). Rules of thumb of our own, flagged as assumed wherever used.
+ASSUMED = {
+    ("formation_enthalpy", "evaluated"): 500.0, ("formation_enthalpy", "compilation"): 1000.0,
+    ("formation_gibbs_energy", "evaluated"): 500.0, ("formation_gibbs_energy", "compilation"): 1000.0,
+    ("standard_entropy", "evaluated"): 0.2, ("standard_entropy", "compilation"): 0.5,
+    ("heat_capacity", "evaluated"): 0.01, ("heat_capacity", "compilation"): 0.02,
+    ("heat_capacity", "correlation"): 0.02,
+    ("boiling_temperature", "evaluated"): 0.05, ("boiling_temperature", "compilation"): 0.2,
+    ("melting_temperature", "evaluated"): 0.2, ("melting_temperature", "compilation"): 0.5,
+    ("vaporization_enthalpy", "evaluated"): 0.01, ("vaporization_enthalpy", "compilation"): 0.01,
+    ("vaporization_enthalpy", "correlation"): 0.03,
+    ("fusion_enthalpy", "evaluated"): 0.03, ("fusion_enthalpy", "compilation"): 0.03,
+}
+RELATIVE = {"heat_capacity", "vaporization_enthalpy", "fusion_enthalpy"}
+
+
+@dataclass(frozen=True)
+class Uncertainty:
+    """A standard uncertainty and where it comes from.
+
+    Attributes
+    ----------
+    u : float
+        Standard uncertainty (SI, absolute) — for curves, relative (a factor on the whole curve).
+    relative : bool
+    basis : str
+        ``exact``, ``stated``, ``published``, ``spread`` or ``assumed``.
+    reason : str
+        One sentence for the report.
+    expanded, k : float or None
+        The source's expanded uncertainty and coverage factor, when that is how it states it.
+    """
+
+    u: float
+    relative: bool
+    basis: str
+    reason: str
+    expanded: float | None = None
+    k: float | None = None
+
+    @property
+    def assumed(self) -> bool:
+        return self.basis == "assumed"
+
+
+def assumed_value(quantity: str, kind: str) -> float:
+    """The assumed standard uncertainty of :data:`ASSUMED` for a quantity and source kind."""
+    return ASSUMED.get((quantity, kind), ASSUMED.get((quantity, "compilation"), 0.0))
+
+
+def _fmt(x: float, quantity: str) -> str:
+    if quantity in ("formation_enthalpy", "formation_gibbs_energy", "vaporization_enthalpy", "fusion_enthalpy"):
+        return f"{x / 1000:.3g} kJ/mol"
+    if quantity in ("standard_entropy", "heat_capacity"):
+        return f"{x:.3g} J/(mol*K)"
+    return f"{x:.3g} K"
+
+
+def scalar_uncertainty(chosen: ScalarCandidate, others: list[ScalarCandidate], *, exact: bool = False) -> Uncertainty:
+    """Standard uncertainty of a selected scalar (rules 1-5 of the module docstring).
+
+    Parameters
+    ----------
+    chosen : ScalarCandidate
+    others : list of ScalarCandidate
+        One value per other source (same quantity, phase and temperature).
+    exact : bool
+        The value is zero by definition (reference element).
+    """
+    q = chosen.quantity
+    rel = q in RELATIVE
+    if exact:
+        return Uncertainty(0.0, False, "exact", "element in its reference state: zero by definition")
+    if chosen.u is not None and chosen.u_basis == "stated":
+        return Uncertainty(chosen.u, False, "stated", chosen.u_note or f"stated by {chosen.source.label}",
+                           chosen.expanded, chosen.k)
+    if chosen.estimate:
+        if chosen.u is None:
+            a = assumed_value(q, "correlation")
+            u = a * abs(chosen.value) if rel else a
+            return Uncertainty(u, False, "assumed", "estimate without published error statistics: assumed")
+        return Uncertainty(chosen.u, False, "published", chosen.u_note)
+    if chosen.u is not None:
+        u0, basis0, why0 = chosen.u, chosen.u_basis or "published", chosen.u_note
+    else:
+        a = assumed_value(q, chosen.source.kind)
+        u0 = a * abs(chosen.value) if rel else a
+        basis0 = "assumed"
+        why0 = (f"no source states an uncertainty; {100 * a:g} % assumed for {chosen.source.kind} data" if rel else
+                f"no source states an uncertainty; {_fmt(a, q)} assumed for {chosen.source.kind} data")
+    vals = [chosen.value] + [o.value for o in others if not o.estimate]
+    if len(vals) >= 2:
+        half = 0.5 * (max(vals) - min(vals))
+        if half > u0:
+            return Uncertainty(half, False, "spread",
+                               f"half the spread of {len(vals)} sources ({_fmt(min(vals), q)} to {_fmt(max(vals), q)}), "
+                               f"larger than the {basis0} {_fmt(u0, q)}")
+        why0 += f"; larger than half the spread of {len(vals)} sources ({_fmt(half, q)})"
+    return Uncertainty(u0, False, basis0, why0)
+
+
+def curve_uncertainty(chosen: CurveCandidate, others: list[CurveCandidate], window: tuple[float, float],
+                      own_relative_u: float | None = None) -> tuple[Uncertainty, float]:
+    """Relative standard uncertainty of a selected Cp curve over ``window`` (rules 2-5).
+
+    Returns
+    -------
+    (Uncertainty, max_half_spread)
+        ``u`` relative; the largest relative half-spread found (0 with one source).
+    """
+    lo, hi = window
+    grid = np.unique(np.concatenate([np.linspace(lo, hi, 25), [lo, hi]])) if hi > lo else np.array([lo])
+    base = chosen.cp(grid)
+    spread = 0.0
+    n_used = 1
+    for o in others:
+        if o.estimate:
+            continue
+        if o.single_point:
+            m = np.abs(grid - o.t_min) < 1e-6
+        else:
+            m = (grid >= o.t_min - 1e-3) & (grid <= o.t_max + 1e-3)
+        if not np.any(m):
+            continue
+        n_used += 1
+    if n_used >= 2:
+        vals = [base]
+        masks = [np.ones_like(grid, dtype=bool)]
+        for o in others:
+            if o.estimate:
+                continue
+            m = (np.abs(grid - o.t_min) < 1e-6) if o.single_point else (grid >= o.t_min - 1e-3) & (grid <= o.t_max + 1e-3)
+            if np.any(m):
+                v = np.full_like(grid, np.nan)
+                v[m] = o.cp(grid[m])
+                vals.append(v)
+        arr = np.vstack(vals)
+        with np.errstate(invalid="ignore"):
+            hs = 0.5 * (np.nanmax(arr, axis=0) - np.nanmin(arr, axis=0)) / base
+        spread = float(np.nanmax(hs)) if np.any(np.isfinite(hs)) else 0.0
+    ru = own_relative_u if own_relative_u is not None else chosen.relative_u
+    if chosen.estimate:
+        basis = chosen.u_basis or "assumed"
+        return Uncertainty(ru if ru is not None else 0.05, True, "assumed" if basis == "assumed" else "published",
+                           chosen.u_note or "estimate"), spread
+    if ru is not None:
+        basis0 = "stated" if chosen.u_basis == "stated" else ("assumed" if chosen.u_basis in ("class", "assumed")
+                                                              else "published")
+        why0 = chosen.u_note or f"stated by {chosen.source.label}"
+        if chosen.u_basis == "class":
+            why0 = f"Zabransky et al. {chosen.u_note}, read as u = {100 * ru:.2g} % (class limits recalled, assumed)"
+    else:
+        ru = assumed_value("heat_capacity", chosen.source.kind)
+        basis0 = "assumed"
+        why0 = f"no source states an uncertainty; {100 * ru:g} % assumed for {chosen.source.kind} data"
+    if n_used >= 2 and spread > ru:
+        return Uncertainty(spread, True, "spread",
+                           f"half the largest spread of {n_used} sources over {lo:g}-{hi:g} K "
+                           f"({100 * spread:.2g} %), larger than the {basis0} {100 * ru:.2g} %"), spread
+    if n_used >= 2:
+        why0 += f"; larger than half the spread of {n_used} sources ({100 * spread:.2g} %)"
+    return Uncertainty(ru, True, basis0, why0), spread
+
+
+
