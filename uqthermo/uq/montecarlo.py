@@ -1,8 +1,9 @@
 """Propagation of distributions by the Monte Carlo method (JCGM 101:2008).
 
-Input samples come from :class:`~uqthermo.uq.sampling.UniformStream` mapped through
-:meth:`~uqthermo.uq.inputs.InputSet.from_uniform`; the vectorised model is evaluated
-chunk by chunk so memory stays bounded for any number of trials.
+Trials come from the run's :class:`~uqthermo.uq.trials.TrialDesign` (normal scores drawn
+directly for pseudo-random sampling, uniforms through Φ⁻¹ for Sobol' and Latin hypercube; only
+the inputs the model depends on; an affine model evaluated as one product of the scores with
+its map) and are evaluated chunk by chunk so memory stays bounded for any number of trials.
 
 Summary of the output distribution (JCGM 101 §7.5–7.7), per output:
 
@@ -343,23 +344,6 @@ class MonteCarloResult:
         """Convergence history of one output as arrays (n, u)."""
         h = self.convergence[output]
         return np.array([a for a, _ in h], dtype=np.int64), np.array([b for _, b in h], dtype=float)
-
-
-def evaluate_model(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet,
-                   U: np.ndarray, rotation: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
-    """(X, Y[N, M]) for uniforms U (and the run's score ``rotation``): the model's values, shape and finiteness checked."""
-    X = inputs.from_uniform(U, rotation)
-    Y = np.asarray(f(X), dtype=float)
-    if Y.ndim == 1:
-        Y = Y[:, None]
-    if Y.ndim != 2 or Y.shape[0] != X.shape[0]:
-        raise StatisticsError(f"model must return shape (N, M) for N = {X.shape[0]} input rows, got {Y.shape}")
-    if not np.isfinite(np.add.reduce(Y, axis=0)).all():   # a sum is finite if every term is
-        bad = ~np.all(np.isfinite(Y), axis=1)
-        if np.any(bad):
-            raise StatisticsError(f"model returned non-finite values for {int(bad.sum())} of {Y.shape[0]} "
-                                  f"samples in a chunk (first at input row {int(np.flatnonzero(bad)[0])})")
-    return X, Y
 
 
 class _Collector:
