@@ -549,7 +549,7 @@ def bench_side_by_side(quick: bool) -> dict:
 
     n1, n2 = (100_000, 1_000_000) if quick else (200_000, 4_000_000)
     q1, q2 = (20, 100) if quick else (100, 600)
-    repeats = 2 if quick else 3
+    repeats = 2 if quick else 4
     folder = Path(tempfile.mkdtemp(prefix="uqthermo-bench6-"))
     cases = side_by_side_cases(folder)
     jobs = []
@@ -743,7 +743,8 @@ def render(results: dict) -> str:
               "`standard_normal((N, K))`, one matrix product, mean, std, `np.quantile`; for the nonlinear outputs "
               "`operating_script.py` and `duty_script.py` evaluate the closed-form Shomate / NASA-7 enthalpies on "
               "the whole sample), always pseudo-random;",
-              "- *floor*: drawing the N x K normal variates (and uniforms) the output's trials need, "
+              "- *floor*: drawing the N x K normal variates (and uniforms) the output's trials need, in chunks "
+              "of 65536 rows into one reused array, "
               "`Generator.standard_normal` (`normal_floor.py`);",
               "- *per-sample quad*: one trial at a time, every Cp integral by `scipy.integrate.quad` "
               "(`quad_script.py`).", "",
