@@ -233,6 +233,12 @@ class TrialDesign:
         self.n_scores = len(self._score_vars)
         self.n_uniforms = len(self._o_cols)
         self.dimension = len(self._coords)
+        self._z_identity = bool(np.array_equal(self._z_at, np.arange(self.dimension)))
+        # columns held at their estimates in the model's rows (exact and inactive inputs)
+        driven = set(self._score_vars) | set(self._o_cols)
+        self._fixed = [j for j in range(d) if j not in driven]
+        self._all_normal = self._normal == list(range(d)) and not self._linked
+        self._w_sd = None if self.rotation is None or not self._all_normal else self.rotation.T * self._n_sd
         self._companion = int(np.random.SeedSequence([self.seed, 0x6B657074]).generate_state(1, np.uint64)[0] >> 1)
         if fitted is not None:
             self.n_outputs = fitted[1].shape[0]
@@ -305,9 +311,10 @@ class TrialDesign:
     # ------------------------------------------------------------------ evaluation
     @staticmethod
     def _ndtri(U: np.ndarray) -> np.ndarray:
+        """z = Φ⁻¹(u) (u clipped to [2⁻⁵³, 1 − 2⁻⁵³]) into a per-thread array, valid within one evaluation."""
         if U.size and (U.min() < U_CLIP or U.max() > 1.0 - U_CLIP):   # two cheap reductions; clip only if needed
             U = np.clip(U, U_CLIP, 1.0 - U_CLIP)
-        return special.ndtri(U)
+        return special.ndtri(U, out=_scratch("ndtri", U.shape))
 
     def _coordinates(self, chunk, rows: slice | None = None, need: np.ndarray | None = None):
         """(Z scores of the coordinates ``need`` (all by default), V uniforms) of a chunk's rows."""
@@ -317,17 +324,33 @@ class TrialDesign:
                 Z, V = Z[rows], V[rows]
             return (Z if need is None else Z[:, need]), V
         U = chunk if rows is None else chunk[rows]
-        return self._ndtri(U[:, self._z_at if need is None else self._z_at[need]]), U[:, self._o_at]
+        at = self._z_at if need is None else self._z_at[need]
+        Uz = U if len(at) == U.shape[1] and self._z_identity and need is None else U[:, at]
+        return self._ndtri(Uz), U[:, self._o_at]
 
     def _inputs(self, Z: np.ndarray, V: np.ndarray) -> np.ndarray:
-        """Input rows X (n, D) from coordinates (all of them); inactive inputs at their estimates."""
-        n = Z.shape[0]
-        X = np.empty((n, len(self.inputs)))
-        X[:] = np.asarray(self.inputs.estimates, dtype=float)
+        """Input rows X (n, D) from coordinates (all of them); inactive inputs at their estimates.
+
+        Column-major, so that each input column is written (and read by the model) contiguously.
+        """
+        n, d = Z.shape[0], len(self.inputs)
+        if self._all_normal:    # every column an independent normal, in column order: x = x̂ + u ⊙ (W z)
+            if self.rotation is None:
+                X = np.multiply(Z, self._n_sd, order="F")
+            else:
+                X = rows_times(Z, self._w_sd)
+            X += self._n_mu
+            return X
+        X = np.empty((n, d), order="F")
+        est = np.asarray(self.inputs.estimates, dtype=float)
+        for j in self._fixed:
+            X[:, j] = est[j]
         S = Z if self.rotation is None else rows_times(Z, self.rotation.T)
         dists = self.inputs.variables
-        if self._normal:
-            X[:, self._normal] = S[:, self._n_pos] * self._n_sd + self._n_mu
+        for j, p, u, x0 in zip(self._normal, self._n_pos, self._n_sd, self._n_mu):
+            col = X[:, j]
+            np.multiply(S[:, p], u, out=col)
+            col += x0
         for j, p in zip(self._s_other, self._s_other_pos):
             X[:, j] = dists[j].distribution.from_standard_normal(S[:, p])
         for i, j in enumerate(self._o_cols):
