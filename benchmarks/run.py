@@ -630,7 +630,11 @@ def render(results: dict) -> str:
          f"- CPU: {mach['cpu']}, nproc = {mach['nproc']}, memory {mach['memory']}",
          f"- load average at start: {mach['load_average_at_start']} (a shared development machine: other "
          "jobs were running, so absolute times are noisy; the ratios are measured side by side in one run)",
-         f"- Python {mach['python']}, numpy {mach['numpy']}, scipy {mach['scipy']}, {mach['platform']}", ""]
+         f"- Python {mach['python']}, numpy {mach['numpy']}, scipy {mach['scipy']}, {mach['platform']}"]
+    for name, m in results.get("machine_by_benchmark", {}).items():
+        L.append(f"- benchmark {name.split('_')[0]} measured again on {m['date']} (load average at start "
+                 f"{m['load_average_at_start']})")
+    L += [""]
     b = results["1_naive"]
     L += ["## 1. Against a straightforward per-sample script", "",
           f"Case: {b['case']}. The script draws one sample at a time and integrates each species' Cp with "
