@@ -9,12 +9,12 @@ and runs cleanly), some written whole or as raw bytes. Each goes through both
 and the session summary prints them (``bad inputs: N case files tried in K classes,
 M rejected cleanly ...``).
 
-Figures at the time of writing: 154 bad case files in 16 classes (syntax, duplicates,
+Figures at the time of writing: 166 bad case files in 17 classes (syntax, duplicates,
 types, units, nan-inf, magnitudes, empty, unicode, transitions, correlations,
-temperatures, samples, equations, missing-data, validity, uncertainties), all rejected
-cleanly; plus 6 bad command lines, 9 bad results.json files for ``uqthermo report``, a
-multi-problem file, missing/directory/pipe/device case files and an accepted-Unicode
-control.
+temperatures, samples, equations, missing-data, validity, uncertainties, sizes), all
+rejected cleanly; plus 8 bad command lines, 14 bad results.json files for
+``uqthermo report``, a multi-problem file, missing/directory/pipe/device case files and
+an accepted-Unicode control.
 """
 
 from __future__ import annotations
@@ -323,12 +323,39 @@ CASES: list[Bad] = [
         append='[[output]]\nname = "q"\nkind = "heat_release"\ntemperature = "700 K"\nextent_rate = { shift = { feed = "2 mol/s", conversion = { value = 1.2, u = 0.01 } } }\n'),
 ]
 
+# --- hostile sizes (issue 15, item 8): small files asking for huge work; limits in uqthermo/case/limits.py
+_MANY_SPECIES = "".join(f'[species.S{i}]\nformula = "H2"\n' for i in range(5001))
+_MANY_OUTPUTS = "".join(f'[[output]]\nname = "o{i}"\nkind = "reaction_enthalpy"\nreaction = "shift"\n'
+                        f'temperature = "700 K"\n' for i in range(5001))
+_MANY_POINTS = "".join(f'[[output]]\nname = "c{i}"\nkind = "reaction_enthalpy"\nreaction = "shift"\n'
+                       f'temperatures = {{ from = "400 K", to = "2399 K", step = "1 K" }}\n' for i in range(26))
+_MANY_REACTIONS = "".join(f'[reaction.r{i}]\nequation = "CO(g) + H2O(g) -> CO2(g) + H2(g)"\n' for i in range(20001))
+CASES += [
+    Bad("size-species-name-200000", "sizes", "species", replace=[R("[species.CO2]\n", "[species." + "C" * 200000 + "]\n")],
+        msg="200000 characters long; at most 100"),
+    Bad("size-reaction-name-101", "sizes", "reaction", append=f'[reaction.{"r" * 101}]\n{EQ}\n', msg="at most 100"),
+    Bad("size-output-name-101", "sizes", "output[0].name", replace=[R('name = "dH_700K"', f'name = "{"d" * 101}"')],
+        msg="at most 100"),
+    Bad("size-dotted-key-200000-deep", "sizes", "", append=".".join(["a"] * 200000) + " = 1\n",
+        msg="nested more than 20 levels"),
+    Bad("size-table-header-deep", "sizes", "", append="[" + ".".join(["a"] * 5000) + "]\n", msg="nested more than 20"),
+    Bad("size-inline-tables-deep", "sizes", "", append="x = " + "{a = " * 30 + "1" + "}" * 30 + "\n", msg="nesting too deep"),
+    Bad("size-5001-species", "sizes", "species", append=_MANY_SPECIES, msg="at most 5000"),
+    Bad("size-5001-outputs", "sizes", "output", append=_MANY_OUTPUTS, msg="at most 5000"),
+    Bad("size-52000-points", "sizes", "output", append=_MANY_POINTS, msg="output points.*at most 50000"),
+    Bad("size-20001-reactions", "sizes", "reaction", append=_MANY_REACTIONS, msg="at most 20000"),
+    Bad("type-seed-2-64", "types", "settings.seed", replace=[R("seed = 7", f"seed = {2**64}")], msg=r"2\^63 - 1"),
+    Bad("type-seed-1e30", "types", "settings.seed", replace=[R("seed = 7", "seed = 1" + "0" * 30)], msg=r"2\^63 - 1"),
+]
+
 # bad command lines (no case problem): (id, args after the case file, expected text)
 CLI_CASES = [
     ("cli-samples-huge", ["--samples", "1e12"], "--samples"),
     ("cli-samples-overflow", ["--samples", "1e999"], "--samples"),
     ("cli-samples-not-a-number", ["--samples", "lots"], "--samples"),
     ("cli-seed-negative", ["--seed", "-3"], "--seed"),
+    ("cli-seed-2-64", ["--seed", str(2**64)], "--seed must be a whole number from 0 to 2^63 - 1"),
+    ("cli-seed-1e30", ["--seed", "1" + "0" * 30], "--seed must be a whole number from 0 to 2^63 - 1"),
     ("cli-unknown-method", ["--method", "guess"], "--method"),
     ("cli-out-is-a-file", None, "--out"),
 ]
@@ -408,8 +435,19 @@ def test_bad_input_counts():
     assert len(CASES) >= 40
     assert {"syntax", "types", "units", "nan-inf", "magnitudes", "empty", "unicode", "duplicates", "transitions",
             "correlations", "temperatures", "samples", "equations", "missing-data", "validity",
-            "uncertainties"} <= classes
+            "uncertainties", "sizes"} <= classes
     print(f"bad inputs: {len(CASES)} case files in {len(classes)} classes, plus {len(CLI_CASES)} bad command lines")
+
+
+def test_readme_reliability_table_is_true():
+    """The README's reliability table gives the counts of this file (issue 15: keep it true)."""
+    text = (Path(__file__).resolve().parents[1] / "README.md").read_text(encoding="utf-8")
+    m = re.search(r"(\d+) distinct files in (\d+) classes", text)
+    assert m and int(m.group(1)) == len(CASES) and int(m.group(2)) == len({b.cls for b in CASES})
+    m = re.search(r"(\d+) command lines", text)
+    assert m and int(m.group(1)) == len(CLI_CASES)
+    m = re.search(r"(\d+) broken results\.json files", text)
+    assert m and int(m.group(1)) == len(BAD_RESULTS)
 
 
 def test_check_lists_every_problem_at_once(make_case):
@@ -464,9 +502,26 @@ def test_missing_and_directory_case_files(tmp_path):
 
 def test_command_line_and_case_file_share_the_sample_limit():
     from uqthermo import cli
-    from uqthermo.case import loader
+    from uqthermo.case import limits, loader
 
     assert cli.MAX_SAMPLES_LIMIT == loader.MAX_SAMPLES_LIMIT
+    assert cli.MAX_SEED == limits.MAX_SEED and cli.SEED_RANGE_TEXT == limits.SEED_RANGE_TEXT
+
+
+def test_seed_range_is_one_range(make_case, tmp_path):
+    """The largest seed is accepted on the command line and in the case file; one more is refused by
+    both with the same words."""
+    big = 2**63 - 1
+    code, _, err = main_in_process("check", make_case(replace=[("seed = 7", f"seed = {big}")]))
+    assert code == 0, err
+    code, _, err = main_in_process("run", make_case(), "--out", tmp_path / "out", "--seed", str(big), "--samples", "200",
+                                   "--quiet", "--no-report")
+    assert code == 0, err
+    code, _, err_case = main_in_process("check", make_case(replace=[("seed = 7", f"seed = {big + 1}")]))
+    code2, _, err_cli = main_in_process("run", make_case(), "--out", tmp_path / "o2", "--seed", str(big + 1))
+    assert code == code2 == 2
+    words = "must be a whole number from 0 to 2^63 - 1 (9223372036854775807)"
+    assert f"settings.seed: {words}, got {big + 1}" in err_case and f"--seed {words}, got {big + 1}" in err_cli
 
 
 def test_plain_number_relative_u_is_flagged(make_case):
@@ -493,6 +548,16 @@ BAD_RESULTS = [
     ("driver-datum-list", b'{"format": "uqthermo.results/1", "outputs": [{"name": "a", "points": '
                           b'[{"drivers": [{"datum": [1], "share": 1}]}]}]}', "outputs[0].points[0].drivers[0].datum", "string"),
     ("not-utf8", b'{"format": "uqthermo.results/1", "case": {"title": "\xff"}}', "", "not a readable"),
+    # issue 15, item 10: values the report cannot draw
+    ("convergence-garbage", b'{"format": "uqthermo.results/1", "convergence": {"a": [["x", 1]]}}', "convergence.a[0]",
+     "pair [trials, u]"),
+    ("convergence-not-pairs", b'{"format": "uqthermo.results/1", "convergence": {"a": "garbage"}}', "convergence.a",
+     "list of [trials, u] pairs"),
+    ("plan-front-not-tables", b'{"format": "uqthermo.results/1", "plan": {"front": 5}}', "plan.front",
+     "list of tables"),
+    ("plan-not-table", b'{"format": "uqthermo.results/1", "plan": [1]}', "plan", "must be a table"),
+    ("estimate-10-400", b'{"format": "uqthermo.results/1", "outputs": [{"name": "a", "points": [{"linear": {"estimate": 1'
+                        + b"0" * 400 + b'}}]}]}', "outputs[0].points[0].linear.estimate", "too large"),
 ]
 
 

@@ -98,7 +98,11 @@ def test_demo_exits_0_and_writes_everything(demo_runs, name):
     assert pngs and svgs, "figures (PNG and SVG) missing"
     assert list((out / "tables").glob("*.csv")), "CSV tables missing"
     assert not list(out.parent.glob(f".{out.name}.*")), "temporary folders left next to --out"
-    assert not list(out.rglob(".*")), "temporary files left inside --out"
+    assert [p.name for p in out.rglob(".*")] == [".uqthermo-manifest.json"], "temporary files left inside --out"
+    manifest = json.loads((out / ".uqthermo-manifest.json").read_text())
+    assert manifest["format"] == "uqthermo.manifest/1"
+    assert sorted(f["path"] for f in manifest["files"]) == sorted(
+        p.relative_to(out).as_posix() for p in out.rglob("*") if p.is_file() and p.name != ".uqthermo-manifest.json")
     # the terminal summary names every output
     for o in run["results"]["outputs"]:
         assert o["name"][:8] in proc.stdout

@@ -52,7 +52,8 @@ def test_fit_cli_round_trip(tmp_path, co2_csv, capsys):
     assert rc == 0, cap.err
     text = cap.out
     assert "model ranking (bic" in text and "residual" in text and "[species.CO2.g.heat_capacity]" in text
-    assert sorted(p.name for p in out.iterdir()) == ["fit.json", "fit.toml", "fit.txt", "residuals.csv"]
+    assert sorted(p.name for p in out.iterdir()) == [".uqthermo-manifest.json", "fit.json", "fit.toml", "fit.txt",
+                                                     "residuals.csv"]
     doc = json.loads((out / "fit.json").read_text())
     assert doc["format"] == "uqthermo.fit/1" and doc["model"] == "polynomial"
     terms = doc["terms"]

@@ -121,8 +121,8 @@ def test_mutated_valid_case_loads_or_raises_input_error(mutations):
                     node = node[k]
                 if isinstance(node, dict):
                     node[f"{path[-1]}_x"] = value
-        except (KeyError, IndexError, TypeError):
-            continue     # an earlier mutation removed or replaced the parent
+        except (KeyError, IndexError, TypeError, AttributeError):
+            continue     # an earlier mutation removed or replaced the parent (e.g. by a number)
     _load_build_check(doc)
 
 

@@ -1,21 +1,22 @@
 """Nothing lost, nothing executed, the same answer twice (issue 9).
 
 * outputs are written atomically: a failure while writing (fault injected into the
-  report writer, the JSON writer, the final rename) leaves no --out folder, no
-  ``.partial`` temporary, and an existing folder untouched;
-* an existing non-empty --out is never replaced without --force; with --force it is
-  replaced only after the new run succeeded;
+  report writer, the JSON writer, a rename of a --force replacement) leaves no --out
+  folder, no ``.partial`` temporary, and an existing folder untouched;
+* an existing non-empty --out is never replaced without --force; with --force only the
+  files an earlier run listed in its manifest are replaced, after the new run succeeded;
 * SIGTERM and SIGINT (Ctrl-C) during a long Monte Carlo run: exit 130, a message on
   stderr, no output folder and no temporary folder;
-* the same case and seed give the same results.json bit for bit (all but run.date and
-  run.duration_s), also across processes with different hash seeds;
+* the same case and seed give the same results.json byte for byte (date, duration, host
+  and versions go to run-log.json), also across processes with different hash seeds;
 * case files are data: text that looks like code stays text (in results.json and the
   escaped HTML report), and unit strings are never evaluated;
 * physical sanity warnings: skewness, linear method not validated, extrapolation,
   sampled Cp ≤ 0.
 
 Faults injected: 4 (report writer, JSON writer, rename, exception inside the build with
-an existing folder and --force) plus 2 signals.
+an existing folder and --force) plus 2 signals. Races, locks, killed runs, SIGHUP and
+repeated signals: tests/test_publish.py.
 """
 
 from __future__ import annotations
@@ -31,16 +32,6 @@ from pathlib import Path
 import pytest
 
 from conftest import BASE_CASE, REPO, cli_env, main_in_process, write_case
-
-VOLATILE = {("run", "date"), ("run", "duration_s")}
-
-
-def _strip_volatile(doc: dict) -> dict:
-    doc = json.loads(json.dumps(doc))
-    for a, b in VOLATILE:
-        doc.get(a, {}).pop(b, None)
-    return doc
-
 
 def _leftovers(folder: Path, name: str) -> list[str]:
     return sorted(p.name for p in folder.iterdir() if p.name.startswith(f".{name}."))
@@ -70,23 +61,25 @@ def test_existing_empty_out_is_used(make_case, tmp_path):
 
 
 def _old_output(out: Path) -> None:
-    """An earlier output folder: results.json plus a file of the user's."""
-    out.mkdir()
-    (out / "results.json").write_text('{"format": "uqthermo.results/1", "old": true}')
+    """An earlier output folder (published by the tool, with its manifest) plus a file of the user's."""
+    from uqthermo.run import publish_dir
+
+    publish_dir(lambda tmp: (tmp / "results.json").write_text('{"format": "uqthermo.results/1", "old": true}'), out)
     (out / "old.txt").write_text("previous result")
 
 
-OLD = ["old.txt", "results.json"]
+OLD = [".uqthermo-manifest.json", "old.txt", "results.json"]
 
 
-def test_force_replaces_the_folder(make_case, tmp_path):
+def test_force_replaces_the_files_it_wrote_and_keeps_the_rest(make_case, tmp_path):
     case = make_case()
     out = tmp_path / "out"
     _old_output(out)
     code, stdout, err = main_in_process("run", case, "--out", out, "--quiet", "--no-report", "--samples", "1000",
                                         "--force")
     assert code == 0, err
-    assert not (out / "old.txt").exists()
+    assert (out / "old.txt").read_text() == "previous result"          # not uqthermo's: kept, and said so
+    assert "kept 1 item(s)" in err and "old.txt" in err
     assert json.loads((out / "results.json").read_text())["run"]["samples"] == 1000
     assert _leftovers(tmp_path, "out") == []
 
@@ -179,30 +172,34 @@ def test_failure_in_json_writer_leaves_no_temp_file(tmp_path, monkeypatch):
     assert sorted(p.name for p in tmp_path.iterdir()) == ["results.json"]
 
 
-def test_failure_in_final_rename_restores_the_old_folder(tmp_path, monkeypatch):
-    """publish_dir with --force: if the last rename fails, the old folder is put back."""
+@pytest.mark.parametrize("fail_at", [1, 2, 3, 4])
+def test_failure_in_a_rename_of_a_force_replacement_restores_the_old_output(tmp_path, monkeypatch, fail_at):
+    """publish_dir with --force: whichever rename of the replacement fails, the earlier output is put back."""
     from uqthermo import run as runmod
+    from uqthermo.pipeline import publish
 
     out = tmp_path / "out"
-    out.mkdir()
-    (out / "old.txt").write_text("previous result")
-    real_replace = os.replace
+    _old_output(out)
+    before = {p.relative_to(out): p.read_bytes() for p in out.rglob("*") if p.is_file()}
+    real_rename = os.rename
     calls = {"n": 0}
 
-    def flaky_replace(src, dst):
+    def flaky_rename(src, dst):
         calls["n"] += 1
-        if calls["n"] == 2:          # 1st: old → backup, 2nd: new → out
+        if calls["n"] == fail_at:   # earlier results.json and manifest out, new files in, new manifest last
             raise OSError("injected rename failure")
-        return real_replace(src, dst)
+        return real_rename(src, dst)
 
     def build(tmp):
         (tmp / "results.json").write_text("{}")
+        (tmp / "tables").mkdir()
+        (tmp / "tables" / "t.csv").write_text("a\n")
 
-    monkeypatch.setattr(runmod.os, "replace", flaky_replace)
+    monkeypatch.setattr(publish.os, "rename", flaky_rename)
     with pytest.raises(OSError):
         runmod.publish_dir(build, out, force=True)
-    monkeypatch.setattr(runmod.os, "replace", real_replace)
-    assert sorted(p.name for p in out.iterdir()) == ["old.txt"]
+    monkeypatch.setattr(publish.os, "rename", real_rename)
+    assert {p.relative_to(out): p.read_bytes() for p in out.rglob("*") if p.is_file()} == before
     assert [p.name for p in tmp_path.iterdir()] == ["out"]
 
 
@@ -246,7 +243,11 @@ def test_interrupted_run_exits_130_and_leaves_nothing(tmp_path, sig):
 # --------------------------------------------------------------------------- reproducibility
 
 def test_same_case_and_seed_reproduce_results_bit_for_bit(tmp_path):
-    """Two processes with different hash seeds, what-if and driver ranking on; only date and duration differ."""
+    """Two processes with different hash seeds, what-if and driver ranking on: results.json is the same
+    file byte for byte (compared with filecmp, as ``cmp`` would); date, duration, host and versions are
+    in run-log.json (README, "Reproducibility")."""
+    import filecmp
+
     text = BASE_CASE.replace("what_if = false\n", "").replace('sensitivity = "linear"\n', "")
     case = write_case(tmp_path, text)
     procs = []
@@ -263,8 +264,12 @@ def test_same_case_and_seed_reproduce_results_bit_for_bit(tmp_path):
         _, err = p.communicate(timeout=180)
         assert p.returncode == 0, err
         docs.append(json.loads((out / "results.json").read_text(encoding="utf-8")))
-    a, b = (_strip_volatile(d) for d in docs)
-    assert json.dumps(a, sort_keys=True) == json.dumps(b, sort_keys=True)
+    assert filecmp.cmp(tmp_path / "out0" / "results.json", tmp_path / "out1" / "results.json", shallow=False)
+    for out in ("out0", "out1"):
+        log = json.loads((tmp_path / out / "run-log.json").read_text())
+        assert log["format"] == "uqthermo.run-log/1" and {"date", "duration_s", "host", "python", "numpy"} <= set(log)
+    a = docs[0]
+    assert not {"date", "duration_s", "python", "numpy", "platform", "host"} & set(a["run"])
     assert a["run"]["seed"] == 99
     assert a["outputs"][0]["points"][0].get("whatif"), "what-if scenarios were not computed"
 
@@ -278,12 +283,13 @@ def test_report_rendering_is_deterministic(fast_run, tmp_path):
         code, stdout, err = main_in_process("report", src, "--out", out)
         assert code == 0, err
         outs.append(out)
-    files = sorted(p.relative_to(outs[0]) for p in outs[0].rglob("*") if p.is_file())
-    assert files == sorted(p.relative_to(outs[1]) for p in outs[1].rglob("*") if p.is_file())
+    files = sorted(p.relative_to(outs[0]) for p in outs[0].rglob("*") if p.is_file() and p.name != ".uqthermo-manifest.json")
+    assert files == sorted(p.relative_to(outs[1]) for p in outs[1].rglob("*") if p.is_file()
+                           and p.name != ".uqthermo-manifest.json")
     assert any(f.suffix == ".csv" for f in files) and any(f.suffix == ".svg" for f in files)
     for f in files:
         assert (outs[0] / f).read_bytes() == (outs[1] / f).read_bytes(), f
-    assert not [p for p in outs[0].rglob(".*")], "temporary files left in the output folder"
+    assert [p.name for p in outs[0].rglob(".*")] == [".uqthermo-manifest.json"], "temporary files left in the output folder"
 
 
 def test_in_process_reproduces_and_another_seed_differs(fast_run, tmp_path):
@@ -293,7 +299,7 @@ def test_in_process_reproduces_and_another_seed_differs(fast_run, tmp_path):
     assert code == 0, err
     again = json.loads((out / "results.json").read_text())
     first = fast_run["results"]
-    assert _strip_volatile(again)["outputs"] == _strip_volatile(first)["outputs"]
+    assert again["outputs"] == first["outputs"]
     assert again["case"]["sha256"] == first["case"]["sha256"]
     out2 = tmp_path / "other-seed"
     code, stdout, err = main_in_process("run", fast_run["case"], "--out", out2, "--samples", "20000", "--seed", "8",

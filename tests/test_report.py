@@ -327,8 +327,20 @@ def test_markdown_inputs_and_exceedance_equal_results_json(md, results):
         assert r[6] == i["distribution"]
     (hdr, rows), = table(tables, "Probability of exceeding the limit")
     p = results["outputs"][1]["points"][0]
-    d = gum_decimals(100 * p["exceedance_standard_error"])
-    check_number(rows[0][3].rstrip(" %"), 100 * p["exceedance_probability"], d, "P(exceed)")
+    # the probability with its one-sided 95 % Clopper-Pearson upper bound (scipy.stats.beta quantile), the bound
+    # rounded up at two significant digits, and the trials; the standard error at the GUM rounding of itself
+    from scipy import stats
+
+    n = p["exceedance_trials"]
+    k = round(p["exceedance_probability"] * n)
+    m = re.fullmatch(r"([\d.]+) % \(95 % upper bound ([\d.]+) %, ([\d ]+) trials\)", md_unescape(rows[0][2]))
+    assert m, rows[0][2]
+    assert float(m.group(1)) == round(100 * p["exceedance_probability"], 1)
+    ub = 100 * stats.beta.ppf(0.95, k + 1, n - k)
+    assert ub <= float(m.group(2)) < ub + 0.1
+    assert int(m.group(3).replace(" ", "")) == n
+    se = 100 * p["exceedance_standard_error"]
+    check_number(rows[0][3].rstrip(" %"), se, gum_decimals(se), "standard error")
     # planner front: U to three significant digits
     (hdr, rows), = table(tables, "Cost–uncertainty front")
     for r, f in zip(rows, results["plan"]["front"]):

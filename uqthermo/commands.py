@@ -7,7 +7,8 @@ import sys
 from pathlib import Path
 
 from .errors import InputError, Problem, UqthermoError
-from .run import SAFETY_CAUTIONS, prepare_out_dir, publish_dir, run_case, write_json_atomic, write_outputs
+from .pipeline.publish import OutputFolder
+from .run import RUN_LOG, SAFETY_CAUTIONS, run_case, with_run_log, write_json_atomic, write_outputs
 
 
 def _console(stderr: bool = False):
@@ -16,7 +17,7 @@ def _console(stderr: bool = False):
     from rich.console import Console
 
     width = max(shutil.get_terminal_size((150, 40)).columns, 120)
-    return Console(stderr=stderr, highlight=False, width=width)
+    return Console(stderr=stderr, highlight=False, width=width, emoji=False)
 
 
 def _sig(x: float | None, u: float | None = None, digits: int = 2) -> str:
@@ -36,11 +37,17 @@ def _sig(x: float | None, u: float | None = None, digits: int = 2) -> str:
 
 
 def print_summary(results: dict, console=None) -> None:
-    """The compact terminal table: estimate, u, coverage interval, top drivers per output point."""
+    """The compact terminal table: estimate, u, coverage interval, top drivers per output point.
+
+    Every string of ``results`` is user text or derived from it: it is shown through
+    :func:`uqthermo.text_safety.markup_view` (control characters made visible, markup escaped).
+    """
     from rich.table import Table
 
     from .report.drivers import driver_rows, rows_sum_note, share_text
+    from .text_safety import markup_view, terminal_text
 
+    raw, results = results, markup_view(results)
     console = console or _console()
     p = None
     notes: dict[str, None] = {}
@@ -60,20 +67,16 @@ def print_summary(results: dict, console=None) -> None:
             drivers = ", ".join(f"{r.label} {share_text(r.share)} %" for r in driver_rows(pt, max_data=3, skip_zero=True))
             if drivers and rows_sum_note(pt):
                 notes[rows_sum_note(pt)] = None
-            table.add_row(f"{out['name']} [{out['unit']}]", f"{pt['temperature_K']:.2f}", _sig(est, u), _sig(u, u),
+            table.add_row(f"{out['name']} \\[{out['unit']}]", f"{pt['temperature_K']:.2f}", _sig(est, u), _sig(u, u),
                           f"[{_sig(ci[0], u)}, {_sig(ci[1], u)}]",
                           "—" if ok is None else ("yes" if ok else "NO"), drivers)
-            if "exceedance_probability" in pt and pt["exceedance_probability"] is not None:
-                se = pt.get("exceedance_standard_error")
-                table.add_row("", "", "", "", f"P(T_final > {out.get('limit_K'):.1f} K) = "
-                              f"{pt['exceedance_probability']:.3g}" + (f" ± {se:.1g}" if se else ""), "", "")
-            if pt.get("p_phase_change") is not None:
-                table.add_row("", "", "", "", f"P(phase change of the charge) = {pt['p_phase_change']:.3g}", "", "")
         if len(pts) > len(show):
             table.add_row(f"  … {len(pts) - len(show)} more temperatures in results.json", "", "", "", "", "", "")
     console.print(table)
     for n in notes:
         console.print(f"top drivers: {n}")
+    for line in safety_lines(raw):     # plain text: control characters made visible, no markup
+        console.print(terminal_text(line), highlight=False, markup=False)
     if p is not None:
         console.print(f"coverage probability {p:g}; estimate and u from Monte Carlo where run "
                       f"({results['run']['samples']} trials, {results['run']['sampling']}), else the linear method")
@@ -83,9 +86,96 @@ def print_summary(results: dict, console=None) -> None:
         console.print("[bold]caution:[/bold] " + results["cautions"][0])
 
 
-#: what an earlier uqthermo output folder holds at its top (run, report, plan, fit)
+def safety_lines(results: dict) -> list[str]:
+    """Design and safety numbers under the summary table: every probability with its one-sided
+    upper bound (report.style.probability_text), the MTSR (no evaporative cooling) and, separately,
+    the boiling-limited end state."""
+    from .report.style import count_text, probability_text
+    from .report.tables import limit_text, probability_cell
+
+    def P(label: str, txt: str) -> str:
+        return f"P({label}) {'' if txt.startswith('<') else '= '}{txt}"
+
+    lines = []
+    for out in results.get("outputs", []):
+        name = out.get("name")
+        pts = out.get("points") or []
+        lim = limit_text(out)
+        probs = [pt for pt in pts if pt.get("exceedance_probability") is not None]
+        if probs:
+            worst = max(probs, key=lambda pt: pt["exceedance_probability"])
+            where = "" if len(pts) == 1 else f" (highest of {len(pts)} temperatures, at {worst['temperature_K']:.2f} K)"
+            lines.append(f"{name}: {P(lim or 'beyond the limit', probability_cell(worst, 'exceedance_probability'))}{where}")
+        if out.get("kind") != "adiabatic_temperature_rise" or not pts:
+            continue
+        pt = pts[0]
+        if pt.get("mtsr_K") is not None:
+            parts = [f"MTSR {pt['mtsr_K']:.1f} K (rise without evaporative cooling)"]
+            for key, lab in (("p_mtsr_above_mtt", "MTSR > MTT"), ("p_mtsr_above_td24", "MTSR > TD24")):
+                if pt.get(key) is not None:
+                    parts.append(P(lab, probability_cell(pt, key)))
+            if pt.get("criticality_class") is not None:
+                cp = pt.get("criticality_class_probabilities") or {}
+                ub = pt.get("criticality_class_probabilities_upper_bounds") or {}
+                n = (pt.get("monte_carlo") or {}).get("samples")
+                shown = [f"{k}: {probability_text(v, ub.get(k), None)}" for k, v in cp.items() if v]
+                parts.append(f"criticality class {pt['criticality_class']} at the estimates" +
+                             (f" (class probabilities {', '.join(shown)}; {count_text(n)} trials)" if shown and n else ""))
+            lines.append(f"{name}: " + "; ".join(parts))
+        bl = pt.get("boiling_limited")
+        if bl:
+            ft = bl.get("final_temperature_K") or {}
+            t_end = ft.get("mean", ft.get("estimate"))
+            parts = ["boiling-limited end state (evaporative cooling)"]
+            if bl.get("p_tempering_point_reached") is not None:
+                parts.append(P("tempering point reached", probability_text(
+                    bl["p_tempering_point_reached"], bl.get("p_tempering_point_reached_upper_bound"), bl.get("trials"))))
+            if t_end is not None:
+                parts.append(f"end temperature {t_end:.1f} K")
+            for ev in bl.get("evaporated") or []:
+                mol, kg = ev.get("mol") or {}, ev.get("kg") or {}
+                m = mol.get("mean", mol.get("estimate"))
+                if m is None:
+                    continue
+                txt = f"{ev['species']}({ev['phase']}) evaporated: mean {m:.3g} mol"
+                if kg.get("mean", kg.get("estimate")) is not None:
+                    txt += f" ({kg.get('mean', kg.get('estimate')):.3g} kg)"
+                if mol.get("P95") is not None:
+                    txt += f", 95th percentile {mol['P95']:.3g} mol"
+                parts.append(txt)
+            lines.append(f"{name}: " + "; ".join(parts))
+        for key, lab, unit in (("specific_heat_of_reaction", "Q'_r", "kJ/kg"), ("specific_heat_capacity", "c'_p", "J/(g*K)"),
+                               ("final_pressure", "final pressure of the closed vessel (ideal gas)", "kPa")):
+            blk = pt.get(key)
+            if blk:
+                v = blk.get("mean", blk.get("estimate"))
+                u = blk.get("standard_uncertainty")
+                lines.append(f"{name}: {lab} = {_sig(v, u)}" + (f" ± {_sig(u, u)}" if u else "") + f" {unit}")
+    return lines
+
+
 def cmd_run(args) -> int:
-    out = prepare_out_dir(args.out, args.force, (args.case,))
+    # the output folder is checked and locked before any computation, released at the end
+    folder = OutputFolder(args.out, force=args.force, protected=(args.case,), command="run").open()
+    try:
+        return _run_into(args, folder)
+    finally:
+        folder.close()
+
+
+def print_publish_notes(folder: OutputFolder) -> None:
+    """What ``--force`` replaced and which files it left alone (stderr)."""
+    from .text_safety import terminal_text
+
+    if folder.outcome is not None:
+        for line in folder.outcome.notes():
+            print(f"uqthermo: {terminal_text(line)}", file=sys.stderr)
+
+
+def _run_into(args, folder: OutputFolder) -> int:
+    from .text_safety import markup
+
+    out = markup(folder.given)
     quiet = args.quiet or not sys.stderr.isatty()
     progress = None
     bar = None
@@ -107,11 +197,12 @@ def cmd_run(args) -> int:
     finally:
         if bar is not None:
             bar.stop()
-    write_outputs(result, out, force=args.force, report=not args.no_report)
+    write_outputs(result, folder, report=not args.no_report)
+    print_publish_notes(folder)
     if not args.quiet:
         print_summary(result.results)
-        _console().print(f"wrote {out}/results.json" + ("" if args.no_report else f", {out}/report.html, {out}/report.md, "
-                                                                                    f"figures/ and tables/"))
+        _console().print(f"wrote {out}/results.json, {out}/run-log.json" + (
+            f" and {out}/tables/" if args.no_report else f", {out}/report.html, {out}/report.md, figures/ and tables/"))
     return 0
 
 
@@ -119,24 +210,30 @@ def cmd_check(args) -> int:
     from .case.loader import load_case
     from .run import prepare_model
 
+    from .text_safety import markup, terminal_text
+
     problems: list[Problem] = []
     console = _console()
     for path in args.cases:
+        case = None
         try:
             case = load_case(path)
             model, model_warnings = prepare_model(case)
             warnings = case.warnings + model_warnings
         except InputError as e:
             problems += e.problems
+            # the warnings often name the slip behind the problems (e.g. a reference temperature in degC)
+            for w in (case.warnings if case is not None else getattr(e, "warnings", [])):
+                console.print(f"{path}: warning: {w}")
             continue
         n_unc = sum(1 for d in case.data.values() if d.uncertain)
-        console.print(f"{path}: OK — {len(case.species)} species, {len(case.reactions)} reactions, "
+        console.print(f"{markup(path)}: OK — {len(case.species)} species, {len(case.reactions)} reactions, "
                       f"{len(case.outputs)} outputs, {n_unc} uncertain data ({len(model.inputs.variables)} variables)")
         for w in warnings:
-            console.print(f"{path}: warning: {w}")
+            console.print(f"{markup(path)}: warning: {markup(w)}")
     if problems:
         for p in problems:
-            print(str(p), file=sys.stderr)
+            print(terminal_text(str(p)), file=sys.stderr)
         print(f"{len(problems)} problem(s) found", file=sys.stderr)
         return 2
     return 0
@@ -216,18 +313,47 @@ def cmd_report(args) -> int:
     if not isinstance(doc, dict) or doc.get("format") != "uqthermo.results/1":
         raise InputError([Problem(str(path), "format", "not a uqthermo results file (format uqthermo.results/1)")])
     problems = _results_shape(doc, str(path))
+    if not problems:
+        from .pipeline.results_check import results_value_problems
+
+        problems = results_value_problems(doc, str(path))
     if problems:
         raise InputError(problems)
-    out = prepare_out_dir(args.out, args.force, (args.results,))
+    log = _read_run_log(path.with_name(RUN_LOG))
     from .report import write_report
+    from .text_safety import markup
 
     def build(tmp: Path):
         write_json_atomic(tmp / "results.json", doc)
-        return write_report(doc, tmp)
+        if log:
+            write_json_atomic(tmp / RUN_LOG, log)
+        try:
+            return write_report(with_run_log(doc, log), tmp)
+        except (TypeError, ValueError, KeyError, IndexError, AttributeError, OverflowError, ZeroDivisionError) as e:
+            # the file passed the checks above but still holds something the report cannot draw: it is the
+            # input that is wrong (a hand-edited value), not the run
+            raise InputError([Problem(str(path), "", f"cannot render this results.json ({type(e).__name__}: {e}); was "
+                                                     "it edited by hand? (if it was written by uqthermo unchanged, "
+                                                     "please report it)")]) from None
 
-    publish_dir(build, out, args.force)
-    _console().print(f"wrote {out}/report.html and {out}/report.md")
+    with OutputFolder(args.out, force=args.force, protected=(args.results,), command="report") as folder:
+        folder.publish(build)
+    print_publish_notes(folder)
+    _console().print(f"wrote {markup(args.out)}/report.html and {markup(args.out)}/report.md")
     return 0
+
+
+def _read_run_log(path: Path) -> dict | None:
+    """The run log beside a results.json (date, duration, versions for the report), if there is a valid one."""
+    try:
+        if not path.is_file() or path.stat().st_size > 1_000_000:
+            return None
+        log = json.loads(path.read_text(encoding="utf-8"))
+    except (OSError, ValueError, UnicodeDecodeError, RecursionError):
+        return None
+    if not isinstance(log, dict) or log.get("format") != "uqthermo.run-log/1":
+        return None
+    return {k: v for k, v in log.items() if isinstance(v, (str, int, float)) and not isinstance(v, bool)}
 
 
 __all__ = ["cmd_run", "cmd_check", "cmd_plan", "cmd_fit", "cmd_data", "cmd_report", "print_summary", "SAFETY_CAUTIONS",

@@ -201,13 +201,31 @@ def _write_case(args) -> int:
                                             "--T \"300K..500K\""))
     doc = starter_case(args.case, temps, text)
     if args.out:
-        if os.path.exists(args.out) and not args.force:
-            raise InputError(Problem("", "--out", f"{args.out} exists; give --force to replace it"))
-        tmp = args.out + ".tmp"
-        with open(tmp, "w", encoding="utf-8") as f:
-            f.write(doc)
-        os.replace(tmp, args.out)
-        print(f"wrote {args.out}: check it with `uqthermo check {args.out}`, run it with `uqthermo run {args.out} --out DIR`")
+        import tempfile
+
+        from .pipeline.publish import file_mode
+        from .text_safety import terminal_text
+
+        if os.path.isdir(args.out):
+            raise InputError(Problem(args.out, "--out", "is a folder; give the name of the case file to write"))
+        if os.path.lexists(args.out) and not args.force:
+            raise InputError(Problem(args.out, "--out", "exists; give --force to replace it"))
+        folder = os.path.dirname(os.path.abspath(args.out))
+        if not os.path.isdir(folder):
+            raise InputError(Problem(args.out, "--out", f"folder {folder} does not exist"))
+        # written beside the target under a fresh name, then renamed: never half a file, never another file
+        fd, tmp = tempfile.mkstemp(prefix=f".{os.path.basename(args.out)}.", suffix=".tmp", dir=folder)
+        try:
+            with os.fdopen(fd, "w", encoding="utf-8") as f:
+                f.write(doc)
+            os.chmod(tmp, file_mode())
+            os.replace(tmp, args.out)
+        except BaseException:
+            if os.path.exists(tmp):
+                os.unlink(tmp)
+            raise
+        print(terminal_text(f"wrote {args.out}: check it with `uqthermo check {args.out}`, run it with "
+                            f"`uqthermo run {args.out} --out DIR`"))
     else:
         sys.stdout.write(doc)
     return 0

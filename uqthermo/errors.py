@@ -55,6 +55,19 @@ class InputError(UqthermoError):
         super().__init__("; ".join(str(p) for p in self.problems), key=key)
 
 
+class Interrupted(BaseException):
+    """A signal (SIGINT, SIGTERM or SIGHUP) asked the tool to stop.
+
+    Raised from the command line's signal handler so that clean-up code runs (like for
+    Ctrl-C); the command exits with code 130. A ``BaseException`` so that no ``except
+    Exception`` on the way swallows it.
+    """
+
+    def __init__(self, signum: int = 0):
+        super().__init__(signum)
+        self.signum = signum
+
+
 class PhysicsError(UqthermoError):
     """A physically impossible or unsupported request in the thermo layer."""
 

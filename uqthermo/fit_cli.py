@@ -12,9 +12,7 @@ paste into a case file. With ``--out DIR`` it also writes ``fit.toml`` (the tabl
 
 from __future__ import annotations
 
-import csv
 import hashlib
-import io
 import math
 import re
 import sys
@@ -61,12 +59,10 @@ def _rewrap(err: InputError, path: str) -> InputError:
 def residuals_csv(outcome) -> str:
     """CSV text of the points, fitted values and residuals."""
     fit, data = outcome.fit, outcome.data
-    buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
+    rows = []
     head = ["line", "T [K]", "Cp [J/(mol*K)]", "fitted [J/(mol*K)]", "residual [J/(mol*K)]", "u(fit) [J/(mol*K)]"]
     if fit.u is not None:
         head += ["u [J/(mol*K)]", "residual/u"]
-    w.writerow(head)
     fitted = fit.cp - fit.residuals
     ufit = fit.predict_uncertainty(fit.T)
     for i in range(fit.n_points):
@@ -74,8 +70,10 @@ def residuals_csv(outcome) -> str:
                f"{fit.residuals[i]:.6g}", f"{ufit[i]:.4g}"]
         if fit.u is not None:
             row += [repr(float(fit.u[i])), f"{fit.normalized_residuals[i]:.4g}"]
-        w.writerow(row)
-    return buf.getvalue()
+        rows.append(row)
+    from .text_safety import csv_text
+
+    return csv_text(head, rows)
 
 
 def fit_document(outcome, *, species: str, phase: str, T_range, warnings: list[str], toml: str,
@@ -153,10 +151,11 @@ def run_fit(args) -> int:
             problems += e.problems
     out = None
     if getattr(args, "out", None):
-        from .run import prepare_out_dir
+        from .pipeline.publish import check_target
 
         try:
-            out = prepare_out_dir(args.out, bool(getattr(args, "force", False)), (args.data,))
+            check_target(args.out, force=bool(getattr(args, "force", False)), protected=(args.data,))
+            out = Path(args.out)
         except InputError as e:
             problems += e.problems
     if problems:
@@ -195,7 +194,8 @@ def run_fit(args) -> int:
     text = "\n".join(lines) + "\n" + toml
 
     if out is not None:
-        from .run import publish_dir, write_json_atomic
+        from .pipeline.publish import OutputFolder
+        from .run import write_json_atomic
 
         try:
             sha = hashlib.sha256(Path(path).read_bytes()).hexdigest()
@@ -209,8 +209,16 @@ def run_fit(args) -> int:
             (tmp / "residuals.csv").write_text(residuals_csv(oc), encoding="utf-8")
             (tmp / "fit.txt").write_text(text, encoding="utf-8")
 
-        publish_dir(build, out, bool(getattr(args, "force", False)))
-    print(text, end="" if text.endswith("\n") else "\n")
+        with OutputFolder(args.out, force=bool(getattr(args, "force", False)), protected=(args.data,),
+                          command="fit") as folder:
+            folder.publish(build)
+    from .text_safety import terminal_text
+
+    print(terminal_text(text, limit=10 ** 7, keep_newlines=True), end="" if text.endswith("\n") else "\n")
     if out is not None:
-        print(f"wrote {out}/fit.toml, {out}/fit.json, {out}/residuals.csv and {out}/fit.txt", file=sys.stderr)
+        from .commands import print_publish_notes
+
+        print_publish_notes(folder)
+        print(terminal_text(f"wrote {out}/fit.toml, {out}/fit.json, {out}/residuals.csv and {out}/fit.txt"),
+              file=sys.stderr)
     return 0

@@ -206,7 +206,9 @@ def compute_plan(case: Case, model: Model, *, target=None, budget: float | None 
     cands = []
     for c in case.candidates:
         if c.datum not in model.inputs.groups:
-            raise InputError([Problem(case.path, "candidate", f"datum {c.datum!r} is exact; a measurement cannot improve it")])
+            why = "is exact" if not case.data[c.datum].uncertain else "is not used by any output"
+            raise InputError([Problem(case.path, "candidate", f"datum {c.datum!r} {why}; a measurement cannot improve "
+                                                              "the outputs through it")])
         d = case.data[c.datum]
         std = None if c.u is None else c.u / d.to_report
         cands.append(Candidate(datum=c.datum, cost=c.cost, std=std, factor=c.factor,

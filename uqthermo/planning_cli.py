@@ -13,36 +13,52 @@ def _fmt(x, digits: int = 3) -> str:
 
 
 def run_plan(args) -> int:
-    from rich.console import Console
-    from rich.table import Table
+    import math
 
-    from .plan import compute_plan
-
-    if args.budget is not None and not (args.budget >= 0):
-        raise InputError([Problem(args.case, "--budget", "must be a non-negative number")])
+    if args.budget is not None and not (math.isfinite(args.budget) and args.budget >= 0):
+        raise InputError([Problem(args.case, "--budget", f"must be a finite non-negative number, got {args.budget!r}")])
     if not args.target and args.budget is None:
         raise InputError([Problem(args.case, "--target", "give a target (--target \"U95 <= 2 kJ/mol\") or a budget "
                                                          "(--budget 10000), or both")])
     if getattr(args, "relative", False) and args.target:
         raise InputError([Problem(args.case, "--relative", "--relative is for a budget without target; write a "
                                                            "relative target as \"U95 <= 5 %\" instead")])
-    out = None
+    folder = None
     if args.out:
-        from .run import prepare_out_dir
+        from .pipeline.publish import OutputFolder
 
-        out = prepare_out_dir(args.out, args.force, (args.case,))
+        # checked and locked before any computation, released at the end
+        folder = OutputFolder(args.out, force=args.force, protected=(args.case,), command="plan").open()
+    try:
+        return _plan(args, folder)
+    except InputError as e:
+        # problems found outside the case reader (the target, the planner) belong to the case file too
+        raise InputError([p if p.file else Problem(str(args.case), {"target": "--target", "budget": "--budget"}.get(
+            p.key, p.key), p.message) for p in e.problems]) from None
+    finally:
+        if folder is not None:
+            folder.close()
+
+
+def _plan(args, folder) -> int:
+    from rich.console import Console
+    from rich.table import Table
+
+    from .plan import compute_plan
     from .run import prepare_model
+    from .text_safety import markup, markup_view
 
     case = load_case(args.case)
     model, _ = prepare_model(case)
-    plan = compute_plan(case, model, target=args.target, budget=args.budget, output_name=args.output_name,
-                        relative=getattr(args, "relative", False))
-    console = Console(highlight=False, width=140)
+    raw_plan = compute_plan(case, model, target=args.target, budget=args.budget, output_name=args.output_name,
+                            relative=getattr(args, "relative", False))
+    plan = markup_view(raw_plan)         # user text (names, notes, units) printed as written, never as markup
+    console = Console(highlight=False, width=140, emoji=False)
     unit = plan["target"]["unit"]
     metric = plan["target"]["metric"]
     label = {"U": f"U{round(100 * (plan['target']['coverage_probability'] or 0.95))}", "u": "u",
              "halfwidth": "half-width"}.get(metric, metric)
-    console.print(f"[bold]{case.title}[/bold]")
+    console.print(f"[bold]{markup(case.title)}[/bold]")
     console.print(f"planned for: {plan['target']['output']}  ({plan['method']})")
     if unit == "of target":
         label = f"{label}/target"
@@ -80,30 +96,31 @@ def run_plan(args) -> int:
                       f"→ worst {label} = {_fmt(best['U'])} {unit}")
     for w in plan["warnings"]:
         console.print(f"[yellow]warning:[/yellow] {w}")
-    if out is not None:
-        _write(plan, case, out, args.force)
+    if folder is not None:
+        from .commands import print_publish_notes
+
+        _write(raw_plan, case, folder, args.force)
+        print_publish_notes(folder)
+        out = markup(folder.given)
         console.print(f"wrote {out}/plan.json, {out}/plan.csv and {out}/figures/plan-front.png|svg")
     return 0 if (best is not None) else 1
 
 
-def _write(plan: dict, case, out: Path, force: bool) -> None:
-    import csv
-    import io
-
+def _write(plan: dict, case, out, force: bool) -> None:
     from .report.figures import _draw_plan
     from .report.style import figure_style
     from .run import publish_dir, write_json_atomic
+    from .text_safety import csv_text
 
     def build(tmp: Path):
         write_json_atomic(tmp / "plan.json", {"format": "uqthermo.plan/1", "case": {"title": case.title,
                                               "sha256": case.sha256, "file": case.path}, "plan": plan})
-        buf = io.StringIO()
-        w = csv.writer(buf)
-        w.writerow(["cost", "worst_U", "unit", "set", "meets_target"])
+        rows = []
         for p in plan["front"]:
             meets = "" if plan["target"]["U"] is None else p["U"] <= plan["target"]["U"]
-            w.writerow([p["cost"], p["U"], plan["target"]["unit"], " ".join(p["set"]), meets])
-        (tmp / "plan.csv").write_text(buf.getvalue(), encoding="utf-8")
+            rows.append([p["cost"], p["U"], plan["target"]["unit"], " ".join(p["set"]), meets])
+        (tmp / "plan.csv").write_text(csv_text(["cost", "worst_U", "unit", "set", "meets_target"], rows),
+                                      encoding="utf-8")
         (tmp / "figures").mkdir()
         with figure_style():
             fig = _draw_plan(plan)

@@ -106,7 +106,7 @@ def _phase_changes(case: Case, o, lo: float, hi: float) -> list[dict]:
 def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warnings: list[str],
              duration: float, engine: str) -> dict:
     """Build the results.json document (see the module docstring)."""
-    from .run import SAFETY_CAUTIONS, environment, now_iso
+    from .run import SAFETY_CAUTIONS
 
     s = case.settings
     p = s.coverage_probability
@@ -132,6 +132,14 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
         warnings += [w for w in mc.warnings]
     if mc is not None:
         warnings += negative_cp_warnings(case, model, mc.X_kept)
+    from .pipeline import safety_data as safety
+
+    lin_all = lin
+    if lin_all is None and inputs.variables and any(o.limit is not None or o.mtt is not None or o.td24 is not None
+                                                    for o in case.outputs):
+        from .uq.linear import propagate_linear   # sensitivities for the drivers of the exceedance margins
+
+        lin_all = propagate_linear(model.f_reported, inputs, coverage=p)
     outputs = []
     for i, o in enumerate(case.outputs):
         cols = model.output_columns(i)
@@ -140,6 +148,7 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
                                "description": o.description, "reaction": o.reaction or None,
                                "equation": case.reactions[o.reaction].equation if o.reaction else None,
                                "linear_model": model.linear_in_inputs[i]}
+        out.update(safety.output_fields(case, o, model.units[i]))
         if o.kind == "adiabatic_temperature_rise":
             out.update(start_temperature_K=o.start_temperature, limit_K=o.limit, process_temperature_K=o.process_temperature,
                        accumulation=o.accumulation, mtt_K=o.mtt, td24_K=o.td24)
@@ -202,13 +211,15 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
                 pt["whatif"] = whatif.rows(j)
             if margins is not None:
                 pt["margins"] = _margins_point(margins, j, o.design_value)
+            y_est = (pt.get("monte_carlo") or {}).get("mean", (pt.get("linear") or {}).get("estimate"))
+            safety.limit_point(case, model, o, i, len(points), j, pt, mc, lin_all, y_est)
             points.append(pt)
         if margins is not None and len(cols) > 1:
             sub = Margins(margins.method, margins.probabilities, margins.estimate[cols], margins.upper[:, cols],
                           margins.lower[:, cols])
             out["band"] = curve_band(sub, temps).to_dict()
         if o.kind == "adiabatic_temperature_rise" and points:
-            _safety_point(case, model, o, i, points[0], mc)
+            safety.adiabatic_point(case, model, o, i, points[0], mc, lin_all, y0)
         outputs.append(out | {"points": points})
     convergence = {}
     if mc is not None:
@@ -219,16 +230,16 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
     run = {
         "seed": s.seed, "samples": int(mc.samples_used) if mc is not None else 0,
         "samples_requested": s.samples, "sampling": s.sampling, "version": __version__, "method": s.method,
-        "date": now_iso(), "engine": engine, "duration_s": round(duration, 3),
+        "engine": engine,
         "reference_temperature_K": s.reference_temperature, "coverage_probability": p,
         "adaptive": s.samples == "adaptive", "significant_digits": s.significant_digits,
         "adaptive_intervals": s.adaptive_intervals if s.samples == "adaptive" else None,
         "sobol_rotation": bool(mc.rotated_scores) if mc is not None else None,
         "n_variables": len(inputs.variables), "n_data": sum(1 for d in case.data.values() if d.uncertain),
-        **environment(),
     }
     if mc is not None:
         run.update(mc_converged=bool(mc.converged), mc_batches=int(mc.batches), quantile_method=mc.quantile_method)
+        run.update(safety.run_fields(s.sampling))
     if ranking is not None:
         run["drivers_method"] = ranking.method
         run["drivers_reason"] = ranking.reason
@@ -470,55 +481,3 @@ def _margins_point(mg, j: int, design_value: float | None) -> dict:
         out["design_value_exceeded_at"] = [level_key(q) for k, q in enumerate(mg.probabilities)
                                            if mg.upper[k, j] > design_value]
     return out
-
-
-def _safety_point(case: Case, model: Model, o, i: int, pt: dict, mc) -> None:
-    """Exceedance probability of the limit, MTSR and Stoessel criticality class for an adiabatic output."""
-    from .thermo.energy import criticality_class, criticality_class_probabilities, mtsr
-
-    est = (pt.get("monte_carlo") or pt.get("linear") or {})
-    dT = est.get("mean", est.get("estimate"))
-    if dT is None:
-        return
-    pt["final_temperature_K"] = o.start_temperature + dT
-    aux = {a.name: a.column for a in model.aux if a.output == i}
-    n = int(mc.samples_used) if mc is not None else 0
-    if o.limit is not None:
-        if mc is not None and "exceedance" in aux:
-            pe = float(mc.mean[aux["exceedance"]])
-            pt["exceedance_probability"] = pe
-            pt["exceedance_standard_error"] = math.sqrt(max(pe * (1 - pe), 0.0) / max(n, 1))
-        else:
-            lin = pt.get("linear") or {}
-            u = lin.get("standard_uncertainty") or 0.0
-            from scipy import stats
-
-            z = (o.limit - o.start_temperature - dT) / u if u > 0 else (math.inf if o.limit > o.start_temperature + dT else -math.inf)
-            pt["exceedance_probability"] = float(stats.norm.sf(z))
-            pt["exceedance_standard_error"] = None
-            pt["exceedance_basis"] = "linear normal approximation"
-        pt["limit_K"] = o.limit
-    if o.process_temperature is not None:
-        acc = 1.0 if o.accumulation is None else o.accumulation
-        m = float(mtsr(o.process_temperature, dT, acc))
-        pt["mtsr_K"] = m
-        if o.mtt is not None and o.td24 is not None:
-            pt["criticality_class"] = int(np.asarray(criticality_class(o.process_temperature, m, o.mtt, o.td24)).ravel()[0])
-            if mc is not None:
-                samples = o.process_temperature + acc * mc.Y_kept[:, model.output_columns(i)[0]]
-                classes = criticality_class(o.process_temperature, samples, o.mtt, o.td24)
-                probs, se = criticality_class_probabilities(classes)
-                pt["criticality_class_probabilities"] = {str(k): float(v) for k, v in enumerate(probs, 1)}
-                pt["criticality_class_probabilities_basis"] = f"first {len(samples)} Monte Carlo trials"
-    if mc is not None and "phase_change" in aux:
-        pv = float(mc.mean[aux["phase_change"]])
-        pt["p_phase_change"] = pv
-        pt["p_phase_change_standard_error"] = math.sqrt(max(pv * (1 - pv), 0.0) / max(n, 1))
-        pt["phase_change_note"] = ("probability that the charge reaches a phase change (e.g. the solvent boils) "
-                                   "before the heat is absorbed")
-    if o.process_temperature is not None:
-        for name, key in (("mtsr_above_mtt", "p_mtsr_above_mtt"), ("mtsr_above_td24", "p_mtsr_above_td24")):
-            if mc is not None and name in aux:
-                pv = float(mc.mean[aux[name]])
-                pt[key] = pv
-                pt[key + "_standard_error"] = math.sqrt(max(pv * (1 - pv), 0.0) / max(n, 1))

@@ -15,7 +15,6 @@ import json
 import math
 import os
 import platform
-import shutil
 import tempfile
 import time
 from dataclasses import dataclass, field
@@ -28,7 +27,8 @@ from .case.builder import QUANTITY, Model, build_model, check_model
 from .case.dependence import model_columns
 from .case.loader import load_case
 from .case.schema import Case
-from .errors import InputError, Problem
+from .errors import InputError, Problem, UqthermoError
+from .pipeline.publish import MANIFEST, OutputFolder, check_target
 
 FORMAT = "uqthermo.results/1"
 
@@ -53,6 +53,8 @@ class RunResult:
     linear: Any = None
     monte_carlo: Any = None
     extra: dict = field(default_factory=dict)
+    #: date, duration, host and versions of this run (written as run-log.json beside results.json)
+    run_log: dict = field(default_factory=dict)
 
     def _repr_html_(self) -> str:  # Jupyter
         from .report.notebook import ResultsView
@@ -83,6 +85,13 @@ def _jsonable(x):
     return x
 
 
+#: what run_case is doing, and on what sizes (for the out-of-memory message)
+_STAGE: dict[str, Any] = {}
+
+#: at most this many model values (trials x output columns) per Monte Carlo chunk
+CHUNK_VALUES = 2**22
+
+
 def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | None = None,
              method: str | None = None, sampling: str | None = None, engine: str = "local",
              scheduler: str | None = None, progress: Callable[[int, int], None] | None = None,
@@ -91,11 +100,44 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
 
     Parameters override the case's ``[settings]``; ``progress(done, total)`` is called
     as Monte Carlo chunks complete.
-    """
-    from .uq.linear import propagate_linear
-    from .uq.montecarlo import propagate_monte_carlo
-    from .uq.validation import validate_linear
 
+    Raises
+    ------
+    InputError
+        Bad input (exit 2).
+    UqthermoError
+        Other failures; running out of memory is reported with the stage and the sizes
+        involved (output points, input variables, trials).
+    """
+    _STAGE.clear()
+    _STAGE["stage"] = "reading the case"
+    try:
+        return _run_case(path, samples=samples, seed=seed, method=method, sampling=sampling, engine=engine,
+                         scheduler=scheduler, progress=progress, what_if=what_if)
+    except MemoryError:
+        raise UqthermoError(_out_of_memory_text()) from None
+
+
+def _out_of_memory_text() -> str:
+    st = _STAGE
+    sizes = []
+    if st.get("points") is not None:
+        sizes.append(f"{st['points']} output points")
+    if st.get("inputs") is not None:
+        sizes.append(f"{st['inputs']} input variables")
+    if st.get("samples") is not None:
+        sizes.append(f"{st['samples']} trials")
+    what = f" ({' x '.join(sizes)})" if sizes else ""
+    advice = "use fewer output points (fewer outputs or a larger temperatures.step)"
+    if isinstance(st.get("samples"), int) and st.get("points") and st["samples"] > 100 * st["points"]:
+        advice = "use fewer samples, or samples = \"adaptive\""
+    elif st.get("inputs") and st.get("points") and st["inputs"] > st["points"]:
+        advice = "use fewer uncertain inputs (species or data not needed by the outputs can be removed)"
+    return f"out of memory while {st.get('stage', 'running')}{what}; {advice}"
+
+
+def _run_case(path: str | Path, *, samples, seed, method, sampling, engine, scheduler, progress,
+              what_if) -> RunResult:
     t0 = time.perf_counter()
     case = load_case(path)
     s = case.settings
@@ -109,6 +151,17 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
         s.sampling = sampling
     if what_if is not None:
         s.what_if = what_if
+    from .case.loader import adaptive_cap_problem
+
+    cap = adaptive_cap_problem(s)
+    if cap is not None:
+        raise InputError([Problem(case.path, "settings.max_samples", cap)])
+    if engine == "dask" and isinstance(scheduler, str):     # a wrong address fails now, not after the linear method
+        from .uq.distributed import check_scheduler
+
+        check_scheduler(scheduler)
+    _STAGE.update(stage="building the model", points=sum(len(o.temperatures) if o.temperatures is not None else 1
+                                                          for o in case.outputs))
     model, model_warnings = prepare_model(case)
     warnings = list(case.warnings) + model_warnings
     if case.candidates and (s.plan_target or s.plan_budget is not None) and len(model.inputs.variables):
@@ -116,9 +169,31 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
 
         resolve_plan_request(case, model, target=s.plan_target, budget=s.plan_budget,
                              key="settings.plan_target" if s.plan_target else "settings.plan_budget")
+    try:
+        return _propagate(case, model, warnings, t0, engine, scheduler, progress)
+    except (InputError, KeyboardInterrupt):
+        raise
+    except UqthermoError as e:
+        if not e.key:
+            raise
+        # a corner the probes before the run did not reach: still one line naming the key, nothing written
+        key = e.key if e.key.startswith(("output", "candidate", "species", "reaction", "settings")) else \
+            (f"species.{e.key}" if e.key.split(".")[0] in case.species else e.key)
+        raise InputError([Problem(case.path, key, f"{e.message} (met during the run, beyond the probes of "
+                                                  "'uqthermo check')")]) from None
+
+
+def _propagate(case: Case, model: Model, warnings: list[str], t0: float, engine: str, scheduler, progress) -> RunResult:
+    """Linear and Monte Carlo propagation, validation and results assembly (see :func:`run_case`)."""
+    from .uq.linear import propagate_linear
+    from .uq.montecarlo import propagate_monte_carlo
+    from .uq.validation import validate_linear
+
+    s = case.settings
     inputs = model.inputs
     p = s.coverage_probability
     D = len(inputs.variables)
+    _STAGE.update(stage="propagating by the linear method", inputs=D)
     lin = mc = None
     validation = None
     if D == 0:
@@ -128,10 +203,16 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
     if s.method in ("monte-carlo", "both") and D > 0:
         mc_kwargs = dict(samples=s.samples, sampling=s.sampling, seed=s.seed, coverage=p,
                          ndigits=s.significant_digits, progress=progress, rotate=s.sobol_rotation,
-                         affine=model.affine, depends_on=model_columns(case, inputs))
+                         affine=model.affine, depends_on=model_columns(case, inputs),
+                         stop_columns=model.n_reported)   # auxiliary indicators do not stop an adaptive run
         if s.samples == "adaptive":
             mc_kwargs["max_samples"] = s.max_samples
             mc_kwargs["check_shortest"] = s.adaptive_intervals == "both"
+        n_cols = len(model.columns) + len(model.aux)
+        if n_cols > 64:     # many output columns: smaller chunks keep a chunk's values within CHUNK_VALUES
+            mc_kwargs["chunk_size"] = max(256, min(65_536, CHUNK_VALUES // max(n_cols, D)))
+        _STAGE.update(stage="propagating by Monte Carlo", samples=s.samples if isinstance(s.samples, int)
+                      else s.max_samples)
         if engine == "dask":
             from .uq.distributed import propagate_monte_carlo_dask
 
@@ -148,6 +229,7 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
                                    coverage_probability=mc.coverage_probability)
         validation = validate_linear(lin, reported, ndigits=s.significant_digits)
     y0 = model.evaluate(np.asarray(inputs.estimates, dtype=float)[None, :] if D else np.zeros((1, 0)))[0]
+    _STAGE.update(stage="ranking drivers and assembling the results")
     from .results import assemble
 
     results = assemble(case, model, lin, mc, validation, y0, warnings, time.perf_counter() - t0, engine)
@@ -155,8 +237,8 @@ def run_case(path: str | Path, *, samples: int | str | None = None, seed: int | 
         from .plan import compute_plan
 
         results["plan"] = compute_plan(case, model, target=s.plan_target, budget=s.plan_budget, linear=lin)
-    results["run"]["duration_s"] = round(time.perf_counter() - t0, 3)
-    return RunResult(results=results, case=case, model=model, linear=lin, monte_carlo=mc)
+    return RunResult(results=results, case=case, model=model, linear=lin, monte_carlo=mc,
+                     run_log=run_log(time.perf_counter() - t0))
 
 
 def prepare_model(case: Case) -> tuple[Model, list[str]]:
@@ -191,50 +273,19 @@ def _output_mentions(case: Case, o, err) -> bool:
 
 
 # ----------------------------------------------------------------------------- writing
+# Output folders are checked, locked, built aside and published by
+# uqthermo.pipeline.publish; the names below stay for existing imports.
 
-#: files that mark a folder as an earlier uqthermo output (which --force may replace)
-OUTPUT_MARKERS = ("results.json", "plan.json", "fit.json")
-
-
-def guard_force(out: str | Path, force: bool, protected: tuple = ()) -> None:
-    """Refuse ``--force`` on a folder whose replacement would destroy user files.
-
-    ``--force`` replaces the whole folder. It is accepted only for an empty folder or an
-    earlier uqthermo output folder (holding results.json, plan.json or fit.json), and never
-    for a folder that contains the input file (or another protected path), the working
-    directory or the home folder.
-    """
-    o = Path(out)
-    if not force or not o.is_dir() or not any(o.iterdir()):
-        return
-    o = o.resolve()
-    for p in [*protected, Path.cwd(), Path.home()]:
-        p = Path(p).resolve()
-        if p == o or o in p.parents:
-            what = "the working folder" if p == Path.cwd().resolve() else (
-                "your home folder" if p == Path.home().resolve() else f"{p.name}")
-            raise InputError([Problem(str(out), "--out", f"--force would replace this folder and delete {what}; "
-                                                         "choose a new output folder")])
-    if not any((o / m).is_file() for m in OUTPUT_MARKERS):
-        raise InputError([Problem(str(out), "--out", "--force replaces only an earlier uqthermo output folder (one with "
-                                                     "results.json); this folder holds other files — choose another folder")])
+#: the run log written beside results.json: what differs from one run of the same case to the next
+RUN_LOG = "run-log.json"
+RUN_LOG_FORMAT = "uqthermo.run-log/1"
 
 
 def prepare_out_dir(out: str | Path, force: bool, protected: tuple = ()) -> Path:
-    """Check that ``out`` may be written (before any work is done); see :func:`guard_force`."""
-    guard_force(out, force, protected)
-    out = Path(out)
-    if out.exists() and not out.is_dir():
-        raise InputError([Problem(str(out), "--out", "exists and is not a folder")])
-    if out.exists() and any(out.iterdir()) and not force:
-        raise InputError([Problem(str(out), "--out", "folder exists and is not empty; choose another folder or add --force "
-                                                     "(the old content is replaced only after the new run succeeds)")])
-    parent = out.resolve().parent
-    if not parent.exists():
-        raise InputError([Problem(str(out), "--out", f"parent folder {parent} does not exist")])
-    if not os.access(parent, os.W_OK):
-        raise InputError([Problem(str(out), "--out", f"parent folder {parent} is not writable")])
-    return out
+    """Check that ``out`` may be written, before any work is done (no lock is taken; the
+    commands use :class:`~uqthermo.pipeline.publish.OutputFolder`, which also locks)."""
+    check_target(out, force=force, protected=protected)
+    return Path(out)
 
 
 def write_json_atomic(path: Path, doc: dict) -> None:
@@ -252,56 +303,63 @@ def write_json_atomic(path: Path, doc: dict) -> None:
         raise
 
 
-def publish_dir(build: Callable[[Path], Any], out: str | Path, force: bool) -> Any:
-    """Build a folder's content in a temporary sibling, then move it to ``out`` in one rename.
-
-    An interrupted or failed build leaves ``out`` as it was (no half-written report);
-    with ``force`` an existing ``out`` is replaced only after the build succeeded.
-    """
-    out = Path(out).resolve()
-    tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.", suffix=".partial", dir=out.parent))
-    old = None
-    try:
-        value = build(tmp)
-        if out.exists():
-            old = out.with_name(f".{out.name}.old-{os.getpid()}-{int(time.time() * 1000)}")
-            os.replace(out, old)
-        os.replace(tmp, out)
-    except BaseException:
-        shutil.rmtree(tmp, ignore_errors=True)
-        if old is not None and old.exists() and not out.exists():
-            os.replace(old, out)
-        raise
-    if old is not None:
-        shutil.rmtree(old, ignore_errors=True)
-    return value
+def publish_dir(build: Callable[[Path], Any], out: "str | Path | OutputFolder", force: bool = False,
+                command: str = "run") -> Any:
+    """Build a folder's content in a temporary sibling and publish it (see
+    :class:`~uqthermo.pipeline.publish.OutputFolder`); ``out`` may be an open OutputFolder."""
+    if isinstance(out, OutputFolder):
+        return out.publish(build)
+    with OutputFolder(out, force=force, command=command) as folder:
+        return folder.publish(build)
 
 
-def write_outputs(result: RunResult, out: str | Path, *, force: bool = False, report: bool = True) -> list[Path]:
-    """Write results.json, the report, figures and tables into ``out`` atomically."""
+def with_run_log(results: dict, run_log: dict | None) -> dict:
+    """``results`` with the run log's fields (date, duration, versions) merged into ``run``,
+    for the report, which shows them; results.json itself stays free of them."""
+    if not run_log:
+        return results
+    extra = {k: v for k, v in run_log.items() if k != "format" and k not in (results.get("run") or {})}
+    return {**results, "run": {**(results.get("run") or {}), **extra}}
+
+
+def write_outputs(result: RunResult, out: "str | Path | OutputFolder", *, force: bool = False,
+                  report: bool = True) -> list[Path]:
+    """Write results.json, run-log.json, the report (or, with ``report=False``, the CSV
+    tables only), figures and tables into ``out``, published in one step."""
 
     def build(tmp: Path):
         write_json_atomic(tmp / "results.json", result.results)
-        written = [tmp / "results.json"]
+        if result.run_log:
+            write_json_atomic(tmp / RUN_LOG, result.run_log)
+        view = with_run_log(result.results, result.run_log)
         if report:
             from .report import write_report
 
-            paths = write_report(result.results, tmp)
-            written += [Path(v) for v in (paths.values() if isinstance(paths, dict) else paths)]
+            write_report(view, tmp)
         else:
-            from .report import tables
+            from .report.render import write_tables
 
-            if hasattr(tables, "write_tables"):
-                written += list(tables.write_tables(result.results, tmp))
-        return written
+            write_tables(view, tmp)
 
     publish_dir(build, out, force)
-    out = Path(out)
-    return sorted(p for p in out.rglob("*") if p.is_file())
+    folder = out.path if isinstance(out, OutputFolder) else Path(out)
+    return sorted(p for p in Path(folder).rglob("*") if p.is_file())
 
 
 def environment() -> dict[str, str]:
-    return {"python": platform.python_version(), "numpy": np.__version__, "platform": platform.platform()}
+    import scipy
+
+    return {"python": platform.python_version(), "numpy": np.__version__, "scipy": scipy.__version__,
+            "platform": platform.platform()}
+
+
+def run_log(duration_s: float) -> dict:
+    """The run log (format :data:`RUN_LOG_FORMAT`): date, duration, host and software versions —
+    what varies between two runs of the same case with the same seed, kept out of results.json."""
+    import socket
+
+    return {"format": RUN_LOG_FORMAT, "date": now_iso(), "duration_s": round(duration_s, 3),
+            "host": socket.gethostname(), **environment()}
 
 
 def now_iso() -> str:
@@ -309,4 +367,4 @@ def now_iso() -> str:
 
 
 __all__ = ["run_case", "write_outputs", "RunResult", "publish_dir", "prepare_out_dir", "write_json_atomic",
-           "SAFETY_CAUTIONS", "FORMAT", "QUANTITY"]
+           "SAFETY_CAUTIONS", "FORMAT", "QUANTITY", "OutputFolder", "MANIFEST", "RUN_LOG", "with_run_log", "run_log"]

@@ -70,9 +70,10 @@ import numpy as np
 from ..errors import InputError, Problem, UqthermoError, ValidityError
 from ..thermo import reaction as rx
 from ..thermo.cp import R as GAS_CONSTANT
-from ..thermo.energy import solve_final_temperature
 from ..uq.blas import one_blas_thread
 from ..uq.inputs import InputSet, InputVariable
+from . import balances
+from .design_reader import molar_mass as design_molar_mass
 from .schema import Case, OutputSpec
 
 LN10 = math.log(10.0)
@@ -110,8 +111,9 @@ class Column:
 @dataclass
 class Aux:
     output: int
-    name: str              # "exceedance" | "mtsr_above_mtt" | "mtsr_above_td24"
+    name: str              # "exceedance" | "mtsr_above_mtt" | "class_3" | "boiling_limited_temperature" | ...
     column: int
+    point: int = 0         # the output's point (curves: one exceedance indicator per temperature)
 
 
 @dataclass
@@ -143,13 +145,47 @@ class Model:
         return [j for j, col in enumerate(self.columns) if col.output == i]
 
 
+def used_data(case: Case) -> set[str]:
+    """Ids of the data the outputs can depend on: every datum of a species that an output
+    uses (through its reaction, extent rates, species, mixture or charge), the measured
+    enthalpies of the reactions used, every datum that is not a species' or a reaction's
+    (output parameters), and every datum named in a ``[[correlation]]`` (so that the stated
+    correlations are always checked as one matrix). The rest of the case costs nothing:
+    a species no output uses gets no input column.
+    """
+    reactions: set[str] = set()
+    species: set[str] = set()
+    for o in case.outputs:
+        for r in ([o.reaction] if o.reaction else []) + list(o.extent_rates):
+            reactions.add(r)
+        species |= {o.species} | {sp for sp, _ in o.mixture} | {sp for sp, _ in o.charge}
+    for r in reactions:
+        if r in case.reactions:
+            species |= {p.species for p in case.reactions[r].participants}
+    used = set()
+    for did, d in case.data.items():
+        if d.species:
+            if d.species in species:
+                used.add(did)
+        elif did.startswith("reaction."):
+            if did.split(".")[1] in reactions:
+                used.add(did)
+        else:
+            used.add(did)
+    for a, b, _ in case.correlations:
+        used |= {a, b}
+    return used
+
+
 def build_inputs(case: Case) -> tuple[InputSet, dict[str, list[int]]]:
-    """The uncertain inputs (exact data get no column) and each datum's columns."""
+    """The uncertain inputs (exact data and data no output uses, :func:`used_data`, get no
+    column) and each datum's columns."""
     variables: list[InputVariable] = []
     cols: dict[str, list[int]] = {}
     blocks: list[tuple[list[int], np.ndarray | None]] = []
+    used = used_data(case)
     for d in case.data.values():
-        if not d.uncertain:
+        if not d.uncertain or d.id not in used:
             continue
         idx = list(range(len(variables), len(variables) + len(d.distributions)))
         for name, dist in zip(d.variable_names, d.distributions):
@@ -425,6 +461,7 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
         Rows per model block.
     """
     inputs, cols = build_inputs(case)
+    datum_cols = cols
     decode = _values_factory(case, cols)
     col_start = np.cumsum([0] + [len(o.temperatures) if o.temperatures is not None else 1
                                  for o in case.outputs])
@@ -441,7 +478,7 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
                 and ReactionTable.eligible(case, case.outputs[i].reaction) for i in idx)
             # reaction enthalpies served by the table are gathered for all outputs at once
             bulk = [i for i in idx if table is not None and case.outputs[i].kind == "reaction_enthalpy"
-                    and not case.outputs[i].temperature_datum
+                    and not case.outputs[i].temperature_datum and case.outputs[i].basis != "mass"
                     and ReactionTable.eligible(case, case.outputs[i].reaction)]
             plan = None
             if bulk:
@@ -459,23 +496,24 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
     Tref = case.settings.reference_temperature
     species = case.species
     columns: list[Column] = []
-    aux_specs: list[tuple[int, str]] = []
     for i, o in enumerate(case.outputs):
         temps = o.temperatures if o.temperatures is not None else np.array([o.temperature_nominal])
         columns += [Column(i, float(t)) for t in temps]
-        if o.kind == "adiabatic_temperature_rise":
-            if o.limit is not None:
-                aux_specs.append((i, "exceedance"))
-            if o.process_temperature is not None and o.mtt is not None:
-                aux_specs.append((i, "mtsr_above_mtt"))
-            if o.process_temperature is not None and o.td24 is not None:
-                aux_specs.append((i, "mtsr_above_td24"))
-            if _first_transition(case, o) is not None:
-                aux_specs.append((i, "phase_change"))
     n_rep = len(columns)
-    t_hi = {o.name: o.max_temperature or _charge_t_max(case, o) for o in case.outputs
-            if o.kind == "adiabatic_temperature_rise"}
-    aux = [Aux(i, name, n_rep + k) for k, (i, name) in enumerate(aux_specs)]
+    plans = {i: balances.adiabatic_plan(case, o) for i, o in enumerate(case.outputs)
+             if o.kind == "adiabatic_temperature_rise"}
+    aux_specs: list[tuple[int, str, int]] = []
+    for i, o in enumerate(case.outputs):
+        if o.limit is not None:
+            aux_specs += [(i, "exceedance", p) for p in range(int(col_start[i + 1] - col_start[i]))]
+        if i in plans:
+            aux_specs += [(i, name, 0) for name in plans[i].aux_names()]
+    aux = [Aux(i, name, n_rep + k, p) for k, (i, name, p) in enumerate(aux_specs)]
+    aux_col = {(a.output, a.name, a.point): a.column for a in aux}
+    # indicators computed from the finished columns (limits, MTSR against MTT/TD24, classes)
+    post = _post_columns(case, datum_cols, col_start, aux_col)
+    molar_masses = {sp: design_molar_mass(None, species[sp], "") for o in case.outputs for sp, _ in o.mixture} \
+        if any(o.mixture and o.basis == "mass" for o in case.outputs) else {}
 
     def value(ov: dict, did: str, n: int) -> np.ndarray:
         if did in ov:
@@ -502,7 +540,7 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
         r, g = table.row(reaction), table.columns(temps)
         return dH[r][g].T, (None if dS is None else dS[r][g].T)
 
-    def adiabatic(o: OutputSpec, sv: dict, ov: dict, n: int, tab) -> np.ndarray:
+    def adiabatic(i: int, o: OutputSpec, sv: dict, ov: dict, n: int, tab):
         reaction = case.reactions[o.reaction]
         hit = from_table(tab, o.reaction, [o.start_temperature])
         if hit is not None:
@@ -512,27 +550,11 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
                                       reaction_values(sv, ov, o.reaction))
             dH = np.broadcast_to(np.asarray(dH, dtype=float), (n, 1))[:, 0]
         xi = value(ov, o.extent_datum, n)[:, 0]
-        target = -xi * dH                                   # J absorbed by the charge
-        amounts = [(sp, ph, value(ov, did, n)[:, 0]) for (sp, ph), did in o.charge.items()]
-
-        def h_of_T(T):
-            T = np.asarray(T, dtype=float).reshape(-1)
-            total = np.zeros_like(T)
-            if T.shape[0] != n:     # the solver may hand a subset; evaluate nominal-free per element
-                raise ValueError("solver must evaluate the whole sample")
-            for sp, ph, amt in amounts:
-                dh = species[sp].heating_enthalpy(ph, o.start_temperature, T[:, None], sv.get(sp), sampled_crossings=True)
-                total = total + amt * np.broadcast_to(np.asarray(dh, dtype=float), (n, 1))[:, 0]
-            return total
-
-        Tf, info = solve_final_temperature(h_of_T, target, o.start_temperature, t_hi[o.name], full_output=True)
-        Tf = np.asarray(Tf, dtype=float)
-        first = _first_transition(case, o)
-        changed = None if first is None else (np.asarray(info.on_plateau, bool) | (Tf > first + 1e-9))
-        return Tf - o.start_temperature, changed
+        amounts = [value(ov, did, n)[:, 0] for _, _, did in plans[i].charge]
+        return balances.evaluate_adiabatic(case, plans[i], dH, xi, amounts, sv, ov, n, value)
 
     def evaluate_block(X: np.ndarray, which: list[int], table: ReactionTable | None, needs_values: bool, plan):
-        """Outputs ``which`` for one block: ({output index: y (n, ncol)}, [auxiliary columns], bulk).
+        """Outputs ``which`` for one block: ({output index: y (n, ncol)}, {aux column: values}, bulk).
 
         ``bulk`` is (columns, values (len(columns), n)) of the reaction enthalpies gathered
         from the table in one step (``plan``), or None.
@@ -541,7 +563,7 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
         sv, ov = decode(X) if needs_values else ({}, {})
         tab = (table, *table.evaluate(X)) if table is not None else None
         parts = {}
-        extra = []
+        extra = {}
         bulk = None
         if plan is not None:
             _, r_idx, g_idx, cols = plan
@@ -577,8 +599,14 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
                     y = species[o.species].heating_enthalpy(o.phase, o.t_from, o.t_to, sv.get(o.species)) / 1e3
                 else:
                     y = 0.0
+                    mass = 0.0
                     for (sp, ph), did in o.mixture.items():
-                        y = y + value(ov, did, n) * species[sp].heating_enthalpy(ph, o.t_from, o.t_to, sv.get(sp)) / 1e3
+                        amt = value(ov, did, n)
+                        y = y + amt * species[sp].heating_enthalpy(ph, o.t_from, o.t_to, sv.get(sp)) / 1e3
+                        if o.basis == "mass":
+                            mass = mass + amt * molar_masses[sp]
+                    if o.basis == "mass":
+                        y = y / mass
             elif k == "heat_release":
                 T = temperature(o, ov, n)
                 y = 0.0
@@ -594,21 +622,19 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
                         dH = rx.reaction_enthalpy(case.reactions[rname], species, T, Tref,
                                                   reaction_values(sv, ov, rname))
                     y = y + rate * (-dH) / 1e3
+                for stream in o.feeds:   # open system: feeds brought from their temperature to the reactor's
+                    Ts = value(ov, stream.temperature_datum, n) if stream.temperature_datum else stream.temperature
+                    for (sp, ph), did in stream.flows.items():
+                        dh = species[sp].heating_enthalpy(ph, Ts, T, sv.get(sp))
+                        y = y - value(ov, did, n) * dh / 1e3
             else:
-                dT, changed = adiabatic(o, sv, ov, n, tab)
+                dT, more = adiabatic(i, o, sv, ov, n, tab)
                 y = dT[:, None]
-                Tf = o.start_temperature + dT
-                if o.limit is not None:
-                    extra.append((Tf > o.limit).astype(float))
-                if o.process_temperature is not None:
-                    acc = 1.0 if o.accumulation is None else o.accumulation
-                    mtsr = o.process_temperature + acc * dT
-                    if o.mtt is not None:
-                        extra.append((mtsr > o.mtt).astype(float))
-                    if o.td24 is not None:
-                        extra.append((mtsr > o.td24).astype(float))
-                if changed is not None:
-                    extra.append(changed.astype(float))
+                for name, v in more.items():
+                    extra[aux_col[(i, name, 0)]] = v
+            if o.basis == "mass" and o.kind in ("reaction_enthalpy", "reaction_gibbs_energy") or (
+                    o.basis == "mass" and o.kind == "heating_enthalpy" and o.species):
+                y = y / o.mass_per_unit
             parts[i] = y
         return parts, extra, bulk
 
@@ -634,41 +660,82 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
                         _put_columns(Y[a:b], *bulk)
                     for i, y in parts.items():
                         Y[a:b, col_start[i]:col_start[i + 1]] = y
-                    for k, e in enumerate(extra):
-                        Y[a:b, n_rep + k] = e
+                    for j, e in extra.items():
+                        Y[a:b, j] = e
+            for fill in post:
+                fill(X, Y)
         return Y
 
-    units = [UNITS[o.kind] if not (o.kind == "heating_enthalpy" and o.mixture) else "kJ" for o in case.outputs]
+    units = [output_unit(o) for o in case.outputs]
     moving_transitions = any(d.uncertain and d.quantity == "transition temperature" for d in case.data.values())
     linear = [_is_linear(case, o, moving_transitions) for o in case.outputs]
     return Model(case=case, inputs=inputs, columns=columns, aux=aux, units=units, evaluate=evaluate,
                  n_reported=n_rep, linear_in_inputs=linear, tables=[g[2] for g in groups if g[2] is not None])
 
 
-def _first_transition(case: Case, o: OutputSpec) -> float | None:
-    """Lowest (nominal) transition temperature above the start that a charge species meets on heating."""
-    temps = [t.temperature for (sp, _), _d in o.charge.items() for t in case.species[sp].transitions
-             if t.temperature > o.start_temperature]
-    return min(temps) if temps else None
+def output_unit(o: OutputSpec) -> str:
+    """Report unit of an output (contract §3 units; kJ for a mixture's heating; per kg on a mass basis)."""
+    if o.basis == "mass" and o.kind != "adiabatic_temperature_rise":
+        return "kJ/kg"
+    if o.kind == "heating_enthalpy" and o.mixture:
+        return "kJ"
+    return UNITS[o.kind]
 
 
-def _charge_t_max(case: Case, o: OutputSpec) -> float:
-    """Highest temperature the charge's heat-capacity data reach (search bound of the energy balance).
+def _post_columns(case: Case, cols: dict[str, list[int]], col_start, aux_col: dict) -> list:
+    """Fillers ``f(X, Y)`` of the indicator columns that follow from finished output columns and inputs.
 
-    For each species of the charge, the phase reached on heating (after its transitions)
-    bounds the search by its Cp validity, unless that curve may be extrapolated.
+    * ``exceedance`` (per point): y > L (``limit_side = "above"``) or y < L (``"below"``), with
+      y the output (for an adiabatic rise: the final temperature T0 + ΔT_ad) and L the limit,
+      sampled when it is uncertain;
+    * ``mtsr_above_mtt``, ``mtsr_above_td24``, ``class_1`` … ``class_5``: MTSR = T_p + X_ac·ΔT_ad
+      against the (sampled) MTT and TD24 (:func:`~uqthermo.thermo.energy.criticality_class`).
     """
-    bound = max(3000.0, o.start_temperature + 2000.0)
-    for (sp, ph) in o.charge:
-        s = case.species[sp]
-        try:
-            top = s.final_phase(ph, o.start_temperature, 1e5)
-        except UqthermoError:
-            continue
-        cp = s.phases[top].cp
-        if cp is not None and not cp.allow_extrapolation and math.isfinite(cp.t_max):
-            bound = min(bound, float(cp.t_max))
-    return bound
+    from ..thermo.energy import criticality_class
+
+    fills = []
+
+    def level(did: str, nominal: float, factor: float = 1.0):
+        c = cols.get(did)
+        if c:
+            j = c[0]
+            return lambda X: X[:, j] * factor
+        return lambda X: np.full(X.shape[0], nominal)
+
+    for i, o in enumerate(case.outputs):
+        if o.limit is not None:
+            d = case.data.get(o.limit_datum)
+            lim = level(o.limit_datum, o.limit, d.to_report if d is not None else 1.0)
+            offset = o.start_temperature if o.kind == "adiabatic_temperature_rise" else 0.0
+            first = int(col_start[i])
+            targets = [(first + p, aux_col[(i, "exceedance", p)]) for p in range(int(col_start[i + 1]) - first)]
+
+            def fill(X, Y, lim=lim, offset=offset, targets=targets, above=o.limit_side == "above"):
+                L = lim(X) - offset
+                for j, a in targets:
+                    Y[:, a] = (Y[:, j] > L) if above else (Y[:, j] < L)
+            fills.append(fill)
+        if o.kind == "adiabatic_temperature_rise" and o.process_temperature is not None and (o.mtt or o.td24):
+            acc = 1.0 if o.accumulation is None else o.accumulation
+            mtt = level(o.mtt_datum, o.mtt) if o.mtt is not None else None
+            td24 = level(o.td24_datum, o.td24) if o.td24 is not None else None
+            j0 = int(col_start[i])
+
+            def fill(X, Y, i=i, o=o, acc=acc, mtt=mtt, td24=td24, j0=j0):
+                m = o.process_temperature + acc * Y[:, j0]
+                a = b = None
+                if mtt is not None:
+                    a = mtt(X)
+                    Y[:, aux_col[(i, "mtsr_above_mtt", 0)]] = m > a
+                if td24 is not None:
+                    b = td24(X)
+                    Y[:, aux_col[(i, "mtsr_above_td24", 0)]] = m > b
+                if a is not None and b is not None:
+                    cls = criticality_class(o.process_temperature, m, a, b)
+                    for k in range(1, 6):
+                        Y[:, aux_col[(i, f"class_{k}", 0)]] = cls == k
+            fills.append(fill)
+    return fills
 
 
 def _is_linear(case: Case, o: OutputSpec, moving_transitions: bool | None = None) -> bool:
@@ -689,8 +756,8 @@ def _is_linear(case: Case, o: OutputSpec, moving_transitions: bool | None = None
 
 
 def check_model(case: Case, model: Model) -> list[str]:
-    """Evaluate the model at the best estimates, output by output (and with each uncertain
-    temperature at its 1e-9 / 1 − 1e-9 quantiles, see :func:`_temperature_tails`).
+    """Evaluate the model at the best estimates, output by output, and at the probes a run will
+    reach (:mod:`uqthermo.case.probes`: 1e-9 tails, candidate what-if variants).
 
     Raises :class:`InputError` for outputs whose path leaves a correlation's validity
     range (when extrapolation is not allowed) or that the physics cannot evaluate;
@@ -711,13 +778,13 @@ def check_model(case: Case, model: Model) -> list[str]:
             cp.allow_extrapolation = a
     allowed_errors = _try_outputs(case, model, x0) if strict_errors else {}
     for i, o in enumerate(case.outputs):
-        err = allowed_errors.get(i) if strict_errors else None
-        strict = strict_errors.get(i)
+        err, key = allowed_errors.get(i, (None, None)) if strict_errors else (None, None)
+        strict = strict_errors.get(i, (None, None))[0]
         if err is not None:
             msg = err.message if isinstance(err, UqthermoError) else str(err)
             if isinstance(err, ValidityError) and err.key:
                 msg = f"{msg} (datum {err.key}; allow with extrapolate = true on that heat_capacity or settings.allow_extrapolation = true)"
-            problems.append(Problem(case.path, o.key, msg))
+            problems.append(Problem(case.path, key or o.key, msg))
         elif strict is not None:
             text = strict.message if isinstance(strict, UqthermoError) else str(strict)
             text = text.removesuffix(" (extrapolation not allowed)")
@@ -730,59 +797,37 @@ def check_model(case: Case, model: Model) -> list[str]:
     if bad:
         raise InputError([Problem(case.path, k, "the model gives a non-finite value at the best estimates; check the data")
                           for k in dict.fromkeys(bad)])
-    return warnings
+    from .plausibility import model_warnings
+
+    return warnings + model_warnings(case, model, y[0])
 
 
-#: uncertain temperatures are also tried at these probabilities (the loader's absolute-zero check uses 1e-9)
-TAIL_PROBABILITY = 1e-9
+def _try_outputs(case: Case, model: Model, x0: np.ndarray) -> dict[int, tuple[Exception, str | None]]:
+    """Evaluate each output alone at the best estimates, then at the probes a run will reach
+    (:func:`uqthermo.case.probes.probe_rows`: input tails, the output's combined tail, candidate
+    what-if variants); map output index → (the first error it raised, the key path that causes it)."""
+    from .probes import first_failure, probe_rows
 
-
-def _temperature_tails(case: Case, inputs: InputSet) -> list[tuple[str, float, np.ndarray]]:
-    """(datum, temperature, input row) with one uncertain temperature at its 1e-9 or 1 − 1e-9 quantile.
-
-    A Monte Carlo run draws temperatures far into the tails; a path that leaves a Cp
-    validity range there must be refused by ``check``, not fail in the middle of a run.
-    """
-    x0 = np.asarray(inputs.estimates, dtype=float)
-    rows = []
-    for j, v in enumerate(inputs.variables):
-        d = case.data.get(v.datum)
-        if d is None or "temperature" not in d.quantity or not v.distribution.std > 0:
-            continue
-        for p in (TAIL_PROBABILITY, 1.0 - TAIL_PROBABILITY):
-            t = float(np.asarray(v.distribution.ppf(np.array([p])), dtype=float).reshape(-1)[0])
-            if np.isfinite(t) and t > 0:
-                x = x0.copy()
-                x[j] = t
-                rows.append((v.datum, t, x))
-    return rows
-
-
-def _try_outputs(case: Case, model: Model, x0: np.ndarray) -> dict[int, Exception]:
-    """Evaluate each output alone at the best estimates, then with each uncertain temperature at
-    its tails (:func:`_temperature_tails`); map output index → the first error it raised."""
-    errors: dict[int, Exception] = {}
+    errors: dict[int, tuple[Exception, str | None]] = {}
     for i, o in enumerate(case.outputs):
         sub = Case(**{**case.__dict__, "outputs": [o]})
         try:
             m = build_model(sub)
             m.evaluate(np.asarray(m.inputs.estimates, dtype=float)[None, :])
         except UqthermoError as e:
-            errors[i] = e
+            errors[i] = (e, None)
             continue
         except (ValueError, FloatingPointError, ZeroDivisionError) as e:
-            errors[i] = e
+            errors[i] = (e, None)
             continue
-        for did, t, x in _temperature_tails(sub, m.inputs):
-            try:
-                m.evaluate(x[None, :])
-            except UqthermoError as e:
-                errors[i] = _annotated(e, f"reached when {did} = {t:.6g} K (its {TAIL_PROBABILITY:g} tail quantile, "
-                                          f"which a Monte Carlo run can draw); give a smaller or bounded uncertainty")
-                break
-            except (ValueError, FloatingPointError, ZeroDivisionError) as e:
-                errors[i] = e
-                break
+        full = not (m.linear_in_inputs[0] and not o.temperature_datum)
+        hit = first_failure(m, probe_rows(sub, m, o, full=full),
+                            (UqthermoError, ValueError, FloatingPointError, ZeroDivisionError))
+        if hit is not None:
+            probe, e = hit
+            if isinstance(e, UqthermoError):
+                e = _annotated(e, f"{probe.note} (in {o.key})" if probe.key != o.key else probe.note)
+            errors[i] = (e, probe.key)
     return errors
 
 

@@ -31,9 +31,10 @@ from .schema import (
     OutputSpec,
     Settings,
 )
+from .limits import MAX_NAME_LENGTH, MAX_REACTIONS, MAX_SEED, SEED_RANGE_TEXT, short_key, toml_nesting_problem
 from .units import UnitProblem, parse_quantity
 
-__all__ = ["load_case", "Collector", "MAX_SAMPLES_LIMIT"]
+__all__ = ["load_case", "Collector", "MAX_SAMPLES_LIMIT", "adaptive_cap_problem"]
 
 #: Hard cap on a fixed sample count: beyond this a run would take hours on one machine
 #: (the distributed engine raises it explicitly).
@@ -81,7 +82,9 @@ class Collector:
 
     def raise_if_any(self) -> None:
         if self.problems:
-            raise InputError(self.problems)
+            err = InputError(self.problems)
+            err.warnings = list(self.warnings)   # shown by `check` beside the problems
+            raise err
 
 
 # ----------------------------------------------------------------------------- helpers
@@ -94,10 +97,27 @@ def _is_table(x: Any) -> bool:
     return isinstance(x, dict)
 
 
-def _quantity(c: Collector, value: Any, key: str, dimension: str, *, difference: bool = False) -> float | None:
+#: the mass dimension an amount (rate) may be written in, converted with a molar mass
+MASS_OF = {"amount": "mass", "amount_rate": "mass_rate"}
+
+
+def _quantity(c: Collector, value: Any, key: str, dimension: str, *, difference: bool = False,
+              molar_mass: float | str | None = None) -> float | None:
+    """Parse ``value`` as ``dimension``; an amount (rate) may also be a mass (rate) when ``molar_mass``
+    (kg/mol) is given — a string there is the hint shown when a mass cannot be converted."""
     try:
         return parse_quantity(value, dimension, difference=difference)
     except UnitProblem as e:
+        if dimension in MASS_OF and molar_mass is not None:
+            try:
+                m = parse_quantity(value, MASS_OF[dimension], difference=difference)
+            except UnitProblem:
+                pass
+            else:
+                if isinstance(molar_mass, str):
+                    c.add(key, f"{value!r} is a mass; {molar_mass}")
+                    return None
+                return m / molar_mass
         c.add(key, str(e))
         return None
 
@@ -135,17 +155,23 @@ _REPORT = {
     "amount": ("mol", 1.0),
     "amount_rate": ("mol/s", 1.0),
     "dimensionless": ("1", 1.0),
+    "power": ("kW", 1e-3),
+    "energy": ("kJ", 1e-3),
+    "specific_energy": ("kJ/kg", 1e-3),
+    "pressure": ("kPa", 1e-3),
 }
 
 
 def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positive: bool = False,
-                   temperature: bool = False) -> tuple[float, Any, str, str] | None:
+                   temperature: bool = False, molar_mass: float | str | None = None) -> tuple[float, Any, str, str] | None:
     """Read an uncertain quantity: a plain string (exact) or a table (contract §2).
 
     Returns ``(estimate, distribution, stated, source)`` in engine units, or ``None``
-    after recording the problem.
+    after recording the problem. ``molar_mass`` (kg/mol): an amount (rate) may be written
+    as a mass (rate), e.g. ``"252 kg"`` or ``"900 kg/h"`` (see :func:`_quantity`).
     """
-    reader = (lambda v, k: _temperature(c, v, k)) if temperature else (lambda v, k: _quantity(c, v, k, dimension))
+    reader = (lambda v, k: _temperature(c, v, k)) if temperature else (
+        lambda v, k: _quantity(c, v, k, dimension, molar_mass=molar_mass))
     if not _is_table(node):
         v = reader(node, key)
         if v is None:
@@ -186,7 +212,7 @@ def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positiv
 
     def _diff(val: Any, k: str) -> float | None:
         # uncertainties are differences: "5 degC" means 5 K
-        x = _quantity(c, val, k, dimension, difference=True)
+        x = _quantity(c, val, k, dimension, difference=True, molar_mass=molar_mass)
         if x is None:
             return None
         if not (x > 0):
@@ -213,6 +239,10 @@ def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positiv
         if U is not None:
             std = U / float(kf)
         stated = f"U = {node['U']} (k = {kf})"
+        if kf > 13 or kf < 1:   # t_0.975 with one degree of freedom is 12.7; k < 1 makes U smaller than u
+            c.warn(f"{key}.k", f"coverage factor k = {kf:g} is outside anything in use (about 1 to 3; up to 12.7 for a "
+                               "95 % t-interval with one degree of freedom); was a confidence level (e.g. 95) or a "
+                               f"count written as k? It is used as stated: u = U/k")
     elif kind == "half_width":
         half = _diff(node["half_width"], f"{key}.half_width")
         stated = f"half-width {node['half_width']}"
@@ -226,6 +256,10 @@ def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positiv
                 c.add(f"{key}.relative_u", "a relative uncertainty of a zero value is zero; give u instead")
                 return None
             std = abs(v) * r
+            if temperature and isinstance(node["value"], str) and re.search(r"deg\s*[CF]|°|℃", node["value"]):
+                c.warn(f"{key}.relative_u", f"a relative uncertainty of a temperature is taken of the absolute value: "
+                                            f"{node['relative_u']} of {_fmt(v)} K = {_fmt(std)} K, not of the "
+                                            f"{node['value']!r} number; give u in K if that was meant")
         stated = f"relative u = {node['relative_u']}"
     if std is None and half is None:
         return None
@@ -266,6 +300,10 @@ def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positiv
     except UqthermoError as e:
         c.add(key, e.message)
         return None
+    sd = float(getattr(d, "std", 0.0))
+    if v != 0 and sd > abs(v):
+        c.warn(key, f"the standard uncertainty is {100 * sd / abs(v):.0f} % of the value; a relative uncertainty written "
+                    "as u (use relative_u = \"… %\"), or a unit slip in u? It is used as stated")
     if temperature and getattr(d, "std", 0.0) > 0:
         lo = float(np.asarray(d.ppf(np.array([1e-9])), dtype=float).reshape(-1)[0])
         if not lo > 0:
@@ -276,6 +314,9 @@ def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positiv
 
 
 def _check_name(c: Collector, name: str, key: str) -> bool:
+    if isinstance(name, str) and len(name) > MAX_NAME_LENGTH:
+        c.add(key.replace(name, short_key(name)), f"name is {len(name)} characters long; at most {MAX_NAME_LENGTH}")
+        return False
     if not isinstance(name, str) or not _NAME_RE.match(name):
         c.add(key, f"name {name!r} must start with a letter and use only letters, digits, '_', '+' or '-'")
         return False
@@ -326,6 +367,9 @@ def load_case(path: str | Path, *, library: bool = True) -> Case:
         text = raw_bytes.decode("utf-8")
     except UnicodeDecodeError as e:
         raise InputError([Problem(fname, "", f"not UTF-8 text (byte {e.start}); save the case file as UTF-8")]) from None
+    deep = toml_nesting_problem(text)
+    if deep is not None:
+        raise InputError([Problem(fname, *deep)])
     try:
         raw = tomllib.loads(text)
     except tomllib.TOMLDecodeError as e:
@@ -415,12 +459,18 @@ def parse_case(raw: dict, fname: str, sha: str = "", *, library: bool = True) ->
     if "reaction_set" in raw and _is_table(reaction_node):
         reaction_node = dict(reaction_node)
         reaction_node.update(_reaction_set(c, raw["reaction_set"], Path(fname).parent, set(reaction_node)))
+    if _is_table(reaction_node) and len(reaction_node) > MAX_REACTIONS:
+        c.add("reaction", f"{len(reaction_node)} reactions; a case holds at most {MAX_REACTIONS}")
+        reaction_node = {}
     reactions = read_reactions(c, reaction_node, species, data)
     from .outputs_reader import read_outputs
 
     outputs = read_outputs(c, raw.get("output"), species, reactions, data, settings)
     correlations = _correlations(c, raw.get("correlation", []), data)
     candidates = _candidates(c, raw.get("candidate", []), data)
+    from .plausibility import check_case
+
+    check_case(c, raw, species, data, settings, library)
     if abs(settings.reference_temperature - 298.15) > 1e-6:
         for d in data.values():
             if d.library:
@@ -519,8 +569,8 @@ def _settings(c: Collector, node: Any) -> Settings:
     _choice(c, node, s, "sampling", SAMPLING_METHODS)
     if "seed" in node:
         seed = node["seed"]
-        if isinstance(seed, bool) or not isinstance(seed, int) or seed < 0 or seed >= 2**63:
-            c.add("settings.seed", f"must be a non-negative whole number, got {seed!r}")
+        if isinstance(seed, bool) or not isinstance(seed, int) or not 0 <= seed <= MAX_SEED:
+            c.add("settings.seed", f"must be {SEED_RANGE_TEXT}, got {short_key(repr(seed), 60)}")
         else:
             s.seed = seed
     _choice(c, node, s, "method", METHODS)
@@ -553,6 +603,9 @@ def _settings(c: Collector, node: Any) -> Settings:
             c.add("settings.plan_budget", "must be a non-negative number")
         else:
             s.plan_budget = float(b)
+    cap = adaptive_cap_problem(s)
+    if cap is not None and "max_samples" in node:
+        c.add("settings.max_samples", cap)
     if "design_probabilities" in node:
         v = node["design_probabilities"]
         if not isinstance(v, list) or not v or not all(isinstance(x, (int, float)) and not isinstance(x, bool)
@@ -561,6 +614,25 @@ def _settings(c: Collector, node: Any) -> Settings:
         else:
             s.design_probabilities = [float(x) for x in v]
     return s
+
+
+def adaptive_cap_problem(s: Settings) -> str | None:
+    """Why ``max_samples`` cannot work with adaptive Monte Carlo (None if it can).
+
+    The JCGM 101 §7.9 procedure runs in whole batches (:func:`uqthermo.uq.montecarlo.adaptive_batch_size`)
+    and needs at least two to test stability; a cap below two batches could only be honoured
+    by stopping before the first test (or passed by finishing the batch), so it is refused.
+    """
+    if s.samples != "adaptive":
+        return None
+    from ..uq.montecarlo import adaptive_batch_size
+
+    batch = adaptive_batch_size(s.coverage_probability, s.sampling)
+    if s.max_samples >= 2 * batch:
+        return None
+    return (f"{s.max_samples} trials are fewer than two adaptive batches: with {s.sampling} sampling and coverage "
+            f"probability {s.coverage_probability:g} a batch has {batch} trials (JCGM 101 §7.9) and at least two are "
+            f"needed; give max_samples of at least {2 * batch}")
 
 
 def _correlations(c: Collector, node: Any, data: dict[str, Datum]) -> list[tuple[str, str, float]]:
@@ -654,7 +726,8 @@ def _candidates(c: Collector, node: Any, data: dict[str, Datum]) -> list[Candida
                                   "(e.g. 0.5 halves its uncertainty)")
                 continue
             dim = {"kJ/mol": "molar_energy", "J/(mol*K)": "molar_entropy", "K": "temperature", "mol": "amount",
-                   "mol/s": "amount_rate", "1": "dimensionless"}[datum.unit]
+                   "mol/s": "amount_rate", "1": "dimensionless", "kW": "power", "kJ": "energy",
+                   "kJ/kg": "specific_energy", "kPa": "pressure"}[datum.unit]
             val = _quantity(c, item["u"], f"{key}.u", dim, difference=True)
             if val is None:
                 continue

@@ -20,21 +20,23 @@ from .loader import (
     read_uncertain,
     register,
 )
+from . import design_reader as design
 from .reactions_reader import resolve_phase
 from .schema import Datum, OutputSpec, Settings
 
 _REF = re.compile(r"^\s*([A-Za-z][A-Za-z0-9_+\-]*)\s*\(\s*([a-z]+)\s*\)\s*$")
 MAX_CURVE_POINTS = 2000
 
-COMMON = {"name", "kind", "description", "design_value"}
+COMMON = {"name", "kind", "description", "design_value", "limit", "limit_side"}
 KEYS = {
-    "reaction_enthalpy": COMMON | {"reaction", "temperature", "temperatures"},
-    "reaction_gibbs_energy": COMMON | {"reaction", "temperature", "temperatures"},
+    "reaction_enthalpy": COMMON | {"reaction", "temperature", "temperatures", "basis", "mass_of"},
+    "reaction_gibbs_energy": COMMON | {"reaction", "temperature", "temperatures", "basis", "mass_of"},
     "equilibrium_constant": COMMON | {"reaction", "temperature", "temperatures"},
-    "heating_enthalpy": COMMON | {"species", "mixture", "from", "to"},
-    "heat_release": COMMON | {"temperature", "extent_rate"},
-    "adiabatic_temperature_rise": COMMON | {"reaction", "start_temperature", "extent", "charge", "limit",
-                                            "process_temperature", "accumulation", "mtt", "td24", "max_temperature"},
+    "heating_enthalpy": COMMON | {"species", "mixture", "from", "to", "basis"},
+    "heat_release": COMMON | {"temperature", "extent_rate", "cooling_capacity", "feed"},
+    "adiabatic_temperature_rise": COMMON | {"reaction", "start_temperature", "extent", "extent_species", "charge",
+                                            "process_temperature", "accumulation", "mtt", "td24", "max_temperature",
+                                            "basis", "constant_volume", "initial_pressure"},
 }
 
 
@@ -145,8 +147,13 @@ def _amounts(c: Collector, node: Any, key: str, species: dict, data: dict, prefi
     for ref, amount in node.items():
         k = f"{key}.{ref}"
         sp = _species_ref(c, ref, k, species)
-        parsed = read_uncertain(c, amount, k, "amount")
-        if sp is None or parsed is None:
+        if sp is None:
+            ok = False
+            continue
+        m = design.molar_mass(None, species[sp[0]], k)
+        parsed = read_uncertain(c, amount, k, "amount", molar_mass=m if m is not None else
+                                "the species' formula has no standard atomic weights, so give the amount in mol")
+        if parsed is None:
             ok = False
             continue
         if parsed[0] < 0:
@@ -203,8 +210,17 @@ def read_outputs(c: Collector, node: Any, species: dict, reactions: dict, data: 
     if not isinstance(node, list) or not node:
         c.add("output", "must be an array of tables ([[output]])")
         return outs
+    from .limits import MAX_OUTPUTS, MAX_POINTS
+
+    if len(node) > MAX_OUTPUTS:
+        c.add("output", f"{len(node)} outputs; a case holds at most {MAX_OUTPUTS}")
+        return outs
     names: set[str] = set()
     for i, o in _expand_reaction_lists(c, node, reactions):
+        if len(names) >= MAX_OUTPUTS:
+            c.add("output", f"more than {MAX_OUTPUTS} outputs (after expanding reactions = [\"*\"]); a case holds at "
+                            f"most {MAX_OUTPUTS}")
+            return outs
         key = f"output[{i}]"
         if not _is_table(o):
             c.add(key, "must be a table with name and kind")
@@ -236,8 +252,16 @@ def read_outputs(c: Collector, node: Any, species: dict, reactions: dict, data: 
             else:
                 out.design_value = float(dv)
         ok = _read_kind(c, o, key, out, species, reactions, data)
+        ok = ok and design.read_basis(c, o, key, out, species, reactions)
+        ok = ok and design.read_limit(c, o, key, out, data)
+        if ok and kind == "adiabatic_temperature_rise":
+            ok = design.read_volume(c, o, key, out, data) and _adiabatic_limit_side(c, key, out)
         if ok:
             outs.append(out)
+    points = sum(len(o.temperatures) if o.temperatures is not None else 1 for o in outs)
+    if points > MAX_POINTS:
+        c.add("output", f"{points} output points (temperatures of all outputs together); a case holds at most "
+                        f"{MAX_POINTS} — use larger temperature steps or fewer outputs")
     return outs
 
 
@@ -296,16 +320,8 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
             did = f"output.{out.name}.extent_rate.{rname}"
             if _is_table(rate) and "feed" in rate:
                 c.unknown_keys(rate, {"feed", "conversion", "key", "source"}, rk)
-                feed = read_uncertain(c, rate["feed"], f"{rk}.feed", "amount_rate", positive=True)
-                conv = read_uncertain(c, rate.get("conversion", 1.0), f"{rk}.conversion", "dimensionless")
-                if feed is None or conv is None:
-                    ok = False
-                    continue
-                if not (0 <= conv[0] <= 1):
-                    c.add(f"{rk}.conversion", f"conversion must lie in [0, 1], got {conv[0]:g}")
-                    ok = False
-                    continue
                 divisor = 1.0
+                mm: float | str = design.mass_hint(f"name the species fed: key = \"X\" (a species of {rname})")
                 if "key" in rate:
                     kref = rate["key"]
                     nus = {p.species: p.nu for p in reactions[rname].participants}
@@ -314,25 +330,49 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
                         ok = False
                         continue
                     divisor = abs(nus[kref])
+                    mm = design.molar_mass(None, species[kref], rk) or "give the feed in mol/s or kmol/h"
+                feed = read_uncertain(c, rate["feed"], f"{rk}.feed", "amount_rate", positive=True, molar_mass=mm)
+                conv = read_uncertain(c, rate.get("conversion", 1.0), f"{rk}.conversion", "dimensionless")
+                if feed is None or conv is None:
+                    ok = False
+                    continue
+                if not (0 <= conv[0] <= 1):
+                    c.add(f"{rk}.conversion", f"conversion must lie in [0, 1], got {conv[0]:g}")
+                    ok = False
+                    continue
                 register(c, data, make_datum(f"{did}.feed", "feed rate", "amount_rate", feed), f"{rk}.feed")
                 register(c, data, make_datum(f"{did}.conversion", "conversion", "dimensionless", conv), f"{rk}.conversion")
                 out.extent_rates[rname] = [f"{did}.feed", f"{did}.conversion"]
                 out.extent_divisor[rname] = divisor
             else:
-                parsed = read_uncertain(c, rate, rk, "amount_rate")
+                parsed = read_uncertain(c, rate, rk, "amount_rate", molar_mass=design.mass_hint(
+                    f"write {{ feed = \"…kg/h\", key = \"X\" }} with the species X whose mass flow it is"))
                 if parsed is None:
                     ok = False
                     continue
                 register(c, data, make_datum(did, "extent rate", "amount_rate", parsed), rk)
                 out.extent_rates[rname] = [did]
                 out.extent_divisor[rname] = 1.0
+        if "feed" in o:
+            ok = design.read_feeds(c, o["feed"], key, out, species, data, _species_ref) and ok
+            ok = ok and t and design.check_feed_phases(c, out, species, reactions)
         return ok
     # adiabatic_temperature_rise
     r = _reaction(c, o, key, reactions)
     t0 = _temperature(c, o.get("start_temperature"), f"{key}.start_temperature") if "start_temperature" in o else None
     if "start_temperature" not in o:
         c.add(f"{key}.start_temperature", "give the temperature at which the reaction starts (e.g. \"60 degC\")")
-    ext = read_uncertain(c, o["extent"], f"{key}.extent", "amount", positive=True) if "extent" in o else None
+    mm: float | str = design.mass_hint("name the species whose mass it is: extent_species = \"X\" (a species of the reaction)")
+    if "extent_species" in o and r is not None:
+        es = o["extent_species"]
+        name = es.split("(")[0].strip() if isinstance(es, str) else None
+        nus = [p.nu for p in reactions[r].participants if p.species == name]
+        m = design.molar_mass(c, species[name], f"{key}.extent_species") if nus else None
+        if not nus:
+            c.add(f"{key}.extent_species", f"{es!r} does not take part in reaction {r}")
+        elif m is not None and sum(nus) != 0:
+            mm = abs(sum(nus)) * m          # mass of the species converted per mol of extent
+    ext = read_uncertain(c, o["extent"], f"{key}.extent", "amount", positive=True, molar_mass=mm) if "extent" in o else None
     if "extent" not in o:
         c.add(f"{key}.extent", "give the extent of reaction in mol (may be uncertain)")
     charge = _amounts(c, o["charge"], f"{key}.charge", species, data, f"output.{out.name}.charge") if "charge" in o else None
@@ -346,18 +386,16 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
     did = f"output.{out.name}.extent"
     register(c, data, make_datum(did, "extent of reaction", "amount", ext), f"{key}.extent")
     out.extent_datum = did
-    for k in ("limit", "process_temperature", "mtt", "td24", "max_temperature"):
+    for k in ("process_temperature", "max_temperature"):
         if k in o:
             v = _temperature(c, o[k], f"{key}.{k}")
             if v is None:
                 return False
-            setattr(out, k if k != "limit" else "limit", v)
+            setattr(out, k, v)
+    if not design.read_levels(c, o, key, out, data):
+        return False
     if out.max_temperature and out.max_temperature <= t0:
         c.add(f"{key}.max_temperature", "must exceed the start temperature")
-        return False
-    if out.limit is not None and out.limit <= t0:   # e.g. "90 K" written for "90 degC"
-        c.add(f"{key}.limit", f"the limit ({out.limit:g} K) is not above the start temperature ({t0:g} K), so it is "
-                              "exceeded with certainty; check its unit (degC?)")
         return False
     if "accumulation" in o:
         a = o["accumulation"]
@@ -365,4 +403,20 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
             c.add(f"{key}.accumulation", "must be a fraction in [0, 1] (1 = batch, all reactant accumulated)")
             return False
         out.accumulation = float(a)
+    return True
+
+
+def _adiabatic_limit_side(c: Collector, key: str, out: OutputSpec) -> bool:
+    """A limit the start temperature already violates is a unit slip (e.g. "90 K" written for "90 degC")."""
+    if out.limit is None:
+        return True
+    t0 = out.start_temperature
+    if out.limit_side == "above" and out.limit <= t0:
+        c.add(f"{key}.limit", f"the limit ({out.limit:g} K) is not above the start temperature ({t0:g} K), so it is "
+                              "exceeded with certainty; check its unit (degC?) or set limit_side = \"below\"")
+        return False
+    if out.limit_side == "below" and out.limit >= t0:
+        c.add(f"{key}.limit", f"the lower limit ({out.limit:g} K) is not below the start temperature ({t0:g} K); "
+                              "check its unit (degC?)")
+        return False
     return True

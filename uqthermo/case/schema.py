@@ -127,6 +127,33 @@ class OutputSpec:
     max_temperature: float = 0.0
     description: str = ""
     design_value: float | None = None
+    # limits (every kind; docs/case-format.md "Limits"): nominal in the output's report unit
+    # (for adiabatic_temperature_rise a temperature in K the final temperature is compared with)
+    limit_datum: str = ""                        # datum id (output.NAME.limit), exact or uncertain
+    limit_side: str = "above"                    # "above": P(y > limit); "below": P(y < limit)
+    limit_label: str = "limit"                   # "limit" or "cooling capacity"
+    mtt_datum: str = ""                          # datum ids of MTT and TD24 (adiabatic), exact or uncertain
+    td24_datum: str = ""
+    as_written: dict[str, str] = field(default_factory=dict)   # the user's text of limits and levels
+    # mass basis (docs/case-format.md "Mass basis")
+    basis: str = "molar"                          # "molar" | "mass"
+    mass_of: str = ""                             # species whose mass is the basis of a reaction output
+    mass_per_unit: float = 1.0                    # kg per (mol of the output's basis): y_mass = y / mass_per_unit
+    # adiabatic at constant volume (ideal gas) and the closed vessel's pressure
+    constant_volume: bool = False
+    initial_pressure_datum: str = ""
+    # heat_release of a continuous reactor: feed streams entering at their own temperatures
+    feeds: list = field(default_factory=list)    # [FeedStream]
+
+
+@dataclass
+class FeedStream:
+    """One feed stream of an open-system balance: flows in at ``temperature`` (K)."""
+
+    key: str                                     # key path, e.g. output.duty.feed[0]
+    temperature: float                           # nominal, K
+    temperature_datum: str = ""                  # datum id when uncertain
+    flows: dict[tuple[str, str], str] = field(default_factory=dict)   # (species, phase) -> datum id (mol/s)
 
 
 @dataclass
@@ -157,4 +184,4 @@ class Case:
 
     @property
     def safety_relevant(self) -> bool:
-        return any(o.kind in SAFETY_KINDS or o.limit is not None for o in self.outputs)
+        return any(o.kind in SAFETY_KINDS or o.limit is not None or o.limit_datum for o in self.outputs)

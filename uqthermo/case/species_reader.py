@@ -64,6 +64,11 @@ def read_species(c: Collector, node: Any, data: dict[str, Datum], settings: Sett
     if not node:
         c.add("species", "no species defined; add at least one [species.NAME] table")
         return out
+    from .limits import MAX_SPECIES
+
+    if len(node) > MAX_SPECIES:
+        c.add("species", f"{len(node)} species; a case holds at most {MAX_SPECIES} (keep the species the outputs need)")
+        return out
     for name, sp in node.items():
         key = f"species.{name}"
         if not _check_name(c, name, key):

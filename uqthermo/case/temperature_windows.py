@@ -66,7 +66,8 @@ def _temps(o: dict) -> list[float]:
 def _participants(raw: dict, reaction: Any) -> list[tuple[str, str | None]]:
     from ..thermo.reaction import parse_equation
 
-    node = (raw.get("reaction") or {}).get(reaction) if isinstance(reaction, str) else None
+    reactions = raw.get("reaction")
+    node = reactions.get(reaction) if isinstance(reaction, str) and isinstance(reactions, dict) else None
     eq = node.get("equation") if isinstance(node, dict) else None
     try:
         return [(p.species, p.phase) for p in parse_equation(eq)]
@@ -117,6 +118,17 @@ def species_demands(raw: dict, t_ref: float = 298.15) -> list[Demand]:
                 r = _ref(ref)
                 if r:
                     out.append(Demand(r[0], r[1], min(temps), max(temps), True))
+        if kind == "heat_release" and isinstance(o.get("feed"), list):
+            # open-system balance: each fed species is heated from its stream temperature to the reactor's
+            t_out = _T(o.get("temperature"))
+            for f in o["feed"]:
+                t_in = _T(f.get("temperature")) if isinstance(f, dict) else None
+                if t_in is None or t_out is None or not isinstance(f.get("flows"), dict):
+                    continue
+                for ref in f["flows"]:
+                    r = _ref(ref)
+                    if r:
+                        out.append(Demand(r[0], r[1], min(t_in, t_out), max(t_in, t_out), True))
     return out
 
 

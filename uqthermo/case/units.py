@@ -52,6 +52,10 @@ DIMENSIONS: dict[str, Dimension] = {
     "dimensionless": Dimension("dimensionless number", "", "a plain number or %"),
     "energy": Dimension("energy", "J", "kJ"),
     "power": Dimension("power", "W", "kW"),
+    "mass": Dimension("mass", "kg", "kg, g, t or lb"),
+    "mass_rate": Dimension("mass rate", "kg/s", "kg/h"),
+    "specific_energy": Dimension("specific energy", "J/kg", "kJ/kg"),
+    "pressure": Dimension("pressure", "Pa", "bar or kPa"),
 }
 
 # ASCII digits only: str.isdigit-style Unicode digits ("７００", "٣") are rejected with a clear message
@@ -155,4 +159,8 @@ def format_unit(dimension: str) -> str:
         "dimensionless": "1",
         "energy": "kJ",
         "power": "kW",
+        "mass": "kg",
+        "mass_rate": "kg/s",
+        "specific_energy": "kJ/kg",
+        "pressure": "kPa",
     }[dimension]

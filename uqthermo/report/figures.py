@@ -32,8 +32,8 @@ import numpy as np
 from . import style
 from .style import ROLE, mpl_text
 from .tables import (
-    coverage_probability, fmt_fixed, fmt_probability, fmt_temperature, headline_index,
-    limit_on_output, num, outputs, pair, pct_label, points, slugs, text, uncertainty_decimals,
+    coverage_probability, fmt_fixed, fmt_temperature, headline_index,
+    limit_on_output, limit_text, num, outputs, pair, pct_label, points, probability_cell, slugs, text, uncertainty_decimals,
 )
 
 import matplotlib.pyplot as plt  # noqa: E402  (style sets the Agg backend first)
@@ -136,9 +136,13 @@ def _draw_distribution(results: Mapping, output: Mapping, point: Mapping) -> Fig
         if inside:
             ax.stairs(dens, np.clip(edges, lo, hi), fill=True, color=ROLE["mc_band"], label=n_lab)
         lim = limit_on_output(output, point)
-        if lim is not None and lim < edges[-1]:
+        below = isinstance(output.get("limit"), Mapping) and output["limit"].get("side") == "below"
+        if lim is not None and not below and lim < edges[-1]:
             ax.stairs(dens, np.clip(edges, lim, edges[-1]), fill=True, color=ROLE["limit"], alpha=0.45, hatch="////",
-                      label="exceeds the limit")
+                      label="beyond the limit")
+        elif lim is not None and below and lim > edges[0]:
+            ax.stairs(dens, np.clip(edges, edges[0], lim), fill=True, color=ROLE["limit"], alpha=0.45, hatch="////",
+                      label="beyond the limit")
         ax.stairs(dens, edges, color=ROLE["mc"], linewidth=0.9)
         ymax = dens.max()
     else:
@@ -175,12 +179,11 @@ def _draw_distribution(results: Mapping, output: Mapping, point: Mapping) -> Fig
     if lim is not None:
         ax.axvline(lim, color=ROLE["limit"], linewidth=1.8, linestyle="-.")
         pe = point.get("exceedance_probability")
-        lab = f"limit {fmt_temperature(output.get('limit_K'))} K"
-        if output.get("kind") == "adiabatic_temperature_rise" and output.get("limit_applies_to", "final_temperature") != "rise":
-            lab += " (final T)"
-        if pe is not None:
-            lab += f": P(exceed) = {fmt_probability(pe, point.get('exceedance_standard_error'))}"
+        lab = f"limit: {limit_text(output)}" if limit_text(output) else "limit"
         ax.plot([], [], color=ROLE["limit"], linewidth=1.8, linestyle="-.", label=mpl_text(lab))
+        if pe is not None:   # on its own legend line: the bound and the trials make it long
+            ptxt = probability_cell(point, "exceedance_probability")
+            ax.plot([], [], color="none", label=mpl_text(f"P {'' if ptxt.startswith('<') else '= '}{ptxt}"))
         if lo_x is not None:
             span = hi_x - lo_x
             lo_x, hi_x = min(lo_x, lim - 0.03 * span), max(hi_x, lim + 0.03 * span)

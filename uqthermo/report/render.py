@@ -213,8 +213,8 @@ def job_sentence(results: Mapping) -> str:
             if o.get("kind") in ("adiabatic_temperature_rise", "heating_enthalpy"):
                 sp = sp.replace("at ", "from ", 1) if o.get("kind") == "adiabatic_temperature_rise" else sp
             s += " " + sp
-        if num(o.get("limit_K")) is not None:
-            s += f", with the probability of exceeding {fmt_temperature(o.get('limit_K'))} K"
+        if tb.limit_text(o):
+            s += f", with P({tb.limit_text(o)})"
         parts.append(s)
     if not parts:
         what = "no outputs"
@@ -314,13 +314,13 @@ def _headline(results: Mapping, o: Mapping, p: Mapping) -> dict:
             "badge": ("ok", "validated") if v is True else (("no", "not validated") if v is False else ("na", "not checked")),
         })
     if p.get("exceedance_probability") is not None:
-        lim = o.get("limit_K")
-        on = " (final temperature)" if o.get("kind") == "adiabatic_temperature_rise" and o.get("limit_applies_to", "final_temperature") != "rise" else ""
+        se = num(p.get("exceedance_standard_error"))
         items.append({
-            "label": f"Probability of exceeding {fmt_temperature(lim)} K{on}",
-            "value": fmt_probability(p.get("exceedance_probability"), p.get("exceedance_standard_error")),
-            "detail": (f"standard error {fmt_probability(p.get('exceedance_standard_error'), p.get('exceedance_standard_error'))}"
-                       if num(p.get("exceedance_standard_error")) is not None else "Monte Carlo estimate"),
+            "label": f"P({tb.limit_text(o) or 'beyond the limit'})",
+            "value": tb.probability_cell(p, "exceedance_probability"),
+            "detail": (f"standard error {fmt_probability(se, se)}; the bound is one-sided" if se else
+                       "no trial beyond the limit: the value shown is the one-sided upper bound"
+                       if num(p.get("exceedance_upper_bound")) is not None else text(p.get("exceedance_basis"))),
             "badge": ("no", "limit") if (num(p.get("exceedance_probability")) or 0) > 0 else ("ok", "limit"),
         })
     return {"T": fmt_temperature(p.get("temperature_K")), "items": items}
@@ -339,9 +339,15 @@ def _summary_card(results: Mapping, o: Mapping, p: Mapping) -> dict:
         dl = uncertainty_decimals(lin.get("standard_uncertainty"))
         details.append(f"linear: U = {fmt_fixed(lin.get('expanded_uncertainty'), dl)}{unit} (k = {fmt_k(lin.get('coverage_factor'))})")
     if p.get("exceedance_probability") is not None:
-        what = "final T" if o.get("kind") == "adiabatic_temperature_rise" and o.get("limit_applies_to", "final_temperature") != "rise" else "output"
-        details.append(f"P({what} > {fmt_temperature(o.get('limit_K'))} K) = "
-                       f"{fmt_probability(p.get('exceedance_probability'), p.get('exceedance_standard_error'))}")
+        details.append(f"P({tb.limit_text(o) or 'beyond the limit'}) = {tb.probability_cell(p, 'exceedance_probability')}")
+    if num(p.get("mtsr_K")) is not None:
+        details.append(f"MTSR (no evaporative cooling) {fmt_fixed(p.get('mtsr_K'), d)} K"
+                       + (f"; P(MTSR > MTT) = {tb.probability_cell(p, 'p_mtsr_above_mtt')}" if p.get("p_mtsr_above_mtt") is not None else ""))
+    bl = p.get("boiling_limited")
+    if isinstance(bl, Mapping) and isinstance(bl.get("final_temperature_K"), Mapping):
+        ft = bl["final_temperature_K"]
+        v = ft.get("mean") if num(ft.get("mean")) is not None else ft.get("estimate")
+        details.append(f"boiling-limited end temperature {fmt_fixed(v, d)} K")
     v = p.get("linear_validated")
     badge = ("ok", "linear validated") if v is True else (("no", "linear not validated") if v is False else None)
     return {"T": fmt_temperature(p.get("temperature_K")), "value": f"{fmt_fixed(tb.point_estimate(p), d)}{unit}",
@@ -408,15 +414,22 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
             if not isinstance(pc, Mapping) or num(pc.get("temperature_K")) is None:
                 continue
             entry["phase_changes"].append(f"{text(pc.get('species'))} {text(pc.get('transition')).replace('-', ' → ')} at {fmt_temperature(pc.get('temperature_K'))} K")
+        lim_block = o.get("limit") if isinstance(o.get("limit"), Mapping) else {}
+        below = lim_block.get("side") == "below"
         if num(o.get("limit_K")) is not None:
             if o.get("kind") == "adiabatic_temperature_rise" and o.get("limit_applies_to", "final_temperature") != "rise":
                 start = num(o.get("start_temperature_K"))
                 if start is None and pts:
                     start = num(pts[0].get("temperature_K"))
-                entry["limit"] = (f"Limit: the final temperature (start {fmt_temperature(start)} K + rise) must stay below "
-                                  f"{fmt_temperature(o.get('limit_K'))} K, i.e. a rise of at most {fmt_temperature((num(o.get('limit_K')) or 0) - (start or 0))} K.")
+                entry["limit"] = (f"Limit: the final temperature (start {fmt_temperature(start)} K + rise) must stay "
+                                  f"{'above' if below else 'below'} {fmt_temperature(o.get('limit_K'))} K"
+                                  + (f" ({text(lim_block.get('as_written')).replace('degC', '°C').replace('degF', '°F')} as written)"
+                                     if lim_block.get("as_written") else "")
+                                  + (f", i.e. a rise of at most {fmt_temperature((num(o.get('limit_K')) or 0) - (start or 0))} K." if not below else "."))
             else:
                 entry["limit"] = f"Limit: {fmt_temperature(o.get('limit_K'))} K."
+        elif tb.limit_text(o):
+            entry["limit"] = f"Limit: the probability that {tb.limit_text(o)} is computed at every point."
         if pts:
             hi = headline_index(o)
             hp = pts[hi]
@@ -503,9 +516,11 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
         for c, word in zip(DEFAULT_CAUTIONS, ("calorimetry", "codes", "model")):
             if word not in low:
                 cautions.append(c)
-        if any(num(o.get("limit_K")) is not None or any(p.get("exceedance_probability") is not None for p in points(o))
+        if any(tb.limit_text(o) or any(p.get("exceedance_probability") is not None for p in points(o))
                for o in outputs(results)) and "exceedance" not in low:
-            cautions.append(LIMIT_CAUTION)
+            bm = (results.get("run") or {}).get("bound_method")
+            cautions.append(LIMIT_CAUTION + (f" Each probability is shown with its one-sided 95 % upper bound ({text(bm)})."
+                                             if bm else ""))
     ctx["cautions"] = cautions
     ctx["cautions_title"] = "Cautions for safety use" if safety else "Cautions"
 
@@ -550,6 +565,19 @@ def render_markdown(results: Mapping, figures: bool = True) -> str:
     return _environment("md").get_template("report.md.j2").render(**ctx)
 
 
+def write_tables(results: Mapping, out_dir: Path) -> dict[str, Path]:
+    """Write the CSV tables (``tables/*.csv``: inputs, results per output, drivers, what-if,
+    plan) into ``out_dir``, each atomically, through the tool's one CSV writer
+    (:func:`uqthermo.text_safety.csv_frame_text`: formula-like text neutralised, cells with
+    CR/LF quoted). Returns the paths keyed by their path relative to ``out_dir``."""
+    from ..text_safety import csv_frame_text
+
+    written: dict[str, Path] = {}
+    for stem, df in tb.frames(results).items():
+        written[f"tables/{stem}.csv"] = atomic_write(Path(out_dir) / "tables" / f"{stem}.csv", csv_frame_text(df))
+    return written
+
+
 def write_report(results: Mapping, out_dir: Path, formats: Sequence[str] = ("html", "md"), figures: bool = True) -> dict[str, Path]:
     """Write the report files into ``out_dir``.
 
@@ -579,9 +607,7 @@ def write_report(results: Mapping, out_dir: Path, formats: Sequence[str] = ("htm
         for name, paths in make_figures(results, out_dir / "figures", _rendered=rendered).items():
             for ext, p in paths.items():
                 written[f"figures/{name}.{ext}"] = p
-    for stem, df in tb.frames(results).items():
-        p = atomic_write(out_dir / "tables" / f"{stem}.csv", tb.csv_safe(df).to_csv(index=False, lineterminator="\n"))
-        written[f"tables/{stem}.csv"] = p
+    written.update(write_tables(results, out_dir))
     if "html" in formats:
         written["report.html"] = atomic_write(out_dir / "report.html", render_html(results, figures=figures, _rendered=rendered))
     if "md" in formats:
@@ -589,4 +615,4 @@ def write_report(results: Mapping, out_dir: Path, formats: Sequence[str] = ("htm
     return written
 
 
-__all__ = ["render_html", "render_markdown", "write_report", "build_context", "md_escape", "atomic_write", "job_sentence"]
+__all__ = ["render_html", "render_markdown", "write_report", "write_tables", "build_context", "md_escape", "atomic_write", "job_sentence"]

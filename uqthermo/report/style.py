@@ -213,3 +213,120 @@ NOTEBOOK_CSS = """
 .uqt-view td.r, .uqt-view th.r { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
 .uqt-view .uqt-warn { color: #9a6700; font-size: 12px; margin-top: 6px; }
 """
+
+
+# ---------------------------------------------------------------------------
+# Probabilities (one presentation for terminal, tables, figures and reports)
+# ---------------------------------------------------------------------------
+_SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
+
+
+def _sig2(x: float, up: bool = False) -> tuple[float, int]:
+    """(mantissa, exponent) of ``x`` to two significant digits, rounded up when ``up``."""
+    import math
+
+    e = math.floor(math.log10(x))
+    m = x / 10.0**e
+    m = math.ceil(m * 10.0 - 1e-9) / 10.0 if up else round(m, 1)
+    if m >= 10.0:
+        m, e = m / 10.0, e + 1
+    return m, e
+
+
+def _prob_number(x: float, up: bool = False) -> str:
+    """A probability as per cent (≥ 0.1 %) or as m×10⁻ⁿ, two significant digits."""
+    import math
+
+    if x <= 0:
+        return "0"
+    if x >= 1:
+        return "100 %"
+    m, e = _sig2(x, up)
+    if e >= -3:
+        pct = m * 10.0 ** (e + 2)
+        dec = max(0, 1 - (e + 2))
+        s = f"{pct:.{dec}f}"
+        if up and "." in s:           # a bound rounded up needs no trailing zero; an estimate keeps two digits
+            s = s.rstrip("0").rstrip(".")
+        return f"{s} %"
+    ms = f"{m:.1f}".rstrip("0").rstrip(".") if up else f"{m:.1f}"
+    return f"{ms}×10{str(e).translate(_SUPERSCRIPT)}" if math.isfinite(m) else "—"
+
+
+def _lower_near_one(lb: float) -> str:
+    """A lower bound close to 1 as per cent, its distance from 100 % rounded up: 0.99985 → "99.985 %"."""
+    m, e = _sig2(1.0 - lb, up=True)
+    dec = max(0, 1 - (e + 2))
+    s = f"{100.0 - m * 10.0 ** (e + 2):.{dec}f}"
+    return (s.rstrip("0").rstrip(".") if "." in s else s) + " %"
+
+
+def count_text(n: int) -> str:
+    """A whole number with spaces between thousands: 50000 → "50 000"."""
+    return f"{int(n):,}".replace(",", " ")
+
+
+def probability_text(p, upper_bound=None, trials=None, *, lower_bound=None, confidence: float = 0.95,
+                     basis: str | None = None) -> str:
+    """A probability as the report shows it everywhere (terminal, tables, figure legends, HTML, Markdown).
+
+    * no hit in N trials: ``"< 6×10⁻⁵ (95 % upper bound, 50 000 trials)"`` — the one-sided
+      Clopper–Pearson bound, rounded up, never "0 %";
+    * otherwise the estimate with its bound: ``"1.9 % (95 % upper bound 2.1 %, 20 000 trials)"``;
+    * every trial beyond the limit: ``"100 % (all 20 000 trials; 95 % lower bound 99.99 %)"``;
+    * without trials (a linear normal-tail estimate): ``"3.2 % (normal approximation)"`` or
+      with ``basis`` the words given.
+
+    Per cent down to 0.1 %, below that m×10⁻ⁿ; two significant digits; bounds rounded outwards.
+
+    Parameters
+    ----------
+    p : float or None
+        The estimate (fraction of trials), or None ("—").
+    upper_bound, lower_bound : float, optional
+        One-sided bounds at ``confidence`` (results.json ``*_upper_bound``).
+    trials : int, optional
+        Number of Monte Carlo trials behind ``p``.
+    """
+    import math
+
+    try:
+        p = None if p is None or isinstance(p, bool) else float(p)
+    except (TypeError, ValueError):
+        p = None
+    if p is None or not math.isfinite(p):
+        return "—"
+    level = f"{100 * confidence:g} %"
+    n = None
+    try:
+        n = int(trials) if trials is not None and not isinstance(trials, bool) and float(trials) > 0 else None
+    except (TypeError, ValueError):
+        n = None
+    ub = None
+    try:
+        ub = float(upper_bound) if upper_bound is not None and not isinstance(upper_bound, bool) else None
+    except (TypeError, ValueError):
+        ub = None
+    if ub is not None and not math.isfinite(ub):
+        ub = None
+    nt = f"{count_text(n)} trials" if n else ""
+    if p <= 0 and ub is None and n:
+        ub = 1.0 - (1.0 - confidence) ** (1.0 / n)     # Clopper-Pearson bound for no hit (closed form)
+    if p <= 0 and ub is not None:
+        return f"< {_prob_number(ub, up=True)} ({level} upper bound" + (f", {nt})" if nt else ")")
+    if p >= 1 and n:
+        lb = None
+        try:
+            lb = float(lower_bound) if lower_bound is not None else None
+        except (TypeError, ValueError):
+            lb = None
+        tail = f"; {level} lower bound {_lower_near_one(lb)}" if lb is not None and math.isfinite(lb) and 0 < lb < 1 else ""
+        return f"100 % (all {nt}{tail})"
+    text = _prob_number(p)
+    if ub is not None:
+        return f"{text} ({level} upper bound {_prob_number(ub, up=True)}" + (f", {nt})" if nt else ")")
+    if basis:
+        return f"{text} ({basis})"
+    if n:
+        return f"{text} ({nt})"
+    return f"{text} (normal approximation)"

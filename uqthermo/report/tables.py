@@ -14,8 +14,11 @@ rounding the uncertainty carries it to a third digit (0.0995 → 0.100) the posi
 moves one place left (0.10). Other numbers:
 
 * variance shares and their confidence intervals: percent with one decimal;
-* exceedance probability: percent, rounded at the second significant digit of its
-  standard error (three significant digits when no standard error is given);
+* probabilities (exceedance, MTSR above MTT/TD24, phase change, criticality classes): two
+  significant digits (per cent down to 0.1 %, below that m×10⁻ⁿ) with the one-sided 95 %
+  upper bound rounded up and the number of trials, as ``report.style.probability_text``
+  writes them; no hit shows the bound, "< 6×10⁻⁵ (95 % upper bound, 50 000 trials)", never 0 %.
+  A standard-error column is rounded at its own second significant digit;
 * coverage factor k: two decimals; effective degrees of freedom: integer (∞ above 10⁶);
 * validation tolerance δ and the differences d_low, d_high: two significant digits;
 * what-if expanded uncertainties: the decimal position of the point's (linear)
@@ -159,6 +162,8 @@ def limit_on_output(output: Mapping, point: Mapping) -> float | None:
     lim = num(output.get("limit_K"))
     if lim is None:
         lim = num(output.get("limit"))
+    if lim is None and isinstance(output.get("limit"), Mapping):
+        lim = num(output["limit"].get("value"))
     if lim is None:
         return None
     if output.get("kind") == "adiabatic_temperature_rise" and output.get("limit_applies_to", "final_temperature") != "rise":
@@ -168,6 +173,43 @@ def limit_on_output(output: Mapping, point: Mapping) -> float | None:
         if start is not None:
             return lim - start
     return lim
+
+
+def _shown_unit(text_: str) -> str:
+    return str(text_).replace("degC", "°C").replace("degF", "°F")
+
+
+def limit_text(output: Mapping) -> str:
+    """The limit as the case wrote it, e.g. "final temperature > 90 °C" or "Q̇ > cooling capacity 1.2 MW"."""
+    lim = output.get("limit")
+    if isinstance(lim, Mapping):
+        value, unit = num(lim.get("value")), str(lim.get("unit") or "")
+        written = lim.get("as_written")
+        side = ">" if lim.get("side", "above") != "below" else "<"
+        label = str(lim.get("label") or "limit")
+    else:
+        value, unit, written, side, label = num(output.get("limit_K")), "K", None, ">", "limit"
+    if value is None:
+        return ""
+    shown = _shown_unit(written) if isinstance(written, str) and written.strip() else \
+        f"{fmt_value(value)}{'' if unit in ('', '1') else ' ' + unit}"
+    what = "final temperature" if output.get("kind") == "adiabatic_temperature_rise" and \
+        output.get("limit_applies_to", "final_temperature") != "rise" else kind_symbol(output.get("kind"))
+    return f"{what} {side} {label + ' ' if label != 'limit' else ''}{shown}"
+
+
+def probability_cell(point: Mapping, key: str) -> str:
+    """A point's probability field (``exceedance_probability``, ``p_phase_change``, …) as report text, with its
+    one-sided upper bound and the trials (:func:`uqthermo.report.style.probability_text`)."""
+    from .style import probability_text
+
+    base = "exceedance" if key == "exceedance_probability" else key
+    ub = point.get(f"{base}_upper_bound")
+    n = point.get(f"{base}_trials")
+    if n is None and point.get(f"{base}_standard_error") is not None:
+        n = (point.get("monte_carlo") or {}).get("samples")
+    basis = point.get("exceedance_basis") if key == "exceedance_probability" else None
+    return probability_text(point.get(key), ub, n, basis=basis)
 
 
 def slugs(results: Mapping) -> list[str]:
@@ -189,7 +231,7 @@ def safety_relevant(results: Mapping) -> bool:
     for o in outputs(results):
         if o.get("kind") in SAFETY_KINDS:
             return True
-        if num(o.get("limit_K")) is not None or num(o.get("limit")) is not None:
+        if num(o.get("limit_K")) is not None or num(o.get("limit")) is not None or isinstance(o.get("limit"), Mapping):
             return True
         if any(p.get("exceedance_probability") is not None for p in points(o)):
             return True
@@ -632,7 +674,7 @@ def bounds_table(results: Mapping, output: Mapping, key: str) -> DisplayTable:
 
 def safety_table(results: Mapping, output: Mapping, key: str) -> DisplayTable:
     """Thermal-safety indicators of an adiabatic output (final temperature, MTSR, criticality class)."""
-    t = DisplayTable(key, "Thermal-safety indicators (estimates; see the cautions)", ["Indicator", "Value"], ["w", "r"])
+    t = DisplayTable(key, "Thermal-safety indicators (estimates; see the cautions)", ["Indicator", "Value"], ["w", "w"])
     pts = points(output)
     if output.get("kind") != "adiabatic_temperature_rise" or not pts:
         return t
@@ -643,44 +685,84 @@ def safety_table(results: Mapping, output: Mapping, key: str) -> DisplayTable:
         if value not in ("—", ""):
             t.rows.append([label, value])
 
+    from .style import probability_text
+
     add("Start temperature / K", fmt_temperature(output.get("start_temperature_K")))
-    add("Final temperature T_start + ΔT_ad / K", fmt_fixed(p.get("final_temperature_K"), dec))
-    add("Limit / K", fmt_temperature(output.get("limit_K") if output.get("limit_K") is not None else p.get("limit_K")))
+    add("Final temperature T_start + ΔT_ad, no evaporative cooling / K", fmt_fixed(p.get("final_temperature_K"), dec))
+    if limit_text(output):
+        add("Limit", limit_text(output))
     if p.get("exceedance_probability") is not None:
-        add("P(final temperature > limit)", fmt_probability(p.get("exceedance_probability"), p.get("exceedance_standard_error")))
+        add(f"P({limit_text(output) or 'final temperature > limit'})", probability_cell(p, "exceedance_probability"))
     add("Process temperature / K", fmt_temperature(output.get("process_temperature_K")))
     if num(output.get("accumulation")) is not None:
         add("Accumulation of unreacted material", fmt_sig(output.get("accumulation"), 3))
-    add("Maximum temperature of the synthesis reaction (MTSR) / K", fmt_fixed(p.get("mtsr_K"), dec))
-    add("Maximum technical temperature (MTT) / K", fmt_temperature(output.get("mtt_K")))
-    add("T_D24 (24 h time to maximum rate) / K", fmt_temperature(output.get("td24_K")))
+    add("Maximum temperature of the synthesis reaction (MTSR, no evaporative cooling) / K", fmt_fixed(p.get("mtsr_K"), dec))
+    for key, lab in (("mtt", "Maximum technical temperature (MTT)"), ("td24", "T_D24 (24 h time to maximum rate)")):
+        blk = output.get(key)
+        if isinstance(blk, Mapping) and num(blk.get("value")) is not None:
+            u = num(blk.get("standard_uncertainty")) or 0.0
+            add(f"{lab} / K", fmt_temperature(blk.get("value")) + (f" (u = {fmt_u(u)} K)" if u > 0 else ""))
+        else:
+            add(f"{lab} / K", fmt_temperature(output.get(f"{key}_K")))
     if p.get("criticality_class") is not None:
-        add("Criticality class (1 = lowest, 5 = highest)", text(p.get("criticality_class")))
+        add("Criticality class at the estimates (1 = lowest, 5 = highest)", text(p.get("criticality_class")))
     probs = p.get("criticality_class_probabilities")
     if isinstance(probs, Mapping) and probs:
-        add("Probability of each criticality class", "; ".join(f"{text(k)}: {fmt_fixed(100 * (num(v) or 0), 1)} %" for k, v in probs.items()))
-    for k, lab in (("p_phase_change", "P(the charge reaches a phase change, e.g. the solvent boils)"),
-                   ("p_mtsr_above_mtt", "P(MTSR > MTT)"), ("p_mtsr_above_td24", "P(MTSR > T_D24)")):
+        ubs = p.get("criticality_class_probabilities_upper_bounds") or {}
+        n = (p.get("monte_carlo") or {}).get("samples")
+        for k, v in probs.items():
+            add(f"P(criticality class {text(k)})",
+                probability_text(v, ubs.get(k), n) if ubs else fmt_fixed(100 * (num(v) or 0), 1) + " %")
+    for k, lab in (("p_mtsr_above_mtt", "P(MTSR > MTT)"), ("p_mtsr_above_td24", "P(MTSR > T_D24)"),
+                   ("p_phase_change", "P(the charge reaches a phase change on its real path, e.g. the solvent boils)")):
         if p.get(k) is not None:
-            add(lab, fmt_probability(p.get(k), p.get(k + "_standard_error")))
+            add(lab, probability_cell(p, k))
+    bl = p.get("boiling_limited")
+    if isinstance(bl, Mapping):
+        ft = bl.get("final_temperature_K") or {}
+        v = num(ft.get("mean")) if num(ft.get("mean")) is not None else num(ft.get("estimate"))
+        add("Boiling-limited end temperature (evaporative cooling, tempering) / K", fmt_fixed(v, dec))
+        if bl.get("p_tempering_point_reached") is not None:
+            add("P(tempering point reached: the solvent boils)", probability_text(
+                bl.get("p_tempering_point_reached"), bl.get("p_tempering_point_reached_upper_bound"), bl.get("trials")))
+        for ev in bl.get("evaporated") or []:
+            if not isinstance(ev, Mapping):
+                continue
+            mol, kg = ev.get("mol") or {}, ev.get("kg") or {}
+            m = num(mol.get("mean")) if num(mol.get("mean")) is not None else num(mol.get("estimate"))
+            parts = [f"mean {fmt_sig(m, 3)} mol" + (f" ({fmt_sig(num(kg.get('mean')) if num(kg.get('mean')) is not None else num(kg.get('estimate')), 3)} kg)" if kg else "")]
+            if num(mol.get("P95")) is not None:
+                parts.append(f"95th percentile {fmt_sig(mol.get('P95'), 3)} mol" +
+                             (f" ({fmt_sig(kg.get('P95'), 3)} kg)" if num(kg.get("P95")) is not None else ""))
+            add(f"{text(ev.get('species'))}({text(ev.get('phase'))}) evaporated", "; ".join(parts))
+    for key, lab in (("specific_heat_of_reaction", "Specific heat of reaction Q'_r / (kJ/kg of reaction mass)"),
+                     ("specific_heat_capacity", "Specific heat capacity c'_p of the reaction mass / (J/(g·K))"),
+                     ("final_pressure", "Final pressure of the closed vessel (ideal gas) / kPa")):
+        blk = p.get(key)
+        if isinstance(blk, Mapping):
+            v = num(blk.get("mean")) if num(blk.get("mean")) is not None else num(blk.get("estimate"))
+            u = num(blk.get("standard_uncertainty"))
+            add(lab, fmt_fixed(v, uncertainty_decimals(u)) + (f" (u = {fmt_u(u)})" if u else "") if u else fmt_sig(v, 4))
     if len(t.rows) <= 1:
         t.rows = []
     return t
 
 
 def exceedance_table(results: Mapping, output: Mapping, key: str) -> DisplayTable:
-    t = DisplayTable(key, "Probability of exceeding the limit", ["T / K", "Limit / K", "Applies to", "P(exceed)", "Standard error"], ["r", "r", "w", "r", "r"])
-    lim = num(output.get("limit_K"))
-    applies = "final temperature" if output.get("kind") == "adiabatic_temperature_rise" and output.get("limit_applies_to", "final_temperature") != "rise" else "output"
+    t = DisplayTable(key, "Probability of exceeding the limit", ["T / K", "Limit", "P(beyond the limit)", "Standard error"],
+                     ["r", "w", "w", "r"])
     for p in points(output):
         if p.get("exceedance_probability") is None:
             continue
         se = p.get("exceedance_standard_error")
         t.rows.append([
-            fmt_temperature(p.get("temperature_K")), fmt_temperature(lim), applies,
-            fmt_probability(p.get("exceedance_probability"), se),
-            fmt_probability(se, se) if num(se) is not None else "—",
+            fmt_temperature(p.get("temperature_K")), limit_text(output), probability_cell(p, "exceedance_probability"),
+            fmt_probability(se, se) if num(se) else "—",
         ])
+    if t.rows:
+        bm = (results.get("run") or {}).get("bound_method")
+        t.notes.append("The upper bound is a one-sided 95 % bound on the probability: with no trial beyond the limit the "
+                       "probability is shown as below that bound, never as zero." + (f" Bound used: {text(bm)}." if bm else ""))
     return t
 
 
@@ -856,7 +938,7 @@ def results_table(results: Mapping) -> pd.DataFrame:
     skewness, samples, P01, P05, P95, P99), linear_* (estimate, standard_uncertainty,
     coverage_low/high, expanded_uncertainty, coverage_factor, effective_dof),
     linear_validated, validation_tolerance, d_low, d_high, margin_P95, margin_P99,
-    exceedance_probability, exceedance_standard_error, top_driver, top_driver_share,
+    exceedance_probability, exceedance_standard_error, exceedance_upper_bound, top_driver, top_driver_share,
     correlation_share, drivers_method.
     """
     check_results(results)
@@ -893,6 +975,7 @@ def results_table(results: Mapping) -> pd.DataFrame:
                 "margin_P95": num(mg.get("P95")), "margin_P99": num(mg.get("P99")),
                 "exceedance_probability": num(p.get("exceedance_probability")),
                 "exceedance_standard_error": num(p.get("exceedance_standard_error")),
+                "exceedance_upper_bound": num(p.get("exceedance_upper_bound")),
                 "top_driver": drivers[0].get("datum") if drivers else None,
                 "top_driver_share": num(drivers[0].get("share")) if drivers else None,
                 "correlation_share": num(p.get("correlation_share")),
@@ -974,11 +1057,10 @@ def plan_frame(results: Mapping) -> pd.DataFrame:
     return pd.DataFrame(rows, columns=["cost", "U", "set", "best"])
 
 
-_CSV_TRIGGERS = ("=", "+", "@", "\t", "\r")
-
-
 def csv_safe(df: pd.DataFrame) -> pd.DataFrame:
-    """Guard text cells against spreadsheet formula injection (OWASP "CSV injection")."""
+    """Guard text cells against spreadsheet formula injection (OWASP "CSV injection");
+    see :func:`uqthermo.text_safety.csv_cell`. The CSV files themselves are written by
+    :func:`uqthermo.text_safety.csv_frame_text`, which also quotes cells holding CR/LF."""
     out = df.copy()
     for c in out.columns:
         if out[c].dtype == object or pd.api.types.is_string_dtype(out[c]):
@@ -987,15 +1069,9 @@ def csv_safe(df: pd.DataFrame) -> pd.DataFrame:
 
 
 def _csv_cell(v: Any) -> Any:
-    if isinstance(v, str) and v:
-        if v.startswith(_CSV_TRIGGERS):
-            return "'" + v
-        if v.startswith("-"):
-            try:
-                float(v)
-            except ValueError:
-                return "'" + v
-    return v
+    from ..text_safety import csv_cell
+
+    return csv_cell(v)
 
 
 def frames(results: Mapping) -> dict[str, pd.DataFrame]:
@@ -1014,5 +1090,6 @@ def frames(results: Mapping) -> dict[str, pd.DataFrame]:
 __all__ = [
     "DisplayTable", "results_table", "inputs_frame", "drivers_frame", "whatif_frame", "plan_frame", "frames",
     "uncertainty_decimals", "fmt_fixed", "fmt_sig", "fmt_u", "fmt_interval", "fmt_share", "fmt_probability",
+    "limit_text", "probability_cell",
     "slugs",
 ]

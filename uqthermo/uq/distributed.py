@@ -72,7 +72,64 @@ from .sampling import UniformStream
 from .stats import BinLayout, BinnedCDF, Moments, OrderStatistics
 from .trials import TrialDesign
 
-__all__ = ["propagate_monte_carlo_dask", "merge_moments", "block_plan"]
+__all__ = ["propagate_monte_carlo_dask", "merge_moments", "block_plan", "check_scheduler"]
+
+#: seconds a scheduler address has to send the Dask greeting (see :func:`check_scheduler`)
+PROBE_SECONDS = 5.0
+
+
+def check_scheduler(address: str, timeout: float | None = None) -> None:
+    """Make sure a ``tcp://host:port`` (or ``host:port``) address is a Dask scheduler, before any work.
+
+    A Dask scheduler greets every new TCP connection at once with its handshake: an 8-byte
+    little-endian message length, the frame count and a msgpack map holding keys such as
+    ``compression`` and ``pickle-protocol`` (the framing of ``distributed.comm.tcp``). A
+    service that says nothing (a web server waiting for a request) or something else (an SSH
+    banner, whose first bytes ``distributed`` would read as a huge length and try to
+    allocate) is reported as "not a Dask scheduler". Other schemes (``tls://``, ``inproc://``)
+    are left to ``distributed``.
+
+    Raises
+    ------
+    StatisticsError
+        The address cannot be reached or is not a Dask scheduler.
+    """
+    import socket
+
+    timeout = PROBE_SECONDS if timeout is None else timeout
+    text = str(address)
+    rest = text[len("tcp://"):] if text.startswith("tcp://") else text
+    if "://" in rest:
+        return
+    host, _, port = rest.rpartition(":")
+    host = host.strip("[]")
+    try:
+        port_n = int(port)
+    except ValueError:
+        raise StatisticsError(f"scheduler address {text!r} is not of the form tcp://HOST:PORT") from None
+    try:
+        conn = socket.create_connection((host or "127.0.0.1", port_n), timeout=timeout)
+    except OSError as exc:
+        raise StatisticsError(f"cannot reach the Dask scheduler at {text!r} ({exc.strerror or exc})") from None
+    data = b""
+    try:
+        conn.settimeout(timeout)
+        while len(data) < 64:
+            chunk = conn.recv(64 - len(data))
+            if not chunk:
+                break
+            data += chunk
+    except OSError:
+        pass
+    finally:
+        conn.close()
+    if not data:
+        raise StatisticsError(f"the service at {text!r} is not a Dask scheduler: it sent no Dask greeting within "
+                              f"{timeout:g} s (check the address and port of the scheduler)")
+    length = int.from_bytes(data[:8], "little") if len(data) >= 8 else -1
+    if not (0 < length < 1 << 20) or not any(k in data for k in (b"compression", b"pickle-protocol", b"python")):
+        raise StatisticsError(f"the service at {text!r} is not a Dask scheduler: it answered {data[:24]!r}… "
+                              "(check the address and port of the scheduler)")
 
 #: largest block (rows) of a fixed-N run; more, smaller blocks balance the workers
 MAX_BLOCK_ROWS = 2**22
@@ -193,10 +250,14 @@ class _Cluster:
         elif isinstance(scheduler, Client):
             self.client = scheduler
         else:
+            check_scheduler(scheduler)
             try:
                 self.client = Client(scheduler, timeout="10s")
             except (OSError, TimeoutError, ValueError) as exc:
                 raise StatisticsError(f"cannot reach the Dask scheduler at {scheduler!r} ({exc})") from None
+            except MemoryError:
+                raise StatisticsError(f"the service at {scheduler!r} is not a Dask scheduler (its answer could not be "
+                                      "read as Dask messages)") from None
             self._own = [self.client]
 
     @property
@@ -234,6 +295,7 @@ def propagate_monte_carlo_dask(
     depends_on=None,
     block_rows: int | None = None,
     n_workers: int = 2,
+    stop_columns: int | None = None,
 ) -> MonteCarloResult:
     """Propagate distributions by Monte Carlo (JCGM 101 §7) on a Dask cluster.
 
@@ -266,7 +328,8 @@ def propagate_monte_carlo_dask(
         if adaptive:
             return _adaptive(client, cluster.n_workers, remote, design, method, int(seed), p,
                              chunk_size, int(ndigits), progress, kp, int(max_samples), batch_size,
-                             check_shortest, int(max_stored_values), int(histogram_bins))
+                             check_shortest, int(max_stored_values), int(histogram_bins),
+                             stop_columns=stop_columns)
         return _fixed(client, cluster.n_workers, remote, design, d, method, int(seed), p, int(samples),
                       chunk_size, int(ndigits), progress, kp, int(max_stored_values), int(histogram_bins),
                       block_rows)
@@ -357,7 +420,8 @@ def _finish(blocks: dict, d, m, p, ndigits, exact, layout, warnings, method, see
 
 
 def _adaptive(client, n_workers, remote, design, method, seed, p, chunk_size, ndigits, progress,
-              keep, max_samples, batch_size, check_shortest, cap, bins) -> MonteCarloResult:
+              keep, max_samples, batch_size, check_shortest, cap, bins, *,
+              stop_columns: int | None = None) -> MonteCarloResult:
     """JCGM 101 §7.9 with batches computed in parallel rounds, stopping rule applied in order."""
     d = len(design.inputs)
     M_b = int(batch_size) if batch_size is not None else adaptive_batch_size(p, method)
@@ -374,8 +438,11 @@ def _adaptive(client, n_workers, remote, design, method, seed, p, chunk_size, nd
     converged = False
     done = 0
     batches = 0
-    while not converged and done < max_samples:
-        n_round = min(per_round, max(1, (max_samples - done) // M_b))
+    if max_samples < 2 * M_b:
+        raise StatisticsError(f"max_samples = {max_samples} is below two adaptive batches of {M_b} trials "
+                              "(the §7.9 test needs at least two)")
+    while not converged and done + M_b <= max_samples:     # whole batches only: the cap is never passed
+        n_round = min(per_round, (max_samples - done) // M_b)
         futs = [client.submit(_run_block, remote, batch_origin(method, seed, batches + i, M_b), (batches + i) * M_b,
                               M_b, min(chunk_size, M_b), keep, True, None, p, pure=False)
                 for i in range(n_round)]
@@ -396,14 +463,15 @@ def _adaptive(client, n_workers, remote, design, method, seed, p, chunk_size, nd
                 progress(done, None)
             if batches < 2:
                 continue
-            stable, spread = batch_test(summaries, u_all, ndigits, check_shortest)
-            if stable or done >= max_samples:
+            stable, spread = batch_test(summaries, u_all, ndigits, check_shortest, stop_columns)
+            if stable or done + M_b > max_samples:
                 converged, stability = stable, spread
                 break
     warnings: list[str] = []
     if not converged:
-        warnings.append(f"adaptive Monte Carlo stopped at the cap of {done} trials before u(y) and the "
-                        f"interval endpoints were stable to {ndigits} significant digits")
+        warnings.append(f"adaptive Monte Carlo stopped at {done} trials (the cap max_samples = {max_samples}, in "
+                        f"whole batches of {M_b}) before u(y) and the interval endpoints were stable to "
+                        f"{ndigits} significant digits")
     return collected_result(collector, d, p, ndigits, warnings, conv_n, conv_u, adaptive=True,
                             converged=converged, stability=stability, batch_size=M_b, batches=batches,
                             seed=int(seed), sampling=method, rotated_scores=design.rotation is not None)

@@ -78,7 +78,8 @@ class LinearResult:
     ----------
     estimate : (M,) y = f(x̂)
     sensitivity : (M, D) sensitivity coefficients c_ki = ∂f_k/∂x_i (0 for exact inputs)
-    covariance : (M, M) output covariance C Σ Cᵀ
+    input_covariance : (D, D) input covariance Σ
+    covariance : (M, M) output covariance C Σ Cᵀ (property, formed when asked for)
     standard_uncertainty : (M,) u(y)
     coverage_factor : (M,) k_p
     effective_dof : (M,) ν_eff (inf when all inputs have infinite dof)
@@ -96,7 +97,7 @@ class LinearResult:
 
     estimate: np.ndarray
     sensitivity: np.ndarray
-    covariance: np.ndarray
+    input_covariance: np.ndarray
     standard_uncertainty: np.ndarray
     coverage_factor: np.ndarray
     effective_dof: np.ndarray
@@ -110,6 +111,13 @@ class LinearResult:
     data: list[str] = field(default_factory=list)
     names: list[str] = field(default_factory=list)
     steps: np.ndarray | None = None
+
+    @property
+    def covariance(self) -> np.ndarray:
+        """Output covariance C Σ Cᵀ (M, M), formed on demand (M² values: large for long curves)."""
+        C = self.sensitivity
+        cov = C @ self.input_covariance @ C.T
+        return 0.5 * (cov + cov.T)
 
     @property
     def n_outputs(self) -> int:
@@ -191,9 +199,8 @@ def propagate_linear(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet, co
     C = np.zeros((m, d))
     if k:
         C[:, unc] = ((Y[1:1 + k] - Y[1 + k:]) / denom[:, None]).T
-    cov = C @ Sigma @ C.T
-    cov = 0.5 * (cov + cov.T)
-    var = np.clip(np.diag(cov), 0.0, None)
+    # u²(y_k) = c_k Σ c_kᵀ, row by row: the (M, M) output covariance is formed only when asked for
+    var = np.clip(np.einsum("mi,mi->m", C @ Sigma, C), 0.0, None)
     uy = np.sqrt(var)
     nu = welch_satterthwaite(np.abs(C * u[None, :]), np.asarray(inputs.dofs, dtype=float), uy)
     kp = np.atleast_1d(coverage_factor(p, nu)).astype(float)
@@ -209,7 +216,7 @@ def propagate_linear(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet, co
         shares = np.where(var[:, None] > 0, contrib / np.where(var > 0, var, 1.0)[:, None], 0.0)
         corr_share = np.where(var > 0, corr_part / np.where(var > 0, var, 1.0), 0.0)
     return LinearResult(
-        estimate=y0.copy(), sensitivity=C, covariance=cov, standard_uncertainty=uy, coverage_factor=kp,
+        estimate=y0.copy(), sensitivity=C, input_covariance=Sigma, standard_uncertainty=uy, coverage_factor=kp,
         effective_dof=nu, coverage_interval=interval, expanded_uncertainty=U, coverage_probability=p,
         contributions=contrib, correlation_part=corr_part, shares=shares, correlation_share=corr_share,
         data=list(inputs.data), names=list(inputs.names), steps=h,

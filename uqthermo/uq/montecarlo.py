@@ -467,14 +467,18 @@ def _batch_summary(Y: np.ndarray, p: float) -> np.ndarray:
 
 
 def batch_test(summaries: list[np.ndarray], u_all: np.ndarray, ndigits: int,
-               check_shortest: bool) -> tuple[bool, dict]:
+               check_shortest: bool, stop_columns: int | None = None) -> tuple[bool, dict]:
     """JCGM 101 §7.9.4 test after h ≥ 2 batches: (stable for every output, k·s per quantity).
 
     ``summaries``: the h (6, M) :func:`_batch_summary` arrays; s_z = [Σ_r (z⁽ʳ⁾ − z̄)²/(h(h − 1))]^{1/2}
     is the standard deviation of the average of the h batch values, k = :func:`stability_factor`,
-    δ from u(y) of all h·M values (§7.9.2). An output with u(y) = 0 is stable.
+    δ from u(y) of all h·M values (§7.9.2). An output with u(y) = 0 is stable. ``stop_columns``:
+    only the first columns are output quantities (the rest, e.g. indicators of rare events whose
+    batch standard deviation cannot settle to two digits, are carried along but do not stop the run).
     """
     S = np.stack(summaries)  # (h, 6, M)
+    if stop_columns is not None:
+        S, u_all = S[:, :, :stop_columns], np.asarray(u_all)[:stop_columns]
     h = S.shape[0]
     s = np.sqrt(np.var(S, axis=0, ddof=1) / h)
     delta = numerical_tolerance(u_all, ndigits)
@@ -576,6 +580,7 @@ def propagate_monte_carlo(
     rotate: bool = True,
     affine: bool = False,
     depends_on: Sequence[int] | None = None,
+    stop_columns: int | None = None,
 ) -> MonteCarloResult:
     """Propagate the input distributions through f by Monte Carlo (JCGM 101 §7).
 
@@ -620,6 +625,8 @@ def propagate_monte_carlo(
     depends_on : sequence of int, optional
         Input columns f depends on. Only they are sampled for f; the others are drawn for the
         kept rows (``X_kept``) alone. Default: all (or, with ``affine``, the columns its map uses).
+    stop_columns : int, optional
+        Adaptive: only the first ``stop_columns`` outputs must be stable (:func:`batch_test`).
 
     Returns
     -------
@@ -671,7 +678,10 @@ def propagate_monte_carlo(
         summaries: list[np.ndarray] = []
         converged = False
         done = 0
-        while not converged and done < max_samples:
+        if max_samples < 2 * M_b:
+            raise StatisticsError(f"max_samples = {max_samples} is below two adaptive batches of {M_b} trials "
+                                  "(the §7.9 test needs at least two)")
+        while not converged and done + M_b <= max_samples:     # whole batches only: the cap is never passed
             X, Y = evaluate_batch(design, draw_batch(batches), batches * M_b, kp, chunk_size)
             collector.add(X, Y)
             done += M_b
@@ -684,13 +694,14 @@ def propagate_monte_carlo(
                 progress(done, None)
             if batches < 2:
                 continue
-            stable, spread = batch_test(summaries, u_all, ndigits, check_shortest)
-            if stable or done >= max_samples:
+            stable, spread = batch_test(summaries, u_all, ndigits, check_shortest, stop_columns)
+            if stable or done + M_b > max_samples:
                 converged, stability = stable, spread
                 break
         if not converged:
-            warnings.append(f"adaptive Monte Carlo stopped at the cap of {done} trials before u(y) and the "
-                            f"interval endpoints were stable to {ndigits} significant digits")
+            warnings.append(f"adaptive Monte Carlo stopped at {done} trials (the cap max_samples = {max_samples}, in "
+                            f"whole batches of {M_b}) before u(y) and the interval endpoints were stable to "
+                            f"{ndigits} significant digits")
 
     assert collector is not None
     return collected_result(collector, d, p, ndigits, warnings, conv_n, conv_u, adaptive=adaptive,
