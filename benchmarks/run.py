@@ -46,7 +46,7 @@ ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
 from uqthermo.case.builder import build_model  # noqa: E402
-from uqthermo.case.loader import parse_case  # noqa: E402
+from uqthermo.case.loader import load_case, parse_case  # noqa: E402
 from uqthermo.case.dependence import model_columns  # noqa: E402
 from uqthermo.uq.montecarlo import (_batch_summary, adaptive_batch_size, batch_sampler,  # noqa: E402
                                     propagate_monte_carlo, sobol_rotation, stability_factor, trial_design)
@@ -499,21 +499,29 @@ def side_by_side_cases(folder: Path) -> list[dict]:
 
     meth = engineer.equation(METHANATION)
     out = []
+
+    def counts(path) -> str:
+        """'D inputs declared, K used' as `uqthermo run` samples them."""
+        case = load_case(path)
+        m = build_model(case)
+        design = trial_design(m.f, m.inputs, "random", 1, False, m.affine, model_columns(case, m.inputs))
+        return f"{len(m.inputs)} inputs declared, {len(design.active)} used"
+
     sp = engineer.load(ISSUE_CASE)
     lin = engineer.linear_enthalpy(sp, meth, [623.15])
-    out.append({"key": "issue_point", "label": "ΔrH at 350 °C (issue case: 9 inputs declared, 7 used)",
+    out.append({"key": "issue_point", "label": f"ΔrH at 350 °C (issue case: {counts(ISSUE_CASE)})",
                 "case": str(ISSUE_CASE), "normals": 7, "uniforms": 0,
                 "script": ["linear_script.py", params("issue", lin)], "quad": ["enthalpy", "623.15"]})
     demo = engineer.load(DEMO)
     window = [523.15 + 25.0 * i for i in range(9)]
     f = demo_output_file("dH_window", folder)
     lin = engineer.linear_enthalpy(demo, meth, window)
-    out.append({"key": "demo_window", "label": "demo dH_window: ΔrH at 9 temperatures (linear; 18 inputs declared, 7 used)",
+    out.append({"key": "demo_window", "label": f"demo dH_window: ΔrH at 9 temperatures (linear; {counts(f)})",
                 "case": str(f), "normals": 7, "uniforms": 0, "script": ["linear_script.py", params("window", lin)],
                 "quad": ["enthalpy", *map(str, window)]})
     f = demo_output_file("dH_operating", folder)
     out.append({"key": "demo_operating",
-                "label": "demo dH_operating: ΔrH at the sampled bed temperature (nonlinear; 18 declared, 8 used)",
+                "label": f"demo dH_operating: ΔrH at the sampled bed temperature (nonlinear; {counts(f)})",
                 "case": str(f), "normals": 8, "uniforms": 0, "script": ["operating_script.py", str(f)],
                 "quad": ["operating"]})
     f = demo_output_file("cooling_duty", folder)
@@ -521,13 +529,13 @@ def side_by_side_cases(folder: Path) -> list[dict]:
                           engineer.linear_enthalpy(demo, engineer.equation(RWGS), [623.15])])
     duty.update(feed=[25000 / 3600, 250 / 3600], conversion=[0.92, 0.02], side=[0.03, 0.015])
     out.append({"key": "demo_duty",
-                "label": "demo cooling_duty: two reactions times extents (nonlinear; 18 declared, 12 used, one rectangular)",
+                "label": f"demo cooling_duty: two reactions times extents (nonlinear; {counts(f)}, one rectangular)",
                 "case": str(f), "normals": 11, "uniforms": 1, "script": ["duty_script.py", params("duty", duty)],
                 "quad": ["duty"]})
     k_temps = [523.15 + 50.0 * i for i in range(5)]
     f = demo_output_file("log10K_window", folder)
     lin = engineer.linear_log10k(demo, meth, k_temps)
-    out.append({"key": "demo_log10k", "label": "demo log10K_window: log10 K at 5 temperatures (linear; 18 declared, 11 used)",
+    out.append({"key": "demo_log10k", "label": f"demo log10K_window: log10 K at 5 temperatures (linear; {counts(f)})",
                 "case": str(f), "normals": len(lin["inputs"]), "uniforms": 0,
                 "script": ["linear_script.py", params("log10k", lin)], "quad": ["log10k", *map(str, k_temps)]})
     return out

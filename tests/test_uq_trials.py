@@ -138,13 +138,15 @@ def test_copula_linked_inputs_are_active_together():
 
 def test_dependence_rule_of_the_demo_cases():
     """case.dependence: moving every datum outside an output's set leaves that output's columns
-    unchanged, bit for bit, on rows of the joint input distribution (both demo cases)."""
+    unchanged, bit for bit, on rows of the joint input distribution (the demo cases and the
+    documented worked example)."""
     from uqthermo.case.builder import build_model
     from uqthermo.case.dependence import output_data
     from uqthermo.case.loader import load_case
 
-    for name in ("methanation_reactor.toml", "epoxide_hydration_batch.toml"):
-        case = load_case(ROOT / "inputs" / name)
+    for path in sorted((ROOT / "inputs").glob("*.toml")) + [ROOT / "docs" / "worked-example.toml"]:
+        name = path.name
+        case = load_case(path)
         m = build_model(case)
         X = m.inputs.from_uniform(np.random.default_rng(1).random((64, len(m.inputs))))
         for i, o in enumerate(case.outputs):
@@ -157,3 +159,85 @@ def test_dependence_rule_of_the_demo_cases():
             d = output_data(case, case.outputs[0])      # ΔrH at the sampled bed temperature
             assert "output.dH_operating.temperature" in d and "CO.g.formation_enthalpy" not in d
             assert "CH4.g.standard_entropy" not in d and "output.cooling_duty.extent_rate.methanation.feed" not in d
+
+
+def test_dependence_rule_with_feed_streams_limits_and_mass_basis(tmp_path):
+    """The same bit-for-bit probe on the demo's outputs with the newer keys: a continuous
+    reactor's feed streams (uncertain feed temperature and flows, one more stream with CO), an
+    uncertain limit, and a reaction enthalpy on a mass basis."""
+    from uqthermo.case.builder import build_model
+    from uqthermo.case.dependence import output_data
+    from uqthermo.case.loader import load_case
+
+    text = (ROOT / "inputs" / "methanation_reactor.toml").read_text(encoding="utf-8")
+    text = text.split("# ---------------------------------------------------------------- data purchases")[0]
+    head, tail = text.split('[[output]]\nname = "log10K_window"')
+    text = head + '''[[output.feed]]
+temperature = { value = "250 degC", u = "5 K" }
+flows = { "CO2(g)" = { value = "25 kmol/h", u = "0.25 kmol/h" }, "H2(g)" = "100 kmol/h", "CO(g)" = { value = "1 kmol/h", u = "0.1 kmol/h" } }
+
+[[output]]
+name = "log10K_window"''' + tail + '''
+[[output]]
+name = "dH_mass"
+kind = "reaction_enthalpy"
+reaction = "methanation"
+temperature = "350 degC"
+basis = "mass"
+mass_of = "CH4"
+limit = { value = "-10000 kJ/kg", u = "100 kJ/kg" }
+'''
+    path = tmp_path / "case.toml"
+    path.write_text(text, encoding="utf-8")
+    case = load_case(path)
+    m = build_model(case)
+    X = m.inputs.from_uniform(np.random.default_rng(2).random((64, len(m.inputs))))
+    for i, o in enumerate(case.outputs):
+        keep = [j for did in output_data(case, o) for j in m.inputs.groups.get(did, [])]
+        X0 = np.tile(m.inputs.estimates, (64, 1))
+        X0[:, keep] = X[:, keep]
+        cols = m.output_columns(i) + [a.column for a in m.aux if a.output == i]
+        np.testing.assert_array_equal(m.f(X)[:, cols], m.f(X0)[:, cols])
+    fed = [o for o in case.outputs if o.feeds]
+    assert fed
+    for o in fed:
+        d = output_data(case, o)
+        assert all(f.temperature_datum in d for f in o.feeds if f.temperature_datum)
+        assert all(did in d for f in o.feeds for did in f.flows.values())
+        assert all(f"{sp}.{ph}.heat_capacity" in d for f in o.feeds for sp, ph in f.flows
+                   if f"{sp}.{ph}.heat_capacity" in case.data)
+
+
+def test_an_inert_feed_species_keeps_its_heat_capacity_uncertainty(tmp_path):
+    """A species fed to a continuous reactor but in no reaction (N2 here) is heated by the
+    feed balance, so its Cp datum stays an input and moves the heat to remove (it was dropped
+    from the inputs when only reactions, species, mixtures and charges counted)."""
+    from uqthermo.case.builder import build_model
+    from uqthermo.case.loader import load_case
+
+    text = (ROOT / "inputs" / "methanation_reactor.toml").read_text(encoding="utf-8")
+    text = text.split("# ---------------------------------------------------------------- data purchases")[0]
+    n2 = '''
+[species.N2]
+formula = "N2"
+[species.N2.g]
+formation_enthalpy = { value = "0 kJ/mol" }
+heat_capacity = { model = "shomate", relative_u = "5 %", source = "NIST WebBook Shomate (recalled from memory); 5 % assumed", ranges = [
+  { T = ["100 K", "500 K"], coefficients = [28.98641, 1.853978, -9.647459, 16.63537, 0.000117] },
+  { T = ["500 K", "2000 K"], coefficients = [19.50583, 19.88705, -8.598535, 1.369784, 0.527601] } ] }
+'''
+    text = text.replace("# ---------------------------------------------------------------- reactions",
+                        n2 + "\n# ---------------------------------------------------------------- reactions")
+    assert 'flows = { "CO2(g)"' in text
+    text = text.replace('flows = { "CO2(g)"', 'flows = { "N2(g)" = "50 kmol/h", "CO2(g)"', 1)
+    path = tmp_path / "inert.toml"
+    path.write_text(text, encoding="utf-8")
+    case = load_case(path)
+    m = build_model(case)
+    assert "N2.g.heat_capacity" in m.inputs.groups
+    j = m.inputs.groups["N2.g.heat_capacity"][0]
+    i = next(k for k, o in enumerate(case.outputs) if o.feeds)
+    x = np.tile(m.inputs.estimates, (2, 1))
+    x[1, j] *= 1.05
+    y = m.f(x)[:, m.output_columns(i)]
+    assert np.all(y[1] != y[0])

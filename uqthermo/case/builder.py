@@ -73,6 +73,7 @@ from ..thermo.cp import R as GAS_CONSTANT
 from ..uq.blas import one_blas_thread
 from ..uq.inputs import InputSet, InputVariable
 from . import balances
+from .dependence import output_data
 from .design_reader import molar_mass as design_molar_mass
 from .schema import Case, OutputSpec
 
@@ -146,32 +147,16 @@ class Model:
 
 
 def used_data(case: Case) -> set[str]:
-    """Ids of the data the outputs can depend on: every datum of a species that an output
-    uses (through its reaction, extent rates, species, mixture or charge), the measured
-    enthalpies of the reactions used, every datum that is not a species' or a reaction's
-    (output parameters), and every datum named in a ``[[correlation]]`` (so that the stated
-    correlations are always checked as one matrix). The rest of the case costs nothing:
-    a species no output uses gets no input column.
+    """Ids of the data the outputs can depend on — the union over the outputs of
+    :func:`uqthermo.case.dependence.output_data` (an output's own data, its reactions' data,
+    every datum of the species it involves through reactions, species, mixture, charge, feed
+    streams or mass basis; no standard entropies for enthalpy outputs) — and every datum named
+    in a ``[[correlation]]`` (so that the stated correlations are always checked as one
+    matrix). The rest of the case costs nothing: a species no output uses gets no input column.
     """
-    reactions: set[str] = set()
-    species: set[str] = set()
+    used: set[str] = set()
     for o in case.outputs:
-        for r in ([o.reaction] if o.reaction else []) + list(o.extent_rates):
-            reactions.add(r)
-        species |= {o.species} | {sp for sp, _ in o.mixture} | {sp for sp, _ in o.charge}
-    for r in reactions:
-        if r in case.reactions:
-            species |= {p.species for p in case.reactions[r].participants}
-    used = set()
-    for did, d in case.data.items():
-        if d.species:
-            if d.species in species:
-                used.add(did)
-        elif did.startswith("reaction."):
-            if did.split(".")[1] in reactions:
-                used.add(did)
-        else:
-            used.add(did)
+        used |= output_data(case, o)
     for a, b, _ in case.correlations:
         used |= {a, b}
     return used

@@ -3,12 +3,13 @@
 The rule follows how the builder evaluates an output (``case/builder.py``):
 
 * the output's own data: every datum under ``output.<name>.`` (uncertain temperature, extents,
-  feeds, conversions, amounts of a charge or mixture, limits);
+  feeds, conversions, amounts of a charge or mixture, limits, MTT/TD24, feed streams);
 * the data of every reaction it uses (``reaction.<R>.…``, e.g. a measured enthalpy), the
   reaction itself for the reaction kinds and the adiabatic rise, each rate's reaction for
   ``heat_release``;
-* every datum of every species those reactions, the heated species or mixture, and the
-  charge involve (formation data, heat capacities, transitions), except standard entropies
+* every datum of every species those reactions, the heated species or mixture, the charge,
+  the feed streams and the mass basis involve (formation data, heat capacities,
+  transitions), except standard entropies
   for the outputs that are enthalpies (ΔrH, heating enthalpy, heat release, adiabatic rise:
   Kirchhoff's law and the energy balance use no entropy);
 * any datum that fits none of these patterns (a kind of datum this rule does not know):
@@ -32,8 +33,10 @@ ENTHALPY_KINDS = ("reaction_enthalpy", "heating_enthalpy", "heat_release", "adia
 def output_data(case: Case, o: OutputSpec) -> set[str]:
     """Datum ids output ``o`` may depend on (see the module docstring)."""
     reactions = [r for r in [o.reaction, *o.extent_rates] if r]
+    feeds = list(getattr(o, "feeds", []) or [])
     species = {p.species for r in reactions for p in case.reactions[r].participants}
-    species |= {o.species} | {sp for sp, _ in o.mixture} | {sp for sp, _ in o.charge}
+    species |= {o.species, getattr(o, "mass_of", "")} | {sp for sp, _ in o.mixture} | {sp for sp, _ in o.charge}
+    species |= {sp for f in feeds for sp, _ in f.flows}
     species.discard("")
     own = f"output.{o.name}."
     out = set()
@@ -50,7 +53,9 @@ def output_data(case: Case, o: OutputSpec) -> set[str]:
         else:
             out.add(did)
     extra = [o.temperature_datum, o.extent_datum, *o.mixture.values(), *o.charge.values(),
-             *(did for dids in o.extent_rates.values() for did in dids)]
+             *(did for dids in o.extent_rates.values() for did in dids),
+             *(getattr(o, k, "") for k in ("limit_datum", "mtt_datum", "td24_datum", "initial_pressure_datum")),
+             *(f.temperature_datum for f in feeds), *(did for f in feeds for did in f.flows.values())]
     return out | {did for did in extra if did}
 
 
