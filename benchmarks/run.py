@@ -501,11 +501,12 @@ def side_by_side_cases(folder: Path) -> list[dict]:
     out = []
 
     def counts(path) -> str:
-        """'D inputs declared, K used' as `uqthermo run` samples them."""
+        """'D uncertain inputs declared in the file, K sampled by `uqthermo run`'."""
         case = load_case(path)
         m = build_model(case)
         design = trial_design(m.f, m.inputs, "random", 1, False, m.affine, model_columns(case, m.inputs))
-        return f"{len(m.inputs)} inputs declared, {len(design.active)} used"
+        declared = sum(len(d.distributions) for d in case.data.values() if d.uncertain)
+        return f"{declared} uncertain inputs declared, {len(design.active)} sampled"
 
     sp = engineer.load(ISSUE_CASE)
     lin = engineer.linear_enthalpy(sp, meth, [623.15])
