@@ -458,3 +458,31 @@ def test_order_statistics_near_half_coverage(p):
     for a, b in zip(order.intervals(p), intervals_from_sorted(ys, p)):
         np.testing.assert_array_equal(a, b)
     np.testing.assert_array_equal(order.quantile([0.25, 0.5, 0.75]), quantile_sorted(ys, [0.25, 0.5, 0.75]))
+
+
+@pytest.mark.parametrize("shape", ["normal", "ties", "discrete", "adversarial", "shifted"])
+def test_order_statistics_by_pilot_thresholds_equal_a_full_sort(shape):
+    """Long rows find their tails by thresholds from a strided pilot; whatever the pilot sees
+    (an indicator column, heavy ties, a pilot planted far from the rest), the order statistics
+    equal those of a full sort exactly."""
+    from uqthermo.uq.stats import SELECT_PILOT, OrderStatistics, quantile_sorted
+
+    n = 3 * 2**15 + 7
+    rng = np.random.default_rng(3)
+    y = rng.standard_normal(n)
+    if shape == "ties":
+        y = np.round(y, 1)
+    elif shape == "discrete":
+        y = (rng.random(n) < 0.03).astype(float)
+    elif shape == "adversarial":       # the pilot's values sit in one narrow spot of the distribution
+        y[::max(1, n // SELECT_PILOT)] = 0.37
+    elif shape == "shifted":           # the pilot's thresholds leave too few values in a tail
+        y[::max(1, n // SELECT_PILOT)] -= 3.0
+    Y = np.column_stack([y, -2.0 * y + 1.0])
+    ys = np.sort(Y, axis=0)
+    for p in (0.95, 0.9):
+        order = OrderStatistics(Y.T.copy(), p)
+        for a, b in zip(order.intervals(p), intervals_from_sorted(ys, p)):
+            np.testing.assert_array_equal(a, b)
+        ps = [0.0, 0.01, 0.03, 0.2, 0.5, 0.9, 0.975, 1.0]
+        np.testing.assert_array_equal(order.quantile(ps), quantile_sorted(ys, ps))

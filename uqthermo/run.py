@@ -24,6 +24,7 @@ from typing import Any, Callable
 import numpy as np
 
 from .case.builder import QUANTITY, Model, build_model, check_model
+from .case.dependence import model_columns
 from .case.loader import load_case
 from .case.schema import Case
 from .errors import InputError, Problem, UqthermoError
@@ -202,6 +203,7 @@ def _propagate(case: Case, model: Model, warnings: list[str], t0: float, engine:
     if s.method in ("monte-carlo", "both") and D > 0:
         mc_kwargs = dict(samples=s.samples, sampling=s.sampling, seed=s.seed, coverage=p,
                          ndigits=s.significant_digits, progress=progress, rotate=s.sobol_rotation,
+                         affine=model.affine, depends_on=model_columns(case, inputs),
                          stop_columns=model.n_reported)   # auxiliary indicators do not stop an adaptive run
         if s.samples == "adaptive":
             mc_kwargs["max_samples"] = s.max_samples

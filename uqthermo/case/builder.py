@@ -25,7 +25,7 @@ times a dozen inputs). Multi-threaded OpenBLAS handles such shapes badly when th
 are busy: on the 2-core development machine under load, one model call of the methanation
 demo took 3.9 µs per sample with the default two BLAS threads and 0.17 µs with one.
 ``evaluate`` therefore runs with OpenBLAS limited to one thread (:func:`one_blas_thread`,
-restored afterwards; a no-op where the library cannot be found). Parallelism comes from
+restored afterwards; a no-op where the library cannot be found; it lives in ``uq/blas.py``). Parallelism comes from
 processes instead (``--engine dask``; distributed's workers default to one BLAS thread).
 
 Batch mode: many reactions from shared species samples
@@ -61,8 +61,6 @@ outputs: the shared table is used whatever the number of reactions.
 
 from __future__ import annotations
 
-import contextlib
-import ctypes
 import math
 from dataclasses import dataclass, field
 from typing import Callable
@@ -72,8 +70,10 @@ import numpy as np
 from ..errors import InputError, Problem, UqthermoError, ValidityError
 from ..thermo import reaction as rx
 from ..thermo.cp import R as GAS_CONSTANT
+from ..uq.blas import one_blas_thread
 from ..uq.inputs import InputSet, InputVariable
 from . import balances
+from .dependence import output_data
 from .design_reader import molar_mass as design_molar_mass
 from .schema import Case, OutputSpec
 
@@ -101,58 +101,6 @@ QUANTITY = {
     "heat_release": "Q",
     "adiabatic_temperature_rise": "ΔT_ad",
 }
-
-
-_BLAS_THREAD_SYMBOLS = (
-    ("scipy_openblas_get_num_threads64_", "scipy_openblas_set_num_threads64_"),
-    ("scipy_openblas_get_num_threads", "scipy_openblas_set_num_threads"),
-    ("openblas_get_num_threads", "openblas_set_num_threads"),
-)
-_blas_controls: list | None = None
-
-
-def _openblas_controls() -> list:
-    """(get, set) thread-count functions of the OpenBLAS libraries loaded in this process."""
-    global _blas_controls
-    if _blas_controls is None:
-        _blas_controls = []
-        try:
-            with open("/proc/self/maps", encoding="utf-8", errors="replace") as fh:
-                paths = sorted({ln.split()[-1] for ln in fh if "openblas" in ln.lower() and "/" in ln})
-        except OSError:
-            paths = []
-        for path in paths:
-            try:
-                lib = ctypes.CDLL(path)
-            except OSError:
-                continue
-            for get, put in _BLAS_THREAD_SYMBOLS:
-                if hasattr(lib, get) and hasattr(lib, put):
-                    _blas_controls.append((getattr(lib, get), getattr(lib, put)))
-                    break
-    return _blas_controls
-
-
-@contextlib.contextmanager
-def one_blas_thread():
-    """Limit OpenBLAS to one thread inside the block, restoring the previous count after.
-
-    See "One BLAS thread" in the module docstring. The setting is per process, so do not
-    rely on BLAS threads in other Python threads meanwhile.
-    """
-    controls = _openblas_controls()
-    saved = []
-    for get, put in controls:
-        n = int(get())
-        saved.append((put, n))
-        if n != 1:
-            put(1)
-    try:
-        yield
-    finally:
-        for put, n in saved:
-            if n != 1:
-                put(n)
 
 
 @dataclass
@@ -188,37 +136,27 @@ class Model:
     def f_reported(self, X: np.ndarray) -> np.ndarray:
         return self.evaluate(X)[:, : self.n_reported]
 
+    @property
+    def affine(self) -> bool:
+        """Every column (auxiliary ones included) is exactly affine in the inputs (the Monte
+        Carlo engine may then evaluate trials from the model's affine map, ``uq.trials``)."""
+        return bool(self.linear_in_inputs) and all(self.linear_in_inputs) and not self.aux
+
     def output_columns(self, i: int) -> list[int]:
         return [j for j, col in enumerate(self.columns) if col.output == i]
 
 
 def used_data(case: Case) -> set[str]:
-    """Ids of the data the outputs can depend on: every datum of a species that an output
-    uses (through its reaction, extent rates, species, mixture or charge), the measured
-    enthalpies of the reactions used, every datum that is not a species' or a reaction's
-    (output parameters), and every datum named in a ``[[correlation]]`` (so that the stated
-    correlations are always checked as one matrix). The rest of the case costs nothing:
-    a species no output uses gets no input column.
+    """Ids of the data the outputs can depend on — the union over the outputs of
+    :func:`uqthermo.case.dependence.output_data` (an output's own data, its reactions' data,
+    every datum of the species it involves through reactions, species, mixture, charge, feed
+    streams or mass basis; no standard entropies for enthalpy outputs) — and every datum named
+    in a ``[[correlation]]`` (so that the stated correlations are always checked as one
+    matrix). The rest of the case costs nothing: a species no output uses gets no input column.
     """
-    reactions: set[str] = set()
-    species: set[str] = set()
+    used: set[str] = set()
     for o in case.outputs:
-        for r in ([o.reaction] if o.reaction else []) + list(o.extent_rates):
-            reactions.add(r)
-        species |= {o.species} | {sp for sp, _ in o.mixture} | {sp for sp, _ in o.charge}
-    for r in reactions:
-        if r in case.reactions:
-            species |= {p.species for p in case.reactions[r].participants}
-    used = set()
-    for did, d in case.data.items():
-        if d.species:
-            if d.species in species:
-                used.add(did)
-        elif did.startswith("reaction."):
-            if did.split(".")[1] in reactions:
-                used.add(did)
-        else:
-            used.add(did)
+        used |= output_data(case, o)
     for a, b, _ in case.correlations:
         used |= {a, b}
     return used

@@ -70,6 +70,33 @@ def _contract(B: np.ndarray, c: np.ndarray) -> np.ndarray:
     return np.einsum("...p,...p->...", B, c)
 
 
+def _powers(t: np.ndarray, exponents, factors) -> np.ndarray:
+    """Basis terms ``factor_k · t**exponent_k`` stacked on a new last axis (``None``: a zero term).
+
+    The powers are built by repeated multiplication into one preallocated array (no ``**``
+    and no list of temporaries): per-sample temperatures make these bases (N, …, P) arrays
+    on the hot path of a Monte Carlo run.
+    """
+    t = np.asarray(t, dtype=float)
+    out = np.empty(t.shape + (len(exponents),))
+    pw = {0: None, 1: t}
+    for e in sorted({e for e in exponents if e is not None and e > 1}):
+        pw[e] = pw[e - 1] * t if e - 1 in pw else t ** e
+    for e in {e for e in exponents if e is not None and e < 0}:
+        pw[e] = 1.0 / pw[-e] if -e in pw else t ** e
+    for k, (e, f) in enumerate(zip(exponents, factors)):
+        col = out[..., k]
+        if e is None:
+            col[...] = 0.0
+        elif e == 0:
+            col[...] = f
+        elif f == 1.0:
+            col[...] = pw[e]
+        else:
+            np.multiply(pw[e], f, out=col)
+    return out
+
+
 #: exact temperature grids up to this size have their bases cached on the model
 _CACHE_MAX_POINTS = 512
 _CACHE_MAX_ENTRIES = 64
@@ -479,13 +506,15 @@ class PolynomialCp(CpModel):
         return list(self._term_names)
 
     def _cp_terms(self, T):
-        return np.stack([np.ones_like(T), T, T * T, T ** 3, 1.0 / (T * T)], axis=-1)
+        return _powers(T, (0, 1, 2, 3, -2), (1.0, 1.0, 1.0, 1.0, 1.0))
 
     def _h_terms(self, T):
-        return np.stack([T, T * T / 2.0, T ** 3 / 3.0, T ** 4 / 4.0, -1.0 / T], axis=-1)
+        return _powers(T, (1, 2, 3, 4, -1), (1.0, 0.5, 1.0 / 3.0, 0.25, -1.0))
 
     def _s_terms(self, T):
-        return np.stack([np.log(T), T, T * T / 2.0, T ** 3 / 3.0, -0.5 / (T * T)], axis=-1)
+        out = _powers(T, (0, 1, 2, 3, -2), (1.0, 1.0, 0.5, 1.0 / 3.0, -0.5))
+        np.log(T, out=out[..., 0])
+        return out
 
 
 class ShomateCp(CpModel):
@@ -529,15 +558,17 @@ class ShomateCp(CpModel):
 
     def _cp_terms(self, T):
         t = T / 1000.0
-        return np.stack([np.ones_like(t), t, t * t, t ** 3, 1.0 / (t * t)], axis=-1)
+        return _powers(t, (0, 1, 2, 3, -2), (1.0, 1.0, 1.0, 1.0, 1.0))
 
     def _h_terms(self, T):
         t = T / 1000.0
-        return 1000.0 * np.stack([t, t * t / 2.0, t ** 3 / 3.0, t ** 4 / 4.0, -1.0 / t], axis=-1)
+        return _powers(t, (1, 2, 3, 4, -1), (1000.0, 500.0, 1000.0 / 3.0, 250.0, -1000.0))
 
     def _s_terms(self, T):
         t = T / 1000.0
-        return np.stack([np.log(T), t, t * t / 2.0, t ** 3 / 3.0, -0.5 / (t * t)], axis=-1)
+        out = _powers(t, (0, 1, 2, 3, -2), (1.0, 1.0, 0.5, 1.0 / 3.0, -0.5))
+        np.log(T, out=out[..., 0])
+        return out
 
 
 class Nasa7Cp(CpModel):
@@ -597,16 +628,16 @@ class Nasa7Cp(CpModel):
         return [f"{n}[{_fmt(lo)}-{_fmt(hi)} K]" for lo, hi in self.ranges for n in self._term_names]
 
     def _cp_terms(self, T):
-        z = np.zeros_like(T)
-        return R * np.stack([np.ones_like(T), T, T * T, T ** 3, T ** 4, z, z], axis=-1)
+        return _powers(T, (0, 1, 2, 3, 4, None, None), (R, R, R, R, R, 0.0, 0.0))
 
     def _h_terms(self, T):
-        z = np.zeros_like(T)
-        return R * np.stack([T, T * T / 2.0, T ** 3 / 3.0, T ** 4 / 4.0, T ** 5 / 5.0, z, z], axis=-1)
+        return _powers(T, (1, 2, 3, 4, 5, None, None), (R, R / 2.0, R / 3.0, R / 4.0, R / 5.0, 0.0, 0.0))
 
     def _s_terms(self, T):
-        z = np.zeros_like(T)
-        return R * np.stack([np.log(T), T, T * T / 2.0, T ** 3 / 3.0, T ** 4 / 4.0, z, z], axis=-1)
+        out = _powers(T, (0, 1, 2, 3, 4, None, None), (R, R, R / 2.0, R / 3.0, R / 4.0, 0.0, 0.0))
+        np.log(T, out=out[..., 0])
+        out[..., 0] *= R
+        return out
 
     def absolute_enthalpy_basis(self, T) -> np.ndarray:
         """Basis of :math:`H^\\circ(T)` (range containing T), shape ``T.shape + (P,)``."""

@@ -66,10 +66,11 @@ from ..errors import StatisticsError
 from .inputs import InputSet
 from .montecarlo import (HISTOGRAM_BINS, KEEP_VALUES, MAX_STORED_VALUES, MonteCarloResult, _batch_summary,
                          _Collector, adaptive_batch_size, batch_origin, batch_test, check_run_arguments,
-                         collected_result, evaluate_model, sobol_rotation,
+                         collected_result, evaluate_batch, kept_rows, trial_design,
                          summarised_result)
 from .sampling import UniformStream
 from .stats import BinLayout, BinnedCDF, Moments, OrderStatistics
+from .trials import TrialDesign
 
 __all__ = ["propagate_monte_carlo_dask", "merge_moments", "block_plan", "check_scheduler"]
 
@@ -196,39 +197,35 @@ class _BlockResult:
     summary: np.ndarray | None = None   # adaptive: (6, M) batch summary (JCGM 101 §7.9.4)
 
 
-def _run_block(f, inputs: InputSet, method: str, seed: int, start: int, rows: int, chunk_size: int,
-               keep: int, want_values: bool, layout: BinLayout | None, coverage: float | None = None,
-               rotation: np.ndarray | None = None) -> _BlockResult:
-    """Evaluate rows ``[start, start + rows)`` of the run's stream (runs on a worker).
-
-    ``rotation``: the run's Sobol' score rotation (``montecarlo.score_rotation``), or None.
-    """
-    d = len(inputs)
-    stream = UniformStream(d, method, seed, skip=start)
-    moments: Moments | None = None
+def _run_block(design: TrialDesign, origin: tuple[int, int], start: int, rows: int, chunk_size: int,
+               keep: int, want_values: bool, layout: BinLayout | None,
+               coverage: float | None = None) -> _BlockResult:
+    """Evaluate ``rows`` trials of the run (runs on a worker): the stream position ``origin``
+    = (seed, skip) (see ``montecarlo.batch_origin``), global rows ``[start, start + rows)``
+    (for the kept rows), rows below ``keep`` kept."""
+    moments = Moments(design.n_outputs)
     values: list[np.ndarray] = []
     counts = None
     Xk: list[np.ndarray] = []
     Yk: list[np.ndarray] = []
-    n_kept = 0
-    for U in stream.chunks(rows, chunk_size):
-        X, Y = evaluate_model(f, inputs, U, rotation)
-        m = Y.shape[1]
-        if moments is None:
-            moments = Moments(m)
-            keep = int(max(0, min(keep, max(1000, KEEP_VALUES // max(1, d + m)))))
+    done = 0
+    stream = design.stream(*origin)
+    for chunk in (stream.chunks(rows, chunk_size) if coverage is None else [stream.draw(rows)]):
+        if coverage is None:
+            X, Y = design.evaluate(chunk, start + done, keep)
+        else:   # an adaptive batch: one chunk, evaluated in pieces
+            X, Y = evaluate_batch(design, chunk, start, keep, chunk_size)
         moments.add(Y)
-        if n_kept < keep:
-            t = min(keep - n_kept, Y.shape[0])
-            Xk.append(X[:t].copy())
-            Yk.append(Y[:t].copy())
-            n_kept += t
+        if X.shape[0]:
+            Xk.append(X)
+            Yk.append(Y[:X.shape[0]].copy())
         if want_values:
             values.append(Y)
         if layout is not None:
             if counts is None:
                 counts = BinnedCDF(layout=layout)
             counts.add(Y)
+        done += Y.shape[0]
     Yall = np.concatenate(values, axis=0) if want_values else None
     summary = _batch_summary(Yall, coverage) if coverage is not None else None
     return _BlockResult(start=start, moments=moments, values=Yall, counts=None if counts is None else counts.counts,
@@ -294,6 +291,8 @@ def propagate_monte_carlo_dask(
     max_stored_values: int = MAX_STORED_VALUES,
     histogram_bins: int = HISTOGRAM_BINS,
     rotate: bool = True,
+    affine: bool = False,
+    depends_on=None,
     block_rows: int | None = None,
     n_workers: int = 2,
     stop_columns: int | None = None,
@@ -318,27 +317,28 @@ def propagate_monte_carlo_dask(
     p, method, seed, d, chunk_size, adaptive, samples = check_run_arguments(
         inputs, samples, sampling, seed, coverage, ndigits, chunk_size)
     UniformStream(d, method, seed)   # validates the seed and the dimension before starting a cluster
-    rotation = sobol_rotation(f, inputs, method, rotate)   # computed once, here; sent with each task
+    # computed once, here (score rotation, affine map, active inputs); sent to the workers once
+    design = trial_design(f, inputs, method, int(seed), rotate, affine, depends_on)
 
     cluster = _Cluster(scheduler, n_workers)
     try:
         client = cluster.client
-        f_remote = client.scatter(f, broadcast=True, hash=False)
-        in_remote = client.scatter(inputs, broadcast=True, hash=False)
+        remote = client.scatter(design, broadcast=True, hash=False)
+        kp = kept_rows(keep, d, design.n_outputs)
         if adaptive:
-            return _adaptive(client, cluster.n_workers, f_remote, in_remote, inputs, method, int(seed), p,
-                             chunk_size, int(ndigits), progress, keep, int(max_samples), batch_size,
-                             check_shortest, int(max_stored_values), int(histogram_bins), rotation,
+            return _adaptive(client, cluster.n_workers, remote, design, method, int(seed), p,
+                             chunk_size, int(ndigits), progress, kp, int(max_samples), batch_size,
+                             check_shortest, int(max_stored_values), int(histogram_bins),
                              stop_columns=stop_columns)
-        return _fixed(client, cluster.n_workers, f_remote, in_remote, d, method, int(seed), p, int(samples),
-                      chunk_size, int(ndigits), progress, keep, int(max_stored_values), int(histogram_bins),
-                      block_rows, rotation)
+        return _fixed(client, cluster.n_workers, remote, design, d, method, int(seed), p, int(samples),
+                      chunk_size, int(ndigits), progress, kp, int(max_stored_values), int(histogram_bins),
+                      block_rows)
     finally:
         cluster.close()
 
 
-def _fixed(client, n_workers, f_remote, in_remote, d, method, seed, p, n_total, chunk_size, ndigits, progress,
-           keep, cap, bins, block_rows, rotation) -> MonteCarloResult:
+def _fixed(client, n_workers, remote, design, d, method, seed, p, n_total, chunk_size, ndigits, progress,
+           keep, cap, bins, block_rows) -> MonteCarloResult:
     from distributed import as_completed
 
     warnings: list[str] = []
@@ -350,11 +350,11 @@ def _fixed(client, n_workers, f_remote, in_remote, d, method, seed, p, n_total, 
     first_rows = plan[0][1]
 
     def submit(start, rows, values, layout=None):
-        return client.submit(_run_block, f_remote, in_remote, method, seed, start, rows, chunk_size,
-                             keep if start < keep else 0, values, layout, None, rotation, pure=False)
+        return client.submit(_run_block, remote, (seed, start), start, rows, chunk_size, keep, values, layout,
+                             pure=False)
 
     head = submit(0, first_rows, True).result()
-    m = head.moments.mean.shape[0]
+    m = design.n_outputs
     exact = n_total * m <= cap
     layout = None
     blocks: dict[int, _BlockResult] = {0: head}
@@ -381,7 +381,7 @@ def _fixed(client, n_workers, f_remote, in_remote, d, method, seed, p, n_total, 
         done += br.moments.n
         if progress is not None:
             progress(done, n_total)
-    return _finish(blocks, d, m, p, ndigits, exact, layout, warnings, method, seed, keep, rotation is not None)
+    return _finish(blocks, d, m, p, ndigits, exact, layout, warnings, method, seed, keep, design.rotation is not None)
 
 
 def _finish(blocks: dict, d, m, p, ndigits, exact, layout, warnings, method, seed, keep,
@@ -419,11 +419,11 @@ def _finish(blocks: dict, d, m, p, ndigits, exact, layout, warnings, method, see
                              sampling=method, rotated_scores=rotated)
 
 
-def _adaptive(client, n_workers, f_remote, in_remote, inputs, method, seed, p, chunk_size, ndigits, progress,
-              keep, max_samples, batch_size, check_shortest, cap, bins, rotation, *,
+def _adaptive(client, n_workers, remote, design, method, seed, p, chunk_size, ndigits, progress,
+              keep, max_samples, batch_size, check_shortest, cap, bins, *,
               stop_columns: int | None = None) -> MonteCarloResult:
     """JCGM 101 §7.9 with batches computed in parallel rounds, stopping rule applied in order."""
-    d = len(inputs)
+    d = len(design.inputs)
     M_b = int(batch_size) if batch_size is not None else adaptive_batch_size(p, method)
     if M_b < 2:
         raise StatisticsError(f"batch size must be at least 2, got {batch_size!r}")
@@ -443,16 +443,13 @@ def _adaptive(client, n_workers, f_remote, in_remote, inputs, method, seed, p, c
                               "(the §7.9 test needs at least two)")
     while not converged and done + M_b <= max_samples:     # whole batches only: the cap is never passed
         n_round = min(per_round, (max_samples - done) // M_b)
-        futs = [client.submit(_run_block, f_remote, in_remote, method, *batch_origin(method, seed, batches + i, M_b),
-                              M_b, min(chunk_size, M_b), keep if done + i * M_b < keep else 0, True, None, p,
-                              rotation, pure=False)
+        futs = [client.submit(_run_block, remote, batch_origin(method, seed, batches + i, M_b), (batches + i) * M_b,
+                              M_b, min(chunk_size, M_b), keep, True, None, p, pure=False)
                 for i in range(n_round)]
         results = [fu.result() for fu in futs]          # in batch order
         for br in results:
             if collector is None:
-                m = br.values.shape[1]
-                kp = int(max(0, min(keep, max(1000, KEEP_VALUES // max(1, d + m)))))
-                collector = _Collector(m, d, kp, cap, bins)
+                collector = _Collector(design.n_outputs, d, keep, cap, bins)
             # feed the collector the batch (kept rows come from the first batch's X)
             Xb = br.X_kept if br.X_kept is not None else np.empty((0, d))
             _collector_add(collector, Xb, br.values)
@@ -477,7 +474,7 @@ def _adaptive(client, n_workers, f_remote, in_remote, inputs, method, seed, p, c
                         f"{ndigits} significant digits")
     return collected_result(collector, d, p, ndigits, warnings, conv_n, conv_u, adaptive=True,
                             converged=converged, stability=stability, batch_size=M_b, batches=batches,
-                            seed=int(seed), sampling=method, rotated_scores=rotation is not None)
+                            seed=int(seed), sampling=method, rotated_scores=design.rotation is not None)
 
 
 def _collector_add(collector: _Collector, X_kept: np.ndarray, Y: np.ndarray) -> None:

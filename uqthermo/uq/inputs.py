@@ -24,7 +24,7 @@ from scipy import special
 from ..errors import CorrelationError, StatisticsError
 from .distributions import Distribution
 
-__all__ = ["InputVariable", "InputSet", "Datum", "check_correlation", "pearson_from_normal_score",
+__all__ = ["InputVariable", "InputSet", "Datum", "check_correlation", "rows_times", "pearson_from_normal_score",
            "normal_score_from_pearson", "normal_score_from_spearman"]
 
 #: tolerances of the matrix checks
@@ -49,7 +49,7 @@ def _scratch(shape: tuple[int, ...]) -> np.ndarray:
     return buf[:n].reshape(shape)
 
 
-def _rows_times(Z: np.ndarray, B: np.ndarray) -> np.ndarray:
+def rows_times(Z: np.ndarray, B: np.ndarray) -> np.ndarray:
     """Z @ B with each row's result independent of how many rows Z has: BLAS multiplies a
     single row by another routine (matrix-vector) that rounds differently, so one row is
     computed as two."""
@@ -489,10 +489,10 @@ class InputSet:
             Z = special.ndtri(Uz, out=_scratch(Uz.shape))   # z never leaves this call
             nz, mu, sd = plan["normal"]
             if plan["z_columns"] is Ellipsis and len(nz) == d:   # every input normal and independent:
-                X = _rows_times(Z, W.T * sd)                       # x = x̂ + u ⊙ (W z), u folded into W
+                X = rows_times(Z, W.T * sd)                       # x = x̂ + u ⊙ (W z), u folded into W
                 X += mu
                 return X
-            return self.from_scores(_rows_times(Z, W.T))
+            return self.from_scores(rows_times(Z, W.T))
         X = np.empty((n, d), dtype=float)
         for j in plan["exact"]:
             X[:, j] = self.variables[j].distribution.estimate
@@ -515,7 +515,7 @@ class InputSet:
                 X[:, plan["normal_columns"]] = Z[:, nz] * sd + mu
             linked, L = self._copula_factor()
             if L is not None:
-                Zc = _rows_times(Z[:, plan["linked"]], L.T)
+                Zc = rows_times(Z[:, plan["linked"]], L.T)
                 for k, j in enumerate(linked):
                     X[:, j] = self.variables[j].distribution.from_standard_normal(Zc[:, k])
         return X
@@ -546,10 +546,20 @@ class InputSet:
             X[:, normal] = S[:, [where[int(j)] for j in normal]] * sd + mu
         linked, L = self._copula_factor()
         if L is not None:
-            Zc = _rows_times(S[:, [where[int(j)] for j in linked]], L.T)
+            Zc = rows_times(S[:, [where[int(j)] for j in linked]], L.T)
             for k, j in enumerate(linked):
                 X[:, j] = self.variables[j].distribution.from_standard_normal(Zc[:, k])
         return X
+
+    def column_plan(self) -> dict:
+        """Which columns are exact, independent normal, other independent, copula-linked (cached).
+
+        Keys: ``"exact"``, ``"other"`` (lists of column indices), ``"normal_columns"`` (array),
+        ``"linked_columns"`` (array, the variables of the Gaussian copula, with ``"factor"`` L,
+        L Lᵀ = their normal-score correlation matrix, or None), ``"uncertain"`` (array of the
+        columns with u > 0), plus the internal layout of :meth:`from_uniform`.
+        """
+        return self._transform_plan()
 
     def _transform_plan(self) -> dict:
         """Cached column plan of :meth:`from_uniform` (which columns are exact, normal, copula-linked)."""
@@ -577,7 +587,9 @@ class InputSet:
                           "normal": (np.array([pos[j] for j in normal], dtype=np.intp), mu, sd),
                           "normal_columns": np.array(normal, dtype=np.intp),
                           "linked": np.array([pos[int(j)] for j in linked] if L is not None else [], dtype=np.intp),
-                          "uncertain": np.flatnonzero(np.asarray(self.stds) > 0)}
+                          "uncertain": np.flatnonzero(np.asarray(self.stds) > 0),
+                          "linked_columns": np.array(sorted(linked_set), dtype=np.intp),
+                          "factor": L}
             self._plan["score_of"] = {int(j): k for k, j in enumerate(self._plan["uncertain"])}
         return self._plan
 

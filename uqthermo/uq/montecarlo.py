@@ -1,8 +1,9 @@
 """Propagation of distributions by the Monte Carlo method (JCGM 101:2008).
 
-Input samples come from :class:`~uqthermo.uq.sampling.UniformStream` mapped through
-:meth:`~uqthermo.uq.inputs.InputSet.from_uniform`; the vectorised model is evaluated
-chunk by chunk so memory stays bounded for any number of trials.
+Trials come from the run's :class:`~uqthermo.uq.trials.TrialDesign` (normal scores drawn
+directly for pseudo-random sampling, uniforms through Φ⁻¹ for Sobol' and Latin hypercube; only
+the inputs the model depends on; an affine model evaluated as one product of the scores with
+its map) and are evaluated chunk by chunk so memory stays bounded for any number of trials.
 
 Summary of the output distribution (JCGM 101 §7.5–7.7), per output:
 
@@ -51,7 +52,7 @@ Mean, u(y) and skewness always use all values (mergeable moments).
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -60,6 +61,7 @@ from ..errors import StatisticsError
 from .inputs import InputSet
 from .sampling import UniformStream, _method
 from .stats import BinLayout, BinnedCDF, Moments, OrderStatistics, numerical_tolerance
+from .trials import TrialDesign
 
 __all__ = ["MonteCarloResult", "propagate_monte_carlo", "adaptive_batch_size"]
 
@@ -107,7 +109,8 @@ def batch_seed(seed: int, batch: int) -> int:
     return int(np.random.SeedSequence([int(seed), int(batch)]).generate_state(1, dtype=np.uint64)[0] >> 1)
 
 
-def score_rotation(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet) -> np.ndarray | None:
+def score_rotation(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet,
+                   columns: np.ndarray | None = None) -> np.ndarray | None:
     """Orthogonal matrix W (K, K) that points the leading Sobol' coordinates along the model's
     linear directions in the space of the K independent normal input scores.
 
@@ -142,12 +145,19 @@ def score_rotation(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet) -> n
     BLAS or libm) then move W by rounding only, not to another basis. Returns None (plain
     Sobol' axes) when the model cannot be evaluated at those points or no output has a
     linear part (|g_k| ≤ 10⁻⁹ max|f_k| is taken as rounding).
+
+    ``columns``: the uncertain input columns to rotate (those the model depends on, see
+    :class:`~uqthermo.uq.trials.TrialDesign`); W is then (len(columns), len(columns)) over
+    their scores, in that order, and the other scores stay 0. Default: all uncertain columns.
     """
     unc = np.flatnonzero(np.asarray(inputs.stds) > 0)
-    k = len(unc)
+    pos = np.arange(len(unc)) if columns is None else np.searchsorted(unc, np.asarray(columns, dtype=np.intp))
+    k = len(pos)
     if k == 0:
         return None
-    S = np.vstack([np.eye(k), -np.eye(k)])
+    S = np.zeros((2 * k, len(unc)))
+    S[np.arange(k), pos] = 1.0
+    S[np.arange(k, 2 * k), pos] = -1.0
     try:
         with np.errstate(all="ignore"):
             Y = np.asarray(f(inputs.from_scores(S)), dtype=float).reshape(2 * k, -1)
@@ -336,23 +346,6 @@ class MonteCarloResult:
         return np.array([a for a, _ in h], dtype=np.int64), np.array([b for _, b in h], dtype=float)
 
 
-def evaluate_model(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet,
-                   U: np.ndarray, rotation: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
-    """(X, Y[N, M]) for uniforms U (and the run's score ``rotation``): the model's values, shape and finiteness checked."""
-    X = inputs.from_uniform(U, rotation)
-    Y = np.asarray(f(X), dtype=float)
-    if Y.ndim == 1:
-        Y = Y[:, None]
-    if Y.ndim != 2 or Y.shape[0] != X.shape[0]:
-        raise StatisticsError(f"model must return shape (N, M) for N = {X.shape[0]} input rows, got {Y.shape}")
-    if not np.isfinite(np.add.reduce(Y, axis=0)).all():   # a sum is finite if every term is
-        bad = ~np.all(np.isfinite(Y), axis=1)
-        if np.any(bad):
-            raise StatisticsError(f"model returned non-finite values for {int(bad.sum())} of {Y.shape[0]} "
-                                  f"samples in a chunk (first at input row {int(np.flatnonzero(bad)[0])})")
-    return X, Y
-
-
 class _Collector:
     """Accumulates model values: moments always; values (or a fixed histogram); a kept subsample.
 
@@ -531,6 +524,42 @@ def check_run_arguments(inputs, samples, sampling, seed, coverage, ndigits, chun
     return p, method, seed, d, chunk_size, adaptive, samples
 
 
+def kept_rows(keep: int, d: int, m: int) -> int:
+    """Rows kept for ``X_kept``/``Y_kept``: ``keep``, reduced so that rows·(D + M) ≤ 4·10⁶ (at least 1000)."""
+    return int(max(0, min(keep, max(1000, KEEP_VALUES // max(1, d + m)))))
+
+
+def trial_design(f, inputs: InputSet, method: str, seed: int, rotate: bool, affine: bool,
+                 depends_on) -> TrialDesign:
+    """The run's :class:`~uqthermo.uq.trials.TrialDesign` (with the Sobol' score rotation when asked)."""
+    rotation = (lambda cols: score_rotation(f, inputs, cols)) if method == "sobol" and rotate else None
+    return TrialDesign(f, inputs, method, seed, rotation=rotation, affine=affine, depends_on=depends_on)
+
+
+def design_batches(design: TrialDesign, batch_size: int) -> Callable[[int], object]:
+    """``draw(b)``: the trials of adaptive batch b (JCGM 101 §7.9) as one chunk of ``design``.
+
+    As :func:`batch_sampler`: random and Latin hypercube continue one stream (call in batch
+    order); a Sobol' batch is the first ``batch_size`` points of its own scramble.
+    """
+    if design.method != "sobol":
+        own = design.stream()
+        return lambda b: own.draw(batch_size)
+    return lambda b: design.stream(*batch_origin("sobol", design.seed, b, batch_size)).draw(batch_size)
+
+
+def evaluate_batch(design: TrialDesign, chunk, row0: int, keep_rows: int,
+                   chunk_size: int) -> tuple[np.ndarray, np.ndarray]:
+    """(X kept, Y) of one batch, evaluated in pieces of at most ``chunk_size`` rows."""
+    n = design.rows_of(chunk)
+    parts = [design.evaluate(design.slice(chunk, a, min(n, a + chunk_size)), row0 + a, keep_rows)
+             for a in range(0, n, chunk_size)]
+    if len(parts) == 1:
+        return parts[0]
+    return (np.concatenate([x for x, _ in parts], axis=0),
+            np.asfortranarray(np.concatenate([y for _, y in parts], axis=0)))
+
+
 def propagate_monte_carlo(
     f: Callable[[np.ndarray], np.ndarray],
     inputs: InputSet,
@@ -549,6 +578,8 @@ def propagate_monte_carlo(
     max_stored_values: int = MAX_STORED_VALUES,
     histogram_bins: int = HISTOGRAM_BINS,
     rotate: bool = True,
+    affine: bool = False,
+    depends_on: Sequence[int] | None = None,
     stop_columns: int | None = None,
 ) -> MonteCarloResult:
     """Propagate the input distributions through f by Monte Carlo (JCGM 101 §7).
@@ -586,6 +617,14 @@ def propagate_monte_carlo(
     rotate : bool
         Sobol' sampling: drive the input scores rotated onto the model's linear directions
         (:func:`score_rotation`); False keeps one Sobol' coordinate per input.
+    affine : bool
+        The caller states that f is exactly affine in X (e.g. reaction enthalpies at exact
+        temperatures). The map is then taken from f once, checked on spread-out rows, and
+        every trial is one product of its normal scores with it, the input transform folded
+        in (see :mod:`uqthermo.uq.trials`); if the check fails f is evaluated as usual.
+    depends_on : sequence of int, optional
+        Input columns f depends on. Only they are sampled for f; the others are drawn for the
+        kept rows (``X_kept``) alone. Default: all (or, with ``affine``, the columns its map uses).
     stop_columns : int, optional
         Adaptive: only the first ``stop_columns`` outputs must be stable (:func:`batch_test`).
 
@@ -595,31 +634,18 @@ def propagate_monte_carlo(
     """
     p, method, seed, d, chunk_size, adaptive, samples = check_run_arguments(
         inputs, samples, sampling, seed, coverage, ndigits, chunk_size)
-    stream = UniformStream(d, method, seed)
-    rotation = sobol_rotation(f, inputs, method, rotate)
+    design = trial_design(f, inputs, method, seed, rotate, affine, depends_on)
     warnings: list[str] = []
-    state = {"m": None}
-
-    def evaluate(U: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        X, Y = evaluate_model(f, inputs, U, rotation)
-        if state["m"] is None:
-            state["m"] = Y.shape[1]
-        elif Y.shape[1] != state["m"]:
-            raise StatisticsError(f"model returned {Y.shape[1]} outputs, earlier {state['m']}")
-        return X, Y
-
-    def make_collector(m: int) -> _Collector:
-        kp = int(max(0, min(keep, max(1000, KEEP_VALUES // max(1, d + m)))))
-        return _Collector(m, d, kp, int(max_stored_values), int(histogram_bins),
-                          expect_rows=None if adaptive else samples)
-
+    m = design.n_outputs
+    kp = kept_rows(keep, d, m)
+    collector = _Collector(m, d, kp, int(max_stored_values), int(histogram_bins),
+                           expect_rows=None if adaptive else samples)
     conv_n: list[int] = []
     conv_u: list[np.ndarray] = []
     stability: dict = {}
     converged = True
     batches = 0
     M_b = 0
-    collector: _Collector | None = None
 
     if not adaptive:
         n_total = samples
@@ -630,10 +656,8 @@ def propagate_monte_carlo(
         checkpoints = [c for c in checkpoints if c >= min(100, n_total)]
         ci = 0
         done = 0
-        for U in stream.chunks(n_total, chunk_size):
-            X, Y = evaluate(U)
-            if collector is None:
-                collector = make_collector(Y.shape[1])
+        for chunk in design.stream().chunks(n_total, chunk_size):
+            X, Y = design.evaluate(chunk, done, kp)
             pos = 0
             while pos < Y.shape[0]:
                 stop = min(Y.shape[0], pos + checkpoints[ci] - done) if ci < len(checkpoints) else Y.shape[0]
@@ -650,8 +674,7 @@ def propagate_monte_carlo(
         M_b = int(batch_size) if batch_size is not None else adaptive_batch_size(p, method)
         if M_b < 2:
             raise StatisticsError(f"batch size must be at least 2, got {batch_size!r}")
-        draw_batch = batch_sampler(inputs, method, seed, M_b, stream)
-        per_call = max(1, chunk_size // M_b)
+        draw_batch = design_batches(design, M_b)
         summaries: list[np.ndarray] = []
         converged = False
         done = 0
@@ -659,30 +682,22 @@ def propagate_monte_carlo(
             raise StatisticsError(f"max_samples = {max_samples} is below two adaptive batches of {M_b} trials "
                                   "(the §7.9 test needs at least two)")
         while not converged and done + M_b <= max_samples:     # whole batches only: the cap is never passed
-            group = min(per_call, (max_samples - done) // M_b)
-            U = np.concatenate([draw_batch(batches + g) for g in range(group)], axis=0)
-            parts = [evaluate(U[i:i + chunk_size]) for i in range(0, U.shape[0], chunk_size)]
-            X = np.concatenate([a for a, _ in parts], axis=0)
-            Y = np.concatenate([b for _, b in parts], axis=0)
-            if collector is None:
-                collector = make_collector(Y.shape[1])
-            for g in range(group):
-                Yb = Y[g * M_b:(g + 1) * M_b]
-                collector.add(X[g * M_b:(g + 1) * M_b], Yb)
-                done += M_b
-                batches += 1
-                summaries.append(_batch_summary(Yb, p))
-                u_all = collector.moments.std
-                conv_n.append(done)
-                conv_u.append(u_all.copy())
-                if progress is not None:
-                    progress(done, None)
-                if batches < 2:
-                    continue
-                stable, spread = batch_test(summaries, u_all, ndigits, check_shortest, stop_columns)
-                if stable or done + M_b > max_samples:
-                    converged, stability = stable, spread
-                    break
+            X, Y = evaluate_batch(design, draw_batch(batches), batches * M_b, kp, chunk_size)
+            collector.add(X, Y)
+            done += M_b
+            batches += 1
+            summaries.append(_batch_summary(Y, p))
+            u_all = collector.moments.std
+            conv_n.append(done)
+            conv_u.append(u_all.copy())
+            if progress is not None:
+                progress(done, None)
+            if batches < 2:
+                continue
+            stable, spread = batch_test(summaries, u_all, ndigits, check_shortest, stop_columns)
+            if stable or done + M_b > max_samples:
+                converged, stability = stable, spread
+                break
         if not converged:
             warnings.append(f"adaptive Monte Carlo stopped at {done} trials (the cap max_samples = {max_samples}, in "
                             f"whole batches of {M_b}) before u(y) and the interval endpoints were stable to "
@@ -691,4 +706,4 @@ def propagate_monte_carlo(
     assert collector is not None
     return collected_result(collector, d, p, ndigits, warnings, conv_n, conv_u, adaptive=adaptive,
                             converged=converged, stability=stability, batch_size=M_b, batches=batches,
-                            seed=int(seed), sampling=method, rotated_scores=rotation is not None)
+                            seed=int(seed), sampling=method, rotated_scores=design.rotation is not None)

@@ -11,13 +11,20 @@ drawing it at once, whatever the chunk size.
   scrambling seeded by ``seed`` (Sobol' 1967; Joe & Kuo 2008 direction numbers; Owen 1995);
   ``skip`` uses ``fast_forward``. The 30-bit points k·2⁻³⁰ are shifted by half a cell
   (+2⁻³¹) so that no value is exactly 0; at most 2³⁰ points per sequence.
-* ``"latin-hypercube"`` -- ``scipy.stats.qmc.LatinHypercube`` (McKay, Beckman & Conover
-  1979). A design is stratified over the points drawn *together*: one call of
+* ``"latin-hypercube"`` -- random-within-stratum Latin hypercube (McKay, Beckman & Conover
+  1979; the design of ``scipy.stats.qmc.LatinHypercube(scramble=True)``). A design is stratified over the points drawn *together*: one call of
   :func:`uniform_sample` (or one ``draw`` of a :class:`UniformStream`) of n points is one
   design, built from ⌈n/2¹⁸⌉ equal blocks of at most 2¹⁸ points (each block an LHS of its
   own, seeded from ``(seed, skip, block)``) so that memory stays bounded; chunked
   iteration slices these blocks and is therefore chunk-size independent too.
   Different ``skip`` values give independent designs.
+
+:class:`ScoreStream` is the pseudo-random stream of the Monte Carlo engine: it draws standard
+normal scores directly with ``Generator.standard_normal`` (numpy's ziggurat) instead of
+uniforms through Φ⁻¹, and uniforms for the inputs that are not driven by a normal score. Its
+rows come in blocks of :data:`SCORE_BLOCK` rows, each column of a block with its own seeded
+generator, so that any row range can be drawn on its own (``skip``), chunked draws equal one
+draw, and a column's numbers do not depend on the other columns.
 """
 
 from __future__ import annotations
@@ -30,13 +37,16 @@ from scipy.stats import qmc
 
 from ..errors import StatisticsError
 
-__all__ = ["METHODS", "UniformStream", "uniform_sample", "iter_uniform_chunks", "LHS_BLOCK"]
+__all__ = ["METHODS", "UniformStream", "ScoreStream", "uniform_sample", "iter_uniform_chunks", "LHS_BLOCK",
+           "SCORE_BLOCK"]
 
 METHODS = ("random", "latin-hypercube", "sobol")
 #: largest number of points in one Latin-hypercube block
 LHS_BLOCK = 2**18
 SOBOL_BITS = 30
 SOBOL_MAX = 2**SOBOL_BITS
+#: rows per block of :class:`ScoreStream` (each block has its own generators)
+SCORE_BLOCK = 2**14
 
 _ALIASES = {"lhs": "latin-hypercube", "latin_hypercube": "latin-hypercube", "pseudo-random": "random",
             "qmc": "sobol", "sobol'": "sobol"}
@@ -164,12 +174,21 @@ class UniformStream:
 
 
 def _lhs_blocks(n: int, d: int, seed: int, start: int) -> Iterator[np.ndarray]:
+    """Latin-hypercube blocks: u_ij = (π_j(i) + v_ij)/m with an independent random permutation
+    π_j of the m strata per column and v_ij uniform on [0, 1) (McKay, Beckman & Conover 1979;
+    the random-within-stratum form of ``scipy.stats.qmc.LatinHypercube(scramble=True)``),
+    drawn with numpy's ``Generator.permuted`` (Fisher-Yates) on 32-bit stratum indices."""
     nb = -(-n // LHS_BLOCK)
     sizes = [n // nb + (1 if b < n % nb else 0) for b in range(nb)]
     for b, m in enumerate(sizes):
-        ss = np.random.SeedSequence(seed, spawn_key=(start, b))
-        eng = qmc.LatinHypercube(d, scramble=True, rng=np.random.Generator(np.random.PCG64(ss)))
-        yield eng.random(m)
+        gen = np.random.Generator(np.random.PCG64(np.random.SeedSequence(seed, spawn_key=(start, b))))
+        strata = np.empty((d, m), dtype=np.int32)
+        strata[:] = np.arange(m, dtype=np.int32)
+        gen.permuted(strata, axis=1, out=strata)
+        U = gen.random((m, d))
+        U += strata.T
+        U *= 1.0 / m
+        yield U
 
 
 def uniform_sample(n: int, d: int, method: str = "sobol", seed: int = 0, skip: int = 0) -> np.ndarray:
@@ -197,3 +216,86 @@ def iter_uniform_chunks(n: int, d: int, method: str = "sobol", seed: int = 0, ch
     The concatenation is bit-identical to the single draw for every method and chunk size.
     """
     yield from UniformStream(d, method, seed, skip).chunks(n, chunk_size)
+
+
+class ScoreStream:
+    """A reproducible pseudo-random stream of rows (z, v): standard normal scores and uniforms.
+
+    Parameters
+    ----------
+    normal, uniform : sequences of int
+        Column labels (e.g. input column indices) of the normal scores and of the uniforms;
+        every label has its own generators, so a column's numbers do not depend on which
+        other columns are drawn (common random numbers across runs that differ in them).
+    seed : int
+        Non-negative seed.
+    skip : int
+        Rows to skip at the start of the stream.
+
+    The rows are grouped in blocks of :data:`SCORE_BLOCK`. In block b, column label c draws
+    its values one after the other from ``PCG64(SeedSequence(seed, spawn_key=(b, c)))``:
+    normal scores with ``Generator.standard_normal`` (numpy's ziggurat method, Marsaglia &
+    Tsang 2000, J. Stat. Softw. 5(8)), uniforms with ``Generator.random`` ([0, 1) at 2⁻⁵³
+    resolution) — independent streams in the sense of numpy's ``SeedSequence.spawn``
+    (O'Neill 2014, PCG). A ziggurat draw consumes a variable number of 64-bit outputs, so a
+    row range that starts inside a block is reached by drawing and discarding that block's
+    earlier rows. ``draw(10)`` then ``draw(20)`` equals ``draw(30)``.
+    """
+
+    def __init__(self, normal, uniform=(), seed: int = 0, skip: int = 0):
+        if int(skip) != skip or skip < 0:
+            raise StatisticsError(f"skip must be a non-negative integer, got {skip!r}")
+        self.normal = [int(c) for c in normal]
+        self.uniform = [int(c) for c in uniform]
+        if len(set(self.normal + self.uniform)) != len(self.normal) + len(self.uniform) or \
+                any(c < 0 for c in self.normal + self.uniform):
+            raise StatisticsError("column labels of a score stream must be distinct non-negative integers")
+        self.seed = _seed(seed)
+        self.position = int(skip)
+        self._block = -1
+        self._gens: list = []
+
+    @property
+    def k(self) -> int:
+        return len(self.normal)
+
+    @property
+    def m(self) -> int:
+        return len(self.uniform)
+
+    def _open(self, block: int) -> None:
+        """Generators of ``block``, advanced to the current position."""
+        self._gens = [np.random.Generator(np.random.PCG64(np.random.SeedSequence(self.seed, spawn_key=(block, c))))
+                      for c in self.normal + self.uniform]
+        self._block = block
+        lead = self.position - block * SCORE_BLOCK
+        if lead:
+            waste = np.empty(min(lead, 1 << 16))
+            for g in self._gens[:self.k]:
+                todo = lead
+                while todo:
+                    t = min(todo, waste.size)
+                    g.standard_normal(out=waste[:t])
+                    todo -= t
+            for g in self._gens[self.k:]:
+                g.bit_generator.advance(lead)     # one 64-bit output per uniform
+
+    def draw(self, n: int, out: tuple[np.ndarray, np.ndarray] | None = None) -> tuple[np.ndarray, np.ndarray]:
+        """The next ``n`` rows as (Z (n, k), V (n, m)), column-major; ``out``: such arrays to fill instead."""
+        if int(n) != n or n < 0:
+            raise StatisticsError(f"number of samples must be a non-negative integer, got {n!r}")
+        n = int(n)
+        Z, V = out if out is not None else (np.empty((n, self.k), order="F"), np.empty((n, self.m), order="F"))
+        done = 0
+        while done < n:
+            block = self.position // SCORE_BLOCK
+            if block != self._block:
+                self._open(block)
+            t = min(n - done, (block + 1) * SCORE_BLOCK - self.position)
+            for i, g in enumerate(self._gens[:self.k]):
+                g.standard_normal(out=Z[done:done + t, i])
+            for i, g in enumerate(self._gens[self.k:]):
+                g.random(out=V[done:done + t, i])
+            done += t
+            self.position += t
+        return Z, V

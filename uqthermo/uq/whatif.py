@@ -497,9 +497,10 @@ class CommonSample:
     """One shared Monte Carlo input sample for common-random-number studies (x-space scaling).
 
     ``X = inputs.from_uniform(U, W)`` with ``U = uniform_sample(samples, D, sampling, seed)``
-    and W the Sobol' score rotation of ``f`` (``rotate=True``; None otherwise): the same rows
-    :func:`uqthermo.uq.montecarlo.propagate_monte_carlo` draws for ``f``, that seed and a
-    fixed sample size. :meth:`evaluate` applies per-variable factors a to the
+    and W the Sobol' score rotation of ``f`` (``rotate=True``; None otherwise): with Sobol' or
+    Latin-hypercube sampling the same rows :func:`uqthermo.uq.montecarlo.propagate_monte_carlo`
+    draws for ``f``, that seed and a fixed sample size when all inputs are sampled
+    (pseudo-random runs draw their normal scores directly, see :mod:`uqthermo.uq.trials`). :meth:`evaluate` applies per-variable factors a to the
     deviations, ``x' = x̂ + a (x − x̂)``, evaluates the model and summarises each scenario:
     u = sample standard deviation (JCGM 101 §7.6) and the probabilistically symmetric
     100p % coverage interval (JCGM 101 §7.7). X is kept in memory when N·D ≤ 2.5e7 values,
