@@ -104,7 +104,7 @@ def test_adaptive_stops_at_the_same_batch(client, model):
 
 
 def test_run_case_on_a_scheduler_address(client):
-    from uqthermo.run import run_case
+    from uqthermo.pipeline.job import run_case
 
     res = run_case(ROOT / "inputs" / "methanation_reactor.toml", samples=20_000, method="monte-carlo",
                    engine="dask", scheduler=client.scheduler.address, what_if=False)

@@ -12,8 +12,8 @@ import pytest
 
 from uqthermo.case.loader import load_case
 from uqthermo.errors import InputError
-from uqthermo.plan import compute_plan, resolve_plan_request
-from uqthermo.run import prepare_model
+from uqthermo.pipeline.purchase_plan import compute_plan, resolve_plan_request
+from uqthermo.pipeline.job import prepare_model
 from uqthermo.uq.linear import propagate_linear
 
 CASE = "inputs/epoxide_hydration_batch.toml"

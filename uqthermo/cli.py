@@ -236,9 +236,10 @@ def _main(argv: list[str] | None) -> int:
         if not args.command:
             parser.print_help()
             return EXIT_INPUT
-        from . import commands
+        import importlib
 
-        return getattr(commands, f"cmd_{args.command}")(args)
+        command = importlib.import_module(f"{__package__}.commands.{args.command}")
+        return command.execute(args)
     except InputError as e:
         _print_problems(e)
         return EXIT_INPUT

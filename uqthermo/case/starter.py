@@ -67,9 +67,9 @@ def resolve_token(token: str):
     InputError
         Unknown name, or a formula the groups do not single out (candidates listed).
     """
-    from ..case.library.base import LibraryLookupError
-    from ..case.library.formula import try_hill
-    from ..case.library.identify import atct_only, identify
+    from .library.base import LibraryLookupError
+    from .library.formula import try_hill
+    from .library.identify import atct_only, identify
 
     hill = try_hill(token)
     if hill is None:

@@ -10,12 +10,6 @@ atomically into a folder.
 
 from __future__ import annotations
 
-import datetime as _dt
-import json
-import math
-import os
-import platform
-import tempfile
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -23,25 +17,14 @@ from typing import Any, Callable
 
 import numpy as np
 
-from .case.builder import QUANTITY, Model, build_model, check_model
-from .case.dependence import model_columns
-from .case.loader import load_case
-from .case.schema import Case
-from .errors import InputError, Problem, UqthermoError
-from .pipeline.publish import MANIFEST, OutputFolder, check_target
+from ..case.builder import QUANTITY, Model, build_model, check_model
+from ..case.dependence import model_columns
+from ..case.loader import load_case
+from ..case.schema import Case
+from ..errors import InputError, Problem, UqthermoError
+from .output_files import run_log
 
 FORMAT = "uqthermo.results/1"
-
-SAFETY_CAUTIONS = [
-    "These figures are estimates from tabulated data and correlations. They support, and never replace, "
-    "reaction calorimetry (e.g. heat-flow or adiabatic calorimetry of the actual reaction mass) and a hazard "
-    "review by qualified people.",
-    "Design and relief decisions must follow the applicable local codes, standards and licensed engineering "
-    "practice; the margins shown here are statistical, not regulatory, margins.",
-    "The Monte Carlo result is only as good as the stated input uncertainties and the model (Kirchhoff's law "
-    "along the stated phase path, ideal mixing, no side reactions unless modelled).",
-]
-
 
 @dataclass
 class RunResult:
@@ -57,32 +40,15 @@ class RunResult:
     run_log: dict = field(default_factory=dict)
 
     def _repr_html_(self) -> str:  # Jupyter
-        from .report.notebook import ResultsView
+        from ..report.notebook import ResultsView
 
         return ResultsView(self.results)._repr_html_()
 
     def to_dataframe(self):
         """One row per output point (pandas DataFrame)."""
-        from .report.notebook import ResultsView
+        from ..report.notebook import ResultsView
 
         return ResultsView(self.results).to_dataframe()
-
-
-def _jsonable(x):
-    if isinstance(x, dict):
-        return {str(k): _jsonable(v) for k, v in x.items()}
-    if isinstance(x, (list, tuple)):
-        return [_jsonable(v) for v in x]
-    if isinstance(x, np.ndarray):
-        return _jsonable(x.tolist())
-    if isinstance(x, (np.floating, float)):
-        v = float(x)
-        return v if math.isfinite(v) else None
-    if isinstance(x, (np.integer,)):
-        return int(x)
-    if isinstance(x, np.bool_):
-        return bool(x)
-    return x
 
 
 #: what run_case is doing, and on what sizes (for the out-of-memory message)
@@ -151,13 +117,13 @@ def _run_case(path: str | Path, *, samples, seed, method, sampling, engine, sche
         s.sampling = sampling
     if what_if is not None:
         s.what_if = what_if
-    from .case.loader import adaptive_cap_problem
+    from ..case.loader import adaptive_cap_problem
 
     cap = adaptive_cap_problem(s)
     if cap is not None:
         raise InputError([Problem(case.path, "settings.max_samples", cap)])
     if engine == "dask" and isinstance(scheduler, str):     # a wrong address fails now, not after the linear method
-        from .uq.distributed import check_scheduler
+        from ..uq.distributed import check_scheduler
 
         check_scheduler(scheduler)
     _STAGE.update(stage="building the model", points=sum(len(o.temperatures) if o.temperatures is not None else 1
@@ -165,7 +131,7 @@ def _run_case(path: str | Path, *, samples, seed, method, sampling, engine, sche
     model, model_warnings = prepare_model(case)
     warnings = list(case.warnings) + model_warnings
     if case.candidates and (s.plan_target or s.plan_budget is not None) and len(model.inputs.variables):
-        from .plan import resolve_plan_request   # a plan that cannot be made is an input error, before any work
+        from .purchase_plan import resolve_plan_request   # a plan that cannot be made is an input error, before any work
 
         resolve_plan_request(case, model, target=s.plan_target, budget=s.plan_budget,
                              key="settings.plan_target" if s.plan_target else "settings.plan_budget")
@@ -185,9 +151,9 @@ def _run_case(path: str | Path, *, samples, seed, method, sampling, engine, sche
 
 def _propagate(case: Case, model: Model, warnings: list[str], t0: float, engine: str, scheduler, progress) -> RunResult:
     """Linear and Monte Carlo propagation, validation and results assembly (see :func:`run_case`)."""
-    from .uq.linear import propagate_linear
-    from .uq.montecarlo import propagate_monte_carlo
-    from .uq.validation import validate_linear
+    from ..uq.linear import propagate_linear
+    from ..uq.montecarlo import propagate_monte_carlo
+    from ..uq.validation import validate_linear
 
     s = case.settings
     inputs = model.inputs
@@ -214,7 +180,7 @@ def _propagate(case: Case, model: Model, warnings: list[str], t0: float, engine:
         _STAGE.update(stage="propagating by Monte Carlo", samples=s.samples if isinstance(s.samples, int)
                       else s.max_samples)
         if engine == "dask":
-            from .uq.distributed import propagate_monte_carlo_dask
+            from ..uq.distributed import propagate_monte_carlo_dask
 
             mc = propagate_monte_carlo_dask(model.f, inputs, scheduler=scheduler, **mc_kwargs)
         else:
@@ -234,7 +200,7 @@ def _propagate(case: Case, model: Model, warnings: list[str], t0: float, engine:
 
     results = assemble(case, model, lin, mc, validation, y0, warnings, time.perf_counter() - t0, engine)
     if case.candidates and (s.plan_target or s.plan_budget is not None) and D > 0:
-        from .plan import compute_plan
+        from .purchase_plan import compute_plan
 
         results["plan"] = compute_plan(case, model, target=s.plan_target, budget=s.plan_budget, linear=lin)
     return RunResult(results=results, case=case, model=model, linear=lin, monte_carlo=mc,
@@ -247,7 +213,7 @@ def prepare_model(case: Case) -> tuple[Model, list[str]]:
     A physics error raised while building (e.g. a phase path that needs data the case does
     not give) is reported against the outputs that use the species it names, or the case.
     """
-    from .errors import PhysicsError, ValidityError
+    from ..errors import PhysicsError, ValidityError
 
     try:
         model = build_model(case)
@@ -272,99 +238,4 @@ def _output_mentions(case: Case, o, err) -> bool:
     return any(n and (n + "(" in text or n + "." in text or text.startswith(n)) for n in names)
 
 
-# ----------------------------------------------------------------------------- writing
-# Output folders are checked, locked, built aside and published by
-# uqthermo.pipeline.publish; the names below stay for existing imports.
-
-#: the run log written beside results.json: what differs from one run of the same case to the next
-RUN_LOG = "run-log.json"
-RUN_LOG_FORMAT = "uqthermo.run-log/1"
-
-
-def prepare_out_dir(out: str | Path, force: bool, protected: tuple = ()) -> Path:
-    """Check that ``out`` may be written, before any work is done (no lock is taken; the
-    commands use :class:`~uqthermo.pipeline.publish.OutputFolder`, which also locks)."""
-    check_target(out, force=force, protected=protected)
-    return Path(out)
-
-
-def write_json_atomic(path: Path, doc: dict) -> None:
-    """Write JSON to a temporary file in the same folder, then rename it into place."""
-    path = Path(path)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            json.dump(_jsonable(doc), fh, indent=2, ensure_ascii=False, allow_nan=False)
-            fh.write("\n")
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-
-
-def publish_dir(build: Callable[[Path], Any], out: "str | Path | OutputFolder", force: bool = False,
-                command: str = "run") -> Any:
-    """Build a folder's content in a temporary sibling and publish it (see
-    :class:`~uqthermo.pipeline.publish.OutputFolder`); ``out`` may be an open OutputFolder."""
-    if isinstance(out, OutputFolder):
-        return out.publish(build)
-    with OutputFolder(out, force=force, command=command) as folder:
-        return folder.publish(build)
-
-
-def with_run_log(results: dict, run_log: dict | None) -> dict:
-    """``results`` with the run log's fields (date, duration, versions) merged into ``run``,
-    for the report, which shows them; results.json itself stays free of them."""
-    if not run_log:
-        return results
-    extra = {k: v for k, v in run_log.items() if k != "format" and k not in (results.get("run") or {})}
-    return {**results, "run": {**(results.get("run") or {}), **extra}}
-
-
-def write_outputs(result: RunResult, out: "str | Path | OutputFolder", *, force: bool = False,
-                  report: bool = True) -> list[Path]:
-    """Write results.json, run-log.json, the report (or, with ``report=False``, the CSV
-    tables only), figures and tables into ``out``, published in one step."""
-
-    def build(tmp: Path):
-        write_json_atomic(tmp / "results.json", result.results)
-        if result.run_log:
-            write_json_atomic(tmp / RUN_LOG, result.run_log)
-        view = with_run_log(result.results, result.run_log)
-        if report:
-            from .report import write_report
-
-            write_report(view, tmp)
-        else:
-            from .report.render import write_tables
-
-            write_tables(view, tmp)
-
-    publish_dir(build, out, force)
-    folder = out.path if isinstance(out, OutputFolder) else Path(out)
-    return sorted(p for p in Path(folder).rglob("*") if p.is_file())
-
-
-def environment() -> dict[str, str]:
-    import scipy
-
-    return {"python": platform.python_version(), "numpy": np.__version__, "scipy": scipy.__version__,
-            "platform": platform.platform()}
-
-
-def run_log(duration_s: float) -> dict:
-    """The run log (format :data:`RUN_LOG_FORMAT`): date, duration, host and software versions —
-    what varies between two runs of the same case with the same seed, kept out of results.json."""
-    import socket
-
-    return {"format": RUN_LOG_FORMAT, "date": now_iso(), "duration_s": round(duration_s, 3),
-            "host": socket.gethostname(), **environment()}
-
-
-def now_iso() -> str:
-    return _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat()
-
-
-__all__ = ["run_case", "write_outputs", "RunResult", "publish_dir", "prepare_out_dir", "write_json_atomic",
-           "SAFETY_CAUTIONS", "FORMAT", "QUANTITY", "OutputFolder", "MANIFEST", "RUN_LOG", "with_run_log", "run_log"]
+__all__ = ["run_case", "prepare_model", "RunResult", "FORMAT", "QUANTITY", "CHUNK_VALUES"]

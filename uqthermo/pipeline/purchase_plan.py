@@ -13,9 +13,9 @@ import re
 
 import numpy as np
 
-from .case.builder import Model
-from .case.schema import Case
-from .errors import InputError, Problem
+from ..case.builder import Model
+from ..case.schema import Case
+from ..errors import InputError, Problem
 
 _LEAD = re.compile(r"^\s*([0-9]*\.?[0-9]+)\s*([A-Za-z]+)\s*$")
 _DAYS = {"d": 1, "day": 1, "days": 1, "wk": 7, "week": 7, "weeks": 7, "w": 7, "month": 30.4, "months": 30.4,
@@ -34,7 +34,7 @@ def _convert_target(target, unit_out: str, path: str):
     """Convert the target's number to the output's unit (pint); a bare number is taken in the output unit."""
     if not target.unit:
         return target.with_value(target.value, unit_out)
-    from .case.units import ureg
+    from ..case.units import ureg
 
     reg = ureg()
     try:
@@ -84,7 +84,7 @@ def resolve_plan_request(case: Case, model: Model, *, target=None, budget: float
         ``FILE: KEY: message`` for an unknown output, mixed units, a relative target of an
         output whose estimate is zero, or targets of different metrics.
     """
-    from .uq.planning import parse_target
+    from ..uq.planning import parse_target
 
     s = case.settings
     path = case.path
@@ -194,7 +194,7 @@ def compute_plan(case: Case, model: Model, *, target=None, budget: float | None 
 
     ``target`` is one target text or a list of them (see :func:`resolve_plan_request`).
     """
-    from .uq.planning import Candidate, plan_purchases
+    from ..uq.planning import Candidate, plan_purchases
 
     s = case.settings
     if not case.candidates:

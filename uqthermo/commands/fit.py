@@ -18,9 +18,9 @@ import re
 import sys
 from pathlib import Path
 
-from .errors import InputError, Problem
+from ..errors import InputError, Problem
 
-__all__ = ["run_fit", "fit_document", "residuals_csv"]
+__all__ = ["execute", "fit_document", "residuals_csv"]
 
 CRITERION = "bic"
 _NAME_RE = re.compile(r"^[A-Za-z][A-Za-z0-9_+\-]*$")
@@ -28,7 +28,7 @@ _NAME_RE = re.compile(r"^[A-Za-z][A-Za-z0-9_+\-]*$")
 
 def _temperature_arg(text: str, which: str) -> float:
     """``--range`` value: a number (K) or a quantity such as ``"25 degC"``."""
-    from .case.units import UnitProblem, parse_quantity
+    from ..case.units import UnitProblem, parse_quantity
 
     try:
         v = float(text)
@@ -71,7 +71,7 @@ def residuals_csv(outcome) -> str:
         if fit.u is not None:
             row += [repr(float(fit.u[i])), f"{fit.normalized_residuals[i]:.4g}"]
         rows.append(row)
-    from .text_safety import csv_text
+    from ..text_safety import csv_text
 
     return csv_text(head, rows)
 
@@ -79,7 +79,7 @@ def residuals_csv(outcome) -> str:
 def fit_document(outcome, *, species: str, phase: str, T_range, warnings: list[str], toml: str,
                  sha256: str = "") -> dict:
     """The ``fit.json`` document (format ``uqthermo.fit/1``)."""
-    from . import __version__
+    from .. import __version__
 
     fit, data = outcome.fit, outcome.data
     doc = {
@@ -116,7 +116,7 @@ def fit_document(outcome, *, species: str, phase: str, T_range, warnings: list[s
     return doc
 
 
-def run_fit(args) -> int:
+def execute(args) -> int:
     """Run ``uqthermo fit`` (arguments as parsed by :mod:`uqthermo.cli`); returns the exit code.
 
     Raises
@@ -124,8 +124,8 @@ def run_fit(args) -> int:
     InputError
         Bad options or file (exit 2 via the CLI): ``file: line L, column C: problem``.
     """
-    from .case.cp_csv import fit_file, fit_warnings, ranking_lines
-    from .case.loader import PHASE_SYMBOLS
+    from ..case.cp_csv import fit_file, fit_warnings, ranking_lines
+    from ..case.loader import PHASE_SYMBOLS
 
     path = str(args.data)
     model = args.model or "polynomial"
@@ -151,7 +151,7 @@ def run_fit(args) -> int:
             problems += e.problems
     out = None
     if getattr(args, "out", None):
-        from .pipeline.publish import check_target
+        from ..pipeline.publish import check_target
 
         try:
             check_target(args.out, force=bool(getattr(args, "force", False)), protected=(args.data,))
@@ -194,8 +194,8 @@ def run_fit(args) -> int:
     text = "\n".join(lines) + "\n" + toml
 
     if out is not None:
-        from .pipeline.publish import OutputFolder
-        from .run import write_json_atomic
+        from ..pipeline.publish import OutputFolder
+        from ..pipeline.output_files import write_json_atomic
 
         try:
             sha = hashlib.sha256(Path(path).read_bytes()).hexdigest()
@@ -212,11 +212,11 @@ def run_fit(args) -> int:
         with OutputFolder(args.out, force=bool(getattr(args, "force", False)), protected=(args.data,),
                           command="fit") as folder:
             folder.publish(build)
-    from .text_safety import terminal_text
+    from ..text_safety import terminal_text
 
     print(terminal_text(text, limit=10 ** 7, keep_newlines=True), end="" if text.endswith("\n") else "\n")
     if out is not None:
-        from .commands import print_publish_notes
+        from .terminal import print_publish_notes
 
         print_publish_notes(folder)
         print(terminal_text(f"wrote {out}/fit.toml, {out}/fit.json, {out}/residuals.csv and {out}/fit.txt"),

@@ -4,15 +4,15 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from .case.loader import load_case
-from .errors import InputError, Problem
+from ..case.loader import load_case
+from ..errors import InputError, Problem
 
 
 def _fmt(x, digits: int = 3) -> str:
     return "—" if x is None else f"{x:.{digits}g}"
 
 
-def run_plan(args) -> int:
+def execute(args) -> int:
     import math
 
     if args.budget is not None and not (math.isfinite(args.budget) and args.budget >= 0):
@@ -25,7 +25,7 @@ def run_plan(args) -> int:
                                                            "relative target as \"U95 <= 5 %\" instead")])
     folder = None
     if args.out:
-        from .pipeline.publish import OutputFolder
+        from ..pipeline.publish import OutputFolder
 
         # checked and locked before any computation, released at the end
         folder = OutputFolder(args.out, force=args.force, protected=(args.case,), command="plan").open()
@@ -44,9 +44,9 @@ def _plan(args, folder) -> int:
     from rich.console import Console
     from rich.table import Table
 
-    from .plan import compute_plan
-    from .run import prepare_model
-    from .text_safety import markup, markup_view
+    from ..pipeline.purchase_plan import compute_plan
+    from ..pipeline.job import prepare_model
+    from ..text_safety import markup, markup_view
 
     case = load_case(args.case)
     model, _ = prepare_model(case)
@@ -97,7 +97,7 @@ def _plan(args, folder) -> int:
     for w in plan["warnings"]:
         console.print(f"[yellow]warning:[/yellow] {w}")
     if folder is not None:
-        from .commands import print_publish_notes
+        from .terminal import print_publish_notes
 
         _write(raw_plan, case, folder, args.force)
         print_publish_notes(folder)
@@ -107,10 +107,10 @@ def _plan(args, folder) -> int:
 
 
 def _write(plan: dict, case, out, force: bool) -> None:
-    from .report.figures import _draw_plan
-    from .report.style import figure_style
-    from .run import publish_dir, write_json_atomic
-    from .text_safety import csv_text
+    from ..report.figures import _draw_plan
+    from ..report.style import figure_style
+    from ..pipeline.output_files import publish_dir, write_json_atomic
+    from ..text_safety import csv_text
 
     def build(tmp: Path):
         write_json_atomic(tmp / "plan.json", {"format": "uqthermo.plan/1", "case": {"title": case.title,

@@ -13,10 +13,10 @@ from typing import Any
 
 import numpy as np
 
-from . import __version__
-from .case.builder import QUANTITY, Model
-from .case.schema import Case
-from .uq.margins import Margins, curve_band, level_key, margins_from_linear, margins_from_monte_carlo
+from .. import __version__
+from ..case.builder import QUANTITY, Model
+from ..case.schema import Case
+from ..uq.margins import Margins, curve_band, level_key, margins_from_linear, margins_from_monte_carlo
 
 ONE_SIDED = (0.01, 0.05, 0.95, 0.99)
 HISTOGRAM_BINS = 48
@@ -106,7 +106,7 @@ def _phase_changes(case: Case, o, lo: float, hi: float) -> list[dict]:
 def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warnings: list[str],
              duration: float, engine: str) -> dict:
     """Build the results.json document (see the module docstring)."""
-    from .run import SAFETY_CAUTIONS
+    from .cautions import SAFETY_CAUTIONS
 
     s = case.settings
     p = s.coverage_probability
@@ -116,7 +116,7 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
     lin_b = lin   # linear result behind the GUM budget (computed here for Monte-Carlo-only runs)
     if lin is not None or mc is not None:
         if lin_b is None:
-            from .uq.linear import propagate_linear
+            from ..uq.linear import propagate_linear
 
             lin_b = propagate_linear(model.f_reported, inputs, coverage=p)
         ranking, whatif = _drivers_and_whatif(case, model, lin_b, warnings, validation)
@@ -132,16 +132,16 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
         warnings += [w for w in mc.warnings]
     if mc is not None:
         warnings += negative_cp_warnings(case, model, mc.X_kept)
-    from .pipeline import safety_data as safety
+    from . import safety_data as safety
 
     lin_all = lin
     if lin_all is None and inputs.variables and any(o.limit is not None or o.mtt is not None or o.td24 is not None
                                                     for o in case.outputs):
-        from .uq.linear import propagate_linear   # sensitivities for the drivers of the exceedance margins
+        from ..uq.linear import propagate_linear   # sensitivities for the drivers of the exceedance margins
 
         lin_all = propagate_linear(model.f_reported, inputs, coverage=p)
 
-    from .pipeline.report_data import kirchhoff_terms
+    from .report_data import kirchhoff_terms
 
     breakdown = kirchhoff_terms(case, model)
     outputs = []
@@ -253,7 +253,7 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
         run["drivers_method"] = ranking.method
         run["drivers_reason"] = ranking.reason
     cautions = list(SAFETY_CAUTIONS) if case.safety_relevant else [SAFETY_CAUTIONS[2]]
-    from .pipeline.report_data import heat_capacity_curves
+    from .report_data import heat_capacity_curves
 
     doc = {
         "format": "uqthermo.results/1",
@@ -321,7 +321,7 @@ def _budget_quantities(case: Case, model: Model) -> tuple[list, np.ndarray]:
     A single-parameter datum is one quantity named by its datum id; the coefficients of a curve
     with per-coefficient uncertainties are quantities ``DATUM.COEFFICIENT`` (engine units).
     """
-    from .uq.budget import BudgetQuantity
+    from ..uq.budget import BudgetQuantity
 
     qs, to_rep = [], []
     inputs = model.inputs
@@ -340,7 +340,7 @@ def _budget_quantities(case: Case, model: Model) -> tuple[list, np.ndarray]:
 
 def _point_budget(lin, j: int, budget_q, unit: str, inputs) -> dict:
     """The ``budget`` block of column ``j`` (uqthermo.uq.budget.gum_budget, JCGM 100 §5.2.2)."""
-    from .uq.budget import gum_budget
+    from ..uq.budget import gum_budget
 
     qs, to_rep = budget_q
     c = np.asarray(lin.sensitivity, dtype=float)[j] / to_rep      # output unit per report unit of x_i
@@ -360,7 +360,7 @@ def _driver_rows(point: dict, budget: dict | None) -> dict:
     point["share_basis"] = "fraction of u²(y)" if method == "linear" else "first-order Sobol' index"
     terms: list[dict] = []
     if method == "linear" and budget is not None:
-        from .uq.budget import datum_terms
+        from ..uq.budget import datum_terms
 
         _, terms = datum_terms(budget)
     point["covariance_terms"] = terms
@@ -408,9 +408,9 @@ class _ByColumn:
 def _drivers_and_whatif(case: Case, model: Model, lin, warnings: list[str], validation=None):
     from types import SimpleNamespace
 
-    from .uq.linear import propagate_linear
-    from .uq.sensitivity import rank_drivers
-    from .uq.whatif import Scenario, standard_scenarios, what_if
+    from ..uq.linear import propagate_linear
+    from ..uq.sensitivity import rank_drivers
+    from ..uq.whatif import Scenario, standard_scenarios, what_if
 
     s = case.settings
     inputs = model.inputs

@@ -17,9 +17,9 @@ import os
 import re
 import sys
 
-from .errors import InputError, Problem
+from ..errors import InputError, Problem
 
-__all__ = ["run_data", "case_hint", "parse_window", "DETAILED"]
+__all__ = ["execute", "case_hint", "parse_window", "DETAILED"]
 
 #: Number of matches whose values are shown.
 DETAILED = 3
@@ -44,7 +44,7 @@ def parse_window(text: str | None, key: str = "--T") -> tuple[tuple[float, ...],
     InputError
         Unreadable temperature (keyed ``--T``).
     """
-    from .case.units import parse_quantity
+    from ..case.units import parse_quantity
 
     if text is None:
         return (298.15,), "298.15 K"
@@ -78,8 +78,8 @@ def _fmt(q: str, v: float | None) -> str:
 
 
 def _scalar_rows(ident, window) -> list[list[str]]:
-    from .case.library.base import LibraryLookupError
-    from .case.library.selection import QUANTITY_LABELS, select_value
+    from ..case.library.base import LibraryLookupError
+    from ..case.library.selection import QUANTITY_LABELS, select_value
 
     rows = []
     items = [("formation_enthalpy", p, None) for p in ("g", "l", "s")]
@@ -122,14 +122,14 @@ def _rows_of(rows, sel, label, ph, q):
 
 
 def _curve_rows(ident, window) -> list[list[str]]:
-    from .case.library.base import LibraryLookupError
-    from .case.library.selection import select_curve
-    from .case.library.sources import curve_candidates
+    from ..case.library.base import LibraryLookupError
+    from ..case.library.selection import select_curve
+    from ..case.library.sources import curve_candidates
 
     lo, hi = window
     rows = []
     for ph in ("g", "l", "s"):
-        from .case.library.selection import rank_of
+        from ..case.library.selection import rank_of
 
         cands = sorted(curve_candidates(ident.cas, ph), key=lambda c: rank_of("heat_capacity", ph, c.source.key))
         if not cands:
@@ -158,9 +158,9 @@ def _curve_rows(ident, window) -> list[list[str]]:
 
 def case_hint(m, window=(298.15, 298.15)) -> str:
     """Case-file lines taking species ``m`` from the library with ``library = "auto"``."""
-    from .case.library.base import LibraryLookupError
-    from .case.library.identify import identify
-    from .case.library.selection import select_curve, select_value
+    from ..case.library.base import LibraryLookupError
+    from ..case.library.identify import identify
+    from ..case.library.selection import select_curve, select_value
 
     ident = identify(cas=m.cas)
     name = m.formula if m.formula and _NAME_RE.match(m.formula) else "X"
@@ -193,7 +193,7 @@ def case_hint(m, window=(298.15, 298.15)) -> str:
 
 
 def _write_case(args) -> int:
-    from .case.starter import starter_case
+    from ..case.starter import starter_case
 
     temps, text = parse_window(args.T)
     if args.T is None:
@@ -203,8 +203,8 @@ def _write_case(args) -> int:
     if args.out:
         import tempfile
 
-        from .pipeline.publish import file_mode
-        from .text_safety import terminal_text
+        from ..pipeline.publish import file_mode
+        from ..text_safety import terminal_text
 
         if os.path.isdir(args.out):
             raise InputError(Problem(args.out, "--out", "is a folder; give the name of the case file to write"))
@@ -231,7 +231,7 @@ def _write_case(args) -> int:
     return 0
 
 
-def run_data(args) -> int:
+def execute(args) -> int:
     """Run ``uqthermo data``; returns the exit code.
 
     Raises
@@ -244,8 +244,8 @@ def run_data(args) -> int:
         return _write_case(args)
     from rich.table import Table
 
-    from .case.library.base import chemicals_version
-    from .case.library.identify import identify, search
+    from ..case.library.base import chemicals_version
+    from ..case.library.identify import identify, search
 
     text = (args.search or "").strip()
     limit = args.limit if args.limit is not None else 20
@@ -260,7 +260,7 @@ def run_data(args) -> int:
     more = len(matches) > limit
     matches = matches[:limit]
     if not matches:
-        from .case.library.identify import suggest_names
+        from ..case.library.identify import suggest_names
 
         close = suggest_names(text)
         raise InputError(Problem("", "SEARCH", f"no species matches {text!r} in the library"
