@@ -14,15 +14,11 @@ import os
 import platform
 import tempfile
 from pathlib import Path
-from typing import TYPE_CHECKING, Any, Callable
+from typing import Any, Callable
 
 import numpy as np
 
 from .publish import OutputFolder, check_target
-
-if TYPE_CHECKING:  # pragma: no cover
-    from .job import RunResult
-
 
 def jsonable(x):
     """``x`` with numpy scalars and arrays as plain Python values and non-finite floats as None (JSON has no NaN)."""
@@ -88,10 +84,12 @@ def with_run_log(results: dict, run_log: dict | None) -> dict:
     return {**results, "run": {**(results.get("run") or {}), **extra}}
 
 
-def write_outputs(result: "RunResult", out: "str | Path | OutputFolder", *, force: bool = False,
+def write_outputs(result, out: "str | Path | OutputFolder", *, force: bool = False,
                   report: bool = True) -> list[Path]:
     """Write results.json, run-log.json, the report (or, with ``report=False``, the CSV
-    tables only), figures and tables into ``out``, published in one step."""
+    tables only), figures and tables into ``out``, published in one step.
+
+    ``result`` is a :class:`~uqthermo.pipeline.job.RunResult` (its ``results`` and ``run_log``)."""
 
     def build(tmp: Path):
         write_json_atomic(tmp / "results.json", result.results)
