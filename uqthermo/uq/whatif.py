@@ -519,9 +519,9 @@ class CommonSample:
         self.est = np.asarray(inputs.estimates, dtype=float)
         self.n_evaluations = 0
         from .montecarlo import sobol_rotation
-        from .sampling import _method
+        from .sampling import sampling_method
 
-        self._rotation = sobol_rotation(f, inputs, _method(sampling), rotate)
+        self._rotation = sobol_rotation(f, inputs, sampling_method(sampling), rotate)
         self._X = None
         if self.n * self.D <= 25_000_000:
             self._X = np.concatenate(list(self._blocks()))
