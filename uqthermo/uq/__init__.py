@@ -18,7 +18,8 @@ from .distributions import (
     from_relative,
     parse_relative,
 )
-from .inputs import Datum, InputSet, InputVariable, check_correlation
+from .correlation import check_correlation
+from .inputs import Datum, InputSet, InputVariable
 from .linear import LinearResult, coverage_factor, propagate_linear, welch_satterthwaite
 from .montecarlo import adaptive_batch_size, propagate_monte_carlo
 from .montecarlo_result import MonteCarloResult
