@@ -53,7 +53,7 @@ from typing import Any, Callable, Iterable, Mapping, Sequence
 import numpy as np
 
 from ..errors import StatisticsError
-from .sensitivity import evaluate_in_chunks
+from .sensitivity.evaluation import evaluate_in_chunks
 
 __all__ = ["Scenario", "WhatIfResult", "what_if", "CommonSample", "standard_scenarios", "linear_uncertainty",
            "scenario_coverage_factor", "scenario_factor_matrix"]
