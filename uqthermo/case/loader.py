@@ -689,7 +689,7 @@ def _correlations(c: Collector, node: Any, data: dict[str, Datum]) -> list[tuple
         if ok and rank:
             # Spearman ρ_S → the Gaussian copula's normal-score r = 2 sin(π ρ_S/6) → the Pearson correlation
             # of these two marginals (what the linear method and the input table use)
-            from ..uq.inputs import normal_score_from_spearman, pearson_from_normal_score
+            from ..uq.correlation import normal_score_from_spearman, pearson_from_normal_score
 
             r = pearson_from_normal_score(data[between[0]].distributions[0], data[between[1]].distributions[0],
                                           normal_score_from_spearman(float(r)))

@@ -9,7 +9,7 @@ import numpy as np
 
 from ..errors import UqthermoError
 from ..thermo import cp as cpm
-from ..thermo.reaction import parse_formula
+from ..thermo.formula import parse_formula
 from ..thermo.species import Phase, Species, Transition
 from . import distributions_adapter as dist
 from .loader import (

@@ -1,7 +1,7 @@
 """Data-purchase planning for a case: candidate measurements → cheapest set meeting a target.
 
 Orchestration only: it maps the case's ``[[candidate]]`` entries and a target such as
-``"U95 <= 2 kJ/mol"`` onto :func:`uqthermo.uq.planning.plan_purchases` (exact enumeration
+``"U95 <= 2 kJ/mol"`` onto :func:`uqthermo.uq.planning.planner.plan_purchases` (exact enumeration
 for small candidate sets, a greedy + local-search heuristic beyond), choosing the linear
 quadratic-form planner when every planned output is linear in its inputs and common-random-
 number Monte Carlo otherwise, and shapes the result for results.json and the report.
@@ -84,7 +84,7 @@ def resolve_plan_request(case: Case, model: Model, *, target=None, budget: float
         ``FILE: KEY: message`` for an unknown output, mixed units, a relative target of an
         output whose estimate is zero, or targets of different metrics.
     """
-    from ..uq.planning import parse_target
+    from ..uq.planning.candidates import parse_target
 
     s = case.settings
     path = case.path
@@ -194,7 +194,8 @@ def compute_plan(case: Case, model: Model, *, target=None, budget: float | None 
 
     ``target`` is one target text or a list of them (see :func:`resolve_plan_request`).
     """
-    from ..uq.planning import Candidate, plan_purchases
+    from ..uq.planning.candidates import Candidate
+    from ..uq.planning.planner import plan_purchases
 
     s = case.settings
     if not case.candidates:

@@ -409,7 +409,7 @@ def _drivers_and_whatif(case: Case, model: Model, lin, warnings: list[str], vali
     from types import SimpleNamespace
 
     from ..uq.linear import propagate_linear
-    from ..uq.sensitivity import rank_drivers
+    from ..uq.sensitivity.ranking import rank_drivers
     from ..uq.whatif import Scenario, standard_scenarios, what_if
 
     s = case.settings

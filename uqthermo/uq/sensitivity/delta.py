@@ -31,11 +31,11 @@ import contextlib
 import io
 import math
 import warnings
-from typing import Any, Sequence
+from typing import Sequence
 
 import numpy as np
 
-from ..errors import StatisticsError
+from ...errors import StatisticsError
 
 __all__ = ["delta_index", "design_rows", "grouped_delta"]
 
