@@ -262,6 +262,7 @@ def resolve_heat_capacity(c: Collector, node: dict, key: str, ident: str, sym: s
             return None, ""
         T_range = (lo, hi)
     from . import library as lib
+    from .library.base import chemicals_version as _chemicals_version
 
     try:
         lc = lib.lookup_heat_capacity(ident, ph, ds, T_range=T_range)
@@ -270,7 +271,7 @@ def resolve_heat_capacity(c: Collector, node: dict, key: str, ident: str, sym: s
         return None, ""
     label = library_label(lc.dataset, lc.version)
     if ds == "janaf":
-        label = f"JANAF {lc.version} Cp table (Shomate fit) via chemicals {lib._chemicals_version()}"
+        label = f"JANAF {lc.version} Cp table (Shomate fit) via chemicals {_chemicals_version()}"
     if "relative_u" not in node:
         c.add(key, f"{label} states no uncertainty for the Cp curve of {lc.name or ident} ({sym}, "
                    f"{lc.t_min:g}-{lc.t_max:g} K); add relative_u = \"... %\", e.g. \"1 %\" (it is then flagged as assumed)")
