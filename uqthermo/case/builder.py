@@ -74,7 +74,7 @@ from ..uq.blas import one_blas_thread
 from ..uq.inputs import InputSet, InputVariable
 from . import balances
 from .dependence import output_data
-from .design_reader import molar_mass as design_molar_mass
+from .readers.design import molar_mass as design_molar_mass
 from .schema import Case, OutputSpec
 
 LN10 = math.log(10.0)
@@ -791,7 +791,7 @@ def check_model(case: Case, model: Model) -> list[str]:
     if bad:
         raise InputError([Problem(case.path, k, "the model gives a non-finite value at the best estimates; check the data")
                           for k in dict.fromkeys(bad)])
-    from .plausibility import model_warnings
+    from .readers.plausibility import model_warnings
 
     return warnings + model_warnings(case, model, y[0])
 

@@ -117,7 +117,7 @@ def _run_case(path: str | Path, *, samples, seed, method, sampling, engine, sche
         s.sampling = sampling
     if what_if is not None:
         s.what_if = what_if
-    from ..case.loader import adaptive_cap_problem
+    from ..case.readers.settings import adaptive_cap_problem
 
     cap = adaptive_cap_problem(s)
     if cap is not None:
