@@ -40,7 +40,7 @@ _Terminated = Interrupted
 
 
 def _on_signal(signum, frame):  # pragma: no cover - exercised through subprocess tests
-    from .pipeline.publish import defer_signal
+    from .pipeline.interrupts import defer_signal
 
     if defer_signal(signum):        # inside the renames that publish a folder: acts right after them
         return

@@ -151,7 +151,7 @@ def execute(args) -> int:
             problems += e.problems
     out = None
     if getattr(args, "out", None):
-        from ..pipeline.publish import check_target
+        from ..pipeline.target_checks import check_target
 
         try:
             check_target(args.out, force=bool(getattr(args, "force", False)), protected=(args.data,))

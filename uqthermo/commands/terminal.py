@@ -79,6 +79,9 @@ def print_summary(results: dict, console=None) -> None:
         if len(pts) > len(show):
             table.add_row(f"  … {len(pts) - len(show)} more temperatures in results.json", "", "", "", "", "", "")
     console.print(table)
+    plain = rows_sum_note({"drivers_method": "linear"})
+    if plain in notes and any(n != plain and n.startswith(plain.split(";")[0]) for n in notes):
+        del notes[plain]    # the note on covariance rows says it too: one line, not two
     for n in notes:
         console.print(f"top drivers: {n}")
     for line in safety_lines(raw):     # plain text: control characters made visible, no markup

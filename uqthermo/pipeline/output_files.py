@@ -18,7 +18,8 @@ from typing import Any, Callable
 
 import numpy as np
 
-from .publish import OutputFolder, check_target
+from .publish import OutputFolder
+from .target_checks import check_target
 
 def jsonable(x):
     """``x`` with numpy scalars and arrays as plain Python values and non-finite floats as None (JSON has no NaN)."""
