@@ -15,7 +15,6 @@ Every number of the concise section carries the path of its value in results.jso
 
 from __future__ import annotations
 
-import copy
 import json
 import math
 import re
