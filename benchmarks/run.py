@@ -45,9 +45,9 @@ from scipy import special
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from uqthermo.case.builder import build_model  # noqa: E402
+from uqthermo.case.model.builder import build_model  # noqa: E402
 from uqthermo.case.loader import load_case, parse_case  # noqa: E402
-from uqthermo.case.dependence import model_columns  # noqa: E402
+from uqthermo.case.model.dependence import model_columns  # noqa: E402
 from uqthermo.uq.montecarlo import (batch_summary, adaptive_batch_size, batch_sampler,  # noqa: E402
                                     propagate_monte_carlo, sobol_rotation, stability_factor, trial_design)
 from uqthermo.uq.sampling import UniformStream  # noqa: E402
@@ -785,7 +785,7 @@ def render(results: dict) -> str:
           "Now: one contraction per integral with cached bases of exact temperature grids, einsum for "
           "per-sample temperatures, 4096-row blocks, one BLAS thread inside the model, and a shared species "
           "table (affine in the inputs at exact temperatures) with one stoichiometric product for all reactions "
-          "(see `uqthermo/case/builder.py`). The demo model went from about 2.9 µs to 0.1-0.2 µs per sample "
+          "(see `uqthermo/case/model/builder.py` and `reaction_table.py`). The demo model went from about 2.9 µs to 0.1-0.2 µs per sample "
           "and output column.",
           "- Benchmark 2 (profiled with cProfile, CPU-time clock): every output of these cases is ΔrH at exact "
           "temperatures, affine in its inputs, so a trial is its normal scores times the folded map "

@@ -18,7 +18,7 @@ import pytest
 
 distributed = pytest.importorskip("distributed")
 
-from uqthermo.case.builder import build_model  # noqa: E402
+from uqthermo.case.model.builder import build_model  # noqa: E402
 from uqthermo.case.loader import load_case  # noqa: E402
 from uqthermo.errors import StatisticsError  # noqa: E402
 from uqthermo.uq.distributed import block_plan, merge_moments, propagate_monte_carlo_dask  # noqa: E402

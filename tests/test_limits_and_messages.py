@@ -40,7 +40,7 @@ def _unused_species(n: int) -> str:
 def test_species_no_output_uses_cost_almost_nothing(tmp_path):
     """4000 unused species (8000 uncertain data): ``check`` once took 206 s and 3.1 GB (a 8000 x 8000
     correlation matrix factorised three times); now the model has only the 9 columns the outputs use."""
-    from uqthermo.case.builder import build_inputs, used_data
+    from uqthermo.case.model.layout import build_inputs, used_data
     from uqthermo.case.loader import load_case
 
     text = BASE_CASE.replace("[reaction.shift]", _unused_species(4000) + "[reaction.shift]")

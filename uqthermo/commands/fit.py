@@ -125,7 +125,7 @@ def execute(args) -> int:
         Bad options or file (exit 2 via the CLI): ``file: line L, column C: problem``.
     """
     from ..case.cp_csv import fit_file, fit_warnings, ranking_lines
-    from ..case.loader import PHASE_SYMBOLS
+    from ..case.readers.fields import PHASE_SYMBOLS
 
     path = str(args.data)
     model = args.model or "polynomial"

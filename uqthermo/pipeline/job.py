@@ -17,8 +17,10 @@ from typing import Any, Callable
 
 import numpy as np
 
-from ..case.builder import QUANTITY, Model, build_model, check_model
-from ..case.dependence import model_columns
+from ..case.model.builder import build_model
+from ..case.model.checks import check_model
+from ..case.model.dependence import model_columns
+from ..case.model.layout import QUANTITY, Model
 from ..case.loader import load_case
 from ..case.schema import Case
 from ..errors import InputError, Problem, UqthermoError
@@ -117,7 +119,7 @@ def _run_case(path: str | Path, *, samples, seed, method, sampling, engine, sche
         s.sampling = sampling
     if what_if is not None:
         s.what_if = what_if
-    from ..case.loader import adaptive_cap_problem
+    from ..case.readers.settings import adaptive_cap_problem
 
     cap = adaptive_cap_problem(s)
     if cap is not None:

@@ -13,7 +13,7 @@ import re
 
 import numpy as np
 
-from ..case.builder import Model
+from ..case.model.layout import Model
 from ..case.schema import Case
 from ..errors import InputError, Problem
 

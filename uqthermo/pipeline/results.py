@@ -14,7 +14,7 @@ from typing import Any
 import numpy as np
 
 from .. import __version__
-from ..case.builder import QUANTITY, Model
+from ..case.model.layout import QUANTITY, Model
 from ..case.schema import Case
 from ..uq.margins import Margins, curve_band, level_key, margins_from_linear, margins_from_monte_carlo
 

@@ -16,9 +16,9 @@ from typing import Callable
 
 import numpy as np
 
-from ..thermo.kirchhoff import reaction_enthalpy_terms
-from .builder import Model, values_decoder
-from .schema import Case
+from ...thermo.kirchhoff import reaction_enthalpy_terms
+from ..schema import Case
+from .layout import Model, values_decoder
 
 __all__ = ["TermLayout", "kirchhoff_function"]
 

@@ -5,10 +5,10 @@ from __future__ import annotations
 import difflib
 from typing import Any
 
-from ..errors import UqthermoError
-from ..thermo.reaction import Reaction, check_balance, parse_equation
-from .loader import PHASE_ALIASES, Collector, _check_name, _is_table, _temperature, make_datum, read_uncertain, register
-from .schema import Datum
+from ...errors import UqthermoError
+from ...thermo.reaction import Reaction, check_balance, parse_equation
+from ..schema import Datum
+from .fields import PHASE_ALIASES, Collector, check_name, is_table, make_datum, read_temperature, read_uncertain, register
 
 
 def resolve_phase(species, phase: str | None) -> str | None:
@@ -25,14 +25,14 @@ def resolve_phase(species, phase: str | None) -> str | None:
 
 def read_reactions(c: Collector, node: Any, species: dict, data: dict[str, Datum]) -> dict[str, Reaction]:
     out: dict[str, Reaction] = {}
-    if not _is_table(node):
+    if not is_table(node):
         c.add("reaction", "must be a table of reactions ([reaction.NAME])")
         return out
     for name, r in node.items():
         key = f"reaction.{name}"
-        if not _check_name(c, name, key):
+        if not check_name(c, name, key):
             continue
-        if not _is_table(r):
+        if not is_table(r):
             c.add(key, "must be a table with an equation")
             continue
         c.unknown_keys(r, {"equation", "measured_enthalpy", "source", "note", "description"}, key)
@@ -86,11 +86,11 @@ def read_reactions(c: Collector, node: Any, species: dict, data: dict[str, Datum
         if "measured_enthalpy" in r:
             m = r["measured_enthalpy"]
             mk = f"{key}.measured_enthalpy"
-            if not _is_table(m) or "temperature" not in m:
+            if not is_table(m) or "temperature" not in m:
                 c.add(mk, "needs value, its uncertainty and the temperature it was measured at, e.g. "
                           "{ value = \"-165 kJ/mol\", u = \"1 kJ/mol\", temperature = \"298.15 K\" }")
                 continue
-            tm = _temperature(c, m["temperature"], f"{mk}.temperature")
+            tm = read_temperature(c, m["temperature"], f"{mk}.temperature")
             parsed = read_uncertain(c, {k: v for k, v in m.items() if k != "temperature"}, mk, "molar_energy")
             if tm is None or parsed is None:
                 continue

@@ -1,6 +1,6 @@
 """Model pieces for the energy-balance outputs: adiabatic rise (MTSR, boiling-limited end state,
 constant volume, closed-vessel pressure, mass basis) and the open-system duty of a continuous
-reactor. Used by :mod:`uqthermo.case.builder`; the physics is in :mod:`uqthermo.thermo.energy`,
+reactor. Used by :mod:`uqthermo.case.model.builder`; the physics is in :mod:`uqthermo.thermo.energy`,
 :mod:`uqthermo.thermo.runaway` and :mod:`uqthermo.thermo.streams`.
 
 Everything works on one block of samples at a time (arrays (n,) or (n, 1)); no per-sample loop.
@@ -13,11 +13,11 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..errors import PhysicsError, UqthermoError
-from ..thermo.composition import formula_molar_mass
-from ..thermo.cp import R as GAS_CONSTANT
-from ..thermo.energy import solve_final_temperature
-from ..thermo.runaway import (
+from ...errors import PhysicsError, UqthermoError
+from ...thermo.composition import formula_molar_mass
+from ...thermo.cp import R as GAS_CONSTANT
+from ...thermo.energy import solve_final_temperature
+from ...thermo.runaway import (
     closed_vessel_pressure,
     evaporated_amount,
     gas_internal_energy_correction,
@@ -25,7 +25,7 @@ from ..thermo.runaway import (
     reaction_internal_energy,
     vaporisation_point,
 )
-from .schema import Case, OutputSpec
+from ..schema import Case, OutputSpec
 
 #: names of the criticality-class indicator columns
 CLASS_COLUMNS = tuple(f"class_{k}" for k in range(1, 6))

@@ -9,20 +9,19 @@ from typing import Any
 
 import numpy as np
 
-from .loader import (
-    OUTPUT_KINDS,
+from ..schema import OUTPUT_KINDS, Datum, OutputSpec, Settings
+from . import design
+from .fields import (
     Collector,
-    _check_name,
-    _is_table,
-    _quantity,
-    _temperature,
+    check_name,
+    is_table,
     make_datum,
+    read_quantity,
+    read_temperature,
     read_uncertain,
     register,
 )
-from . import design_reader as design
-from .reactions_reader import resolve_phase
-from .schema import Datum, OutputSpec, Settings
+from .reactions import resolve_phase
 
 _REF = re.compile(r"^\s*([A-Za-z][A-Za-z0-9_+\-]*)\s*\(\s*([a-z]+)\s*\)\s*$")
 MAX_CURVE_POINTS = 2000
@@ -69,7 +68,7 @@ def _temperatures(c: Collector, o: dict, key: str, out: OutputSpec, data: dict, 
         return False
     if has_t:
         node = o["temperature"]
-        if _is_table(node) and allow_uncertain:
+        if is_table(node) and allow_uncertain:
             parsed = read_uncertain(c, node, f"{key}.temperature", "temperature", temperature=True)
             if parsed is None:
                 return False
@@ -82,7 +81,7 @@ def _temperatures(c: Collector, o: dict, key: str, out: OutputSpec, data: dict, 
             else:
                 out.temperatures = np.array([parsed[0]])
             return True
-        t = _temperature(c, node, f"{key}.temperature")
+        t = read_temperature(c, node, f"{key}.temperature")
         if t is None:
             return False
         out.temperatures = np.array([t])
@@ -90,20 +89,20 @@ def _temperatures(c: Collector, o: dict, key: str, out: OutputSpec, data: dict, 
         return True
     node = o["temperatures"]
     if isinstance(node, list):
-        ts = [_temperature(c, v, f"{key}.temperatures[{i}]") for i, v in enumerate(node)]
+        ts = [read_temperature(c, v, f"{key}.temperatures[{i}]") for i, v in enumerate(node)]
         if not ts or any(t is None for t in ts):
             if not ts:
                 c.add(f"{key}.temperatures", "empty list of temperatures")
             return False
         out.temperatures = np.array(sorted(set(ts)))
     else:
-        if not _is_table(node) or not {"from", "to", "step"} <= set(node):
+        if not is_table(node) or not {"from", "to", "step"} <= set(node):
             c.add(f"{key}.temperatures", "must be { from = \"...\", to = \"...\", step = \"...\" } or a list of temperatures")
             return False
         c.unknown_keys(node, {"from", "to", "step"}, f"{key}.temperatures")
-        lo = _temperature(c, node["from"], f"{key}.temperatures.from")
-        hi = _temperature(c, node["to"], f"{key}.temperatures.to")
-        step = _quantity(c, node["step"], f"{key}.temperatures.step", "temperature", difference=True)
+        lo = read_temperature(c, node["from"], f"{key}.temperatures.from")
+        hi = read_temperature(c, node["to"], f"{key}.temperatures.to")
+        step = read_quantity(c, node["step"], f"{key}.temperatures.step", "temperature", difference=True)
         if lo is None or hi is None or step is None:
             return False
         if step <= 0:
@@ -139,7 +138,7 @@ def _reaction(c: Collector, o: dict, key: str, reactions: dict) -> str | None:
 
 
 def _amounts(c: Collector, node: Any, key: str, species: dict, data: dict, prefix: str) -> dict[tuple[str, str], str] | None:
-    if not _is_table(node) or not node:
+    if not is_table(node) or not node:
         c.add(key, "must be a table of amounts, e.g. { \"S(l)\" = \"8 mol\" }")
         return None
     out: dict[tuple[str, str], str] = {}
@@ -177,7 +176,7 @@ def _expand_reaction_lists(c: Collector, node: list, reactions: dict):
     """Yield (index, output table); ``reactions = ["*"]`` (or a list of names) on a reaction output
     expands into one output ``NAME[REACTION]`` per reaction (large reaction sets, batch mode)."""
     for i, o in enumerate(node):
-        if not (_is_table(o) and "reactions" in o):
+        if not (is_table(o) and "reactions" in o):
             yield i, o
             continue
         key = f"output[{i}].reactions"
@@ -193,7 +192,7 @@ def _expand_reaction_lists(c: Collector, node: list, reactions: dict):
         if not isinstance(wanted, list) or not wanted or not all(isinstance(r, str) for r in wanted):
             c.add(key, "must be [\"*\"] (every reaction) or a list of reaction names")
             continue
-        if not isinstance(o.get("name"), str) or not _check_name(c, o["name"], f"output[{i}].name"):
+        if not isinstance(o.get("name"), str) or not check_name(c, o["name"], f"output[{i}].name"):
             continue
         for r in wanted:
             item = {k: v for k, v in o.items() if k != "reactions"}
@@ -210,7 +209,7 @@ def read_outputs(c: Collector, node: Any, species: dict, reactions: dict, data: 
     if not isinstance(node, list) or not node:
         c.add("output", "must be an array of tables ([[output]])")
         return outs
-    from .limits import MAX_OUTPUTS, MAX_POINTS
+    from ..limits import MAX_OUTPUTS, MAX_POINTS
 
     if len(node) > MAX_OUTPUTS:
         c.add("output", f"{len(node)} outputs; a case holds at most {MAX_OUTPUTS}")
@@ -222,12 +221,12 @@ def read_outputs(c: Collector, node: Any, species: dict, reactions: dict, data: 
                             f"most {MAX_OUTPUTS}")
             return outs
         key = f"output[{i}]"
-        if not _is_table(o):
+        if not is_table(o):
             c.add(key, "must be a table with name and kind")
             continue
         name = o.get("name")
         generated = o.pop("_generated", False)
-        if not isinstance(name, str) or not (generated or _check_name(c, name, f"{key}.name")):
+        if not isinstance(name, str) or not (generated or check_name(c, name, f"{key}.name")):
             if not isinstance(name, str):
                 c.add(f"{key}.name", "give the output a name")
             continue
@@ -278,8 +277,8 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
         if ("species" in o) == ("mixture" in o):
             c.add(key, "give either species = \"X(l)\" (per mole) or mixture = { \"X(l)\" = \"2 mol\", ... }")
             return False
-        t1 = _temperature(c, o.get("from"), f"{key}.from") if "from" in o else None
-        t2 = _temperature(c, o.get("to"), f"{key}.to") if "to" in o else None
+        t1 = read_temperature(c, o.get("from"), f"{key}.from") if "from" in o else None
+        t2 = read_temperature(c, o.get("to"), f"{key}.to") if "to" in o else None
         if "from" not in o or "to" not in o:
             c.add(key, "give from and to temperatures")
             return False
@@ -302,7 +301,7 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
     if kind == "heat_release":
         t = _temperatures(c, {"temperature": o.get("temperature")} if "temperature" in o else {}, key, out, data)
         er = o.get("extent_rate")
-        if not _is_table(er) or not er:
+        if not is_table(er) or not er:
             c.add(f"{key}.extent_rate", "give extent rates per reaction, e.g. { R1 = \"2 mol/s\" } or "
                                         "{ R1 = { feed = \"5 kmol/h\", conversion = { value = 0.9, u = 0.02 } } }")
             return False
@@ -318,7 +317,7 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
                 ok = False
                 continue
             did = f"output.{out.name}.extent_rate.{rname}"
-            if _is_table(rate) and "feed" in rate:
+            if is_table(rate) and "feed" in rate:
                 c.unknown_keys(rate, {"feed", "conversion", "key", "source"}, rk)
                 divisor = 1.0
                 mm: float | str = design.mass_hint(f"name the species fed: key = \"X\" (a species of {rname})")
@@ -346,7 +345,7 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
                 out.extent_divisor[rname] = divisor
             else:
                 parsed = read_uncertain(c, rate, rk, "amount_rate", molar_mass=design.mass_hint(
-                    f"write {{ feed = \"…kg/h\", key = \"X\" }} with the species X whose mass flow it is"))
+                    "write { feed = \"…kg/h\", key = \"X\" } with the species X whose mass flow it is"))
                 if parsed is None:
                     ok = False
                     continue
@@ -359,7 +358,7 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
         return ok
     # adiabatic_temperature_rise
     r = _reaction(c, o, key, reactions)
-    t0 = _temperature(c, o.get("start_temperature"), f"{key}.start_temperature") if "start_temperature" in o else None
+    t0 = read_temperature(c, o.get("start_temperature"), f"{key}.start_temperature") if "start_temperature" in o else None
     if "start_temperature" not in o:
         c.add(f"{key}.start_temperature", "give the temperature at which the reaction starts (e.g. \"60 degC\")")
     mm: float | str = design.mass_hint("name the species whose mass it is: extent_species = \"X\" (a species of the reaction)")
@@ -388,7 +387,7 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
     out.extent_datum = did
     for k in ("process_temperature", "max_temperature"):
         if k in o:
-            v = _temperature(c, o[k], f"{key}.{k}")
+            v = read_temperature(c, o[k], f"{key}.{k}")
             if v is None:
                 return False
             setattr(out, k, v)

@@ -41,8 +41,8 @@ from __future__ import annotations
 
 from typing import Any
 
-from ..errors import InputError
-from .loader import Collector, _temperature
+from ...errors import InputError
+from .fields import Collector, read_temperature
 
 __all__ = ["resolve_scalar", "resolve_heat_capacity", "library_label", "SCALAR_DATASETS", "CP_DATASETS"]
 
@@ -62,7 +62,7 @@ _EXAMPLE_U = {"formation enthalpy": 'u = "0.5 kJ/mol"', "standard entropy": 'u =
 
 def library_label(dataset: str, version: str) -> str:
     """Short dataset label for reports, e.g. ``"ATcT 1.112 via chemicals 1.5.2"``."""
-    from .library.base import chemicals_version as _chemicals_version
+    from ..library.base import chemicals_version as _chemicals_version
 
     if dataset == "shomate":
         name = f"NIST WebBook Shomate ({version})"
@@ -109,7 +109,7 @@ def _dataset_name(c: Collector, node: dict, key: str, allowed: tuple[str, ...]) 
     for a in allowed:
         if low == a.lower():
             return a
-    from .library.named import ALIASES as _ALIASES
+    from ..library.named import ALIASES as _ALIASES
 
     canon = _ALIASES.get(low)
     if canon is not None and canon.lower() in [a.lower() for a in allowed]:
@@ -166,7 +166,7 @@ def resolve_scalar(c: Collector, node: dict, key: str, quantity: str, ident: str
     ph = _phase(c, sym, key)
     if ds is None or ph is None:
         return None, ""
-    from . import library as lib
+    from .. import library as lib
 
     try:
         if quantity == "formation enthalpy":
@@ -253,15 +253,16 @@ def resolve_heat_capacity(c: Collector, node: dict, key: str, ident: str, sym: s
         if not (isinstance(tn, list) and len(tn) == 2):
             c.add(f"{key}.T", "must be [lower, upper] temperatures, e.g. [\"298.15 K\", \"1500 K\"]")
             return None, ""
-        lo = _temperature(c, tn[0], f"{key}.T[0]")
-        hi = _temperature(c, tn[1], f"{key}.T[1]")
+        lo = read_temperature(c, tn[0], f"{key}.T[0]")
+        hi = read_temperature(c, tn[1], f"{key}.T[1]")
         if lo is None or hi is None:
             return None, ""
         if not hi > lo:
             c.add(f"{key}.T", "upper temperature must exceed the lower one")
             return None, ""
         T_range = (lo, hi)
-    from . import library as lib
+    from .. import library as lib
+    from ..library.base import chemicals_version as _chemicals_version
 
     try:
         lc = lib.lookup_heat_capacity(ident, ph, ds, T_range=T_range)
@@ -270,7 +271,7 @@ def resolve_heat_capacity(c: Collector, node: dict, key: str, ident: str, sym: s
         return None, ""
     label = library_label(lc.dataset, lc.version)
     if ds == "janaf":
-        label = f"JANAF {lc.version} Cp table (Shomate fit) via chemicals {lib._chemicals_version()}"
+        label = f"JANAF {lc.version} Cp table (Shomate fit) via chemicals {_chemicals_version()}"
     if "relative_u" not in node:
         c.add(key, f"{label} states no uncertainty for the Cp curve of {lc.name or ident} ({sym}, "
                    f"{lc.t_min:g}-{lc.t_max:g} K); add relative_u = \"... %\", e.g. \"1 %\" (it is then flagged as assumed)")

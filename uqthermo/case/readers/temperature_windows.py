@@ -36,7 +36,7 @@ class Demand:
 
 
 def _T(value: Any) -> float | None:
-    from .units import parse_quantity
+    from ..units import parse_quantity
 
     if isinstance(value, dict):
         value = value.get("value")
@@ -64,7 +64,7 @@ def _temps(o: dict) -> list[float]:
 
 
 def _participants(raw: dict, reaction: Any) -> list[tuple[str, str | None]]:
-    from ..thermo.reaction import parse_equation
+    from ...thermo.reaction import parse_equation
 
     reactions = raw.get("reaction")
     node = reactions.get(reaction) if isinstance(reaction, str) and isinstance(reactions, dict) else None

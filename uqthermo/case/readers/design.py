@@ -13,10 +13,10 @@ from __future__ import annotations
 import math
 from typing import Any
 
-from ..errors import UqthermoError
-from ..thermo.composition import formula_molar_mass
-from .loader import Collector, _is_table, _temperature, make_datum, read_uncertain, register, report_unit
-from .schema import FeedStream, OutputSpec
+from ...errors import UqthermoError
+from ...thermo.composition import formula_molar_mass
+from ..schema import FeedStream, OutputSpec
+from .fields import Collector, is_table, make_datum, read_uncertain, register, report_unit
 
 LIMIT_SIDES = ("above", "below")
 
@@ -33,7 +33,7 @@ def molar_mass(c: Collector | None, sp, key: str) -> float | None:
 
 def as_written(node: Any) -> str:
     """The user's text of a quantity (its value as typed)."""
-    if _is_table(node):
+    if is_table(node):
         node = node.get("value", "")
     return node if isinstance(node, str) else repr(node)
 
@@ -180,7 +180,7 @@ def read_volume(c: Collector, o: dict, key: str, out: OutputSpec, data: dict) ->
 
 def read_feeds(c: Collector, node: Any, key: str, out: OutputSpec, species: dict, data: dict, species_ref) -> bool:
     """``[[output.feed]]`` streams of an open-system heat_release: temperature and flows (mol/s or kg/h)."""
-    if not isinstance(node, list) or not node or not all(_is_table(x) for x in node):
+    if not isinstance(node, list) or not node or not all(is_table(x) for x in node):
         c.add(f"{key}.feed", "must be an array of tables: [[output.feed]] with temperature and flows")
         return False
     ok = True
@@ -199,7 +199,7 @@ def read_feeds(c: Collector, node: Any, key: str, out: OutputSpec, species: dict
         register(c, data, make_datum(tid, "feed temperature", "temperature", parsed), f"{fk}.temperature")
         stream = FeedStream(key=fk, temperature=parsed[0], temperature_datum=tid if data[tid].uncertain else "")
         flows = f["flows"]
-        if not _is_table(flows) or not flows:
+        if not is_table(flows) or not flows:
             c.add(f"{fk}.flows", "must be a table of flows, e.g. { \"CO2(g)\" = \"100 kmol/h\", \"H2O(l)\" = \"900 kg/h\" }")
             ok = False
             continue

@@ -17,10 +17,10 @@ Every datum of a species may come from the library's selection rules
 
 ``library`` may also name one source (``"CRC"``, ``"WebBook"``, ``"Zabransky"`` ... see
 :data:`uqthermo.case.library.sources.SOURCE_KEYS`); ``"ATcT"``, ``"JANAF"`` and ``"shomate"`` keep
-their earlier meaning (:mod:`uqthermo.case.library_reader`). An uncertainty written beside
+their earlier meaning (:mod:`uqthermo.case.readers.library_named`). An uncertainty written beside
 ``library`` (``u``, ``U`` with ``k``, ``half_width``, ``relative_u``) replaces the rule's. For a
 heat capacity, ``T = [lo, hi]`` sets the window the curve must cover (default: the temperatures
-the case's outputs need, :mod:`uqthermo.case.temperature_windows`).
+the case's outputs need, :mod:`uqthermo.case.readers.temperature_windows`).
 
 The tables returned are ordinary case tables (``value`` + uncertainty + ``source``, or
 ``model = "shomate"`` + ``ranges`` + ``relative_u``) with three private keys the species reader
@@ -31,8 +31,8 @@ from __future__ import annotations
 
 from typing import Any
 
-from ..errors import InputError
-from .loader import Collector, _temperature
+from ...errors import InputError
+from .fields import Collector, read_temperature
 
 __all__ = ["SpeciesLibrary", "is_auto_reference", "AUTO_SCALAR_KEYS", "AUTO_CP_KEYS"]
 
@@ -56,7 +56,7 @@ def is_auto_reference(node: Any) -> bool:
 
 
 def _source(c: Collector, node: dict, key: str) -> str | None:
-    from .library.sources import SOURCE_KEYS, source_key
+    from ..library.sources import SOURCE_KEYS, source_key
 
     lib = node.get("library")
     if not isinstance(lib, str) or not lib.strip():
@@ -101,7 +101,7 @@ class SpeciesLibrary:
         """The library Identity (None after recording a problem, once)."""
         if self._ident is not None or self._failed:
             return self._ident
-        from .library.identify import identify
+        from ..library.identify import identify
 
         sp = self.node
         cas, nm, formula, smiles = (sp.get(k) if isinstance(sp.get(k), str) and sp.get(k).strip() else None
@@ -135,7 +135,7 @@ class SpeciesLibrary:
         ident = self.identity()
         if ident is None:
             return None
-        from .library.selection import select_value
+        from ..library.selection import select_value
 
         q = _QUANTITY.get(quantity, quantity)
         phase = transition or _PH.get(sym)
@@ -184,7 +184,7 @@ class SpeciesLibrary:
 
     @staticmethod
     def label(sel) -> str:
-        from .library.base import chemicals_version
+        from ..library.base import chemicals_version
 
         mode = "auto" if sel.mode == "auto" else "named"
         est = ", estimate" if sel.estimate else ""
@@ -214,7 +214,7 @@ class SpeciesLibrary:
         if ident is None:
             self._failed = False     # let the real read report it at its key
             return None
-        from .library.selection import select_value
+        from ..library.selection import select_value
 
         try:
             q = "boiling_temperature" if pair == "l-g" else "melting_temperature"
@@ -242,8 +242,8 @@ class SpeciesLibrary:
             if not (isinstance(tn, list) and len(tn) == 2):
                 c.add(f"{key}.T", "must be [lower, upper] temperatures the curve must cover, e.g. [\"298.15 K\", \"500 K\"]")
                 return None
-            lo = _temperature(c, tn[0], f"{key}.T[0]")
-            hi = _temperature(c, tn[1], f"{key}.T[1]")
+            lo = read_temperature(c, tn[0], f"{key}.T[0]")
+            hi = read_temperature(c, tn[1], f"{key}.T[1]")
             if lo is None or hi is None:
                 return None
             if hi < lo:
@@ -257,7 +257,7 @@ class SpeciesLibrary:
         if phase is None:
             c.add(key, f"the data library has no heat capacities for phase {sym!r} (only g, l and s/cr)")
             return None
-        from .library.selection import select_curve
+        from ..library.selection import select_curve
 
         extrap = node.get("extrapolate", self.allow_extrapolation)
         try:

@@ -1,6 +1,6 @@
 """Which data each output of a case can depend on (so that Monte Carlo samples only those).
 
-The rule follows how the builder evaluates an output (``case/builder.py``):
+The rule follows how the builder evaluates an output (``case/model/builder.py``):
 
 * the output's own data: every datum under ``output.<name>.`` (uncertain temperature, extents,
   feeds, conversions, amounts of a charge or mixture, limits, MTT/TD24, feed streams);
@@ -22,7 +22,7 @@ rows before it relies on it (``uq.trials.TrialDesign``).
 
 from __future__ import annotations
 
-from .schema import Case, OutputSpec
+from ..schema import Case, OutputSpec
 
 __all__ = ["output_data", "model_columns"]
 

@@ -8,7 +8,7 @@ Each warning names the key and the likely slip. Checked here, on the whole parse
   formula and phase: J/mol written for kJ/mol (or the reverse). The library is consulted only for
   values of a suspicious size (below 5 kJ/mol or above 3000 kJ/mol in magnitude, for a compound).
 
-Checked where the value is read (:func:`uqthermo.case.loader.read_uncertain`): a standard
+Checked where the value is read (:func:`uqthermo.case.readers.fields.read_uncertain`): a standard
 uncertainty larger than the value, a coverage factor k outside 1…13, a relative uncertainty on a
 temperature written in °C or °F. Checked on the model at the best estimates
 (:func:`model_warnings`): a negative heat to remove (a reaction written backwards?) and a
@@ -20,8 +20,8 @@ from __future__ import annotations
 import re
 from typing import Any
 
-from ..errors import UqthermoError
-from .loader import Collector
+from ...errors import UqthermoError
+from .fields import Collector
 
 _NUM_UNIT = re.compile(r"^\s*([-+]?[0-9.]+(?:[eE][-+]?[0-9]+)?)\s*(.*?)\s*$")
 #: |ΔfH| range (kJ/mol) outside which a compound's formation enthalpy is compared with the library
@@ -88,7 +88,7 @@ def _formation_magnitudes(c: Collector, species: dict, data: dict) -> None:
 def _library_value(formula: str, phase: str) -> float | None:
     """Formation enthalpy (J/mol) of a formula in ATcT, else JANAF; None when not found."""
     try:
-        from .library import lookup_formation_enthalpy
+        from ..library import lookup_formation_enthalpy
     except ImportError:   # pragma: no cover - the library is part of the package
         return None
     for ds in ("ATcT", "JANAF"):

@@ -18,9 +18,9 @@ from typing import Callable, Mapping
 
 import numpy as np
 
-from ..errors import UqthermoError
-from .builder import Model, values_decoder
-from .schema import Case
+from ...errors import UqthermoError
+from ..schema import Case
+from .layout import Model, values_decoder
 
 __all__ = ["CurveSpec", "curve_specs", "cp_function"]
 

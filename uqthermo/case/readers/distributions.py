@@ -1,12 +1,12 @@
 """Build the statistics layer's distributions from what a case file states.
 
 A thin seam between the case vocabulary (contract §2) and :mod:`uqthermo.uq.distributions`,
-so the loader does not depend on the constructors' exact signatures.
+so the case readers do not depend on the constructors' exact signatures.
 """
 
 from __future__ import annotations
 
-from ..uq import distributions as _d
+from ...uq import distributions as _d
 
 
 def exact(value: float):
