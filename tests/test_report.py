@@ -30,7 +30,7 @@ from uqthermo.errors import InputError
 from uqthermo.report import ResultsView, make_figures, render_html, render_markdown, results_table, write_report
 from uqthermo.report import figures as figmod
 from uqthermo.report.render import md_escape
-from uqthermo.report.tables import fmt_fixed, fmt_sig, uncertainty_decimals
+from uqthermo.report.rounding import fmt_fixed, fmt_sig, uncertainty_decimals
 
 FIXTURE = Path(__file__).parent / "fixtures" / "results_sample.json"
 

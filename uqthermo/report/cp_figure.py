@@ -20,7 +20,8 @@ import numpy as np
 
 from . import style
 from .style import ROLE, mpl_text
-from .tables import coverage_probability, fmt_temperature, num, pct_label, text
+from .fields import coverage_probability, num, text
+from .rounding import fmt_temperature, pct_label
 
 import matplotlib.pyplot as plt  # noqa: E402  (style sets the Agg backend first)
 from matplotlib.figure import Figure  # noqa: E402

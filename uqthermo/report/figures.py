@@ -29,14 +29,13 @@ from pathlib import Path
 
 import numpy as np
 
-from . import style
+from . import files, style
 from .safety_marks import draw_marks, split_plateau
 from .units import fmt_T, temperature_unit
 from .style import ROLE, mpl_text
-from .tables import (
-    coverage_probability, fmt_fixed, fmt_temperature, headline_index,
-    limit_on_output, limit_text, num, outputs, pair, pct_label, points, probability_cell, slugs, text, uncertainty_decimals,
-)
+from .fields import coverage_probability, headline_index, limit_on_output, num, outputs, pair, points, slugs, text
+from .rounding import fmt_fixed, fmt_temperature, pct_label, uncertainty_decimals
+from .tables.design import limit_text, probability_cell
 
 import matplotlib.pyplot as plt  # noqa: E402  (style sets the Agg backend first)
 from matplotlib.figure import Figure  # noqa: E402
@@ -458,7 +457,7 @@ def _set_label(s) -> str:
     return "+".join(s) if s else "now"
 
 
-def _draw_plan(plan: Mapping) -> Figure:
+def draw_plan(plan: Mapping) -> Figure:
     front = [f for f in plan.get("front") or [] if num(f.get("cost")) is not None and num(f.get("U")) is not None]
     front.sort(key=lambda f: num(f["cost"]))
     evaluated = [e for e in plan.get("evaluated") or [] if num(e.get("cost")) is not None and num(e.get("U")) is not None]
@@ -545,7 +544,7 @@ def place_labels(fig: Figure, ax, items: list[tuple[float, float, str]]) -> None
 
 def figure_specs(results: Mapping) -> list[FigureSpec]:
     """Every figure the results support, in report order."""
-    from .tables import check_results
+    from .fields import check_results
 
     check_results(results)
     specs: list[FigureSpec] = []
@@ -593,7 +592,7 @@ def figure_specs(results: Mapping) -> list[FigureSpec]:
         specs.append(FigureSpec("plan-front", "plan", None, "Data purchase plan",
                                 "Expanded uncertainty against the cost of the data bought: the front joins the purchase sets no other set "
                                 "beats on both cost and U; the star is the recommended set.",
-                                lambda: _draw_plan(plan)))
+                                lambda: draw_plan(plan)))
     return specs
 
 
@@ -631,8 +630,6 @@ def make_figures(results: Mapping, out_dir: Path, _rendered: list[RenderedFigure
     ``DIR/figures``); it is created when missing. Returns ``{name: {"png": path,
     "svg": path}}``. Files are written atomically.
     """
-    from .render import atomic_write
-
     out_dir = Path(out_dir)
     out_dir.mkdir(parents=True, exist_ok=True)
     rendered = _rendered if _rendered is not None else render_figures(results)
@@ -641,7 +638,7 @@ def make_figures(results: Mapping, out_dir: Path, _rendered: list[RenderedFigure
         paths = {}
         for ext, data in (("png", f.png), ("svg", f.svg)):
             p = out_dir / f"{f.name}.{ext}"
-            atomic_write(p, data)
+            files.atomic_write(p, data)
             paths[ext] = p
         written[f.name] = paths
     return written

@@ -20,7 +20,8 @@ import numpy as np
 
 from . import style
 from .style import ROLE, mpl_text
-from .tables import fmt_probability, num
+from .fields import num
+from .rounding import fmt_probability
 from .units import OFFSET, fmt_T, symbol, temperature_unit
 
 
