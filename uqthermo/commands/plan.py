@@ -107,7 +107,7 @@ def _plan(args, folder) -> int:
 
 
 def _write(plan: dict, case, out, force: bool) -> None:
-    from ..report.figures import draw_plan
+    from ..report.figures.plan_front import draw_plan
     from ..report.style import figure_style
     from ..pipeline.output_files import publish_dir, write_json_atomic
     from ..text_safety import csv_text

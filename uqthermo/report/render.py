@@ -361,10 +361,10 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
     """Everything the templates print, as plain strings (escaping is the template's job).
 
     ``figures``: include figure entries; ``rendered``: list of
-    :class:`~uqthermo.report.figures.RenderedFigure` to embed (HTML); without it
+    :class:`~uqthermo.report.figures.assembly.RenderedFigure` to embed (HTML); without it
     the entries carry only their relative path ``figures/NAME.png`` (Markdown).
     """
-    from .figures import figure_specs
+    from .figures.assembly import figure_specs
 
     check_results(results)
     numbering = _Numbering()
@@ -571,7 +571,7 @@ def render_html(results: Mapping, figures: bool = True, _rendered: Sequence | No
     """
     check_results(results)
     if figures and _rendered is None:
-        from .figures import render_figures
+        from .figures.assembly import render_figures
 
         _rendered = render_figures(results)
     ctx = build_context(results, figures=figures, rendered=_rendered if figures else None)
@@ -614,7 +614,7 @@ def write_report(results: Mapping, out_dir: Path, formats: Sequence[str] = ("htm
         (e.g. ``"report.html"``, ``"figures/curve-R1.png"``, ``"tables/inputs.csv"``).
     """
     from ..errors import InputError
-    from .figures import make_figures, render_figures
+    from .figures.assembly import make_figures, render_figures
 
     check_results(results)
     formats = tuple(formats)

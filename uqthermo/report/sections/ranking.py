@@ -49,7 +49,7 @@ __all__ = ["cut", "KEEP"]
 
 
 def drivers_table(output, point, key):
-    """The driver table (:func:`uqthermo.report.tables.drivers_table`) cut at 99 % of the variance."""
+    """The driver table (:func:`uqthermo.report.tables.drivers_whatif.drivers_table`) cut at 99 % of the variance."""
     from ..rounding import fmt_share
     from ..tables.drivers_whatif import drivers_table as full
 
@@ -68,7 +68,7 @@ def drivers_table(output, point, key):
 
 
 def whatif_table(output, point, key, p_cov):
-    """The what-if table (:func:`uqthermo.report.tables.whatif_table`) for the data that carry 99 % of the variance."""
+    """The what-if table (:func:`uqthermo.report.tables.drivers_whatif.whatif_table`) for the data that carry 99 % of the variance."""
     from ..tables.drivers_whatif import whatif_table as full
 
     drivers = [d for d in point.get("drivers") or [] if hasattr(d, "get")]
