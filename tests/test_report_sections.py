@@ -452,8 +452,8 @@ def test_terminal_summary_words(demo_runs):
 
 def test_figures_from_forked_workers_equal_the_serial_drawing():
     """Same bytes, same order, whether the figures are drawn here or by forked workers."""
-    from uqthermo.report.figures import figure_specs, render_figure
-    from uqthermo.report.parallel import render_all
+    from uqthermo.report.figures.assembly import figure_specs, render_figure
+    from uqthermo.report.figures.parallel import render_all
 
     res = json.loads((Path(__file__).parent / "fixtures" / "results_sample.json").read_text(encoding="utf-8"))
     specs = [s for s in figure_specs(res) if s.name.startswith(("drivers-", "distribution-"))][:4]

@@ -107,7 +107,7 @@ def _plan(args, folder) -> int:
 
 
 def _write(plan: dict, case, out, force: bool) -> None:
-    from ..report.figures import _draw_plan
+    from ..report.figures.plan_front import draw_plan
     from ..report.style import figure_style
     from ..pipeline.output_files import publish_dir, write_json_atomic
     from ..text_safety import csv_text
@@ -123,7 +123,7 @@ def _write(plan: dict, case, out, force: bool) -> None:
                                       encoding="utf-8")
         (tmp / "figures").mkdir()
         with figure_style():
-            fig = _draw_plan(plan)
+            fig = draw_plan(plan)
             fig.savefig(tmp / "figures" / "plan-front.png", dpi=160)
             fig.savefig(tmp / "figures" / "plan-front.svg")
         import matplotlib.pyplot as plt

@@ -104,7 +104,7 @@ def safety_lines(results: dict) -> list[str]:
     upper bound (report.style.probability_text), the MTSR (no evaporative cooling) and, separately,
     the boiling-limited end state."""
     from ..report.style import count_text, probability_text
-    from ..report.tables import limit_text, probability_cell
+    from ..report.tables.design import limit_text, probability_cell
 
     def P(label: str, txt: str) -> str:
         return f"P({label}) {'' if txt.startswith('<') else '= '}{txt}"

@@ -18,10 +18,11 @@ from collections.abc import Mapping
 
 import numpy as np
 
-from . import style
-from .style import ROLE, mpl_text
-from .tables import fmt_probability, num
-from .units import OFFSET, fmt_T, symbol, temperature_unit
+from .. import style
+from ..style import ROLE, mpl_text
+from ..fields import num
+from ..rounding import fmt_probability
+from ..units import OFFSET, fmt_T, symbol, temperature_unit
 
 
 def split_plateau(output: Mapping, point: Mapping, edges: np.ndarray, counts: np.ndarray) -> tuple[np.ndarray, float | None, float]:
@@ -71,7 +72,7 @@ def draw_marks(ax, results: Mapping, output: Mapping, point: Mapping, atom: tupl
     span = max(hi_x - lo_x, 1e-9)
     bl = point.get("boiling_limited")
     if isinstance(bl, Mapping):        # rise without evaporative cooling: mark where the solvent starts to boil
-        from .style import probability_text
+        from ..style import probability_text
 
         seen = set()
         for ev in bl.get("evaporated") or []:

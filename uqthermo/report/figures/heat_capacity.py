@@ -18,9 +18,10 @@ from collections.abc import Mapping
 
 import numpy as np
 
-from . import style
-from .style import ROLE, mpl_text
-from .tables import coverage_probability, fmt_temperature, num, pct_label, text
+from .. import style
+from ..style import ROLE, mpl_text
+from ..fields import coverage_probability, num, text
+from ..rounding import fmt_temperature, pct_label
 
 import matplotlib.pyplot as plt  # noqa: E402  (style sets the Agg backend first)
 from matplotlib.figure import Figure  # noqa: E402
@@ -108,7 +109,7 @@ def _panel(ax, entry: Mapping, k: float, marks: dict) -> None:
             ymax = max(ymax, float(np.max((cp + k * u)[finite])))
         ranges = ph.get("ranges_K") or []
         for r_i, rg in enumerate(ranges):
-            r_lo, r_hi = num(rg[0]), num(rg[1]) if len(rg) > 1 else None
+            r_lo = num(rg[0])
             if r_i > 0 and r_lo is not None and T[0] < r_lo < T[-1]:
                 ax.axvline(r_lo, color=style.GREY, linewidth=0.8, linestyle=":")
                 marks["boundary"] = True

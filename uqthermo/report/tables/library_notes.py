@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from typing import Any, Mapping
 
-from .tables import text
+from ..fields import text
 
 __all__ = ["provenance_notes"]
 
