@@ -11,7 +11,6 @@
 from __future__ import annotations
 
 import ast
-import collections
 from pathlib import Path
 
 import pytest

@@ -7,7 +7,6 @@ max_i U_i / T_i computed from each output's linear U; with a relative target, U 
 
 from __future__ import annotations
 
-import numpy as np
 import pytest
 
 from uqthermo.case.loader import load_case

@@ -21,7 +21,7 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from uqthermo.uq.sensitivity.delta import delta_index, design_rows, salib_delta
+from uqthermo.uq.sensitivity.delta import design_rows, salib_delta
 from uqthermo.uq.distributions import LogNormal, Normal, Rectangular
 from uqthermo.uq.inputs import InputSet, InputVariable
 from uqthermo.uq.sensitivity.sobol import sobol_indices

@@ -194,7 +194,6 @@ def starter_case(equation: str, temperatures: tuple[float, ...], t_text: str, *,
         phase_blocks: dict[str, list[str]] = {}
         transitions: list[str] = []
         for ph in sorted(sp.phases):
-            sym = "cr" if ph == "s" else ph
             route = None
             try:
                 h = select_value(ident, "formation_enthalpy", ph)
