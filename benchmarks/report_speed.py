@@ -11,7 +11,7 @@ the machine's load hits both alike:
 
 best of ``--repeats`` each. The report's cost is the difference; the target (issue #18) is at
 most half the computation's time. It also times the figures alone in this process: drawn one
-after the other and by the forked workers of ``uqthermo.report.parallel`` (PNG and SVG of each
+after the other and by the forked workers of ``uqthermo.report.figures.parallel`` (PNG and SVG of each
 figure from one drawing either way), with the CPU time they take, so that the effect of the
 workers can be told from the machine's load. The results are printed and appended to
 ``benchmarks/RESULTS.md`` (section "Report speed") unless ``--no-write``.
@@ -51,8 +51,8 @@ def _run(case: Path, out: Path, samples: int | None, report: bool) -> float:
 
 def _figures(results: dict) -> dict[str, float]:
     """Wall and CPU seconds of drawing every figure, serially and with the forked workers."""
-    from uqthermo.report.figures import render_figures
-    from uqthermo.report.parallel import workers
+    from uqthermo.report.figures.assembly import render_figures
+    from uqthermo.report.figures.parallel import workers
 
     render_figures(results, processes=1)          # warm the font caches
     out = {}

@@ -45,10 +45,10 @@ from scipy import special
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from uqthermo.case.builder import build_model  # noqa: E402
+from uqthermo.case.model.builder import build_model  # noqa: E402
 from uqthermo.case.loader import load_case, parse_case  # noqa: E402
-from uqthermo.case.dependence import model_columns  # noqa: E402
-from uqthermo.uq.montecarlo import (_batch_summary, adaptive_batch_size, batch_sampler,  # noqa: E402
+from uqthermo.case.model.dependence import model_columns  # noqa: E402
+from uqthermo.uq.montecarlo import (batch_summary, adaptive_batch_size, batch_sampler,  # noqa: E402
                                     propagate_monte_carlo, sobol_rotation, stability_factor, trial_design)
 from uqthermo.uq.sampling import UniformStream  # noqa: E402
 from uqthermo.uq.stats import Moments, numerical_tolerance  # noqa: E402
@@ -277,7 +277,7 @@ def _first_stable(m, sampling: str, seed: int, ndigits: int, which: tuple[int, .
     while h * M < cap:
         Y = m.f(m.inputs.from_uniform(draw(h), rotation))
         mom.add(Y)
-        S.append(_batch_summary(Y, 0.95))
+        S.append(batch_summary(Y, 0.95))
         h += 1
         if h < 2:
             continue
@@ -785,7 +785,7 @@ def render(results: dict) -> str:
           "Now: one contraction per integral with cached bases of exact temperature grids, einsum for "
           "per-sample temperatures, 4096-row blocks, one BLAS thread inside the model, and a shared species "
           "table (affine in the inputs at exact temperatures) with one stoichiometric product for all reactions "
-          "(see `uqthermo/case/builder.py`). The demo model went from about 2.9 µs to 0.1-0.2 µs per sample "
+          "(see `uqthermo/case/model/builder.py` and `reaction_table.py`). The demo model went from about 2.9 µs to 0.1-0.2 µs per sample "
           "and output column.",
           "- Benchmark 2 (profiled with cProfile, CPU-time clock): every output of these cases is ΔrH at exact "
           "temperatures, affine in its inputs, so a trial is its normal scores times the folded map "
@@ -827,7 +827,7 @@ def render(results: dict) -> str:
           "product terms and rectangular input leave the most nonlinearity off the leading coordinates. In a case "
           "file the first rule is `adaptive_intervals = \"symmetric\"`, the second the default `\"both\"`.",
           "- Benchmark 4: when N·M is known to exceed the stored-values bound, the histogram is placed from a "
-          "pilot of 2^18 rows (`uq/montecarlo.py::PILOT_ROWS`) and later chunks only add counts; the peak is "
+          "pilot of 2^18 rows (`uq/montecarlo_result.py::PILOT_ROWS`) and later chunks only add counts; the peak is "
           "the chunk temporaries plus the counts buffer.",
           "- Benchmark 5: the batch model moves every reaction-temperature value a few times (species table, "
           "sparse stoichiometric product, one tiled transposed copy into the output array), so it is "

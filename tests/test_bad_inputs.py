@@ -502,9 +502,10 @@ def test_missing_and_directory_case_files(tmp_path):
 
 def test_command_line_and_case_file_share_the_sample_limit():
     from uqthermo import cli
-    from uqthermo.case import limits, loader
+    from uqthermo.case import limits
+    from uqthermo.case.readers import settings
 
-    assert cli.MAX_SAMPLES_LIMIT == loader.MAX_SAMPLES_LIMIT
+    assert cli.MAX_SAMPLES_LIMIT == settings.MAX_SAMPLES_LIMIT
     assert cli.MAX_SEED == limits.MAX_SEED and cli.SEED_RANGE_TEXT == limits.SEED_RANGE_TEXT
 
 

@@ -12,7 +12,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from uqthermo.case.builder import BLOCK_ROWS, ReactionTable, _values_factory, build_inputs, build_model
+from uqthermo.case.model.builder import BLOCK_ROWS, build_model
+from uqthermo.case.model.layout import build_inputs, values_decoder
+from uqthermo.case.model.reaction_table import ReactionTable
 from uqthermo.case.loader import load_case, parse_case
 from uqthermo.thermo import reaction as rx
 
@@ -125,7 +127,7 @@ def test_table_plan():
     case = parse_case(_many_reactions_case(), "many.toml", library=False)
     inputs, cols = build_inputs(case)
     tab = ReactionTable(case, [(o.reaction, o.temperatures, o.kind != "reaction_enthalpy") for o in case.outputs],
-                        inputs, _values_factory(case, cols))
+                        inputs, values_decoder(case, cols))
     assert tab.nu.shape == (6, 6)
     assert tab.entropy and tab.linear
     np.testing.assert_array_equal(tab.temperatures, np.unique(tab.temperatures))
@@ -170,7 +172,7 @@ def test_uncertain_transition_temperature_falls_back_to_direct_species():
     case = parse_case(raw, "evap.toml", library=False)
     inputs, cols = build_inputs(case)
     tab = ReactionTable(case, [(o.reaction, o.temperatures, False) for o in case.outputs], inputs,
-                        _values_factory(case, cols))
+                        values_decoder(case, cols))
     assert not tab.linear
     m = build_model(case)
     X = _rows(m, 3000)

@@ -108,6 +108,13 @@ def test_demo_exits_0_and_writes_everything(demo_runs, name):
         assert o["name"][:8] in proc.stdout
 
 
+def test_epoxide_terminal_explains_the_driver_shares_once(demo_runs):
+    """The note under the summary table says once what the driver shares are, covariance rows included."""
+    stdout = demo_runs["epoxide"]["proc"].stdout
+    notes = [line for line in stdout.splitlines() if line.startswith("top drivers:")]
+    assert len(notes) == 1 and "covariance rows" in notes[0], notes
+
+
 @pytest.mark.parametrize("name", sorted(DEMOS))
 def test_demo_results_have_every_contract_key(demo_runs, name):
     doc = demo_runs[name]["results"]

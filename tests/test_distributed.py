@@ -18,7 +18,7 @@ import pytest
 
 distributed = pytest.importorskip("distributed")
 
-from uqthermo.case.builder import build_model  # noqa: E402
+from uqthermo.case.model.builder import build_model  # noqa: E402
 from uqthermo.case.loader import load_case  # noqa: E402
 from uqthermo.errors import StatisticsError  # noqa: E402
 from uqthermo.uq.distributed import block_plan, merge_moments, propagate_monte_carlo_dask  # noqa: E402
@@ -104,7 +104,7 @@ def test_adaptive_stops_at_the_same_batch(client, model):
 
 
 def test_run_case_on_a_scheduler_address(client):
-    from uqthermo.run import run_case
+    from uqthermo.pipeline.job import run_case
 
     res = run_case(ROOT / "inputs" / "methanation_reactor.toml", samples=20_000, method="monte-carlo",
                    engine="dask", scheduler=client.scheduler.address, what_if=False)

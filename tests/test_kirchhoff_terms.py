@@ -174,7 +174,7 @@ mass_of = "P"
 
 def test_results_carry_kirchhoff_terms_with_closed_form_uncertainties(tmp_path):
     """u of each term by the GUM law of propagation, checked against the closed form of independent inputs."""
-    from uqthermo.run import run_case
+    from uqthermo.pipeline.job import run_case
 
     path = tmp_path / "case.toml"
     path.write_text(CASE, encoding="utf-8")

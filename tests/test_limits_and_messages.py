@@ -40,7 +40,7 @@ def _unused_species(n: int) -> str:
 def test_species_no_output_uses_cost_almost_nothing(tmp_path):
     """4000 unused species (8000 uncertain data): ``check`` once took 206 s and 3.1 GB (a 8000 x 8000
     correlation matrix factorised three times); now the model has only the 9 columns the outputs use."""
-    from uqthermo.case.builder import build_inputs, used_data
+    from uqthermo.case.model.layout import build_inputs, used_data
     from uqthermo.case.loader import load_case
 
     text = BASE_CASE.replace("[reaction.shift]", _unused_species(4000) + "[reaction.shift]")
@@ -70,7 +70,7 @@ def test_data_named_in_a_correlation_stay_checked(tmp_path):
 def test_many_output_columns_use_small_monte_carlo_chunks(tmp_path, monkeypatch):
     """Chunks hold at most CHUNK_VALUES model values however many output points there are."""
     import uqthermo.uq.montecarlo as mcmod
-    from uqthermo import run as runmod
+    from uqthermo.pipeline import job as runmod
 
     seen = {}
     real = mcmod.propagate_monte_carlo
@@ -179,7 +179,7 @@ def test_plan_errors_name_the_case_file(tmp_path):
 def test_library_warnings_become_one_line_of_the_tools(make_case, tmp_path, monkeypatch):
     """A warning raised by a library during a run is printed as ``uqthermo: warning: …`` once, without
     the library's source path and line."""
-    from uqthermo import results
+    from uqthermo.pipeline import results
 
     real = results.assemble
 

@@ -7,13 +7,12 @@ max_i U_i / T_i computed from each output's linear U; with a relative target, U 
 
 from __future__ import annotations
 
-import numpy as np
 import pytest
 
 from uqthermo.case.loader import load_case
 from uqthermo.errors import InputError
-from uqthermo.plan import compute_plan, resolve_plan_request
-from uqthermo.run import prepare_model
+from uqthermo.pipeline.purchase_plan import compute_plan, resolve_plan_request
+from uqthermo.pipeline.job import prepare_model
 from uqthermo.uq.linear import propagate_linear
 
 CASE = "inputs/epoxide_hydration_batch.toml"

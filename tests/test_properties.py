@@ -32,9 +32,10 @@ from hypothesis import strategies as st
 from conftest import BASE_CASE, write_case
 from uqthermo.case.loader import load_case, parse_case
 from uqthermo.case.units import UnitProblem, parse_quantity
-from uqthermo.run import prepare_model
+from uqthermo.pipeline.job import prepare_model
 from uqthermo.errors import InputError, UqthermoError
-from uqthermo.thermo.reaction import Reaction, parse_equation, parse_formula, reaction_enthalpy
+from uqthermo.thermo.formula import parse_formula
+from uqthermo.thermo.reaction import Reaction, parse_equation, reaction_enthalpy
 
 def fast(n: int) -> settings:
     return settings(max_examples=n, deadline=None,

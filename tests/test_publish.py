@@ -383,7 +383,7 @@ def test_full_disk(make_case, tmp_path, monkeypatch):
     import shutil
 
     from uqthermo.pipeline import publish
-    from uqthermo.report import render
+    from uqthermo.report import files
 
     out = tmp_path / "out"
     usage = shutil.disk_usage(tmp_path)
@@ -395,7 +395,7 @@ def test_full_disk(make_case, tmp_path, monkeypatch):
     def full(path, data):
         raise OSError(errno.ENOSPC, "No space left on device", str(path))
 
-    monkeypatch.setattr(render, "atomic_write", full)
+    monkeypatch.setattr(files, "atomic_write", full)
     code, _, err = main_in_process("run", make_case(), "--out", out, "--samples", "1000", "--quiet")
     assert code == 2 and "--out: no space left on the device" in err and "Traceback" not in err
     assert not out.exists() and sorted(p.name for p in tmp_path.iterdir() if p.name.startswith(".")) == []

@@ -62,7 +62,7 @@ def test_existing_empty_out_is_used(make_case, tmp_path):
 
 def _old_output(out: Path) -> None:
     """An earlier output folder (published by the tool, with its manifest) plus a file of the user's."""
-    from uqthermo.run import publish_dir
+    from uqthermo.pipeline.output_files import publish_dir
 
     publish_dir(lambda tmp: (tmp / "results.json").write_text('{"format": "uqthermo.results/1", "old": true}'), out)
     (out / "old.txt").write_text("previous result")
@@ -156,7 +156,7 @@ def test_failure_in_report_writer_leaves_nothing(make_case, tmp_path, monkeypatc
 
 def test_failure_in_json_writer_leaves_no_temp_file(tmp_path, monkeypatch):
     """write_json_atomic: a failure during the dump removes the temporary file and keeps the old file."""
-    from uqthermo import run as runmod
+    from uqthermo.pipeline import output_files as runmod
 
     target = tmp_path / "results.json"
     target.write_text('{"old": true}')
@@ -175,7 +175,7 @@ def test_failure_in_json_writer_leaves_no_temp_file(tmp_path, monkeypatch):
 @pytest.mark.parametrize("fail_at", [1, 2, 3, 4])
 def test_failure_in_a_rename_of_a_force_replacement_restores_the_old_output(tmp_path, monkeypatch, fail_at):
     """publish_dir with --force: whichever rename of the replacement fails, the earlier output is put back."""
-    from uqthermo import run as runmod
+    from uqthermo.pipeline import output_files as runmod
     from uqthermo.pipeline import publish
 
     out = tmp_path / "out"
@@ -220,10 +220,10 @@ def test_interrupted_run_exits_130_and_leaves_nothing(tmp_path, sig):
     case = write_case(tmp_path, BASE_CASE)
     out = tmp_path / "out"
     proc = subprocess.Popen([sys.executable, "-m", "uqthermo.cli", "run", str(case), "--out", str(out),
-                             "--samples", "5000000", "--quiet"], stdout=subprocess.PIPE, stderr=subprocess.PIPE,
+                             "--samples", "100000000", "--quiet"], stdout=subprocess.PIPE, stderr=subprocess.PIPE,
                             text=True, env=cli_env(), cwd=str(REPO))
     # wait until the process has used ~4 s of CPU (imports, loading and the linear method take
-    # ~2.5 s; the Monte Carlo of 5e6 trials ~9 s), whatever the load on the machine
+    # ~2.5 s; the Monte Carlo of 1e8 trials far longer), whatever the load on the machine
     deadline = time.time() + 60
     while time.time() < deadline and proc.poll() is None and _cpu_seconds(proc.pid) < 4.0:
         time.sleep(0.1)

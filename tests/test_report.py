@@ -6,7 +6,7 @@ results dict shaped like the run's output, not a physics reference.
 Outside references used here:
 * GUM (JCGM 100:2008) 7.2.6 — a standard uncertainty is stated with (at most) two
   significant digits and the estimate is rounded to the same decimal position; the
-  test re-implements that rule independently of uqthermo.report.tables.
+  test re-implements that rule independently of uqthermo.report.rounding.
 * CommonMark 0.31 — backslash escapes (§2.4), entity references (§2.5) and table
   cells of the GFM table extension (pipes escaped as ``\\|``).
 * OWASP "CSV injection" — text cells starting with = + @ are neutralised.
@@ -28,9 +28,10 @@ import pytest
 
 from uqthermo.errors import InputError
 from uqthermo.report import ResultsView, make_figures, render_html, render_markdown, results_table, write_report
-from uqthermo.report import figures as figmod
+from uqthermo.report.figures import assembly as figmod
 from uqthermo.report.render import md_escape
-from uqthermo.report.tables import fmt_fixed, fmt_sig, uncertainty_decimals
+from uqthermo.report.rounding import fmt_fixed, fmt_sig, uncertainty_decimals
+from uqthermo.report.style import mpl_text
 
 FIXTURE = Path(__file__).parent / "fixtures" / "results_sample.json"
 
@@ -481,7 +482,7 @@ def test_figures_draw_dollar_signs_literally(results, tmp_path):
     for s in specs:
         fig = figmod.render_figure(s)   # a mathtext parse error would raise here
         assert fig.png[:4] == b"\x89PNG"
-    assert figmod.mpl_text("a $b$") == r"a \$b\$"
+    assert mpl_text("a $b$") == r"a \$b\$"
 
 
 # ---------------------------------------------------------------------------

@@ -15,7 +15,6 @@ Every number of the concise section carries the path of its value in results.jso
 
 from __future__ import annotations
 
-import copy
 import json
 import math
 import re
@@ -435,7 +434,7 @@ def test_document_keys_are_validated(make_case, tmp_path):
 
 
 def test_temperature_unit_of_a_case():
-    from uqthermo.case.document_reader import temperature_unit
+    from uqthermo.case.readers.document import temperature_unit
 
     assert temperature_unit({"output": [{"temperature": "350 degC"}, {"temperatures": {"from": "250 °C", "to": "450 °C"}}]}) == "degC"
     assert temperature_unit({"output": [{"temperature": {"value": "700 K", "u": "5 K"}}]}) == "K"
@@ -453,8 +452,8 @@ def test_terminal_summary_words(demo_runs):
 
 def test_figures_from_forked_workers_equal_the_serial_drawing():
     """Same bytes, same order, whether the figures are drawn here or by forked workers."""
-    from uqthermo.report.figures import figure_specs, render_figure
-    from uqthermo.report.parallel import render_all
+    from uqthermo.report.figures.assembly import figure_specs, render_figure
+    from uqthermo.report.figures.parallel import render_all
 
     res = json.loads((Path(__file__).parent / "fixtures" / "results_sample.json").read_text(encoding="utf-8"))
     specs = [s for s in figure_specs(res) if s.name.startswith(("drivers-", "distribution-"))][:4]

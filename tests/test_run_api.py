@@ -14,7 +14,7 @@ import numpy as np
 import pytest
 
 from conftest import BASE_CASE, main_in_process, write_case
-from uqthermo.run import run_case
+from uqthermo.pipeline.job import run_case
 
 PLAN_CASE = BASE_CASE.replace('what_if = false\n', 'what_if = true\nplan_target = "U95 <= 0.25 kJ/mol"\n') + '''
 [[candidate]]

@@ -25,7 +25,7 @@ from scipy import stats
 
 from conftest import BASE_CASE, main_in_process, write_case
 from uqthermo.errors import InputError
-from uqthermo.run import run_case
+from uqthermo.pipeline.job import run_case
 
 M_H2O = 18.015e-3      # kg/mol, 2·1.008 + 15.999 (IUPAC 2021 conventional values)
 M_CH4O = 32.042e-3     # 12.011 + 4·1.008 + 15.999
@@ -149,7 +149,7 @@ def test_2_zero_hits_report_the_upper_bound(tmp_path, capsys):
     assert pt["exceedance_upper_bound"] == pytest.approx(1 - 0.05 ** (1 / 50000), rel=1e-12)   # closed form
     assert pt["exceedance_trials"] == 50000
     assert "Clopper-Pearson" in res.results["run"]["bound_method"]
-    from uqthermo.commands import print_summary
+    from uqthermo.commands.terminal import print_summary
 
     print_summary(res.results)
     out = capsys.readouterr().out

@@ -21,10 +21,10 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from uqthermo.uq.delta import delta_index, design_rows, salib_delta
+from uqthermo.uq.sensitivity.delta import design_rows, salib_delta
 from uqthermo.uq.distributions import LogNormal, Normal, Rectangular
 from uqthermo.uq.inputs import InputSet, InputVariable
-from uqthermo.uq.sensitivity import sobol_indices
+from uqthermo.uq.sensitivity.sobol import sobol_indices
 
 
 #: allowance for the low bias of the class-based δ estimator at the pipeline's 2048 rows (7

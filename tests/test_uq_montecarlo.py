@@ -382,7 +382,7 @@ def test_score_rotation_is_insensitive_to_rounding_of_the_model_values():
     collinear): model values perturbed at the 1e-13 relative level, as another BLAS or libm
     would, move W only slightly (central differences of values ~10³ times the gradient and
     nearly collinear gradients amplify the 1e-13 to ~1e-7), never to another basis."""
-    from uqthermo.case.builder import build_model
+    from uqthermo.case.model.builder import build_model
     from uqthermo.case.loader import load_case
     from uqthermo.uq.montecarlo import score_rotation
 

@@ -23,7 +23,8 @@ from uqthermo.errors import InputError, StatisticsError
 from uqthermo.uq.distributions import Normal
 from uqthermo.uq.inputs import InputSet, InputVariable
 from uqthermo.uq.linear import propagate_linear
-from uqthermo.uq.planning import Candidate, parse_target, plan_linear, plan_purchases
+from uqthermo.uq.planning.candidates import Candidate, parse_target
+from uqthermo.uq.planning.planner import plan_linear, plan_purchases
 
 K95 = stats.norm.ppf(0.975)
 

@@ -162,7 +162,7 @@ def test_student_t_input_interval_matches_scipy():
 def test_requested_rank_correlation_through_pearson_scale(rho_s):
     # A requested Spearman rank correlation: r_z = 2 sin(π ρ_S/6) (Pearson 1907; Kruskal 1958), turned into
     # the Pearson correlation the linear method uses; sampling inverts it (NORTA) and reproduces ρ_S.
-    from uqthermo.uq.inputs import normal_score_from_spearman, pearson_from_normal_score
+    from uqthermo.uq.correlation import normal_score_from_spearman, pearson_from_normal_score
 
     a, b = LogNormal(1.0, 0.6), Rectangular(5.0, 2.0)
     rho = pearson_from_normal_score(a, b, normal_score_from_spearman(rho_s))

@@ -27,14 +27,11 @@ from uqthermo.errors import StatisticsError
 from uqthermo.uq.distributions import Exact, Normal, Rectangular
 from uqthermo.uq.inputs import InputSet, InputVariable
 from uqthermo.uq.linear import propagate_linear
-from uqthermo.uq.sensitivity import (
-    Driver,
-    delta_index,
-    linear_shares,
-    linearity_check,
-    rank_drivers,
-    sobol_indices,
-)
+from uqthermo.uq.sensitivity.delta import delta_index
+from uqthermo.uq.sensitivity.driver import Driver
+from uqthermo.uq.sensitivity.linear_shares import linear_shares
+from uqthermo.uq.sensitivity.ranking import linearity_check, rank_drivers
+from uqthermo.uq.sensitivity.sobol import sobol_indices
 
 
 def _inputs(specs, correlation=None):

@@ -1,4 +1,4 @@
-"""How Monte Carlo trials are drawn and evaluated (uq/trials.py, uq/sampling.ScoreStream, case/dependence.py).
+"""How Monte Carlo trials are drawn and evaluated (uq/trials.py, uq/sampling.ScoreStream, case/model/dependence.py).
 
 References: scipy.stats.norm / uniform (Kolmogorov-Smirnov tests of the drawn variates); the
 exact normal distribution of an additive model of normal inputs (JCGM 101 §9.2-style, mean
@@ -137,11 +137,11 @@ def test_copula_linked_inputs_are_active_together():
 
 
 def test_dependence_rule_of_the_demo_cases():
-    """case.dependence: moving every datum outside an output's set leaves that output's columns
+    """case.model.dependence: moving every datum outside an output's set leaves that output's columns
     unchanged, bit for bit, on rows of the joint input distribution (the demo cases and the
     documented worked example)."""
-    from uqthermo.case.builder import build_model
-    from uqthermo.case.dependence import output_data
+    from uqthermo.case.model.builder import build_model
+    from uqthermo.case.model.dependence import output_data
     from uqthermo.case.loader import load_case
 
     for path in sorted((ROOT / "inputs").glob("*.toml")) + [ROOT / "docs" / "worked-example.toml"]:
@@ -165,8 +165,8 @@ def test_dependence_rule_with_feed_streams_limits_and_mass_basis(tmp_path):
     """The same bit-for-bit probe on the demo's outputs with the newer keys: a continuous
     reactor's feed streams (uncertain feed temperature and flows, one more stream with CO), an
     uncertain limit, and a reaction enthalpy on a mass basis."""
-    from uqthermo.case.builder import build_model
-    from uqthermo.case.dependence import output_data
+    from uqthermo.case.model.builder import build_model
+    from uqthermo.case.model.dependence import output_data
     from uqthermo.case.loader import load_case
 
     text = (ROOT / "inputs" / "methanation_reactor.toml").read_text(encoding="utf-8")
@@ -212,7 +212,7 @@ def test_an_inert_feed_species_keeps_its_heat_capacity_uncertainty(tmp_path):
     """A species fed to a continuous reactor but in no reaction (N2 here) is heated by the
     feed balance, so its Cp datum stays an input and moves the heat to remove (it was dropped
     from the inputs when only reactions, species, mixtures and charges counted)."""
-    from uqthermo.case.builder import build_model
+    from uqthermo.case.model.builder import build_model
     from uqthermo.case.loader import load_case
 
     text = (ROOT / "inputs" / "methanation_reactor.toml").read_text(encoding="utf-8")

@@ -25,9 +25,9 @@ from . import __version__
 from .errors import InputError, Interrupted, UqthermoError
 
 EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_INTERRUPT = 0, 1, 2, 130
-#: same as uqthermo.case.loader.MAX_SAMPLES_LIMIT (not imported: argument parsing stays free of pint)
+#: same as uqthermo.case.readers.settings.MAX_SAMPLES_LIMIT (not imported: argument parsing stays free of pint)
 MAX_SAMPLES_LIMIT = 1_000_000_000
-#: same as uqthermo.case.loader.MAX_SEED: one range for --seed and settings.seed
+#: same as uqthermo.case.limits.MAX_SEED: one range for --seed and settings.seed
 MAX_SEED = 2**63 - 1
 SEED_RANGE_TEXT = "a whole number from 0 to 2^63 - 1 (9223372036854775807)"
 
@@ -40,7 +40,7 @@ _Terminated = Interrupted
 
 
 def _on_signal(signum, frame):  # pragma: no cover - exercised through subprocess tests
-    from .pipeline.publish import defer_signal
+    from .pipeline.interrupts import defer_signal
 
     if defer_signal(signum):        # inside the renames that publish a folder: acts right after them
         return
@@ -236,9 +236,10 @@ def _main(argv: list[str] | None) -> int:
         if not args.command:
             parser.print_help()
             return EXIT_INPUT
-        from . import commands
+        import importlib
 
-        return getattr(commands, f"cmd_{args.command}")(args)
+        command = importlib.import_module(f"{__package__}.commands.{args.command}")
+        return command.execute(args)
     except InputError as e:
         _print_problems(e)
         return EXIT_INPUT

@@ -1,7 +1,7 @@
 """Typed form of a case file, after parsing and unit conversion (engine units throughout).
 
 The loader (:mod:`uqthermo.case.loader`) turns the TOML text into these objects; the
-builder (:mod:`uqthermo.case.builder`) turns them into a vectorised model and an
+builder (:mod:`uqthermo.case.model.builder`) turns them into a vectorised model and an
 :class:`~uqthermo.uq.inputs.InputSet`. Nothing here computes anything.
 """
 

@@ -67,9 +67,9 @@ def resolve_token(token: str):
     InputError
         Unknown name, or a formula the groups do not single out (candidates listed).
     """
-    from ..case.library.base import LibraryLookupError
-    from ..case.library.formula import try_hill
-    from ..case.library.identify import atct_only, identify
+    from .library.base import LibraryLookupError
+    from .library.formula import try_hill
+    from .library.identify import atct_only, identify
 
     hill = try_hill(token)
     if hill is None:
@@ -194,7 +194,6 @@ def starter_case(equation: str, temperatures: tuple[float, ...], t_text: str, *,
         phase_blocks: dict[str, list[str]] = {}
         transitions: list[str] = []
         for ph in sorted(sp.phases):
-            sym = "cr" if ph == "s" else ph
             route = None
             try:
                 h = select_value(ident, "formation_enthalpy", ph)

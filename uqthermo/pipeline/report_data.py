@@ -14,8 +14,8 @@ from typing import Any
 
 import numpy as np
 
-from ..case.breakdown import kirchhoff_function
-from ..case.builder import Model
+from ..case.model.breakdown import kirchhoff_function
+from ..case.model.layout import Model
 from ..case.schema import Case
 
 
@@ -94,7 +94,7 @@ def heat_capacity_curves(case: Case, model: Model, outputs: list[dict]) -> list[
     (exact here: Cp is linear in its coefficients). Transitions: ``{"transition", "from",
     "to", "temperature_K", "enthalpy", "unit"}`` (enthalpy in kJ/mol).
     """
-    from ..case.cp_curves import cp_function, curve_specs
+    from ..case.model.cp_curves import cp_function, curve_specs
 
     specs = curve_specs(case, _final_temperatures(case, outputs))
     if not specs:

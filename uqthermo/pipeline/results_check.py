@@ -14,10 +14,51 @@ from typing import Any
 
 from ..errors import Problem
 
-__all__ = ["results_value_problems"]
+__all__ = ["results_shape_problems", "results_value_problems"]
 
 #: problems listed at most (a file full of garbage would otherwise print thousands of lines)
 MAX_PROBLEMS = 20
+
+
+_OUTPUT_TYPES = {"phase_changes": (list, dict), "points": (list, dict)}
+_POINT_TYPES = {"linear": dict, "monte_carlo": dict, "validation": dict, "margins": dict, "sensitivity": dict,
+                "drivers": (list, dict), "whatif": (list, dict)}
+
+
+def results_shape_problems(doc: dict, fname: str) -> list[Problem]:
+    """The containers the report reads must have the types of contract §3 (a hand-edited file may not)."""
+    problems = []
+
+    def check(node: dict, key: str, spec, where: str) -> bool:
+        if key not in node or node[key] is None:
+            return True
+        v = node[key]
+        ok = isinstance(v, list) and all(isinstance(x, spec[1]) for x in v) if isinstance(spec, tuple) else isinstance(v, spec)
+        if not ok:
+            problems.append(Problem(fname, f"{where}{key}", "must be " + ("a list of tables" if isinstance(spec, tuple)
+                                                                           else "a table" if spec is dict else "a list")))
+        return ok
+
+    for key, typ in (("case", dict), ("run", dict), ("outputs", (list, dict)), ("inputs", (list, dict)),
+                     ("warnings", list), ("correlations", (list, dict)), ("reactions", (list, dict)),
+                     ("convergence", dict), ("cautions", list)):
+        check(doc, key, typ, "")
+    if problems:
+        return problems
+    for i, out in enumerate(doc.get("outputs") or []):
+        for key, typ in _OUTPUT_TYPES.items():
+            check(out, key, typ, f"outputs[{i}].")
+        if problems:
+            continue
+        for j, pt in enumerate(out.get("points") or []):
+            where = f"outputs[{i}].points[{j}]."
+            ok = [check(pt, key, typ, where) for key, typ in _POINT_TYPES.items()]
+            if not all(ok):
+                continue
+            for d, drv in enumerate(pt.get("drivers") or []):
+                if not isinstance(drv.get("datum"), str):
+                    problems.append(Problem(fname, f"{where}drivers[{d}].datum", "must be a string"))
+    return problems
 
 
 def _number(x: Any) -> bool:

@@ -56,9 +56,9 @@ The ``plan`` section (data-purchase planner)
 ``target.unit``; ``set`` lists candidate ids.
 """
 
-from .figures import make_figures
+from .figures.assembly import make_figures
 from .notebook import ResultsView
 from .render import render_html, render_markdown, write_report
-from .tables import results_table
+from .tables.frames import results_table
 
 __all__ = ["write_report", "render_html", "render_markdown", "make_figures", "results_table", "ResultsView"]

@@ -19,7 +19,8 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
 
-from .tables import fmt_share, num, text
+from .fields import num, text
+from .rounding import fmt_share
 
 __all__ = ["DriverRow", "driver_rows", "rows_sum_note", "share_text"]
 

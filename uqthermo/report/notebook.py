@@ -9,7 +9,10 @@ import pandas as pd
 from markupsafe import Markup
 
 from . import style
-from . import tables as tb
+from .fields import check_results, text
+from .rounding import fmt_value
+from .tables.frames import results_table
+from .tables.overview import summary_table
 
 
 class ResultsView:
@@ -21,11 +24,11 @@ class ResultsView:
     """
 
     def __init__(self, results: Mapping):
-        self.results = tb.check_results(results)
+        self.results = check_results(results)
 
     def to_dataframe(self) -> pd.DataFrame:
         """One row per output point (full precision)."""
-        return tb.results_table(self.results)
+        return results_table(self.results)
 
     def write_report(self, out_dir, formats=("html", "md"), figures=True) -> dict[str, Path]:
         """Write the full report into ``out_dir`` (see :func:`uqthermo.report.write_report`)."""
@@ -34,26 +37,26 @@ class ResultsView:
         return write_report(self.results, Path(out_dir), formats=formats, figures=figures)
 
     def _repr_html_(self) -> str:
-        from .render import _environment
+        from .render import environment
 
         case = self.results.get("case") or {}
         run = self.results.get("run") or {}
         meta = []
         if run.get("samples") is not None:
-            meta.append(f"N = {tb.fmt_value(run.get('samples'))} ({tb.text(run.get('sampling')) or 'sampling not stated'})")
+            meta.append(f"N = {fmt_value(run.get('samples'))} ({text(run.get('sampling')) or 'sampling not stated'})")
         if run.get("seed") is not None:
-            meta.append(f"seed {tb.text(run.get('seed'))}")
+            meta.append(f"seed {text(run.get('seed'))}")
         if run.get("version"):
-            meta.append(f"uqthermo {tb.text(run.get('version'))}")
-        env = _environment("html")
+            meta.append(f"uqthermo {text(run.get('version'))}")
+        env = environment("html")
         tmpl = env.get_template("notebook.html.j2")
-        return tmpl.render(title=tb.text(case.get("title")) or "uqthermo results", meta=" · ".join(meta),
-                           table=tb.summary_table(self.results), n_warnings=len(self.results.get("warnings") or []),
+        return tmpl.render(title=text(case.get("title")) or "uqthermo results", meta=" · ".join(meta),
+                           table=summary_table(self.results), n_warnings=len(self.results.get("warnings") or []),
                            css=Markup(style.NOTEBOOK_CSS))
 
     def __repr__(self) -> str:
-        t = tb.summary_table(self.results)
-        lines = [f"ResultsView({tb.text((self.results.get('case') or {}).get('title')) or 'untitled'!r})"]
+        t = summary_table(self.results)
+        lines = [f"ResultsView({text((self.results.get('case') or {}).get('title')) or 'untitled'!r})"]
         for r in t.rows:
             lines.append(f"  {r[0]}: {r[3]} ± {r[4]} {r[6]} at {r[2].rstrip(' *')} K, {r[5]}")
         return "\n".join(lines)

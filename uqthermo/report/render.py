@@ -2,7 +2,7 @@
 
 Both formats are rendered from one context built by :func:`build_context`, so they
 carry the same content and the same rounded numbers (rounding rule:
-:mod:`uqthermo.report.tables`).
+:mod:`uqthermo.report.rounding`).
 
 Escaping
 --------
@@ -18,9 +18,7 @@ Escaping
 from __future__ import annotations
 
 import base64
-import os
 import re
-import tempfile
 from collections.abc import Mapping, Sequence
 from pathlib import Path
 from typing import Any
@@ -28,18 +26,28 @@ from typing import Any
 import jinja2
 from markupsafe import Markup, escape
 
-from . import style
-from . import tables as tb
+from . import files, style
+from .fields import (
+    SAFETY_KINDS, check_results, coverage_probability, headline_index, kind_label, num, outputs, point_estimate, point_u,
+    points, safety_relevant, slugs, text,
+)
+from .rounding import (
+    fmt_cost, fmt_fixed, fmt_interval, fmt_k, fmt_probability, fmt_sig, fmt_temperature, fmt_u, fmt_value, pct_label,
+    uncertainty_decimals,
+)
 from .sections import kirchhoff as kh
 from .sections import ranking
 from .sections.concise import concise_context
 from .sections.warnings import grouped as grouped_warnings
-from .units import fmt_T, limit_text, temperature_unit
-from .tables import (
-    DisplayTable, coverage_probability, fmt_fixed, fmt_interval, fmt_k, fmt_probability,
-    fmt_temperature, fmt_u, fmt_value, headline_index, kind_label, num, outputs, pct_label,
-    points, slugs, text, uncertainty_decimals,
-)
+from .tables.design import bounds_table, exceedance_table, limit_text, probability_cell, safety_table
+from .tables.display import DisplayTable, unit_suffix
+from .tables.drivers_whatif import drivers_note
+from .tables.frames import frames
+from .tables.inputs import correlations_table, inputs_table, reactions_table
+from .tables.overview import summary_table
+from .tables.plan import plan_candidates_table, plan_front_table
+from .tables.propagation import linear_table, mc_table
+from .units import fmt_T, temperature_unit
 
 _TEMPLATES = Path(__file__).with_name("templates")
 
@@ -113,7 +121,8 @@ def html_breakable(value: Any) -> Markup:
     return Markup(re.sub(r"([._/])", r"\1<wbr>", str(escape(text(value)))))
 
 
-def _environment(kind: str) -> jinja2.Environment:
+def environment(kind: str) -> jinja2.Environment:
+    """The Jinja2 environment of the report's templates: ``"html"`` (autoescaped) or ``"md"`` (every value through :func:`md_escape`)."""
     from .sections.numbers import Num, Parts
 
     loader = jinja2.FileSystemLoader(str(_TEMPLATES))
@@ -128,32 +137,6 @@ def _environment(kind: str) -> jinja2.Environment:
     env.tests["num"] = lambda x: isinstance(x, Num)
     env.tests["parts"] = lambda x: isinstance(x, Parts)
     return env
-
-
-# ---------------------------------------------------------------------------
-# atomic writes
-# ---------------------------------------------------------------------------
-
-def atomic_write(path: Path, data: bytes | str) -> Path:
-    """Write ``data`` to ``path`` atomically (temp file in the same directory, then ``os.replace``)."""
-    path = Path(path)
-    path.parent.mkdir(parents=True, exist_ok=True)
-    if isinstance(data, str):
-        data = data.encode("utf-8")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=str(path.parent))
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
-    return path
 
 
 # ---------------------------------------------------------------------------
@@ -223,8 +206,8 @@ def job_sentence(results: Mapping) -> str:
             if o.get("kind") in ("adiabatic_temperature_rise", "heating_enthalpy"):
                 sp = sp.replace("at ", "from ", 1) if o.get("kind") == "adiabatic_temperature_rise" else sp
             s += " " + sp
-        if tb.limit_text(o):
-            s += f", with P({tb.limit_text(o)})"
+        if limit_text(o):
+            s += f", with P({limit_text(o)})"
         parts.append(s)
     if not parts:
         what = "no outputs"
@@ -294,7 +277,7 @@ def _method(results: Mapping) -> dict:
         "tref": fmt_temperature(tref) if tref is not None else "298.15",
         "p": pct_label(coverage_probability(results)),
         "has_phase_changes": has_pc,
-        "safety_kinds": bool(kinds & tb.SAFETY_KINDS),
+        "safety_kinds": bool(kinds & SAFETY_KINDS),
         "drivers_methods": methods,
     }
 
@@ -302,7 +285,7 @@ def _method(results: Mapping) -> dict:
 def _headline(results: Mapping, o: Mapping, p: Mapping) -> dict:
     mc = p.get("monte_carlo") or {}
     lin = p.get("linear") or {}
-    unit = tb.unit_suffix(o.get("unit"))
+    unit = unit_suffix(o.get("unit"))
     p_cov = pct_label(coverage_probability(results, p))
     items = []
     if mc:
@@ -326,8 +309,8 @@ def _headline(results: Mapping, o: Mapping, p: Mapping) -> dict:
     if p.get("exceedance_probability") is not None:
         se = num(p.get("exceedance_standard_error"))
         items.append({
-            "label": f"P({tb.limit_text(o) or 'beyond the limit'})",
-            "value": tb.probability_cell(p, "exceedance_probability"),
+            "label": f"P({limit_text(o) or 'beyond the limit'})",
+            "value": probability_cell(p, "exceedance_probability"),
             "detail": (f"standard error {fmt_probability(se, se)}; the bound is one-sided" if se else
                        "no trial beyond the limit: the value shown is the one-sided upper bound"
                        if num(p.get("exceedance_upper_bound")) is not None else text(p.get("exceedance_basis"))),
@@ -339,8 +322,8 @@ def _headline(results: Mapping, o: Mapping, p: Mapping) -> dict:
 def _summary_card(results: Mapping, o: Mapping, p: Mapping) -> dict:
     mc = p.get("monte_carlo") or {}
     lin = p.get("linear") or {}
-    unit = tb.unit_suffix(o.get("unit"))
-    u = tb.point_u(p)
+    unit = unit_suffix(o.get("unit"))
+    u = point_u(p)
     d = uncertainty_decimals(u)
     src = "Monte Carlo" if num(mc.get("mean")) is not None else "linear"
     iv = mc.get("coverage_interval") if src == "Monte Carlo" else lin.get("coverage_interval")
@@ -349,10 +332,10 @@ def _summary_card(results: Mapping, o: Mapping, p: Mapping) -> dict:
         dl = uncertainty_decimals(lin.get("standard_uncertainty"))
         details.append(f"linear: U = {fmt_fixed(lin.get('expanded_uncertainty'), dl)}{unit} (k = {fmt_k(lin.get('coverage_factor'))})")
     if p.get("exceedance_probability") is not None:
-        details.append(f"P({tb.limit_text(o) or 'beyond the limit'}) = {tb.probability_cell(p, 'exceedance_probability')}")
+        details.append(f"P({limit_text(o) or 'beyond the limit'}) = {probability_cell(p, 'exceedance_probability')}")
     if num(p.get("mtsr_K")) is not None:
         details.append(f"MTSR (no evaporative cooling) {fmt_fixed(p.get('mtsr_K'), d)} K"
-                       + (f"; P(MTSR > MTT) = {tb.probability_cell(p, 'p_mtsr_above_mtt')}" if p.get("p_mtsr_above_mtt") is not None else ""))
+                       + (f"; P(MTSR > MTT) = {probability_cell(p, 'p_mtsr_above_mtt')}" if p.get("p_mtsr_above_mtt") is not None else ""))
     bl = p.get("boiling_limited")
     if isinstance(bl, Mapping) and isinstance(bl.get("final_temperature_K"), Mapping):
         ft = bl["final_temperature_K"]
@@ -360,7 +343,7 @@ def _summary_card(results: Mapping, o: Mapping, p: Mapping) -> dict:
         details.append(f"boiling-limited end temperature {fmt_fixed(v, d)} K")
     v = p.get("linear_validated")
     badge = ("ok", "linear validated") if v is True else (("no", "linear not validated") if v is False else None)
-    return {"T": fmt_temperature(p.get("temperature_K")), "value": f"{fmt_fixed(tb.point_estimate(p), d)}{unit}",
+    return {"T": fmt_temperature(p.get("temperature_K")), "value": f"{fmt_fixed(point_estimate(p), d)}{unit}",
             "details": details, "badge": badge}
 
 
@@ -378,12 +361,12 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
     """Everything the templates print, as plain strings (escaping is the template's job).
 
     ``figures``: include figure entries; ``rendered``: list of
-    :class:`~uqthermo.report.figures.RenderedFigure` to embed (HTML); without it
+    :class:`~uqthermo.report.figures.assembly.RenderedFigure` to embed (HTML); without it
     the entries carry only their relative path ``figures/NAME.png`` (Markdown).
     """
-    from .figures import figure_specs
+    from .figures.assembly import figure_specs
 
-    tb.check_results(results)
+    check_results(results)
     numbering = _Numbering()
     specs = figure_specs(results) if figures else []
     spec_titles = {s.name: (s.title, s.caption) for s in specs}
@@ -411,12 +394,12 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
         return f
 
     ctx["concise"] = concise_context(results, numbering.table, concise_figure)
-    ctx["summary"] = numbering.table(tb.summary_table(results))
-    inp = tb.inputs_table(results)
+    ctx["summary"] = numbering.table(summary_table(results))
+    inp = inputs_table(results)
     ctx["inputs"] = numbering.table(inp) if inp else None
-    corr = tb.correlations_table(results)
+    corr = correlations_table(results)
     ctx["correlations"] = numbering.table(corr) if corr else None
-    reac = tb.reactions_table(results)
+    reac = reactions_table(results)
     ctx["reactions"] = numbering.table(reac) if reac else None
 
     outs = []
@@ -424,7 +407,7 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
         pts = points(o)
         entry: dict[str, Any] = {
             "anchor": f"out-{oi + 1}", "number": oi + 1, "name": text(o.get("name")), "kind": kind_label(o.get("kind")),
-            "unit": tb.unit_suffix(o.get("unit")).strip(), "description": text(o.get("description")), "reaction": text(o.get("reaction")),
+            "unit": unit_suffix(o.get("unit")).strip(), "description": text(o.get("description")), "reaction": text(o.get("reaction")),
             "equation": text(o.get("equation")), "span": _span_text(o), "first": oi == 0,
             "figures": [], "tables": [], "headline": None, "summary_card": None, "headline_note": "",
             "drivers_table": None, "drivers_figure": None, "whatif_table": None, "not_validated": [], "drivers_note": "", "limit": "", "phase_changes": [],
@@ -448,8 +431,8 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
                                   + (f", i.e. a rise of at most {fmt_temperature((num(o.get('limit_K')) or 0) - (start or 0))} K." if not below else "."))
             else:
                 entry["limit"] = f"Limit: {fmt_temperature(o.get('limit_K'))} K."
-        elif tb.limit_text(o):
-            entry["limit"] = f"Limit: the probability that {tb.limit_text(o)} is computed at every point."
+        elif limit_text(o):
+            entry["limit"] = f"Limit: the probability that {limit_text(o)} is computed at every point."
         if pts:
             hi = headline_index(o)
             hp = pts[hi]
@@ -464,12 +447,12 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
                 f = _figure_entry(fname, rmap, spec_titles, numbering)
                 if f:
                     entry["figures"].append(f)
-            for t in (tb.mc_table(results, o, f"mc-{slug}"), tb.linear_table(results, o, f"linear-{slug}"),
-                      tb.bounds_table(results, o, f"bounds-{slug}"), tb.exceedance_table(results, o, f"exceedance-{slug}"),
-                      tb.safety_table(results, o, f"safety-{slug}")):
+            for t in (mc_table(results, o, f"mc-{slug}"), linear_table(results, o, f"linear-{slug}"),
+                      bounds_table(results, o, f"bounds-{slug}"), exceedance_table(results, o, f"exceedance-{slug}"),
+                      safety_table(results, o, f"safety-{slug}")):
                 if t:
                     entry["tables"].append(numbering.table(t))
-            entry["drivers_note"] = tb.drivers_note(results, hp)
+            entry["drivers_note"] = drivers_note(results, hp)
             entry["drivers_figure"] = _figure_entry(f"drivers-{slug}", rmap, spec_titles, numbering)
             if o.get("kind") == "reaction_enthalpy":
                 kt = kh.point_table(o, f"kirchhoff-{slug}")
@@ -498,26 +481,26 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
         cur = text(plan.get("currency")) or "cost units"
         lines = []
         if num(tgt.get("U")) is not None:
-            s = f"Target: U ≤ {tb.fmt_sig(tgt.get('U'), 3)} {unit} ({pct_label(num(tgt.get('coverage_probability')) or p_cov)})"
+            s = f"Target: U ≤ {fmt_sig(tgt.get('U'), 3)} {unit} ({pct_label(num(tgt.get('coverage_probability')) or p_cov)})"
             if tgt.get("output"):
                 s += f" for {text(tgt.get('output'))}"
             if num(tgt.get("temperature_K")) is not None:
                 s += f" at {fmt_temperature(tgt.get('temperature_K'))} K"
             lines.append(s + ".")
         if num(plan.get("U_now")) is not None:
-            lines.append(f"Now: U = {tb.fmt_sig(plan.get('U_now'), 3)} {unit}.")
+            lines.append(f"Now: U = {fmt_sig(plan.get('U_now'), 3)} {unit}.")
         if num(plan.get("budget")) is not None:
-            lines.append(f"Budget: {tb.fmt_cost(plan.get('budget'))} {cur}.")
+            lines.append(f"Budget: {fmt_cost(plan.get('budget'))} {cur}.")
         rec = None
         if best:
             st = " + ".join(text(x) for x in best.get("set") or []) or "no purchase"
             meets = best.get("meets_target")
-            rec = (f"Recommended: {st}, cost {tb.fmt_cost(best.get('cost'))} {cur}, giving U = {tb.fmt_sig(best.get('U'), 3)} {unit}"
+            rec = (f"Recommended: {st}, cost {fmt_cost(best.get('cost'))} {cur}, giving U = {fmt_sig(best.get('U'), 3)} {unit}"
                    + ("" if meets is None else (" (meets the target)." if meets else " (the target is not reached within the candidates).")))
             if meets is None:
                 rec += "."
-        cand = tb.plan_candidates_table(plan)
-        front = tb.plan_front_table(plan)
+        cand = plan_candidates_table(plan)
+        front = plan_front_table(plan)
         ctx["plan"] = {
             "lines": lines, "recommendation": rec,
             "method": text(plan.get("method")),
@@ -534,7 +517,7 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
             notes.append(f"{e['name']}: the linear method is not validated at {len(e['not_validated'])} of "
                          f"{len(points(outputs(results)[e['number'] - 1]))} point(s) (T = {', '.join(e['not_validated'])} K); use the Monte Carlo results there.")
     ctx["auto_notes"] = notes
-    safety = tb.safety_relevant(results)
+    safety = safety_relevant(results)
     cautions = [text(c) for c in results.get("cautions") or [] if text(c)]
     ctx["safety"] = safety
     ctx["cautions_needed"] = safety or bool(cautions)
@@ -544,7 +527,7 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
         for c, word in zip(DEFAULT_CAUTIONS, ("calorimetry", "codes", "model")):
             if word not in low:
                 cautions.append(c)
-        if any(tb.limit_text(o) or any(p.get("exceedance_probability") is not None for p in points(o))
+        if any(limit_text(o) or any(p.get("exceedance_probability") is not None for p in points(o))
                for o in outputs(results)) and "exceedance" not in low:
             bm = (results.get("run") or {}).get("bound_method")
             cautions.append(LIMIT_CAUTION + (f" Each probability is shown with its one-sided 95 % upper bound ({text(bm)})."
@@ -586,19 +569,19 @@ def render_html(results: Mapping, figures: bool = True, _rendered: Sequence | No
     figures : bool
         Draw and embed the figures (default True).
     """
-    tb.check_results(results)
+    check_results(results)
     if figures and _rendered is None:
-        from .figures import render_figures
+        from .figures.assembly import render_figures
 
         _rendered = render_figures(results)
     ctx = build_context(results, figures=figures, rendered=_rendered if figures else None)
-    return _environment("html").get_template("report.html.j2").render(**ctx)
+    return environment("html").get_template("report.html.j2").render(**ctx)
 
 
 def render_markdown(results: Mapping, figures: bool = True) -> str:
     """The report as Markdown; figures are referenced as ``figures/NAME.png``."""
     ctx = build_context(results, figures=figures, rendered=None)
-    return _environment("md").get_template("report.md.j2").render(**ctx)
+    return environment("md").get_template("report.md.j2").render(**ctx)
 
 
 def write_tables(results: Mapping, out_dir: Path) -> dict[str, Path]:
@@ -610,7 +593,7 @@ def write_tables(results: Mapping, out_dir: Path) -> dict[str, Path]:
 
     written: dict[str, Path] = {}
     for stem, df in report_frames(results).items():
-        written[f"tables/{stem}.csv"] = atomic_write(Path(out_dir) / "tables" / f"{stem}.csv", csv_frame_text(df))
+        written[f"tables/{stem}.csv"] = files.atomic_write(Path(out_dir) / "tables" / f"{stem}.csv", csv_frame_text(df))
     return written
 
 
@@ -631,9 +614,9 @@ def write_report(results: Mapping, out_dir: Path, formats: Sequence[str] = ("htm
         (e.g. ``"report.html"``, ``"figures/curve-R1.png"``, ``"tables/inputs.csv"``).
     """
     from ..errors import InputError
-    from .figures import make_figures, render_figures
+    from .figures.assembly import make_figures, render_figures
 
-    tb.check_results(results)
+    check_results(results)
     formats = tuple(formats)
     bad = [f for f in formats if f not in ("html", "md", "docx")]
     if bad:
@@ -651,22 +634,22 @@ def write_report(results: Mapping, out_dir: Path, formats: Sequence[str] = ("htm
     if "html" in formats or "docx" in formats:
         page = render_html(results, figures=figures, _rendered=rendered)
     if "html" in formats:
-        written["report.html"] = atomic_write(out_dir / "report.html", page)
+        written["report.html"] = files.atomic_write(out_dir / "report.html", page)
     if "docx" in formats:
         from . import docx as wd
 
         if wd.available():
-            written["report.docx"] = atomic_write(out_dir / "report.docx", wd.html_to_docx(page, results))
+            written["report.docx"] = files.atomic_write(out_dir / "report.docx", wd.html_to_docx(page, results))
     if "md" in formats:
-        written["report.md"] = atomic_write(out_dir / "report.md", render_markdown(results, figures=figures))
+        written["report.md"] = files.atomic_write(out_dir / "report.md", render_markdown(results, figures=figures))
     return written
 
 
 def report_frames(results: Mapping) -> dict:
-    """Every CSV table: :func:`uqthermo.report.tables.frames` plus ``budget-<output>`` and ``kirchhoff``."""
+    """Every CSV table: :func:`uqthermo.report.tables.frames.frames` plus ``budget-<output>`` and ``kirchhoff``."""
     from .sections.budget import budget_frames
 
-    out = dict(tb.frames(results))
+    out = dict(frames(results))
     out.update(budget_frames(results))
     k = kh.kirchhoff_frame(results)
     if len(k):
@@ -674,5 +657,5 @@ def report_frames(results: Mapping) -> dict:
     return out
 
 
-__all__ = ["render_html", "render_markdown", "write_report", "write_tables", "build_context", "md_escape", "atomic_write",
+__all__ = ["render_html", "render_markdown", "write_report", "write_tables", "build_context", "md_escape", "environment",
            "job_sentence", "report_frames"]

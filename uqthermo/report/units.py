@@ -15,7 +15,8 @@ import re
 from collections.abc import Mapping
 from typing import Any
 
-from .tables import fmt_temperature, num
+from .fields import num
+from .rounding import fmt_temperature
 
 SYMBOL = {"K": "K", "degC": "°C", "degF": "°F"}
 OFFSET = {"K": (1.0, 0.0), "degC": (1.0, -273.15), "degF": (1.8, -459.67)}

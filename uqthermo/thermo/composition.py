@@ -4,7 +4,7 @@
 
     M = \\sum_e n_e\\,A_r(e)\\;M_u, \\qquad M_u = 1\\ \\mathrm{g/mol} = 10^{-3}\\ \\mathrm{kg/mol}
 
-with :math:`n_e` the count of element *e* in the formula (:func:`uqthermo.thermo.reaction.parse_formula`)
+with :math:`n_e` the count of element *e* in the formula (:func:`uqthermo.thermo.formula.parse_formula`)
 and :math:`A_r(e)` its standard atomic weight.
 
 Source of the atomic weights: IUPAC Commission on Isotopic Abundances and Atomic Weights (CIAAW),
@@ -26,6 +26,7 @@ from __future__ import annotations
 from collections.abc import Mapping
 
 from ..errors import PhysicsError
+from .formula import parse_formula
 
 __all__ = ["STANDARD_ATOMIC_WEIGHTS", "molar_mass", "formula_molar_mass"]
 
@@ -54,7 +55,7 @@ def molar_mass(elements: Mapping[str, float]) -> float:
     Parameters
     ----------
     elements : mapping element symbol → count
-        E.g. ``{"H": 2, "O": 1}`` (from :func:`~uqthermo.thermo.reaction.parse_formula`).
+        E.g. ``{"H": 2, "O": 1}`` (from :func:`~uqthermo.thermo.formula.parse_formula`).
 
     Raises
     ------
@@ -75,6 +76,4 @@ def molar_mass(elements: Mapping[str, float]) -> float:
 
 def formula_molar_mass(formula: str) -> float:
     """Molar mass of a formula (``"H2O"``, ``"CuSO4*5H2O"``), kg/mol."""
-    from .reaction import parse_formula
-
     return molar_mass(parse_formula(formula))

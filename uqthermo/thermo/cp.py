@@ -42,10 +42,12 @@ R = 8.314462618
 
 _REL_TOL = 1e-9  # relative slack when comparing a temperature with a validity bound
 
-__all__ = ["R", "CpModel", "ConstantCp", "PolynomialCp", "ShomateCp", "Nasa7Cp"]
+__all__ = ["R", "CpModel", "ConstantCp", "PolynomialCp", "ShomateCp", "Nasa7Cp", "as_temperature",
+           "format_number"]
 
 
-def _fmt(x: float) -> str:
+def format_number(x: float) -> str:
+    """A number in messages and labels, shortest general form (``f"{x:g}"``: 298.15, 1e+06)."""
     return f"{x:g}"
 
 
@@ -117,12 +119,19 @@ def _split_ranges(kind: str, names: Sequence[str], ranges) -> tuple[list[tuple[f
     return bounds, (np.concatenate(coeffs) if coeffs else np.zeros(0))
 
 
-def _as_temperature(T, name: str = "T") -> np.ndarray:
+def as_temperature(T, name: str = "T") -> np.ndarray:
+    """``T`` as a float array of absolute temperatures, K.
+
+    Raises
+    ------
+    ValidityError
+        An entry is not finite or not positive (the message names ``name``).
+    """
     T = np.asarray(T, dtype=float)
     if not np.all(np.isfinite(T)):
         raise ValidityError(f"{name} must be finite (got {T[~np.isfinite(T)].ravel()[0]!r} K)")
     if np.any(T <= 0.0):
-        raise ValidityError(f"{name} must be positive (got {_fmt(float(np.min(T)))} K)")
+        raise ValidityError(f"{name} must be positive (got {format_number(float(np.min(T)))} K)")
     return T
 
 
@@ -157,12 +166,12 @@ class CpModel:
             raise PhysicsError(f"{self.kind} heat capacity needs at least one temperature range")
         for lo, hi in ranges:
             if not np.isfinite(lo) or lo < 0 or np.isnan(hi) or not hi > lo:
-                raise PhysicsError(f"{self.kind} heat capacity: invalid temperature range {_fmt(lo)}-{_fmt(hi)} K")
+                raise PhysicsError(f"{self.kind} heat capacity: invalid temperature range {format_number(lo)}-{format_number(hi)} K")
         for (lo1, hi1), (lo2, hi2) in zip(ranges, ranges[1:]):
             if abs(hi1 - lo2) > 1e-6 * max(1.0, abs(hi1)):
                 raise PhysicsError(
                     f"{self.kind} heat capacity: ranges must be contiguous and increasing "
-                    f"(range ending at {_fmt(hi1)} K is followed by one starting at {_fmt(lo2)} K)"
+                    f"(range ending at {format_number(hi1)} K is followed by one starting at {format_number(lo2)} K)"
                 )
         coefficients = np.asarray(coefficients, dtype=float).reshape(-1)
         P = self._n_terms * len(ranges)
@@ -196,7 +205,7 @@ class CpModel:
     def _make_names(self) -> list[str]:
         if len(self.ranges) == 1 and not np.isfinite(self.ranges[0][1]):
             return list(self._term_names)
-        return [f"{n}[{_fmt(lo)}-{_fmt(hi)} K]" for lo, hi in self.ranges for n in self._term_names]
+        return [f"{n}[{format_number(lo)}-{format_number(hi)} K]" for lo, hi in self.ranges for n in self._term_names]
 
     # ----------------------------------------------------------------- helpers
     @property
@@ -254,7 +263,7 @@ class CpModel:
         return np.concatenate(parts, axis=-1)
 
     def _check(self, *temperatures, check: bool = True) -> None:
-        Ts = [_as_temperature(T) for T in temperatures]
+        Ts = [as_temperature(T) for T in temperatures]
         if not check or self.allow_extrapolation:
             return
         lo = min(float(np.min(T)) for T in Ts)
@@ -288,8 +297,8 @@ class CpModel:
             bad.append(hi)
         if not bad:
             return None
-        Ts = " and ".join(f"T = {_fmt(x)} K" for x in bad)
-        return (f"{Ts} outside the validity range {_fmt(self.t_min)}-{_fmt(self.t_max)} K "
+        Ts = " and ".join(f"T = {format_number(x)} K" for x in bad)
+        return (f"{Ts} outside the validity range {format_number(self.t_min)}-{format_number(self.t_max)} K "
                 f"of the {self.kind} heat capacity")
 
     def cp_basis(self, T) -> np.ndarray:
@@ -412,7 +421,7 @@ class CpModel:
 
     def describe(self) -> str:
         """Short description for reports, e.g. ``"shomate, 2 ranges, 500-6000 K"``."""
-        rng = f"{_fmt(self.t_min)}-{_fmt(self.t_max)} K"
+        rng = f"{format_number(self.t_min)}-{format_number(self.t_max)} K"
         nr = len(self.ranges)
         return f"{self.kind}, {nr} range{'s' if nr > 1 else ''}, {rng}"
 
@@ -554,7 +563,7 @@ class ShomateCp(CpModel):
         super().__init__(bounds, coeffs, allow_extrapolation)
 
     def _make_names(self):
-        return [f"{n}[{_fmt(lo)}-{_fmt(hi)} K]" for lo, hi in self.ranges for n in self._term_names]
+        return [f"{n}[{format_number(lo)}-{format_number(hi)} K]" for lo, hi in self.ranges for n in self._term_names]
 
     def _cp_terms(self, T):
         t = T / 1000.0
@@ -625,7 +634,7 @@ class Nasa7Cp(CpModel):
         return cls([(t_low, t_mid, low), (t_mid, t_high, high)], allow_extrapolation)
 
     def _make_names(self):
-        return [f"{n}[{_fmt(lo)}-{_fmt(hi)} K]" for lo, hi in self.ranges for n in self._term_names]
+        return [f"{n}[{format_number(lo)}-{format_number(hi)} K]" for lo, hi in self.ranges for n in self._term_names]
 
     def _cp_terms(self, T):
         return _powers(T, (0, 1, 2, 3, 4, None, None), (R, R, R, R, R, 0.0, 0.0))

@@ -58,7 +58,8 @@ from typing import Mapping
 import numpy as np
 
 from ..errors import PathError, ValidityError
-from .cp import CpModel, Nasa7Cp, _as_temperature, _fmt
+from .cp import CpModel, Nasa7Cp, as_temperature, format_number
+from .formula import parse_formula
 
 __all__ = ["Phase", "Transition", "Species", "Segment"]
 
@@ -149,10 +150,10 @@ class Segment:
 
     def describe(self) -> str:
         if self.transition is None:
-            return f"{self.phase} {_fmt(self.T_start)} K -> {_fmt(self.T_end)} K"
+            return f"{self.phase} {format_number(self.T_start)} K -> {format_number(self.T_end)} K"
         tr = self.transition
         a, b = (tr.from_phase, tr.to_phase) if self.sign > 0 else (tr.to_phase, tr.from_phase)
-        return f"{a} -> {b} at {_fmt(tr.temperature)} K"
+        return f"{a} -> {b} at {format_number(tr.temperature)} K"
 
 
 def _where(mask, a, b):
@@ -184,8 +185,6 @@ class Species:
     @property
     def elements(self) -> dict[str, float]:
         """Element counts from the formula (e.g. ``{"H": 2, "O": 1}``)."""
-        from .reaction import parse_formula
-
         return parse_formula(self.formula or self.name)
 
     def _key(self, *parts: str) -> str:
@@ -228,10 +227,10 @@ class Species:
                 continue
             if not (np.isfinite(t) and t > 0):
                 out.append(PathError(f"transition {tr.label} of {self.name}: temperature must be positive "
-                                     f"(got {_fmt(t)} K)", key=key + ".temperature"))
+                                     f"(got {format_number(t)} K)", key=key + ".temperature"))
             if not np.isfinite(h) or h < 0:
                 out.append(PathError(f"transition {tr.label} of {self.name}: enthalpy on heating "
-                                     f"({tr.from_phase} -> {tr.to_phase}) must be >= 0 (got {_fmt(h)} J/mol)",
+                                     f"({tr.from_phase} -> {tr.to_phase}) must be >= 0 (got {format_number(h)} J/mol)",
                                      key=key + ".enthalpy"))
             pair = frozenset((tr.from_phase, tr.to_phase))
             if pair in seen:
@@ -265,8 +264,8 @@ class Species:
                 for to in out_of:
                     if ti.temperature > to.temperature:
                         out.append(PathError(
-                            f"{self.name}: inconsistent transitions: {ti.label} at {_fmt(ti.temperature)} K "
-                            f"is above {to.label} at {_fmt(to.temperature)} K",
+                            f"{self.name}: inconsistent transitions: {ti.label} at {format_number(ti.temperature)} K "
+                            f"is above {to.label} at {format_number(to.temperature)} K",
                             key=self._key("transition", to.label)))
         return out
 
@@ -337,7 +336,7 @@ class Species:
         if cp is None:
             if np.any(a != b):
                 raise PathError(f"{self.name}({p}) has no heat capacity, but the path heats it between "
-                                f"{_fmt(lo)} K and {_fmt(hi)} K", key=self._key(p, "heat_capacity"))
+                                f"{format_number(lo)} K and {format_number(hi)} K", key=self._key(p, "heat_capacity"))
             return
         msg = cp.out_of_range(lo, hi)
         if msg is not None and not cp.allow_extrapolation:
@@ -401,7 +400,7 @@ class Species:
         self.validate()
         vals = self._v(values)
         p = self.resolve_phase(phase)
-        T = _as_temperature(T)
+        T = as_temperature(T)
         T_ref = float(T_ref)
         a, route = self._route(q, p)
         if not route:
@@ -551,8 +550,8 @@ class Species:
         self.validate()
         vals = self._v(values)
         p = self.resolve_phase(phase)
-        T1 = _as_temperature(T1, "T1")
-        T2 = _as_temperature(T2, "T2")
+        T1 = as_temperature(T1, "T1")
+        T2 = as_temperature(T2, "T2")
         up = np.broadcast_to(T2 >= T1, np.broadcast_shapes(T1.shape, T2.shape))
         heat = cool = None
         if np.any(up):
@@ -640,22 +639,22 @@ class Species:
         """Heat capacity of one phase, J/(mol K) (validity enforced unless the model allows extrapolation)."""
         p = self.resolve_phase(phase)
         cp = self._phase_cp(p)
-        T = _as_temperature(T)
+        T = as_temperature(T)
         self._check_heat(p, T, T)
         return cp.cp(T, self._coeffs(p, self._v(values)), check=False)
 
     def phase_enthalpy_change(self, phase: str | None, T1, T2, values: Mapping | None = None) -> np.ndarray:
         """:math:`\\int_{T_1}^{T_2} C_p\\,dT` in one phase held as written (no transitions), J/mol."""
         p = self.resolve_phase(phase)
-        T1 = _as_temperature(T1, "T1")
-        T2 = _as_temperature(T2, "T2")
+        T1 = as_temperature(T1, "T1")
+        T2 = as_temperature(T2, "T2")
         self._check_heat(p, T1, T2)
         return np.asarray(self._delta("H", p, T1, T2, self._v(values)) + 0.0 * (T1 + T2))
 
     def phase_entropy_change(self, phase: str | None, T1, T2, values: Mapping | None = None) -> np.ndarray:
         """:math:`\\int_{T_1}^{T_2} C_p/T\\,dT` in one phase held as written, J/(mol K)."""
         p = self.resolve_phase(phase)
-        T1 = _as_temperature(T1, "T1")
-        T2 = _as_temperature(T2, "T2")
+        T1 = as_temperature(T1, "T1")
+        T2 = as_temperature(T2, "T2")
         self._check_heat(p, T1, T2)
         return np.asarray(self._delta("S", p, T1, T2, self._v(values)) + 0.0 * (T1 + T2))

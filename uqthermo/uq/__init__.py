@@ -18,9 +18,11 @@ from .distributions import (
     from_relative,
     parse_relative,
 )
-from .inputs import Datum, InputSet, InputVariable, check_correlation
+from .correlation import check_correlation
+from .inputs import Datum, InputSet, InputVariable
 from .linear import LinearResult, coverage_factor, propagate_linear, welch_satterthwaite
-from .montecarlo import MonteCarloResult, adaptive_batch_size, propagate_monte_carlo
+from .montecarlo import adaptive_batch_size, propagate_monte_carlo
+from .montecarlo_result import MonteCarloResult
 from .sampling import METHODS as SAMPLING_METHODS
 from .sampling import UniformStream, iter_uniform_chunks, uniform_sample
 from .stats import BinnedCDF, Moments, numerical_tolerance

@@ -2,7 +2,7 @@
 
 :func:`propagate_monte_carlo_dask` takes the same arguments as
 :func:`~uqthermo.uq.montecarlo.propagate_monte_carlo` (plus ``scheduler``) and returns the
-same :class:`~uqthermo.uq.montecarlo.MonteCarloResult`.
+same :class:`~uqthermo.uq.montecarlo_result.MonteCarloResult`.
 
 Streams
 -------
@@ -64,10 +64,10 @@ import numpy as np
 
 from ..errors import StatisticsError
 from .inputs import InputSet
-from .montecarlo import (HISTOGRAM_BINS, KEEP_VALUES, MAX_STORED_VALUES, MonteCarloResult, _batch_summary,
-                         _Collector, adaptive_batch_size, batch_origin, batch_test, check_run_arguments,
-                         collected_result, evaluate_batch, kept_rows, trial_design,
-                         summarised_result)
+from .montecarlo import (adaptive_batch_size, batch_origin, batch_summary, batch_test, check_run_arguments,
+                         evaluate_batch, trial_design)
+from .montecarlo_result import (HISTOGRAM_BINS, KEEP_VALUES, MAX_STORED_VALUES, Collector, MonteCarloResult,
+                                collected_result, kept_rows, summarised_result)
 from .sampling import UniformStream
 from .stats import BinLayout, BinnedCDF, Moments, OrderStatistics
 from .trials import TrialDesign
@@ -227,7 +227,7 @@ def _run_block(design: TrialDesign, origin: tuple[int, int], start: int, rows: i
             counts.add(Y)
         done += Y.shape[0]
     Yall = np.concatenate(values, axis=0) if want_values else None
-    summary = _batch_summary(Yall, coverage) if coverage is not None else None
+    summary = batch_summary(Yall, coverage) if coverage is not None else None
     return _BlockResult(start=start, moments=moments, values=Yall, counts=None if counts is None else counts.counts,
                         X_kept=np.concatenate(Xk, axis=0) if Xk else None,
                         Y_kept=np.concatenate(Yk, axis=0) if Yk else None, summary=summary)
@@ -431,7 +431,7 @@ def _adaptive(client, n_workers, remote, design, method, seed, p, chunk_size, nd
     # independently scrambled Sobol' nets, with the run's score rotation
     per_round = 4 * n_workers
     summaries: list[np.ndarray] = []
-    collector: _Collector | None = None
+    collector: Collector | None = None
     conv_n: list[int] = []
     conv_u: list[np.ndarray] = []
     stability: dict = {}
@@ -449,7 +449,7 @@ def _adaptive(client, n_workers, remote, design, method, seed, p, chunk_size, nd
         results = [fu.result() for fu in futs]          # in batch order
         for br in results:
             if collector is None:
-                collector = _Collector(design.n_outputs, d, keep, cap, bins)
+                collector = Collector(design.n_outputs, d, keep, cap, bins)
             # feed the collector the batch (kept rows come from the first batch's X)
             Xb = br.X_kept if br.X_kept is not None else np.empty((0, d))
             _collector_add(collector, Xb, br.values)
@@ -477,7 +477,7 @@ def _adaptive(client, n_workers, remote, design, method, seed, p, chunk_size, nd
                             seed=int(seed), sampling=method, rotated_scores=design.rotation is not None)
 
 
-def _collector_add(collector: _Collector, X_kept: np.ndarray, Y: np.ndarray) -> None:
+def _collector_add(collector: Collector, X_kept: np.ndarray, Y: np.ndarray) -> None:
     """Add a batch's values to the collector.
 
     Workers return input rows only as far as they may be kept; the collector copies at

@@ -38,7 +38,7 @@ from scipy.stats import qmc
 from ..errors import StatisticsError
 
 __all__ = ["METHODS", "UniformStream", "ScoreStream", "uniform_sample", "iter_uniform_chunks", "LHS_BLOCK",
-           "SCORE_BLOCK"]
+           "SCORE_BLOCK", "sampling_method"]
 
 METHODS = ("random", "latin-hypercube", "sobol")
 #: largest number of points in one Latin-hypercube block
@@ -52,7 +52,9 @@ _ALIASES = {"lhs": "latin-hypercube", "latin_hypercube": "latin-hypercube", "pse
             "qmc": "sobol", "sobol'": "sobol"}
 
 
-def _method(method: str) -> str:
+def sampling_method(method: str) -> str:
+    """The method of :data:`METHODS` a name stands for (case-insensitive; ``"lhs"``, ``"qmc"`` and
+    the other aliases accepted), or :class:`~uqthermo.errors.StatisticsError` for an unknown one."""
     m = _ALIASES.get(str(method).lower(), str(method).lower())
     if m not in METHODS:
         raise StatisticsError(f"unknown sampling method {method!r} (choose random, latin-hypercube or sobol)")
@@ -95,7 +97,7 @@ class UniformStream:
         if int(skip) != skip or skip < 0:
             raise StatisticsError(f"skip must be a non-negative integer, got {skip!r}")
         self.d = int(d)
-        self.method = _method(method)
+        self.method = sampling_method(method)
         self.seed = _seed(seed)
         self.position = int(skip)
         self._engine = None

@@ -21,7 +21,7 @@ import numpy as np
 
 from ..errors import StatisticsError
 from .linear import LinearResult
-from .montecarlo import MonteCarloResult
+from .montecarlo_result import MonteCarloResult
 from .stats import numerical_tolerance
 
 __all__ = ["ValidationResult", "validate_linear"]

@@ -53,7 +53,7 @@ from typing import Any, Callable, Iterable, Mapping, Sequence
 import numpy as np
 
 from ..errors import StatisticsError
-from .sensitivity import evaluate_in_chunks
+from .sensitivity.evaluation import evaluate_in_chunks
 
 __all__ = ["Scenario", "WhatIfResult", "what_if", "CommonSample", "standard_scenarios", "linear_uncertainty",
            "scenario_coverage_factor", "scenario_factor_matrix"]
@@ -519,9 +519,9 @@ class CommonSample:
         self.est = np.asarray(inputs.estimates, dtype=float)
         self.n_evaluations = 0
         from .montecarlo import sobol_rotation
-        from .sampling import _method
+        from .sampling import sampling_method
 
-        self._rotation = sobol_rotation(f, inputs, _method(sampling), rotate)
+        self._rotation = sobol_rotation(f, inputs, sampling_method(sampling), rotate)
         self._X = None
         if self.n * self.D <= 25_000_000:
             self._X = np.concatenate(list(self._blocks()))

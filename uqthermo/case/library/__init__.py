@@ -49,7 +49,6 @@ from .named import (
     lookup_standard_entropy,
     search,
 )
-from .base import chemicals_version as _chemicals_version  # noqa: F401  (kept for older callers)
 
 __all__ = [
     "DATASETS",

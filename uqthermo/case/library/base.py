@@ -62,7 +62,7 @@ class DatasetInfo:
     @property
     def label(self) -> str:
         """e.g. ``"Active Thermochemical Tables (ATcT) 1.112, via chemicals 1.5.2"``."""
-        return f"{self.title} ({self.key}) {self.version}, via chemicals {_chemicals_version()}"
+        return f"{self.title} ({self.key}) {self.version}, via chemicals {chemicals_version()}"
 
 
 

@@ -27,7 +27,7 @@ import functools
 from .base import T_REF
 from .candidates import ScalarCandidate, SourceInfo
 
-__all__ = ["info", "REFERENCE_ELEMENTS", "scalar", "catalog", "is_reference_element"]
+__all__ = ["info", "REFERENCE_ELEMENTS", "VALUES", "scalar", "catalog", "is_reference_element"]
 
 #: CAS -> (name, formula, phase) of elements in their reference state at 298.15 K, 1 bar:
 #: formation enthalpy (and Gibbs energy) zero by definition.
@@ -42,7 +42,7 @@ REFERENCE_ELEMENTS = {
 }
 
 #: (cas, phase) -> {quantity: (value, ±)} in J/mol and J/(mol K).
-_VALUES = {
+VALUES = {
     ("1333-74-0", "g"): {"standard_entropy": (130.680, 0.003)},
     ("7782-44-7", "g"): {"standard_entropy": (205.152, 0.005)},
     ("7727-37-9", "g"): {"standard_entropy": (191.609, 0.004)},
@@ -82,7 +82,7 @@ def is_reference_element(cas: str, phase: str) -> bool:
 
 def catalog() -> dict[str, dict[str, set]]:
     out: dict = {}
-    for (cas, ph), q in _VALUES.items():
+    for (cas, ph), q in VALUES.items():
         for name in q:
             out.setdefault(cas, {}).setdefault(name, set()).add(ph)
     for cas, (_, _, ph) in REFERENCE_ELEMENTS.items():
@@ -94,7 +94,7 @@ def scalar(cas: str, quantity: str, phase: str, T=None) -> ScalarCandidate | Non
     if quantity == "formation_enthalpy" and is_reference_element(cas, phase):
         return ScalarCandidate(info(), quantity, phase, cas, 0.0, T_REF, u=0.0, u_basis="stated",
                                u_note="element in its reference state: zero by definition")
-    row = _VALUES.get((cas, phase), {}).get(quantity)
+    row = VALUES.get((cas, phase), {}).get(quantity)
     if row is None:
         return None
     v, pm = row

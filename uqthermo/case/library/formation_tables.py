@@ -26,7 +26,7 @@ import functools
 from .base import T_REF, nan_to_none
 from .candidates import ScalarCandidate, SourceInfo
 
-__all__ = ["yaws_info", "api_info", "scalar", "catalog", "curves"]
+__all__ = ["yaws_info", "api_info", "scalar", "catalog", "curves", "tables"]
 
 
 @functools.lru_cache(maxsize=1)
@@ -44,7 +44,8 @@ def api_info() -> SourceInfo:
 
 
 @functools.lru_cache(maxsize=1)
-def _tables():
+def tables():
+    """The Yaws and API-TDB gas formation tables shipped with ``chemicals`` (pandas frames, by CAS)."""
     import chemicals.reaction as r
 
     return r.Hfg_sources["YAWS"], r.Hfg_sources["API_TDB_G"]
@@ -52,7 +53,7 @@ def _tables():
 
 def catalog() -> dict[str, dict[str, set]]:
     out: dict = {}
-    y, a = _tables()
+    y, a = tables()
     for cas in y.index[y["Hfg"].notna()]:
         out.setdefault(str(cas), {}).setdefault("formation_enthalpy", set()).add("g")
     for cas in y.index[y["S0g"].notna()]:
@@ -72,7 +73,7 @@ def _get(df, cas, col):
 def scalar(cas: str, quantity: str, phase: str, T=None) -> list[ScalarCandidate]:
     if phase != "g":
         return []
-    y, a = _tables()
+    y, a = tables()
     out = []
     if quantity == "formation_enthalpy":
         v = _get(y, cas, "Hfg")

@@ -92,8 +92,8 @@ def _table_names() -> dict[str, tuple[str | None, str | None]]:
             out.setdefault(cas, (name, form))
     for cas, (name, form) in janaf.table()["_meta"].items():
         out[cas] = (name or out.get(cas, (None, None))[0], form or out.get(cas, (None, None))[1])
-    frames = [(crc.standard_table(), "Chemical"), (formation_tables._tables()[0], "name"),
-              (formation_tables._tables()[1], "Compound"), (trc._table(), "Chemical"), (poling._table(), "Chemical")]
+    frames = [(crc.standard_table(), "Chemical"), (formation_tables.tables()[0], "name"),
+              (formation_tables.tables()[1], "Compound"), (trc.table(), "Chemical"), (poling.table(), "Chemical")]
     for df, col in frames:
         for cas, nm in zip(df.index, df[col]):
             if isinstance(nm, str) and str(cas) not in out:

@@ -188,7 +188,7 @@ def curves(cas: str, phase: str) -> list[CurveCandidate]:
 
 def element_entropy(elements: dict[str, float]) -> float | None:
     """Σ ν_e S°(e) of the elements in their reference states (per atom), J/(mol K), CODATA 1989."""
-    from .codata import _VALUES
+    from .codata import VALUES
 
     per_atom = {"H": ("1333-74-0", "g", 2), "O": ("7782-44-7", "g", 2), "N": ("7727-37-9", "g", 2),
                 "F": ("7782-41-4", "g", 2), "Cl": ("7782-50-5", "g", 2), "Br": ("7726-95-6", "l", 2),
@@ -198,7 +198,7 @@ def element_entropy(elements: dict[str, float]) -> float | None:
         if el not in per_atom:
             return None
         cas, ph, atoms = per_atom[el]
-        tot += n * _VALUES[(cas, ph)]["standard_entropy"][0] / atoms
+        tot += n * VALUES[(cas, ph)]["standard_entropy"][0] / atoms
     return tot
 
 

@@ -58,10 +58,8 @@ from .base import (
     LibraryLookupError,
     LibraryValue,
     Match,
-    nan_to_none as _nan_to_none,
 )
 from .base import PHASES as _PHASES
-from .base import chemicals_version as _chemicals_version
 from .formula import CAS_RE as _CAS
 from .formula import split_phase as _split_phase
 from .formula import try_hill as _try_hill

@@ -22,7 +22,7 @@ import numpy as np
 from .base import T_REF, nan_to_none
 from .candidates import CurveCandidate, SourceInfo, polynomial_to_shomate
 
-__all__ = ["info", "curves", "catalog", "scalar"]
+__all__ = ["info", "curves", "catalog", "scalar", "table"]
 
 
 @functools.lru_cache(maxsize=1)
@@ -33,7 +33,8 @@ def info() -> SourceInfo:
 
 
 @functools.lru_cache(maxsize=1)
-def _table():
+def table():
+    """The Poling et al. heat-capacity databank shipped with ``chemicals`` (pandas frame, by CAS)."""
     from chemicals import heat_capacity as hc
 
     return hc.Cp_data_Poling
@@ -41,7 +42,7 @@ def _table():
 
 def catalog() -> dict[str, dict[str, set]]:
     out: dict = {}
-    df = _table()
+    df = table()
     for cas, row in df.iterrows():
         ph = set()
         if nan_to_none(row["a0"]) is not None or nan_to_none(row["Cpg"]) is not None:
@@ -58,7 +59,7 @@ def scalar(cas, quantity, phase, T=None):
 
 
 def curves(cas: str, phase: str) -> list[CurveCandidate]:
-    df = _table()
+    df = table()
     if cas not in df.index or phase not in ("g", "l"):
         return []
     from chemicals.heat_capacity import R

@@ -23,7 +23,7 @@ import numpy as np
 from .base import nan_to_none
 from .candidates import CurveCandidate, SourceInfo
 
-__all__ = ["info", "curves", "catalog", "scalar"]
+__all__ = ["info", "curves", "catalog", "scalar", "table"]
 
 
 @functools.lru_cache(maxsize=1)
@@ -35,14 +35,15 @@ def info() -> SourceInfo:
 
 
 @functools.lru_cache(maxsize=1)
-def _table():
+def table():
+    """The TRC gas heat-capacity table shipped with ``chemicals`` (pandas frame, by CAS)."""
     from chemicals import heat_capacity as hc
 
     return hc.TRC_gas_data
 
 
 def catalog() -> dict[str, dict[str, set]]:
-    return {str(c): {"heat_capacity": {"g"}} for c in _table().index}
+    return {str(c): {"heat_capacity": {"g"}} for c in table().index}
 
 
 def scalar(cas, quantity, phase, T=None):
@@ -63,9 +64,9 @@ def trc_cp(T, a0, a1, a2, a3, a4, a5, a6, a7) -> np.ndarray:
 
 
 def curves(cas: str, phase: str) -> list[CurveCandidate]:
-    if phase != "g" or cas not in _table().index:
+    if phase != "g" or cas not in table().index:
         return []
-    row = _table().loc[cas]
+    row = table().loc[cas]
     coef = [nan_to_none(row[f"a{i}"]) or 0.0 for i in range(8)]
     lo, hi = float(row["Tmin"]), float(row["Tmax"])
     return [CurveCandidate(info(), "g", cas, lo, hi, lambda T, c=coef: trc_cp(T, *c),

@@ -166,7 +166,6 @@ def curve_uncertainty(chosen: CurveCandidate, others: list[CurveCandidate], wind
         n_used += 1
     if n_used >= 2:
         vals = [base]
-        masks = [np.ones_like(grid, dtype=bool)]
         for o in others:
             if o.estimate:
                 continue

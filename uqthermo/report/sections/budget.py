@@ -34,10 +34,9 @@ from typing import Any
 
 import pandas as pd
 
-from ..tables import (
-    DisplayTable, fmt_dof, fmt_fixed, fmt_sig, fmt_u, fmt_value, num, outputs, points, slugs, text,
-    uncertainty_decimals,
-)
+from ..fields import num, outputs, points, slugs, text
+from ..rounding import fmt_dof, fmt_fixed, fmt_sig, fmt_u, fmt_value, uncertainty_decimals
+from ..tables.display import DisplayTable
 from . import numbers as N
 from .numbers import Num
 from .ranking import cut

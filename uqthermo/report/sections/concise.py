@@ -20,10 +20,10 @@ from __future__ import annotations
 from collections.abc import Callable, Mapping
 from typing import Any
 
-from ..tables import (
-    DisplayTable, coverage_probability, fmt_fixed, headline_index, kind_label, limit_text, num, outputs, pct_label,
-    points, slugs, text, uncertainty_decimals,
-)
+from ..fields import coverage_probability, headline_index, kind_label, num, outputs, points, slugs, text
+from ..rounding import fmt_fixed, pct_label, uncertainty_decimals
+from ..tables.design import limit_text
+from ..tables.display import DisplayTable
 from ..units import fmt_T, symbol, temperature_unit
 from . import budget as bud
 from . import kirchhoff as kh

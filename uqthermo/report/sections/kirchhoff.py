@@ -20,7 +20,9 @@ from typing import Any
 
 import pandas as pd
 
-from ..tables import DisplayTable, fmt_fixed, fmt_temperature, fmt_u, headline_index, num, outputs, points, text, uncertainty_decimals
+from ..fields import headline_index, num, outputs, points, text
+from ..rounding import fmt_fixed, fmt_temperature, fmt_u, uncertainty_decimals
+from ..tables.display import DisplayTable
 from . import numbers as N
 from .numbers import Num, Parts
 

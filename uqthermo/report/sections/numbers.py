@@ -25,7 +25,8 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
-from ..tables import fmt_fixed, fmt_temperature, num, uncertainty_decimals
+from ..fields import num
+from ..rounding import fmt_fixed, fmt_temperature, uncertainty_decimals
 from ..units import from_kelvin, symbol
 
 THIN = "\u202f"   # narrow no-break space: digit groups in prose (SI brochure 5.4.4)

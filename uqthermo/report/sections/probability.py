@@ -11,7 +11,8 @@ from collections.abc import Mapping
 from typing import Any
 
 from .. import style
-from ..tables import fmt_probability, num
+from ..fields import num
+from ..rounding import fmt_probability
 from . import numbers as N
 from .numbers import Num
 

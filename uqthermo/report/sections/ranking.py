@@ -11,7 +11,7 @@ from __future__ import annotations
 from collections.abc import Callable, Sequence
 from typing import Any, TypeVar
 
-from ..tables import num
+from ..fields import num
 
 T = TypeVar("T")
 
@@ -49,8 +49,9 @@ __all__ = ["cut", "KEEP"]
 
 
 def drivers_table(output, point, key):
-    """The driver table (:func:`uqthermo.report.tables.drivers_table`) cut at 99 % of the variance."""
-    from ..tables import drivers_table as full, fmt_share
+    """The driver table (:func:`uqthermo.report.tables.drivers_whatif.drivers_table`) cut at 99 % of the variance."""
+    from ..rounding import fmt_share
+    from ..tables.drivers_whatif import drivers_table as full
 
     drivers = [d for d in point.get("drivers") or [] if hasattr(d, "get")]
     kept, rest = cut(drivers, lambda d: d.get("share"))
@@ -67,8 +68,8 @@ def drivers_table(output, point, key):
 
 
 def whatif_table(output, point, key, p_cov):
-    """The what-if table (:func:`uqthermo.report.tables.whatif_table`) for the data that carry 99 % of the variance."""
-    from ..tables import whatif_table as full
+    """The what-if table (:func:`uqthermo.report.tables.drivers_whatif.whatif_table`) for the data that carry 99 % of the variance."""
+    from ..tables.drivers_whatif import whatif_table as full
 
     drivers = [d for d in point.get("drivers") or [] if hasattr(d, "get")]
     rows = [w for w in point.get("whatif") or [] if hasattr(w, "get")]

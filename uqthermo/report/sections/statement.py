@@ -23,10 +23,8 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
-from ..tables import (
-    coverage_probability, fmt_fixed, fmt_k, fmt_sig, headline_index, kind_symbol, num, outputs, pair, pct_label,
-    points, text, uncertainty_decimals,
-)
+from ..fields import coverage_probability, headline_index, kind_symbol, num, outputs, pair, points, text
+from ..rounding import fmt_fixed, fmt_k, fmt_sig, pct_label, uncertainty_decimals
 from . import numbers as N
 from .numbers import Num, Parts
 

@@ -13,7 +13,8 @@ import re
 from collections.abc import Mapping, Sequence
 from typing import Any
 
-from ..tables import fmt_temperature, outputs, points
+from ..fields import outputs, points
+from ..rounding import fmt_temperature
 
 # the run's wording (results.py), old and new
 _NOT_VALIDATED = re.compile(
