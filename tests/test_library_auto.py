@@ -391,3 +391,15 @@ to = "500 K"
     s = by["M.g.standard_entropy"]["estimate"]
     s_el = 5 * 5.74 + 10 / 2 * 130.680 + 3 / 2 * 205.152
     assert s == pytest.approx((J.Hf(J.counts) - J.Gf(J.counts)) / 298.15 + s_el)
+
+
+def test_starter_case_refuses_an_unbalanced_equation(tmp_path, capsys):
+    """QA: ``data --case`` wrote a case for N2 + H2 -> NH3 and exited 0. Element balance (N: 2 on the
+    left, 1 on the right; H: 2 left, 3 right) is plain arithmetic on the formulas."""
+    target = tmp_path / "u.toml"
+    rc = main(["data", "--case", "N2(g) + H2(g) -> NH3(g)", "--T", "400 K", "--out", str(target)])
+    err = capsys.readouterr().err.strip().splitlines()
+    assert rc == 2 and not target.exists()
+    assert len(err) == 1 and err[0].startswith("--case: the equation 'N2(g) + H2(g) -> NH3(g)' does not balance")
+    assert "N -1" in err[0] and "H +1" in err[0] and "Traceback" not in err[0]
+    assert main(["data", "--case", "N2(g) + 3 H2(g) -> 2 NH3(g)", "--T", "400 K", "--out", str(target)]) == 0
