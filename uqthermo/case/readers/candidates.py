@@ -8,7 +8,7 @@ import math
 from typing import Any
 
 from ..schema import Candidate, Datum
-from .fields import Collector, is_table, read_quantity
+from .fields import Collector, is_table, read_fraction, read_quantity
 
 __all__ = ["read_candidates"]
 
@@ -55,11 +55,10 @@ def read_candidates(c: Collector, node: Any, data: dict[str, Datum]) -> list[Can
                 continue
             u = val * datum.to_report
         elif "factor" in item:
-            f = item["factor"]
-            if isinstance(f, bool) or not isinstance(f, (int, float)) or not (0 <= f < 1):
-                c.add(f"{key}.factor", f"must be a number in [0, 1), got {f!r}")
+            factor = read_fraction(c, item["factor"], f"{key}.factor", 0.0, 1.0, high_open=True,
+                                   example="0.3 or \"30 %\" of the present uncertainty")
+            if factor is None:
                 continue
-            factor = float(f)
         else:
             c.add(key, "give u (achievable standard uncertainty) or factor")
             continue

@@ -16,6 +16,7 @@ from .fields import (
     check_name,
     is_table,
     make_datum,
+    read_fraction,
     read_quantity,
     read_temperature,
     read_uncertain,
@@ -397,11 +398,11 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
         c.add(f"{key}.max_temperature", "must exceed the start temperature")
         return False
     if "accumulation" in o:
-        a = o["accumulation"]
-        if isinstance(a, bool) or not isinstance(a, (int, float)) or not (0 <= a <= 1):
-            c.add(f"{key}.accumulation", "must be a fraction in [0, 1] (1 = batch, all reactant accumulated)")
+        a = read_fraction(c, o["accumulation"], f"{key}.accumulation", 0.0, 1.0,
+                          example="0.6 or \"60 %\"; 1 = batch, all reactant accumulated")
+        if a is None:
             return False
-        out.accumulation = float(a)
+        out.accumulation = a
     return True
 
 
