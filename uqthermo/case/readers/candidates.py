@@ -47,7 +47,10 @@ def read_candidates(c: Collector, node: Any, data: dict[str, Datum]) -> list[Can
             dim = {"kJ/mol": "molar_energy", "J/(mol*K)": "molar_entropy", "K": "temperature", "mol": "amount",
                    "mol/s": "amount_rate", "1": "dimensionless", "kW": "power", "kJ": "energy",
                    "kJ/kg": "specific_energy", "kPa": "pressure"}[datum.unit]
-            val = read_quantity(c, item["u"], f"{key}.u", dim, difference=True)
+            # an amount written as a mass where the datum itself may be (extent with extent_species,
+            # a charge, a feed with key): the datum's molar mass converts it
+            val = read_quantity(c, item["u"], f"{key}.u", dim, difference=True, molar_mass=datum.molar_mass
+                                if datum.molar_mass else "this datum has no molar mass to convert a mass with; give u in mol")
             if val is None:
                 continue
             if not val > 0:
@@ -63,6 +66,7 @@ def read_candidates(c: Collector, node: Any, data: dict[str, Datum]) -> list[Can
             c.add(key, "give u (achievable standard uncertainty) or factor")
             continue
         lead = item.get("lead_time", "")
+        u_text = "" if u is None else (item["u"].strip() if isinstance(item["u"], str) else f"{item['u']:g} {datum.unit}")
         out.append(Candidate(datum=d, u=u, factor=factor, cost=float(cost), lead_time=str(lead),
-                             note=str(item.get("note", ""))))
+                             note=str(item.get("note", "")), u_text=u_text))
     return out

@@ -351,13 +351,15 @@ def report_unit(dimension: str) -> tuple[str, float]:
 
 
 def make_datum(id: str, quantity: str, dimension: str, parsed: tuple[float, Any, str, str], *, species: str = "",
-               phase: str = "", library: str = "") -> Datum:
-    """A single-variable datum from :func:`read_uncertain`'s result."""
+               phase: str = "", library: str = "", molar_mass: float | str | None = None) -> Datum:
+    """A single-variable datum from :func:`read_uncertain`'s result (``molar_mass``, kg/mol: an amount
+    that may be written as a mass — kept so that a candidate's ``u`` may be a mass too)."""
     v, d, stated, source = parsed
     unit, f = report_unit(dimension)
     return Datum(id=id, quantity=quantity, unit=unit, to_report=f, kind="scalar", distributions=[d],
                  variable_names=[id], correlation=None, stated=stated, source=source, species=species,
-                 phase=phase, library=library, nominal=v)
+                 phase=phase, library=library, nominal=v,
+                 molar_mass=float(molar_mass) if isinstance(molar_mass, (int, float)) else None)
 
 
 def register(c: Collector, data: dict[str, Datum], datum: Datum, key: str) -> None:
