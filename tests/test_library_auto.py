@@ -403,3 +403,30 @@ def test_starter_case_refuses_an_unbalanced_equation(tmp_path, capsys):
     assert len(err) == 1 and err[0].startswith("--case: the equation 'N2(g) + H2(g) -> NH3(g)' does not balance")
     assert "N -1" in err[0] and "H +1" in err[0] and "Traceback" not in err[0]
     assert main(["data", "--case", "N2(g) + 3 H2(g) -> 2 NH3(g)", "--T", "400 K", "--out", str(target)]) == 0
+
+
+def test_assumed_uncertainty_warnings_per_used_datum_with_reason_and_curve_kind(tmp_path):
+    """QA: the warning listed standard entropies no reaction-enthalpy output uses, gave "sources do not
+    disagree by more" for a 5 % extrapolation assumption, and called a Zabransky spline "the whole
+    shomate curve". The range in the reason is chemicals' own Zabransky table (zabransky_dict_iso_s,
+    methylcyclohexane 108-87-2)."""
+    from uqthermo.case.loader import load_case
+    from uqthermo.case.starter import starter_case
+
+    case_path = _write(tmp_path, starter_case("C6H5CH3(l) + 3 H2(g) -> C6H11CH3(l)", (423.15,), "150 degC"))
+    case = load_case(str(case_path))
+    lines = [w for w in case.warnings if "assumed uncertainty" in w]
+    assert lines and all(": assumed uncertainty, " in w for w in lines)
+    assert not any("standard_entropy" in w for w in lines)          # ΔrH needs no S°
+    assert not any("do not disagree" in w or "whole shomate curve" in w for w in case.warnings)
+    chem_hc._load_Cp_data()
+    z = chem_hc.zabransky_dict_iso_s["108-87-2"]
+    mch = next(w for w in lines if w.startswith("C6H11CH3.l.heat_capacity:"))
+    assert "relative u = 5 % on the whole Zabransky cubic spline (isobaric) curve (Zabransky" in mch
+    assert f"curve extrapolated beyond its range {z.Tmin:g}-{z.Tmax:g} K: 5 % assumed" in mch
+    h2 = next(w for w in lines if w.startswith("H2.g.heat_capacity:"))
+    assert "no source states an uncertainty; 1 % assumed" in h2 and "Shomate" in h2
+    # with a Gibbs-energy output the entropies are used, so their assumed u is reported
+    text = case_path.read_text().replace('kind = "reaction_enthalpy"', 'kind = "reaction_gibbs_energy"')
+    g = load_case(str(_write(tmp_path, text, "g.toml")))
+    assert any(w.startswith("C6H5CH3.l.standard_entropy: assumed uncertainty, u = 0.2 J/(mol*K)") for w in g.warnings)

@@ -141,7 +141,8 @@ class Selection:
         }
         if isinstance(c, CurveCandidate):
             lo, hi = self.window
-            out.update({"window_K": [lo, hi], "relative_standard_uncertainty": u.u, "representation": c.shomate()[1]})
+            out.update({"window_K": [lo, hi], "relative_standard_uncertainty": u.u, "form": c.form,
+                        "representation": c.shomate()[1]})
             rows = []
             for o in self.considered + self.not_covering:
                 row = {"source": o.source.label, "form": o.form, "range_K": [o.t_min, o.t_max],
