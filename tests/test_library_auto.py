@@ -430,3 +430,82 @@ def test_assumed_uncertainty_warnings_per_used_datum_with_reason_and_curve_kind(
     text = case_path.read_text().replace('kind = "reaction_enthalpy"', 'kind = "reaction_gibbs_energy"')
     g = load_case(str(_write(tmp_path, text, "g.toml")))
     assert any(w.startswith("C6H5CH3.l.standard_entropy: assumed uncertainty, u = 0.2 J/(mol*K)") for w in g.warnings)
+
+
+# ------------------------------------------------------------------ outliers do not set the spread
+def test_single_point_outlier_does_not_set_the_spread_of_an_evaluated_curve(tmp_path):
+    """QA: acetic anhydride liquid Cp — Poling's value at 298.15 K only (124.1 J/(mol*K)) against the
+    DIPPR 100 curve of Perry's Table 2-153 (≈189) set u = 17 % on the whole curve. The value kept is
+    checked against chemicals' own data: Perry Table 2-153 DIPPR-100 coefficients
+    (chemicals.heat_capacity.Cp_data_Perry_Table_153_100) and, independently, the Rowlinson–Poling
+    corresponding-states estimate (chemicals.heat_capacity.Rowlinson_Poling, with chemicals' Tc, ω and
+    TRC ideal-gas Cp), which Poling et al. report within 2.5 % AARD for non-associating liquids."""
+    from chemicals import Tc, omega
+
+    chem_hc._load_Cp_data()
+    cas = "108-24-7"
+    sel = select_curve(identify(cas=cas), "l", (298.15, 340.0))
+    assert sel.chosen.source.key == "Perry-DIPPR"
+    perry = chem_hc.Cp_data_Perry_Table_153_100.loc[cas]
+    dippr = (perry.A + perry.B * 298.15) / 1000.0                    # J/(kmol K) → J/(mol K)
+    assert float(sel.chosen.cp([298.15])[0]) == pytest.approx(dippr, rel=1e-12)
+    cpg = chem_hc.TRC_gas_data.loc[cas]
+    cpg298 = chem_hc.TRCCp(298.15, *cpg[["a0", "a1", "a2", "a3", "a4", "a5", "a6", "a7"]])
+    csp = chem_hc.Rowlinson_Poling(298.15, Tc(cas), omega(cas), cpg298)
+    assert abs(dippr / csp - 1) < 0.10                                 # the kept curve agrees
+    poling = chem_hc.Cp_data_Poling.at[cas, "Cpl"]
+    assert poling == pytest.approx(124.1) and abs(poling / csp - 1) > 0.25   # the single value does not
+    # the rule: Poling is screened out, the curve keeps the 2 % assumed for correlations
+    u = sel.uncertainty
+    assert u.u == pytest.approx(0.02) and u.basis == "assumed"
+    (out,) = u.outliers
+    assert out["source"].startswith("Poling") and out["value"] == pytest.approx(poling)
+    assert out["deviation_percent"] == pytest.approx(100 * (poling / dippr - 1), rel=1e-9)
+    assert "Poling 5th ed. (2001) disagrees by -34 % at 298.15 K" in u.reason and "treated as an outlier" in u.reason
+    prov = sel.provenance()
+    assert prov["outliers"][0]["unit"] == "J/(mol*K)"
+    assert [r["outlier"] for r in prov["sources"]] == [False, True]
+    # the run warns, naming the datum and both sources
+    text = ('title = "acetic anhydride warming (test)"\n[species.AA]\ncas = "108-24-7"\n[species.AA.l]\n'
+            'formation_enthalpy = { library = "auto" }\nheat_capacity = { library = "auto" }\n'
+            '[[output]]\nname = "h"\nkind = "heating_enthalpy"\nspecies = "AA(l)"\nfrom = "25 degC"\nto = "340 K"\n')
+    from uqthermo.case.loader import load_case
+
+    case = load_case(str(_write(tmp_path, text)))
+    line = next(w for w in case.warnings if "outlier" in w)
+    assert line.startswith("AA.l.heat_capacity: Poling 5th ed. (2001) gives 124.1 J/(mol*K) at 298.15 K, -34 % from "
+                           "Perry-DIPPR 8th ed. (2008)")
+    assert case.data["AA.l.heat_capacity"].distributions[0].std == pytest.approx(0.02)
+
+
+def _curve(key, value, t=(250.0, 400.0)):
+    from uqthermo.case.library.candidates import CurveCandidate, SourceInfo
+
+    src = SourceInfo(key=key, title=key, version="", citation="", kind="compilation", uncertainty="")
+    return CurveCandidate(source=src, phase="l", cas="0-00-0", t_min=t[0], t_max=t[1],
+                          function=lambda T, v=value: np.full_like(np.asarray(T, float), v), form="constant")
+
+
+@pytest.mark.parametrize("chosen, others, flagged", [
+    (100.0, [(101.0, None), (130.0, None)], ["c2"]),           # 3 sources: 130 far from the median 101
+    (100.0, [(101.0, None), (108.0, None)], []),               # within 10 % of the median: kept
+    (100.0, [(112.0, None)], []),                              # two curves: no majority, spread kept
+    (100.0, [(115.0, 298.15)], ["c1"]),                        # one value at 298.15 K only, 15 % off
+    (100.0, [(108.0, 298.15)], []),                            # ... 8 % off: kept
+    (130.0, [(100.0, None), (101.0, None)], []),               # the selected curve is the odd one: spread stays
+])
+def test_outlier_rule_median_mad_and_single_values(chosen, others, flagged):
+    """The screening rule of uqthermo.case.library.uncertainty on invented constant curves: a robust 3σ
+    (1.4826 × MAD, Rousseeuw & Croux 1993) with a 10 % floor for ≥ 3 sources; a single value against
+    the selected curve for 2."""
+    from uqthermo.case.library.uncertainty import curve_uncertainty, screen_outliers
+
+    sel = _curve("c0", chosen)
+    oth = [_curve(f"c{i + 1}", v, (t, t) if t else (250.0, 400.0)) for i, (v, t) in enumerate(others)]
+    grid = np.array([298.15, 320.0, 350.0])
+    assert [o["source"] for o in screen_outliers(sel, oth, grid)] == flagged
+    u, spread = curve_uncertainty(sel, oth, (298.15, 350.0))
+    kept = [v for (v, _), o in zip(others, oth) if o.source.label not in flagged]
+    expect = 0.5 * (max([chosen] + kept) - min([chosen] + kept)) / chosen
+    assert spread == pytest.approx(expect)
+    assert u.u == pytest.approx(max(0.02, expect))

@@ -151,6 +151,9 @@ def _curve_rows(ident, window) -> list[list[str]]:
                 pick.source.key, pick.form, pick.t_min, pick.t_max)
             u = (f"u = {100 * unc.u:.2g} % [{unc.basis}]" if star else
                  (f"{100 * c.relative_u:.2g} % ({c.u_basis})" if c.relative_u else ""))
+            out = next((o for o in (unc.outliers if unc is not None else ()) if o["source"] == c.source.label), None)
+            if out is not None and not star:
+                u = f"outlier: {out['deviation_percent']:+.0f} % from ★, left out of u"
             rows.append([ph, ("★ " if star else "  ") + c.source.key + (" (estimate)" if c.estimate else ""),
                          c.form, rng, cov, cp, u])
     return rows

@@ -174,8 +174,13 @@ def library_data_warnings(data: dict, used: set[str]) -> list[str]:
     for d in lib:
         prov = d.provenance
         if d.assumed:
-            out.append(f"{d.id}: assumed uncertainty, {d.stated}: {prov.get('uncertainty_reason', '')} — check it, "
-                       "or give your own value with its uncertainty")
+            reason = prov.get("uncertainty_reason", "")
+            for o in prov.get("outliers") or ():     # said on a line of its own below
+                reason = reason.split(f"; {o['source']} disagrees")[0]
+            stated = (f"u = {prov['standard_uncertainty']:.3g} {prov['unit']}"
+                      if prov.get("standard_uncertainty") is not None and prov.get("unit") else d.stated)
+            out.append(f"{d.id}: assumed uncertainty, {stated}: {reason} — check it, or give your own value with its "
+                       "uncertainty")
         for o in prov.get("outliers") or ():
             out.append(f"{d.id}: {o['source']} gives {o['value']:.4g} {o['unit']} at {o['temperature_K']:g} K, "
                        f"{o['deviation_percent']:+.0f} % from {prov.get('selected')}: far beyond the typical deviation "
