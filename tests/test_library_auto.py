@@ -509,3 +509,10 @@ def test_outlier_rule_median_mad_and_single_values(chosen, others, flagged):
     expect = 0.5 * (max([chosen] + kept) - min([chosen] + kept)) / chosen
     assert spread == pytest.approx(expect)
     assert u.u == pytest.approx(max(0.02, expect))
+
+
+def test_data_command_marks_the_outlier_and_shows_the_basis(capsys):
+    # the basis "[assumed]" was eaten as rich markup; the outlier row says what was done with it
+    assert main(["data", "acetic anhydride", "--T", "298.15K..340K"]) == 0
+    out = capsys.readouterr().out
+    assert "u = 2 % [assumed]" in out and "outlier: -34 % from ★" in out

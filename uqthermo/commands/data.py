@@ -18,6 +18,7 @@ import re
 import sys
 
 from ..errors import InputError, Problem
+from ..text_safety import markup
 
 __all__ = ["execute", "case_hint", "parse_window", "DETAILED"]
 
@@ -289,7 +290,7 @@ def execute(args) -> int:
         for col in ("quantity", "phase", "source", "value", "uncertainty"):
             st.add_column(col)
         for row in _scalar_rows(ident, window):
-            st.add_row(*row)
+            st.add_row(*(markup(x) for x in row))      # "[assumed]" is text, not rich markup
         console.print(st)
         ct = Table(title=f"heat-capacity curves: which ranges cover {wtxt} (--T sets the window)",
                    title_justify="left", header_style="bold")
@@ -297,7 +298,7 @@ def execute(args) -> int:
             ct.add_column(col)
         crow = _curve_rows(ident, window)
         for row in crow:
-            ct.add_row(*row)
+            ct.add_row(*(markup(x) for x in row))
         if crow:
             console.print(ct)
     if len(matches) > DETAILED:
