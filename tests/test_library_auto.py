@@ -391,3 +391,128 @@ to = "500 K"
     s = by["M.g.standard_entropy"]["estimate"]
     s_el = 5 * 5.74 + 10 / 2 * 130.680 + 3 / 2 * 205.152
     assert s == pytest.approx((J.Hf(J.counts) - J.Gf(J.counts)) / 298.15 + s_el)
+
+
+def test_starter_case_refuses_an_unbalanced_equation(tmp_path, capsys):
+    """QA: ``data --case`` wrote a case for N2 + H2 -> NH3 and exited 0. Element balance (N: 2 on the
+    left, 1 on the right; H: 2 left, 3 right) is plain arithmetic on the formulas."""
+    target = tmp_path / "u.toml"
+    rc = main(["data", "--case", "N2(g) + H2(g) -> NH3(g)", "--T", "400 K", "--out", str(target)])
+    err = capsys.readouterr().err.strip().splitlines()
+    assert rc == 2 and not target.exists()
+    assert len(err) == 1 and err[0].startswith("--case: the equation 'N2(g) + H2(g) -> NH3(g)' does not balance")
+    assert "N -1" in err[0] and "H +1" in err[0] and "Traceback" not in err[0]
+    assert main(["data", "--case", "N2(g) + 3 H2(g) -> 2 NH3(g)", "--T", "400 K", "--out", str(target)]) == 0
+
+
+def test_assumed_uncertainty_warnings_per_used_datum_with_reason_and_curve_kind(tmp_path):
+    """QA: the warning listed standard entropies no reaction-enthalpy output uses, gave "sources do not
+    disagree by more" for a 5 % extrapolation assumption, and called a Zabransky spline "the whole
+    shomate curve". The range in the reason is chemicals' own Zabransky table (zabransky_dict_iso_s,
+    methylcyclohexane 108-87-2)."""
+    from uqthermo.case.loader import load_case
+    from uqthermo.case.starter import starter_case
+
+    case_path = _write(tmp_path, starter_case("C6H5CH3(l) + 3 H2(g) -> C6H11CH3(l)", (423.15,), "150 degC"))
+    case = load_case(str(case_path))
+    lines = [w for w in case.warnings if "assumed uncertainty" in w]
+    assert lines and all(": assumed uncertainty, " in w for w in lines)
+    assert not any("standard_entropy" in w for w in lines)          # ΔrH needs no S°
+    assert not any("do not disagree" in w or "whole shomate curve" in w for w in case.warnings)
+    chem_hc._load_Cp_data()
+    z = chem_hc.zabransky_dict_iso_s["108-87-2"]
+    mch = next(w for w in lines if w.startswith("C6H11CH3.l.heat_capacity:"))
+    assert "relative u = 5 % on the whole Zabransky cubic spline (isobaric) curve (Zabransky" in mch
+    assert f"curve extrapolated beyond its range {z.Tmin:g}-{z.Tmax:g} K: 5 % assumed" in mch
+    h2 = next(w for w in lines if w.startswith("H2.g.heat_capacity:"))
+    assert "no source states an uncertainty; 1 % assumed" in h2 and "Shomate" in h2
+    # with a Gibbs-energy output the entropies are used, so their assumed u is reported
+    text = case_path.read_text().replace('kind = "reaction_enthalpy"', 'kind = "reaction_gibbs_energy"')
+    g = load_case(str(_write(tmp_path, text, "g.toml")))
+    assert any(w.startswith("C6H5CH3.l.standard_entropy: assumed uncertainty, u = 0.2 J/(mol*K)") for w in g.warnings)
+
+
+# ------------------------------------------------------------------ outliers do not set the spread
+def test_single_point_outlier_does_not_set_the_spread_of_an_evaluated_curve(tmp_path):
+    """QA: acetic anhydride liquid Cp — Poling's value at 298.15 K only (124.1 J/(mol*K)) against the
+    DIPPR 100 curve of Perry's Table 2-153 (≈189) set u = 17 % on the whole curve. The value kept is
+    checked against chemicals' own data: Perry Table 2-153 DIPPR-100 coefficients
+    (chemicals.heat_capacity.Cp_data_Perry_Table_153_100) and, independently, the Rowlinson–Poling
+    corresponding-states estimate (chemicals.heat_capacity.Rowlinson_Poling, with chemicals' Tc, ω and
+    TRC ideal-gas Cp), which Poling et al. report within 2.5 % AARD for non-associating liquids."""
+    from chemicals import Tc, omega
+
+    chem_hc._load_Cp_data()
+    cas = "108-24-7"
+    sel = select_curve(identify(cas=cas), "l", (298.15, 340.0))
+    assert sel.chosen.source.key == "Perry-DIPPR"
+    perry = chem_hc.Cp_data_Perry_Table_153_100.loc[cas]
+    dippr = (perry.A + perry.B * 298.15) / 1000.0                    # J/(kmol K) → J/(mol K)
+    assert float(sel.chosen.cp([298.15])[0]) == pytest.approx(dippr, rel=1e-12)
+    cpg = chem_hc.TRC_gas_data.loc[cas]
+    cpg298 = chem_hc.TRCCp(298.15, *cpg[["a0", "a1", "a2", "a3", "a4", "a5", "a6", "a7"]])
+    csp = chem_hc.Rowlinson_Poling(298.15, Tc(cas), omega(cas), cpg298)
+    assert abs(dippr / csp - 1) < 0.10                                 # the kept curve agrees
+    poling = chem_hc.Cp_data_Poling.at[cas, "Cpl"]
+    assert poling == pytest.approx(124.1) and abs(poling / csp - 1) > 0.25   # the single value does not
+    # the rule: Poling is screened out, the curve keeps the 2 % assumed for correlations
+    u = sel.uncertainty
+    assert u.u == pytest.approx(0.02) and u.basis == "assumed"
+    (out,) = u.outliers
+    assert out["source"].startswith("Poling") and out["value"] == pytest.approx(poling)
+    assert out["deviation_percent"] == pytest.approx(100 * (poling / dippr - 1), rel=1e-9)
+    assert "Poling 5th ed. (2001) disagrees by -34 % at 298.15 K" in u.reason and "treated as an outlier" in u.reason
+    prov = sel.provenance()
+    assert prov["outliers"][0]["unit"] == "J/(mol*K)"
+    assert [r["outlier"] for r in prov["sources"]] == [False, True]
+    # the run warns, naming the datum and both sources
+    text = ('title = "acetic anhydride warming (test)"\n[species.AA]\ncas = "108-24-7"\n[species.AA.l]\n'
+            'formation_enthalpy = { library = "auto" }\nheat_capacity = { library = "auto" }\n'
+            '[[output]]\nname = "h"\nkind = "heating_enthalpy"\nspecies = "AA(l)"\nfrom = "25 degC"\nto = "340 K"\n')
+    from uqthermo.case.loader import load_case
+
+    case = load_case(str(_write(tmp_path, text)))
+    line = next(w for w in case.warnings if "outlier" in w)
+    assert line.startswith("AA.l.heat_capacity: Poling 5th ed. (2001) gives 124.1 J/(mol*K) at 298.15 K, -34 % from "
+                           "Perry-DIPPR 8th ed. (2008)")
+    assert case.data["AA.l.heat_capacity"].distributions[0].std == pytest.approx(0.02)
+
+
+def _curve(key, value, t=(250.0, 400.0)):
+    from uqthermo.case.library.candidates import CurveCandidate, SourceInfo
+
+    src = SourceInfo(key=key, title=key, version="", citation="", kind="compilation", uncertainty="")
+    return CurveCandidate(source=src, phase="l", cas="0-00-0", t_min=t[0], t_max=t[1],
+                          function=lambda T, v=value: np.full_like(np.asarray(T, float), v), form="constant")
+
+
+@pytest.mark.parametrize("chosen, others, flagged", [
+    (100.0, [(101.0, None), (130.0, None)], ["c2"]),           # 3 sources: 130 far from the median 101
+    (100.0, [(101.0, None), (108.0, None)], []),               # within 10 % of the median: kept
+    (100.0, [(112.0, None)], []),                              # two curves: no majority, spread kept
+    (100.0, [(115.0, 298.15)], ["c1"]),                        # one value at 298.15 K only, 15 % off
+    (100.0, [(108.0, 298.15)], []),                            # ... 8 % off: kept
+    (130.0, [(100.0, None), (101.0, None)], []),               # the selected curve is the odd one: spread stays
+])
+def test_outlier_rule_median_mad_and_single_values(chosen, others, flagged):
+    """The screening rule of uqthermo.case.library.uncertainty on invented constant curves: a robust 3σ
+    (1.4826 × MAD, Rousseeuw & Croux 1993) with a 10 % floor for ≥ 3 sources; a single value against
+    the selected curve for 2."""
+    from uqthermo.case.library.uncertainty import curve_uncertainty, screen_outliers
+
+    sel = _curve("c0", chosen)
+    oth = [_curve(f"c{i + 1}", v, (t, t) if t else (250.0, 400.0)) for i, (v, t) in enumerate(others)]
+    grid = np.array([298.15, 320.0, 350.0])
+    assert [o["source"] for o in screen_outliers(sel, oth, grid)] == flagged
+    u, spread = curve_uncertainty(sel, oth, (298.15, 350.0))
+    kept = [v for (v, _), o in zip(others, oth) if o.source.label not in flagged]
+    expect = 0.5 * (max([chosen] + kept) - min([chosen] + kept)) / chosen
+    assert spread == pytest.approx(expect)
+    assert u.u == pytest.approx(max(0.02, expect))
+
+
+def test_data_command_marks_the_outlier_and_shows_the_basis(capsys):
+    # the basis "[assumed]" was eaten as rich markup; the outlier row says what was done with it
+    assert main(["data", "acetic anhydride", "--T", "298.15K..340K"]) == 0
+    out = capsys.readouterr().out
+    assert "u = 2 % [assumed]" in out and "outlier: -34 % from ★" in out

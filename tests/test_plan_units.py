@@ -74,3 +74,65 @@ def test_target_for_an_unknown_output_is_refused(built):
     with pytest.raises(InputError) as e:
         resolve_plan_request(case, model, target=["nope: U95 <= 5 K"])
     assert e.value.problems[0].key == "--target" and "no output named 'nope'" in e.value.problems[0].message
+
+
+# QA: a candidate u = "0.2 kJ/mol" was labelled "(u=200)" (engine J/mol, no unit), and u = "1 kg" on an
+# extent written in kg was refused. Molar mass of C2H4O from the IUPAC/CIAAW 2021 conventional atomic
+# weights (C 12.011, H 1.008, O 15.999): 44.053 g/mol. All numbers INVENTED test inputs.
+MASS_CASE = '''title = "candidate units (test, invented data)"
+[settings]
+samples = 2000
+what_if = true
+[species.A]
+formula = "C2H4O"
+[species.A.l]
+formation_enthalpy = { value = "-100 kJ/mol", u = "1 kJ/mol" }
+heat_capacity = { model = "constant", value = "90 J/(mol*K)", T = ["250 K", "1000 K"] }
+[species.P]
+formula = "C2H4O"
+[species.P.l]
+formation_enthalpy = { value = "-180 kJ/mol", u = "0.1 kJ/mol" }
+heat_capacity = { model = "constant", value = "90 J/(mol*K)", T = ["250 K", "1000 K"] }
+[reaction.R]
+equation = "A(l) -> P(l)"
+[[output]]
+name = "rise"
+kind = "adiabatic_temperature_rise"
+reaction = "R"
+start_temperature = "300 K"
+extent = { value = "4.4053 kg", u = "0.44053 kg" }
+extent_species = "A"
+charge = { "P(l)" = "40 kg" }
+[[candidate]]
+datum = "A.l.formation_enthalpy"
+u = "0.2 kJ/mol"
+cost = 100
+[[candidate]]
+datum = "output.rise.extent"
+u = "0.088106 kg"
+cost = 10
+'''
+
+
+def test_candidate_u_keeps_the_users_unit_and_a_mass_for_a_mass_extent(tmp_path):
+    p = tmp_path / "c.toml"
+    p.write_text(MASS_CASE, encoding="utf-8")
+    case = load_case(str(p))
+    ext, h = case.candidates[1], case.candidates[0]
+    # 0.088106 kg / 44.053 g/mol = 2 mol (|ν_A| = 1); the extent itself is 100 ± 10 mol
+    assert ext.u == pytest.approx(2.0, rel=1e-4) and ext.u_text == "0.088106 kg"
+    assert case.data["output.rise.extent"].nominal == pytest.approx(100.0, rel=1e-4)
+    assert h.u == pytest.approx(0.2) and h.u_text == "0.2 kJ/mol"
+    model, _ = prepare_model(case)
+    plan = compute_plan(case, model, budget=1000.0, output_name="rise")
+    actions = {r["datum"]: r for r in plan["candidates"]}
+    assert actions["A.l.formation_enthalpy"]["action"] == "A.l.formation_enthalpy (u = 0.2 kJ/mol)"
+    assert actions["output.rise.extent"]["action"] == "output.rise.extent (u = 0.088106 kg)"
+    assert actions["output.rise.extent"]["factor"] == pytest.approx(0.2, rel=1e-4)     # 2 mol / 10 mol
+    assert actions["A.l.formation_enthalpy"]["factor"] == pytest.approx(0.2)            # 0.2 / 1 kJ/mol
+    # a mass where the datum has no molar mass is still a keyed problem, with the way out
+    bad = MASS_CASE.replace('u = "0.2 kJ/mol"', 'u = "1 kg"')
+    p.write_text(bad, encoding="utf-8")
+    with pytest.raises(InputError) as e:
+        load_case(str(p))
+    assert "candidate[0].u" in str(e.value)

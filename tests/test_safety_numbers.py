@@ -492,3 +492,32 @@ def test_adaptive_run_stops_on_the_outputs_not_on_rare_class_indicators(tmp_path
     pt = point(res)
     assert pt["p_mtsr_above_td24"] == 0.0
     assert pt["p_mtsr_above_td24_upper_bound"] == pytest.approx(1 - 0.05 ** (1 / pt["p_mtsr_above_td24_trials"]))
+
+
+# ---------------------------------------------------------------- fractions in percent, every fraction key alike
+
+@pytest.mark.parametrize("written", ['"60 %"', '"60%"', '"60 percent"', "0.6"])
+def test_accumulation_and_other_fractions_accept_percent(tmp_path, written):
+    # QA: accumulation = "60 %" was refused while relative_u = "2 %" was accepted. MTSR = T_p + X_ac·ΔT_ad
+    # (Stoessel 2008) with X_ac = 0.6 and ΔT_ad = 100 K per mol of extent (closed form above): 300 + 60 K.
+    settings = f'coverage_probability = {written.replace("60", "95") if written != "0.6" else "0.95"}\n'
+    text = (HEAD.format(title="fractions", samples=2000, sens="linear") + settings
+            + SPECIES.format(uA="0.1 kJ/mol", hP="-180 kJ/mol", s_lo="250 K")
+            + adiabatic(extent='{ value = "1 mol", u = "0.05 mol" }',
+                        more=f'process_temperature = "300 K"\naccumulation = {written}')
+            + f'[[candidate]]\ndatum = "output.rise.extent"\nfactor = {written.replace("60", "30") if written != "0.6" else "0.3"}\n'
+              'cost = 10\n')
+    res = run(tmp_path, text, method="linear")
+    pt = point(res)
+    assert pt["mtsr_K"] == pytest.approx(300 + 0.6 * (-DRH / C), rel=1e-9)
+    assert res.case.settings.coverage_probability == pytest.approx(0.95)
+    assert res.case.candidates[0].factor == pytest.approx(0.3)
+
+
+@pytest.mark.parametrize("written, why", [('"160 %"', "[0, 1]"), ('"sixty"', "[0, 1]"), ("true", "[0, 1]")])
+def test_accumulation_out_of_range_is_one_keyed_line(tmp_path, written, why):
+    text = case_text(output=adiabatic(more=f'process_temperature = "300 K"\naccumulation = {written}'))
+    with pytest.raises(InputError) as e:
+        run(tmp_path, text)
+    msg = str(e.value)
+    assert "output.rise.accumulation" in msg and why in msg and "60 %" in msg

@@ -25,7 +25,7 @@ from .readers.outputs import read_outputs
 from .readers.plausibility import check_case
 from .readers.reactions import read_reactions
 from .readers.settings import read_settings
-from .readers.species import read_species
+from .readers.species import library_data_warnings, read_species
 from .readers.temperature_windows import species_demands
 from .schema import Case, Datum
 
@@ -181,10 +181,15 @@ def parse_case(raw: dict, fname: str, sha: str = "", *, library: bool = True) ->
                       f"library values ({d.library}) are stated at 298.15 K, but settings.reference_temperature is "
                       f"{settings.reference_temperature:g} K; give the value at the reference temperature or use 298.15 K")
     c.raise_if_any()
-    return Case(path=fname, sha256=sha, title=title.strip(), description=description, settings=settings,
+    case = Case(path=fname, sha256=sha, title=title.strip(), description=description, settings=settings,
                 species=species, data=data, reactions=reactions, outputs=outputs, correlations=correlations,
                 candidates=candidates, warnings=c.warnings, raw=raw, document=document,
                 temperature_unit=temperature_unit(raw))
+    # library notes only for the data the outputs use (a standard entropy no output needs says nothing)
+    from .model.layout import used_data
+
+    case.warnings.extend(library_data_warnings(data, used_data(case)))
+    return case
 
 
 def _reaction_set(c: Collector, node: Any, folder: Path, existing: set[str]) -> dict[str, dict]:

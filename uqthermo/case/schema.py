@@ -94,6 +94,7 @@ class Datum:
     nominal: np.ndarray | float | None = None
     assumed: bool = False
     provenance: dict | None = None     # library = "auto": where value and uncertainty come from (results.json)
+    molar_mass: float | None = None    # kg/mol: an amount (rate) datum that may be written as a mass (rate)
 
     @property
     def uncertain(self) -> bool:
@@ -164,6 +165,7 @@ class Candidate:
     cost: float
     lead_time: str = ""
     note: str = ""
+    u_text: str = ""           # u as written in the case (e.g. "0.2 kJ/mol", "1 kg"), for labels
 
 
 @dataclass

@@ -152,6 +152,25 @@ def _curve_comment(sel) -> list[str]:
     return lines
 
 
+def _check_balance(equation: str, parts: list, species: dict) -> None:
+    """Refuse an equation whose elements do not balance (the reaction reader's check,
+    :func:`uqthermo.thermo.reaction.check_balance`, on the formulas the library found)."""
+    from ..errors import BalanceError, UqthermoError
+    from ..thermo.reaction import Reaction, check_balance
+    from ..thermo.species import Species
+
+    eq = " ".join(equation.split())
+    table = {tok: Species(name=tok, formula=(sp.ident.formula or tok)) for tok, sp in species.items()}
+    try:
+        check_balance(Reaction(name="R1", equation=eq, participants=list(parts)), table)
+    except BalanceError as e:
+        detail = e.message.split(" does not balance: ", 1)[-1]
+        raise InputError(Problem("", "--case", f"the equation {eq!r} does not balance: {detail}; "
+                                               "correct the stoichiometric numbers")) from None
+    except UqthermoError:
+        return      # a formula the element parser cannot read: the case reader reports it
+
+
 def starter_case(equation: str, temperatures: tuple[float, ...], t_text: str, *, title: str | None = None) -> str:
     """Text of a starter case file for ``equation`` at ``temperatures`` (K; one value or (lo, hi)).
 
@@ -184,7 +203,10 @@ def starter_case(equation: str, temperatures: tuple[float, ...], t_text: str, *,
             sp.ident, sp.note = resolve_token(tok)
         except LibraryLookupError as e:
             problems.append(Problem("", "--case", f"{tok}: {e.message}"))
-            continue
+    if problems:
+        raise InputError(problems)
+    _check_balance(equation, parts, species)
+    for tok, sp in species.items():
         if sp.note:
             notes.append(sp.note)
         ident = sp.ident

@@ -18,6 +18,7 @@ import re
 import sys
 
 from ..errors import InputError, Problem
+from ..text_safety import markup
 
 __all__ = ["execute", "case_hint", "parse_window", "DETAILED"]
 
@@ -151,6 +152,9 @@ def _curve_rows(ident, window) -> list[list[str]]:
                 pick.source.key, pick.form, pick.t_min, pick.t_max)
             u = (f"u = {100 * unc.u:.2g} % [{unc.basis}]" if star else
                  (f"{100 * c.relative_u:.2g} % ({c.u_basis})" if c.relative_u else ""))
+            out = next((o for o in (unc.outliers if unc is not None else ()) if o["source"] == c.source.label), None)
+            if out is not None and not star:
+                u = f"outlier: {out['deviation_percent']:+.0f} % from ★, left out of u"
             rows.append([ph, ("★ " if star else "  ") + c.source.key + (" (estimate)" if c.estimate else ""),
                          c.form, rng, cov, cp, u])
     return rows
@@ -286,7 +290,7 @@ def execute(args) -> int:
         for col in ("quantity", "phase", "source", "value", "uncertainty"):
             st.add_column(col)
         for row in _scalar_rows(ident, window):
-            st.add_row(*row)
+            st.add_row(*(markup(x) for x in row))      # "[assumed]" is text, not rich markup
         console.print(st)
         ct = Table(title=f"heat-capacity curves: which ranges cover {wtxt} (--T sets the window)",
                    title_justify="left", header_style="bold")
@@ -294,7 +298,7 @@ def execute(args) -> int:
             ct.add_column(col)
         crow = _curve_rows(ident, window)
         for row in crow:
-            ct.add_row(*row)
+            ct.add_row(*(markup(x) for x in row))
         if crow:
             console.print(ct)
     if len(matches) > DETAILED:

@@ -212,8 +212,9 @@ def compute_plan(case: Case, model: Model, *, target=None, budget: float | None 
                                                               "the outputs through it")])
         d = case.data[c.datum]
         std = None if c.u is None else c.u / d.to_report
+        label = c.note or (f"{c.datum} (u = {c.u_text})" if c.u_text else None)   # the user's unit, not the engine's
         cands.append(Candidate(datum=c.datum, cost=c.cost, std=std, factor=c.factor,
-                               lead_time=lead_time_days(c.lead_time), label=(c.note or None)))
+                               lead_time=lead_time_days(c.lead_time), label=label))
     linear_model = all(model.linear_in_inputs[i] for i in outs)
 
     def f(X: np.ndarray) -> np.ndarray:

@@ -269,7 +269,7 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
         "heat_capacity_curves": heat_capacity_curves(case, model, outputs),
         "convergence": convergence,
         "candidates": [{"datum": c.datum, "u": c.u, "factor": c.factor, "cost": c.cost, "lead_time": c.lead_time,
-                        "note": c.note} for c in case.candidates],
+                        "note": c.note, "u_as_written": c.u_text or None} for c in case.candidates],
         "warnings": list(dict.fromkeys(warnings)),
         "cautions": cautions,
     }
@@ -455,7 +455,8 @@ def _drivers_and_whatif(case: Case, model: Model, lin, warnings: list[str], vali
                 continue
             d = case.data[c.datum]
             if c.u is not None:
-                scenarios.append(Scenario.stated(c.datum, c.u / d.to_report))
+                scenarios.append(Scenario.stated(c.datum, c.u / d.to_report,
+                                                 f"{c.datum} u = {c.u_text}" if c.u_text else None))
             elif c.factor is not None:
                 scenarios.append(Scenario.scaled(c.datum, c.factor))
         parts = []

@@ -102,8 +102,10 @@ class Scenario:
         return cls(f"{datum} x{factor:g}", {datum: float(factor)}, {}, datum, "scaled")
 
     @classmethod
-    def stated(cls, datum: str, std: float) -> "Scenario":
-        return cls(f"{datum} u={std:g}", {}, {datum: float(std)}, datum, "stated")
+    def stated(cls, datum: str, std: float, label: str | None = None) -> "Scenario":
+        """``std`` in the input's units; ``label`` (default ``"DATUM u=STD"``) names the scenario, e.g.
+        with the uncertainty as the user wrote it."""
+        return cls(label or f"{datum} u={std:g}", {}, {datum: float(std)}, datum, "stated")
 
     def resolve(self, inputs: Any) -> dict[str, float]:
         """Factors by datum, with stated uncertainties converted (``u_new / u_now``).

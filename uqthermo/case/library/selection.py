@@ -28,7 +28,7 @@ from dataclasses import dataclass, field
 from .base import LibraryLookupError
 from .candidates import QUANTITY_UNITS, CurveCandidate, ScalarCandidate
 from .identify import Identity
-from .uncertainty import Uncertainty, curve_uncertainty, scalar_uncertainty
+from .uncertainty import Uncertainty, curve_uncertainty, outlier_text, scalar_uncertainty
 
 __all__ = ["RANK", "Selection", "select_value", "select_curve", "QUANTITY_LABELS", "rank_of"]
 
@@ -141,15 +141,19 @@ class Selection:
         }
         if isinstance(c, CurveCandidate):
             lo, hi = self.window
-            out.update({"window_K": [lo, hi], "relative_standard_uncertainty": u.u, "representation": c.shomate()[1]})
+            out.update({"window_K": [lo, hi], "relative_standard_uncertainty": u.u, "form": c.form,
+                        "representation": c.shomate()[1]})
             rows = []
+            outlying = {o["source"] for o in u.outliers}
             for o in self.considered + self.not_covering:
                 row = {"source": o.source.label, "form": o.form, "range_K": [o.t_min, o.t_max],
-                       "covers_window": bool((not o.single_point) and o.covers(lo, hi)), "estimate": o.estimate}
+                       "covers_window": bool((not o.single_point) and o.covers(lo, hi)), "estimate": o.estimate,
+                       "outlier": o.source.label in outlying}
                 at = [t for t in ((lo, hi) if hi > lo else (lo,)) if o.t_min - 1e-3 <= t <= o.t_max + 1e-3]
                 row["cp_J_per_mol_K"] = {f"{t:g}": float(o.cp([t])[0]) for t in at}
                 rows.append(row)
             out["sources"] = rows
+            out["outliers"] = [dict(o, unit="J/(mol*K)") for o in u.outliers]
         else:
             unit, f = _REPORT[QUANTITY_UNITS[c.quantity]]
             out.update({"value": c.value * f, "unit": unit, "standard_uncertainty": u.u * f})
@@ -308,9 +312,11 @@ def select_curve(ident: Identity, phase: str, window: tuple[float, float], *, so
     own = window_class_u(chosen, lo, hi) if chosen.u_basis == "class" else None
     unc, _ = curve_uncertainty(chosen, others, (lo, hi), own)
     if extrapolated and unc.u < EXTRAPOLATION_RELATIVE_U:
-        unc = Uncertainty(EXTRAPOLATION_RELATIVE_U, True, "assumed",
-                          f"curve extrapolated beyond its range {chosen.t_min:g}-{chosen.t_max:g} K: "
-                          f"{100 * EXTRAPOLATION_RELATIVE_U:g} % assumed (the sources' {100 * unc.u:.2g} % holds "
-                          "only inside the range)")
+        why = (f"curve extrapolated beyond its range {chosen.t_min:g}-{chosen.t_max:g} K: "
+               f"{100 * EXTRAPOLATION_RELATIVE_U:g} % assumed (the sources' {100 * unc.u:.2g} % holds only inside the "
+               "range)")
+        if unc.outliers:
+            why += "; " + outlier_text(list(unc.outliers), chosen.source.label)
+        unc = Uncertainty(EXTRAPOLATION_RELATIVE_U, True, "assumed", why, outliers=unc.outliers)
     not_cov = [c for c in _one_per_source(curves) if c not in evidence]
     return Selection(ident, "heat_capacity", phase, chosen, evidence, unc, reason, (lo, hi), source, not_cov)

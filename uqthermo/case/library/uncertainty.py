@@ -24,6 +24,22 @@ The rule, in order:
    our own (common practice for handbook data), flagged as *assumed* in results.json and the
    report so that the user checks it.
 
+**Outliers** (curves, before rule 4): one wrong value must not set the spread of a whole curve. At
+each temperature of the window where other sources give a Cp (:func:`screen_outliers`):
+
+* with three or more values (the selected curve's included), a value of another source is an
+  outlier when it lies further from their median than both 3 × 1.4826 × MAD (the median absolute
+  deviation scaled to a normal standard deviation — a robust 3σ) and :data:`OUTLIER_RELATIVE`
+  of the median;
+* with two values there is no majority, so source quality decides: a Cp known at one temperature
+  only (CRC, Poling at 298.15 K — secondary compilations that never become curves) is an outlier
+  when it disagrees with the selected curve by more than :data:`OUTLIER_RELATIVE`; two curves that
+  disagree keep their spread.
+
+The selected curve is never screened out (if it is the odd one, the spread stays). An outlier is
+left out of the spread, named with its disagreement in the uncertainty's reason and in
+``provenance.outliers``, and the run warns naming the datum and both sources.
+
 The basis is recorded with each datum (``exact``, ``stated``, ``published``, ``spread``,
 ``assumed``), so the report says for every library value where its uncertainty comes from.
 """
@@ -36,7 +52,17 @@ import numpy as np
 
 from .candidates import CurveCandidate, ScalarCandidate
 
-__all__ = ["Uncertainty", "ASSUMED", "scalar_uncertainty", "curve_uncertainty", "assumed_value"]
+__all__ = ["Uncertainty", "ASSUMED", "OUTLIER_RELATIVE", "scalar_uncertainty", "curve_uncertainty", "assumed_value",
+           "screen_outliers", "outlier_text"]
+
+OUTLIER_RELATIVE = 0.10
+"""Relative disagreement beyond which a heat capacity is screened as an outlier: five times the 2 %
+assumed for handbook correlations; compilations of Cp near room temperature typically agree within
+a few per cent (common practice), so a 10 % gap points to a transcription or identification error
+rather than to a measurement spread. A rule of our own."""
+
+MAD_TO_SIGMA = 1.4826
+"""MAD of a normal sample → its standard deviation (1/Φ⁻¹(3/4); Rousseeuw & Croux, JASA 88 (1993) 1273)."""
 
 #: (quantity, source kind) -> assumed standard uncertainty (absolute; relative for heat capacity and
 #: latent heats). Rules of thumb of our own, flagged as assumed wherever used.
@@ -78,6 +104,9 @@ class Uncertainty:
     reason: str
     expanded: float | None = None
     k: float | None = None
+    outliers: tuple = ()
+    """Sources left out of the spread (:func:`screen_outliers`): dicts with source, value (J/(mol*K)),
+    temperature_K, deviation_percent (from the selected curve), rule."""
 
     @property
     def assumed(self) -> bool:
@@ -140,9 +169,62 @@ def scalar_uncertainty(chosen: ScalarCandidate, others: list[ScalarCandidate], *
     return Uncertainty(u0, False, basis0, why0)
 
 
+def _values_on(o: CurveCandidate, grid: np.ndarray) -> np.ndarray:
+    """Cp of source ``o`` on ``grid`` (NaN where it gives none: outside its range, or away from its one point)."""
+    m = (np.abs(grid - o.t_min) < 1e-6) if o.single_point else (grid >= o.t_min - 1e-3) & (grid <= o.t_max + 1e-3)
+    v = np.full_like(grid, np.nan, dtype=float)
+    if np.any(m):
+        v[m] = o.cp(grid[m])
+    return v
+
+
+def screen_outliers(chosen: CurveCandidate, others: list[CurveCandidate], grid: np.ndarray) -> list[dict]:
+    """Other sources whose Cp is an outlier on ``grid`` (K) by the rule of the module docstring.
+
+    Returns one record per outlying source at its worst temperature: ``source``, ``value`` and
+    ``selected_value`` (J/(mol*K)), ``temperature_K``, ``deviation_percent`` (from the selected
+    curve, signed) and ``rule`` (``"median/MAD of N sources"`` or ``"single value against the
+    selected curve"``).
+    """
+    base = chosen.cp(grid)
+    vals = [_values_on(o, grid) for o in others]
+    found: dict[int, dict] = {}
+    for j, T in enumerate(grid):
+        present = [k for k, v in enumerate(vals) if np.isfinite(v[j])]
+        if not present:
+            continue
+        col = np.array([base[j]] + [vals[k][j] for k in present])
+        if col.size >= 3:
+            med = float(np.median(col))
+            limit = max(3.0 * MAD_TO_SIGMA * float(np.median(np.abs(col - med))), OUTLIER_RELATIVE * abs(med))
+            flagged = [k for k in present if abs(vals[k][j] - med) > limit]
+            rule = f"median/MAD of {col.size} sources"
+        else:
+            (k,) = present
+            flagged = [k] if (others[k].single_point and abs(vals[k][j] - base[j]) > OUTLIER_RELATIVE * abs(base[j])) \
+                else []
+            rule = "single value against the selected curve"
+        for k in flagged:
+            dev = 100.0 * (vals[k][j] - base[j]) / base[j]
+            if k not in found or abs(dev) > abs(found[k]["deviation_percent"]):
+                found[k] = {"source": others[k].source.label, "value": float(vals[k][j]),
+                            "selected_value": float(base[j]), "temperature_K": float(T),
+                            "deviation_percent": float(dev), "rule": rule}
+    return [found[k] for k in sorted(found)]
+
+
+def outlier_text(outliers: list[dict], selected: str) -> str:
+    """One clause per outlier for the uncertainty's reason (source, disagreement, what was done)."""
+    return "; ".join(f"{o['source']} disagrees by {o['deviation_percent']:+.0f} % at {o['temperature_K']:g} K "
+                     f"({o['value']:.4g} against {o['selected_value']:.4g} J/(mol*K) from {selected}), treated as an "
+                     f"outlier ({o['rule']}, beyond {100 * OUTLIER_RELATIVE:g} %) and left out of the spread"
+                     for o in outliers)
+
+
 def curve_uncertainty(chosen: CurveCandidate, others: list[CurveCandidate], window: tuple[float, float],
                       own_relative_u: float | None = None) -> tuple[Uncertainty, float]:
-    """Relative standard uncertainty of a selected Cp curve over ``window`` (rules 2-5).
+    """Relative standard uncertainty of a selected Cp curve over ``window`` (rules 2-5, outliers
+    screened first).
 
     Returns
     -------
@@ -152,6 +234,10 @@ def curve_uncertainty(chosen: CurveCandidate, others: list[CurveCandidate], wind
     lo, hi = window
     grid = np.unique(np.concatenate([np.linspace(lo, hi, 25), [lo, hi]])) if hi > lo else np.array([lo])
     base = chosen.cp(grid)
+    measured = [o for o in others if not o.estimate]
+    outliers = screen_outliers(chosen, measured, grid) if not chosen.estimate else []
+    dropped = {o["source"] for o in outliers}
+    others = [o for o in others if o.source.label not in dropped]
     spread = 0.0
     n_used = 1
     for o in others:
@@ -178,11 +264,23 @@ def curve_uncertainty(chosen: CurveCandidate, others: list[CurveCandidate], wind
         with np.errstate(invalid="ignore"):
             hs = 0.5 * (np.nanmax(arr, axis=0) - np.nanmin(arr, axis=0)) / base
         spread = float(np.nanmax(hs)) if np.any(np.isfinite(hs)) else 0.0
+    result = _curve_u(chosen, n_used, spread, lo, hi, own_relative_u)
+    if outliers:
+        from dataclasses import replace
+
+        result = replace(result, reason=f"{result.reason}; {outlier_text(outliers, chosen.source.label)}",
+                         outliers=tuple(outliers))
+    return result, spread
+
+
+def _curve_u(chosen: CurveCandidate, n_used: int, spread: float, lo: float, hi: float,
+             own_relative_u: float | None) -> Uncertainty:
+    """Rules 2-5 for a curve, given the sources' spread (outliers already left out)."""
     ru = own_relative_u if own_relative_u is not None else chosen.relative_u
     if chosen.estimate:
         basis = chosen.u_basis or "assumed"
         return Uncertainty(ru if ru is not None else 0.05, True, "assumed" if basis == "assumed" else "published",
-                           chosen.u_note or "estimate"), spread
+                           chosen.u_note or "estimate")
     if ru is not None:
         basis0 = "stated" if chosen.u_basis == "stated" else ("assumed" if chosen.u_basis in ("class", "assumed")
                                                               else "published")
@@ -196,10 +294,10 @@ def curve_uncertainty(chosen: CurveCandidate, others: list[CurveCandidate], wind
     if n_used >= 2 and spread > ru:
         return Uncertainty(spread, True, "spread",
                            f"half the largest spread of {n_used} sources over {lo:g}-{hi:g} K "
-                           f"({100 * spread:.2g} %), larger than the {basis0} {100 * ru:.2g} %"), spread
+                           f"({100 * spread:.2g} %), larger than the {basis0} {100 * ru:.2g} %")
     if n_used >= 2:
         why0 += f"; larger than half the spread of {n_used} sources ({100 * spread:.2g} %)"
-    return Uncertainty(ru, True, basis0, why0), spread
+    return Uncertainty(ru, True, basis0, why0)
 
 
 

@@ -8,7 +8,7 @@ import math
 from typing import Any
 
 from ..schema import Candidate, Datum
-from .fields import Collector, is_table, read_quantity
+from .fields import Collector, is_table, read_fraction, read_quantity
 
 __all__ = ["read_candidates"]
 
@@ -47,7 +47,10 @@ def read_candidates(c: Collector, node: Any, data: dict[str, Datum]) -> list[Can
             dim = {"kJ/mol": "molar_energy", "J/(mol*K)": "molar_entropy", "K": "temperature", "mol": "amount",
                    "mol/s": "amount_rate", "1": "dimensionless", "kW": "power", "kJ": "energy",
                    "kJ/kg": "specific_energy", "kPa": "pressure"}[datum.unit]
-            val = read_quantity(c, item["u"], f"{key}.u", dim, difference=True)
+            # an amount written as a mass where the datum itself may be (extent with extent_species,
+            # a charge, a feed with key): the datum's molar mass converts it
+            val = read_quantity(c, item["u"], f"{key}.u", dim, difference=True, molar_mass=datum.molar_mass
+                                if datum.molar_mass else "this datum has no molar mass to convert a mass with; give u in mol")
             if val is None:
                 continue
             if not val > 0:
@@ -55,15 +58,15 @@ def read_candidates(c: Collector, node: Any, data: dict[str, Datum]) -> list[Can
                 continue
             u = val * datum.to_report
         elif "factor" in item:
-            f = item["factor"]
-            if isinstance(f, bool) or not isinstance(f, (int, float)) or not (0 <= f < 1):
-                c.add(f"{key}.factor", f"must be a number in [0, 1), got {f!r}")
+            factor = read_fraction(c, item["factor"], f"{key}.factor", 0.0, 1.0, high_open=True,
+                                   example="0.3 or \"30 %\" of the present uncertainty")
+            if factor is None:
                 continue
-            factor = float(f)
         else:
             c.add(key, "give u (achievable standard uncertainty) or factor")
             continue
         lead = item.get("lead_time", "")
+        u_text = "" if u is None else (item["u"].strip() if isinstance(item["u"], str) else f"{item['u']:g} {datum.unit}")
         out.append(Candidate(datum=d, u=u, factor=factor, cost=float(cost), lead_time=str(lead),
-                             note=str(item.get("note", ""))))
+                             note=str(item.get("note", "")), u_text=u_text))
     return out

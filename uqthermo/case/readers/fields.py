@@ -25,7 +25,7 @@ from . import distributions as dist
 
 __all__ = ["Collector", "PHASE_SYMBOLS", "PHASE_ALIASES", "QUANTITY_KEYS", "DISTRIBUTIONS", "CP_MODELS", "POLY_TERMS",
            "POLY_POWERS", "MASS_OF", "is_table", "read_quantity", "read_temperature", "read_percent",
-           "read_uncertain", "check_name", "report_unit", "make_datum", "register", "matrix"]
+           "fraction_value", "read_fraction", "read_uncertain", "check_name", "report_unit", "make_datum", "register", "matrix"]
 
 PHASE_SYMBOLS = ("g", "l", "s", "cr", "aq")
 PHASE_ALIASES = {"s": "cr", "cr": "s", "c": "cr"}
@@ -136,6 +136,37 @@ def read_percent(c: Collector, value: Any, key: str) -> float | None:
     if not isinstance(value, str) and r >= 0.05:
         c.warn(key, f"the plain number {value!r} is read as a fraction, {100 * r:g} %; write \"{value!r} %\" if per cent was meant")
     return r
+
+
+def fraction_value(value: Any) -> float | None:
+    """A fraction written as a plain number (0.6) or a percentage string (``"60 %"``, ``"60%"``,
+    ``"60 percent"``, ``"0.6"``); None when it is neither (or not finite). Every fraction key of
+    the case reads through here, so all of them accept the same forms (docs/case-format.md)."""
+    if isinstance(value, bool):
+        return None
+    if isinstance(value, (int, float)):
+        x = float(value)
+    elif isinstance(value, str):
+        try:
+            x = float(parse_quantity(value, "dimensionless"))
+        except (UnitProblem, UqthermoError, ValueError):
+            return None
+    else:
+        return None
+    return x if math.isfinite(x) else None
+
+
+def read_fraction(c: Collector, value: Any, key: str, low: float, high: float, *, low_open: bool = False,
+                  high_open: bool = False, example: str = "0.6 or \"60 %\"") -> float | None:
+    """Parse a fraction (:func:`fraction_value`) within [low, high] (open ends as flagged); record the
+    problem and return None otherwise."""
+    x = fraction_value(value)
+    lo_b, hi_b = ("(" if low_open else "["), (")" if high_open else "]")
+    if x is None or (x <= low if low_open else x < low) or (x >= high if high_open else x > high):
+        c.add(key, f"must be a fraction in {lo_b}{low:g}, {high:g}{hi_b} (a number or a percentage, e.g. {example}); "
+                   f"got {value!r}")
+        return None
+    return x
 
 
 _REPORT = {
@@ -320,13 +351,15 @@ def report_unit(dimension: str) -> tuple[str, float]:
 
 
 def make_datum(id: str, quantity: str, dimension: str, parsed: tuple[float, Any, str, str], *, species: str = "",
-               phase: str = "", library: str = "") -> Datum:
-    """A single-variable datum from :func:`read_uncertain`'s result."""
+               phase: str = "", library: str = "", molar_mass: float | str | None = None) -> Datum:
+    """A single-variable datum from :func:`read_uncertain`'s result (``molar_mass``, kg/mol: an amount
+    that may be written as a mass — kept so that a candidate's ``u`` may be a mass too)."""
     v, d, stated, source = parsed
     unit, f = report_unit(dimension)
     return Datum(id=id, quantity=quantity, unit=unit, to_report=f, kind="scalar", distributions=[d],
                  variable_names=[id], correlation=None, stated=stated, source=source, species=species,
-                 phase=phase, library=library, nominal=v)
+                 phase=phase, library=library, nominal=v,
+                 molar_mass=float(molar_mass) if isinstance(molar_mass, (int, float)) else None)
 
 
 def register(c: Collector, data: dict[str, Datum], datum: Datum, key: str) -> None:

@@ -242,6 +242,15 @@ def _uncertainty_block(c: Collector, node: dict, key: str, names: list[str], nom
     return [positions_all[i] for i in keep], [names[i] for i in keep], dists, r[np.ix_(keep, keep)]
 
 
+def _curve_kind(node: dict, model_label: str) -> str:
+    """What the relative u applies to: the library curve's own form (a Zabransky spline, a DIPPR
+    polynomial, ...; held in Shomate form inside), else the case's model."""
+    prov = node.get("_provenance") or {}
+    if prov.get("form"):
+        return f"{prov['form']} curve ({prov.get('selected', '')})".replace(" ()", "")
+    return f"{model_label} curve"
+
+
 def _register_cp_datum(c, node, key, datum_id, sp, sym, data, nominal: np.ndarray, names: list[str],
                        per_coef, source, lib_name, model_label: str):
     """Register the heat-capacity datum: relative_u → one scale factor; per-coefficient u → a block."""
@@ -255,7 +264,7 @@ def _register_cp_datum(c, node, key, datum_id, sp, sym, data, nominal: np.ndarra
             return
         d = Datum(id=datum_id, quantity="heat capacity", unit="1", to_report=1.0, kind="scale",
                   distributions=[dist.normal(1.0, r)], variable_names=[f"{datum_id}[scale]"], correlation=None,
-                  stated=f"relative u = {node['relative_u']} on the whole {model_label} curve", source=source,
+                  stated=f"relative u = {node['relative_u']} on the whole {_curve_kind(node, model_label)}", source=source,
                   species=sp, phase=sym, library=lib_name, nominal=nominal)
         if model_label == "nasa7":   # a6, a7 are integration constants, not heat-capacity coefficients
             d.positions = [i for i in range(len(nominal)) if i % 7 < 5]

@@ -16,6 +16,7 @@ from .fields import (
     check_name,
     is_table,
     make_datum,
+    read_fraction,
     read_quantity,
     read_temperature,
     read_uncertain,
@@ -164,7 +165,7 @@ def _amounts(c: Collector, node: Any, key: str, species: dict, data: dict, prefi
             ok = False
             continue
         did = f"{prefix}.{sp[0]}.{sp[1]}"
-        register(c, data, make_datum(did, "amount", "amount", parsed, species=sp[0], phase=sp[1]), k)
+        register(c, data, make_datum(did, "amount", "amount", parsed, species=sp[0], phase=sp[1], molar_mass=m), k)
         if sp in out:
             c.add(k, "species listed twice")
             ok = False
@@ -339,7 +340,8 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
                     c.add(f"{rk}.conversion", f"conversion must lie in [0, 1], got {conv[0]:g}")
                     ok = False
                     continue
-                register(c, data, make_datum(f"{did}.feed", "feed rate", "amount_rate", feed), f"{rk}.feed")
+                register(c, data, make_datum(f"{did}.feed", "feed rate", "amount_rate", feed, molar_mass=mm),
+                         f"{rk}.feed")
                 register(c, data, make_datum(f"{did}.conversion", "conversion", "dimensionless", conv), f"{rk}.conversion")
                 out.extent_rates[rname] = [f"{did}.feed", f"{did}.conversion"]
                 out.extent_divisor[rname] = divisor
@@ -383,7 +385,7 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
     out.temperatures = np.array([t0])
     out.temperature_nominal = t0
     did = f"output.{out.name}.extent"
-    register(c, data, make_datum(did, "extent of reaction", "amount", ext), f"{key}.extent")
+    register(c, data, make_datum(did, "extent of reaction", "amount", ext, molar_mass=mm), f"{key}.extent")
     out.extent_datum = did
     for k in ("process_temperature", "max_temperature"):
         if k in o:
@@ -397,11 +399,11 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
         c.add(f"{key}.max_temperature", "must exceed the start temperature")
         return False
     if "accumulation" in o:
-        a = o["accumulation"]
-        if isinstance(a, bool) or not isinstance(a, (int, float)) or not (0 <= a <= 1):
-            c.add(f"{key}.accumulation", "must be a fraction in [0, 1] (1 = batch, all reactant accumulated)")
+        a = read_fraction(c, o["accumulation"], f"{key}.accumulation", 0.0, 1.0,
+                          example="0.6 or \"60 %\"; 1 = batch, all reactant accumulated")
+        if a is None:
             return False
-        out.accumulation = float(a)
+        out.accumulation = a
     return True
 
 

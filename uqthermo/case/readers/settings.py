@@ -8,7 +8,7 @@ from typing import Any
 
 from ..limits import MAX_SEED, SEED_RANGE_TEXT, short_key
 from ..schema import METHODS, SAMPLING_METHODS, Settings
-from .fields import Collector, is_table, read_temperature
+from .fields import Collector, fraction_value, is_table, read_fraction, read_temperature
 
 __all__ = ["read_settings", "adaptive_cap_problem", "MAX_SAMPLES_LIMIT"]
 
@@ -44,11 +44,10 @@ def read_settings(c: Collector, node: Any) -> Settings:
         if t is not None:
             s.reference_temperature = t
     if "coverage_probability" in node:
-        p = node["coverage_probability"]
-        if isinstance(p, bool) or not isinstance(p, (int, float)) or not (0.5 <= p < 1):
-            c.add("settings.coverage_probability", f"must be a number in [0.5, 1), e.g. 0.95; got {p!r}")
-        else:
-            s.coverage_probability = float(p)
+        p = read_fraction(c, node["coverage_probability"], "settings.coverage_probability", 0.5, 1.0,
+                          high_open=True, example="0.95 or \"95 %\"")
+        if p is not None:
+            s.coverage_probability = p
     if "samples" in node:
         n = node["samples"]
         if n == "adaptive":
@@ -103,11 +102,12 @@ def read_settings(c: Collector, node: Any) -> Settings:
         c.add("settings.max_samples", cap)
     if "design_probabilities" in node:
         v = node["design_probabilities"]
-        if not isinstance(v, list) or not v or not all(isinstance(x, (int, float)) and not isinstance(x, bool)
-                                                       and 0.5 < x < 1 for x in v):
-            c.add("settings.design_probabilities", "must be a list of probabilities between 0.5 and 1, e.g. [0.95, 0.99]")
+        ps = [fraction_value(x) for x in v] if isinstance(v, list) else []
+        if not ps or not all(x is not None and 0.5 < x < 1 for x in ps):
+            c.add("settings.design_probabilities", "must be a list of probabilities between 0.5 and 1, e.g. [0.95, 0.99] "
+                                                   "or [\"95 %\", \"99 %\"]")
         else:
-            s.design_probabilities = [float(x) for x in v]
+            s.design_probabilities = [float(x) for x in ps]
     return s
 
 

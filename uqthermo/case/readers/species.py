@@ -89,7 +89,6 @@ def read_species(c: Collector, node: Any, data: dict[str, Datum], settings: Sett
             out[name] = Species(name=name, formula=formula, phases=phases, transitions=transitions)
         except UqthermoError as e:
             c.add(key, e.message)
-    _library_warnings(c, data)
     return out
 
 
@@ -160,17 +159,37 @@ def _windows(lib, sp: dict, name: str, demands: list, settings: Settings) -> dic
     return phase_windows(mine, trs, syms, anchored, settings.reference_temperature)
 
 
-def _library_warnings(c: Collector, data: dict) -> None:
-    """One grouped warning for library data with assumed uncertainties, one for estimates."""
-    assumed = [d for d in data.values() if getattr(d, "provenance", None) and d.assumed]
-    est = [d for d in data.values() if getattr(d, "provenance", None) and d.provenance.get("estimate")]
-    if assumed:
-        c.warn("", f"{len(assumed)} library datum(s) carry an assumed uncertainty (no source states one and the "
-                   "sources do not disagree by more): " + ", ".join(f"{d.id} ({d.stated})" for d in assumed)
-               + " — check them")
+def library_data_warnings(data: dict, used: set[str]) -> list[str]:
+    """Warnings on the library data the outputs use (``used``: :func:`uqthermo.case.model.layout.used_data`).
+
+    One line per datum whose uncertainty is assumed, keyed by the datum id, with the uncertainty,
+    the curve it applies to and the library's own reason (``provenance.uncertainty_reason``: no
+    source states one, a curve extrapolated beyond its range, Zabransky's class limits recalled,
+    ...); one line per datum whose value disagrees with another source far beyond the typical
+    deviation (treated as an outlier, :mod:`uqthermo.case.library.uncertainty`); one grouped line
+    for group-contribution estimates. Data no output uses get no warning.
+    """
+    out: list[str] = []
+    lib = [d for d in data.values() if d.id in used and getattr(d, "provenance", None)]
+    for d in lib:
+        prov = d.provenance
+        if d.assumed:
+            reason = prov.get("uncertainty_reason", "")
+            for o in prov.get("outliers") or ():     # said on a line of its own below
+                reason = reason.split(f"; {o['source']} disagrees")[0]
+            stated = (f"u = {prov['standard_uncertainty']:.3g} {prov['unit']}"
+                      if prov.get("standard_uncertainty") is not None and prov.get("unit") else d.stated)
+            out.append(f"{d.id}: assumed uncertainty, {stated}: {reason} — check it, or give your own value with its "
+                       "uncertainty")
+        for o in prov.get("outliers") or ():
+            out.append(f"{d.id}: {o['source']} gives {o['value']:.4g} {o['unit']} at {o['temperature_K']:g} K, "
+                       f"{o['deviation_percent']:+.0f} % from {prov.get('selected')}: far beyond the typical deviation "
+                       f"of the sources, treated as an outlier and left out of the uncertainty; check which is right")
+    est = [d for d in lib if d.provenance.get("estimate")]
     if est:
-        c.warn("", f"ESTIMATES, not measurements: {len(est)} library datum(s) are group-contribution estimates: "
+        out.append(f"ESTIMATES, not measurements: {len(est)} library datum(s) are group-contribution estimates: "
                    + ", ".join(d.id for d in est) + " — replace them by measured data where the result matters")
+    return out
 
 def _phase(c: Collector, node: Any, key: str, sp: str, sym: str, formula: str, cas: Any, data: dict,
            settings: Settings, library: bool, lib=None, windows: dict | None = None) -> Phase | None:
