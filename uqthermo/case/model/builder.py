@@ -114,6 +114,13 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
             served = all(i in sampled_t or table is not None and (
                 case.outputs[i].kind in TABLE_KINDS and not case.outputs[i].temperature_datum
                 and ReactionTable.eligible(case, case.outputs[i].reaction)) for i in idx)
+            # heat releases at exact temperatures from the table need the extents, not the species values
+            no_species = served or table is not None and all(
+                i in sampled_t or o.kind in TABLE_KINDS and not o.temperature_datum
+                and ReactionTable.eligible(case, o.reaction)
+                or o.kind == "heat_release" and not o.temperature_datum and not o.feeds
+                and all(ReactionTable.eligible(case, r) for r in o.extent_rates)
+                for i, o in ((i, case.outputs[i]) for i in idx))
             # reaction enthalpies served by the table are gathered for all outputs at once
             bulk = [i for i in idx if table is not None and case.outputs[i].kind == "reaction_enthalpy"
                     and not case.outputs[i].temperature_datum and case.outputs[i].basis != "mass"
@@ -130,7 +137,7 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
                 if np.array_equal(r_idx * G + g_idx, np.arange(len(table.reactions) * G)):
                     r_idx = g_idx = None          # outputs are the table itself, in order: no gather
                 plan = (set(bulk), r_idx, g_idx, cols)
-            groups.append((idx, rows, table, not served, plan))
+            groups.append((idx, rows, table, False if served else ("other" if no_species else "all"), plan))
     Tref = case.settings.reference_temperature
     species = case.species
     columns: list[Column] = []
@@ -191,7 +198,7 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
         amounts = [value(ov, did, n)[:, 0] for _, _, did in plans[i].charge]
         return balances.evaluate_adiabatic(case, plans[i], dH, xi, amounts, sv, ov, n, value)
 
-    def evaluate_block(X: np.ndarray, which: list[int], table: ReactionTable | None, needs_values: bool, plan):
+    def evaluate_block(X: np.ndarray, which: list[int], table: ReactionTable | None, needs_values: str | bool, plan):
         """Outputs ``which`` for one block: ({output index: y (n, ncol)}, {aux column: values}, bulk).
 
         ``bulk`` is (columns, values (len(columns), n)) of the reaction enthalpies gathered
@@ -204,8 +211,9 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
                 y = sampled_t[i].enthalpy(X)
                 if y is not None:
                     fast[i] = y[:, None]
-        needs_values = needs_values or any(i in sampled_t and i not in fast for i in which)
-        sv, ov = decode(X) if needs_values else ({}, {})
+        if any(i in sampled_t and i not in fast for i in which):
+            needs_values = "all"
+        sv, ov = decode(X, needs_values == "all") if needs_values else ({}, {})
         tab = (table, *table.evaluate(X)) if table is not None else None
         parts = {}
         extra = {}
