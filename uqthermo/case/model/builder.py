@@ -177,12 +177,23 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
             vals[key] = ov[key]
         return vals
 
+    table_index: dict = {}   # (table, reaction, temperature grid) -> (grid, row, columns)
+
     def from_table(tab, reaction: str, temps) -> np.ndarray | None:
         """ΔrH (and ΔrS) rows (n, len(temps)) from the shared table, or None if not served."""
         if tab is None or not ReactionTable.eligible(case, reaction):
             return None
         table, dH, dS = tab
-        r, g = table.row(reaction), table.columns(temps)
+        key = (id(table), reaction, id(temps))
+        hit = table_index.get(key)
+        if hit is None or hit[0] is not temps:
+            g = table.columns(temps)
+            if g.size and np.array_equal(g, np.arange(g[0], g[0] + g.size)):
+                g = slice(int(g[0]), int(g[0]) + g.size)      # a view, not a gathered copy
+            hit = (temps, table.row(reaction), g)
+            if isinstance(temps, np.ndarray):                 # the case's own grids: stable objects
+                table_index[key] = hit
+        _, r, g = hit
         return dH[r][g].T, (None if dS is None else dS[r][g].T)
 
     def adiabatic(i: int, o: OutputSpec, sv: dict, ov: dict, n: int, tab):
