@@ -202,6 +202,21 @@ class CpModel:
     def _s_terms(self, T: np.ndarray) -> np.ndarray:  # antiderivative of _cp_terms / T, (..., n)
         raise NotImplementedError
 
+    #: ``_h_terms`` of one range as monomials ``factor · T**exponent`` (T in K), one per term,
+    #: ``None`` for a term that is zero; empty when the model does not state it
+    _h_monomials: tuple = ()
+
+    def enthalpy_monomials(self) -> tuple:
+        """The per-range antiderivative basis of :math:`C_p` as monomials of T (K).
+
+        Returns ``((exponent, factor) or None, ...)``, one entry per term of a range, such
+        that term k of :meth:`enthalpy_antiderivative_basis` in the range containing T is
+        ``factor_k · T**exponent_k`` (``None``: the term is zero). Lets a caller evaluate
+        the powers of per-sample temperatures once for many species (Shomate's
+        ``t = T/1000`` is folded into the factors). Empty tuple: not available.
+        """
+        return self._h_monomials
+
     def _make_names(self) -> list[str]:
         if len(self.ranges) == 1 and not np.isfinite(self.ranges[0][1]):
             return list(self._term_names)
@@ -450,6 +465,7 @@ class ConstantCp(CpModel):
     kind = "constant"
     _n_terms = 1
     _term_names = ("Cp",)
+    _h_monomials = ((1, 1.0),)
 
     def __init__(self, value: float, t_min: float = 0.0, t_max: float = np.inf, allow_extrapolation: bool = False):
         super().__init__([(t_min, t_max)], [value], allow_extrapolation)
@@ -495,6 +511,7 @@ class PolynomialCp(CpModel):
     kind = "polynomial"
     _n_terms = 5
     _term_names = ("a", "b", "c", "d", "e")
+    _h_monomials = ((1, 1.0), (2, 0.5), (3, 1.0 / 3.0), (4, 0.25), (-1, -1.0))
 
     def __init__(self, a: float = 0.0, b: float = 0.0, c: float = 0.0, d: float = 0.0, e: float = 0.0,
                  t_min: float = 0.0, t_max: float = np.inf, allow_extrapolation: bool = False):
@@ -557,6 +574,8 @@ class ShomateCp(CpModel):
     kind = "shomate"
     _n_terms = 5
     _term_names = ("A", "B", "C", "D", "E")
+    # 1000·[t, t²/2, t³/3, t⁴/4, -1/t] with t = T/1000, as powers of T
+    _h_monomials = ((1, 1.0), (2, 500.0e-6), (3, 1000.0 / 3.0 * 1e-9), (4, 250.0e-12), (-1, -1.0e6))
 
     def __init__(self, ranges: Sequence[tuple[float, float, Sequence[float]]], allow_extrapolation: bool = False):
         bounds, coeffs = _split_ranges(self.kind, self._term_names, ranges)
@@ -622,6 +641,7 @@ class Nasa7Cp(CpModel):
     kind = "nasa7"
     _n_terms = 7
     _term_names = ("a1", "a2", "a3", "a4", "a5", "a6", "a7")
+    _h_monomials = ((1, R), (2, R / 2.0), (3, R / 3.0), (4, R / 4.0), (5, R / 5.0), None, None)
 
     def __init__(self, ranges: Sequence[tuple[float, float, Sequence[float]]], allow_extrapolation: bool = False):
         bounds, coeffs = _split_ranges(self.kind, self._term_names, ranges)

@@ -54,6 +54,7 @@ from ..schema import Case, OutputSpec
 from . import balances
 from .layout import Aux, Column, Model, build_inputs, output_unit, values_decoder
 from .reaction_table import TABLE_KINDS, ReactionTable, table_requests
+from .sampled_temperature import SampledTemperatureEnthalpy
 
 __all__ = ["build_model", "BLOCK_ROWS", "SOLVER_BLOCK_ROWS"]
 
@@ -89,14 +90,17 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
     ----------
     batch : bool
         Compute reaction properties at exact temperatures through the shared
-        :class:`ReactionTable` (default). ``False`` evaluates each output reaction by
-        reaction (the reference path, kept for tests and benchmarks).
+        :class:`ReactionTable`, and reaction enthalpies at an uncertain temperature as one
+        polynomial in T (:mod:`.sampled_temperature`) (default). ``False`` evaluates each
+        output reaction by reaction, species by species (the reference path, kept for tests
+        and benchmarks).
     block_rows : int
         Rows per model block.
     """
     inputs, cols = build_inputs(case)
     datum_cols = cols
     decode = values_decoder(case, cols)
+    sampled_t = _sampled_temperature_evaluators(case, inputs, cols, decode) if batch else {}
     col_start = np.cumsum([0] + [len(o.temperatures) if o.temperatures is not None else 1
                                  for o in case.outputs])
     solved = [i for i, o in enumerate(case.outputs) if o.kind == "adiabatic_temperature_rise"]
@@ -107,9 +111,16 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
             requests = table_requests(case, [case.outputs[i] for i in idx]) if batch else []
             table = ReactionTable(case, requests, inputs, decode) if requests else None
             # decoding the sampled values is skipped when the table serves every output of the group
-            served = table is not None and all(
+            served = all(i in sampled_t or table is not None and (
                 case.outputs[i].kind in TABLE_KINDS and not case.outputs[i].temperature_datum
-                and ReactionTable.eligible(case, case.outputs[i].reaction) for i in idx)
+                and ReactionTable.eligible(case, case.outputs[i].reaction)) for i in idx)
+            # heat releases at exact temperatures from the table need the extents, not the species values
+            no_species = served or table is not None and all(
+                i in sampled_t or o.kind in TABLE_KINDS and not o.temperature_datum
+                and ReactionTable.eligible(case, o.reaction)
+                or o.kind == "heat_release" and not o.temperature_datum and not o.feeds
+                and all(ReactionTable.eligible(case, r) for r in o.extent_rates)
+                for i, o in ((i, case.outputs[i]) for i in idx))
             # reaction enthalpies served by the table are gathered for all outputs at once
             bulk = [i for i in idx if table is not None and case.outputs[i].kind == "reaction_enthalpy"
                     and not case.outputs[i].temperature_datum and case.outputs[i].basis != "mass"
@@ -126,7 +137,7 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
                 if np.array_equal(r_idx * G + g_idx, np.arange(len(table.reactions) * G)):
                     r_idx = g_idx = None          # outputs are the table itself, in order: no gather
                 plan = (set(bulk), r_idx, g_idx, cols)
-            groups.append((idx, rows, table, not served, plan))
+            groups.append((idx, rows, table, False if served else ("other" if no_species else "all"), plan))
     Tref = case.settings.reference_temperature
     species = case.species
     columns: list[Column] = []
@@ -166,12 +177,23 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
             vals[key] = ov[key]
         return vals
 
+    table_index: dict = {}   # (table, reaction, temperature grid) -> (grid, row, columns)
+
     def from_table(tab, reaction: str, temps) -> np.ndarray | None:
         """ΔrH (and ΔrS) rows (n, len(temps)) from the shared table, or None if not served."""
         if tab is None or not ReactionTable.eligible(case, reaction):
             return None
         table, dH, dS = tab
-        r, g = table.row(reaction), table.columns(temps)
+        key = (id(table), reaction, id(temps))
+        hit = table_index.get(key)
+        if hit is None or hit[0] is not temps:
+            g = table.columns(temps)
+            if g.size and np.array_equal(g, np.arange(g[0], g[0] + g.size)):
+                g = slice(int(g[0]), int(g[0]) + g.size)      # a view, not a gathered copy
+            hit = (temps, table.row(reaction), g)
+            if isinstance(temps, np.ndarray):                 # the case's own grids: stable objects
+                table_index[key] = hit
+        _, r, g = hit
         return dH[r][g].T, (None if dS is None else dS[r][g].T)
 
     def adiabatic(i: int, o: OutputSpec, sv: dict, ov: dict, n: int, tab):
@@ -187,14 +209,22 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
         amounts = [value(ov, did, n)[:, 0] for _, _, did in plans[i].charge]
         return balances.evaluate_adiabatic(case, plans[i], dH, xi, amounts, sv, ov, n, value)
 
-    def evaluate_block(X: np.ndarray, which: list[int], table: ReactionTable | None, needs_values: bool, plan):
+    def evaluate_block(X: np.ndarray, which: list[int], table: ReactionTable | None, needs_values: str | bool, plan):
         """Outputs ``which`` for one block: ({output index: y (n, ncol)}, {aux column: values}, bulk).
 
         ``bulk`` is (columns, values (len(columns), n)) of the reaction enthalpies gathered
         from the table in one step (``plan``), or None.
         """
         n = X.shape[0]
-        sv, ov = decode(X) if needs_values else ({}, {})
+        fast = {}
+        for i in which:
+            if i in sampled_t:
+                y = sampled_t[i].enthalpy(X)
+                if y is not None:
+                    fast[i] = y[:, None]
+        if any(i in sampled_t and i not in fast for i in which):
+            needs_values = "all"
+        sv, ov = decode(X, needs_values == "all") if needs_values else ({}, {})
         tab = (table, *table.evaluate(X)) if table is not None else None
         parts = {}
         extra = {}
@@ -210,7 +240,9 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
             o = case.outputs[i]
             k = o.kind
             hit = None if o.temperature_datum or k not in TABLE_KINDS else from_table(tab, o.reaction, o.temperatures)
-            if hit is not None:
+            if i in fast:
+                y = fast[i] / 1e3
+            elif hit is not None:
                 dH, dS = hit
                 if k == "reaction_enthalpy":
                     y = dH / 1e3
@@ -305,6 +337,27 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
     linear = [_is_linear(case, o, moving_transitions) for o in case.outputs]
     return Model(case=case, inputs=inputs, columns=columns, aux=aux, units=units, evaluate=evaluate,
                  n_reported=n_rep, linear_in_inputs=linear, tables=[g[2] for g in groups if g[2] is not None])
+
+
+def _sampled_temperature_evaluators(case: Case, inputs, cols: dict[str, list[int]], decode) -> dict:
+    """{output index: SampledTemperatureEnthalpy} of the reaction enthalpies at an uncertain temperature
+    that the one-polynomial path serves (checked against the reference path at a few rows)."""
+    out = {}
+    D = len(inputs)
+    x0 = np.asarray(inputs.estimates, dtype=float).reshape(D)
+    sd = np.asarray(inputs.stds, dtype=float).reshape(D)
+    check = x0 + sd * np.random.default_rng(20261203).uniform(-1.0, 1.0, (3, D))
+    for i, o in enumerate(case.outputs):
+        if o.kind != "reaction_enthalpy" or not o.temperature_datum or o.basis == "mass" \
+                or not cols.get(o.temperature_datum):
+            continue
+        column = cols[o.temperature_datum][0]
+        rows = np.vstack([x0, check])
+        ev = SampledTemperatureEnthalpy.build(case.reactions[o.reaction], case.species,
+                                              case.settings.reference_temperature, column, decode, D, rows)
+        if ev is not None:
+            out[i] = ev
+    return out
 
 
 def _post_columns(case: Case, cols: dict[str, list[int]], col_start, aux_col: dict) -> list:

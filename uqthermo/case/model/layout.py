@@ -150,10 +150,10 @@ def _values_factory(case: Case, cols: dict[str, list[int]]):
         else:
             other_items.append((did, c))
 
-    def decode(X: np.ndarray):
+    def decode(X: np.ndarray, species: bool = True):
         n = X.shape[0]
         sv: dict[str, dict[str, np.ndarray]] = {}
-        for sp, rel, d, c in species_items:
+        for sp, rel, d, c in species_items if species else ():
             if d.kind == "scale" and not d.positions:
                 arr = np.asarray(d.nominal, dtype=float)[None, None, :] * X[:, c[0]][:, None, None]
             elif d.kind == "scale":   # scale only the heat-capacity coefficients (NASA-7: not a6, a7)
@@ -173,6 +173,10 @@ def _values_factory(case: Case, cols: dict[str, list[int]]):
 
 def values_decoder(case: Case, groups: dict[str, list[int]]):
     """``decode(X) -> (species_values, other_values)``: input rows as the thermo layer's overrides.
+
+    ``decode(X, species=False)`` leaves the species values out (``{}``): the coefficient
+    arrays are the costly part, and a caller served by the shared reaction table needs only
+    the other values (extents, amounts).
 
     ``groups`` maps datum id → input columns (``InputSet.groups``). Used by the model and by
     side calculations on the same inputs (e.g. :mod:`uqthermo.case.model.breakdown`).
