@@ -211,7 +211,13 @@ def propagate_linear(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet, co
         cols = inputs.groups[datum]
         Cg = C[:, cols]
         contrib[:, g] = np.einsum("mi,ij,mj->m", Cg, Sigma[np.ix_(cols, cols)], Cg)
-    corr_part = var - contrib.sum(axis=1)
+    # the part of u² from correlations between different data (JCGM 100 eq. 13, cross-datum terms);
+    # exactly zero when no two data are correlated (then 1 − Σ shares is only rounding residue)
+    group_of = np.empty(d, dtype=int)
+    for g, datum in enumerate(inputs.data):
+        group_of[inputs.groups[datum]] = g
+    cross = (group_of[:, None] != group_of[None, :]) & (Sigma != 0.0)
+    corr_part = var - contrib.sum(axis=1) if cross.any() else np.zeros(m)
     with np.errstate(divide="ignore", invalid="ignore"):
         shares = np.where(var[:, None] > 0, contrib / np.where(var > 0, var, 1.0)[:, None], 0.0)
         corr_share = np.where(var > 0, corr_part / np.where(var > 0, var, 1.0), 0.0)
