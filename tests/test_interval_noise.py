@@ -11,8 +11,11 @@ References outside the project:
 
 from __future__ import annotations
 
+import json
+
 import numpy as np
 import pytest
+from conftest import run_cli
 from scipy import stats
 
 from uqthermo.report.sections.statement import statement
@@ -172,3 +175,30 @@ def test_undecided_warnings_fold_into_one_line_per_output():
     assert lines == ["output.dH at 3 of 3 temperatures (673.15–773.15 K): linear (GUM) vs Monte Carlo not decided: the "
                      "Monte Carlo is not stable to δ = 0.005–0.05 kJ/mol at 100 trials (JCGM 101 §7.9); increase "
                      "--samples or use adaptive; the linear results are reported"]
+
+
+@pytest.mark.parametrize("samples", [100, 50_000])
+def test_linear_normal_case_end_to_end(make_case, tmp_path, samples):
+    """The water-gas-shift test case (every input normal, every output linear: the output is exactly
+    normal, scipy.stats.norm) through ``uqthermo run``: no 'differs', no 'asymmetric', one story in
+    results.json, the terminal and the statements."""
+    out = tmp_path / f"o{samples}"
+    proc = run_cli("run", make_case(), "--out", out, "--samples", samples, "--no-report")
+    assert proc.returncode == 0, proc.stderr
+    res = json.loads((out / "results.json").read_text(encoding="utf-8"))
+    text = proc.stdout.replace("\n", " ")
+    assert "differs > δ" not in text and "differs from the Monte Carlo" not in text
+    assert not any("differs" in w or "skewed" in w for w in res["warnings"])
+    for i, o in enumerate(res["outputs"]):
+        assert o["linear_model"] is True
+        for pt in o["points"]:
+            assert pt["validation"]["verdict"] in ("validated", "undecided")
+            assert pt["monte_carlo"]["asymmetry"]["significant"] is False
+            if pt["validation"]["verdict"] == "undecided":
+                assert pt["linear_validated"] is None and pt["reported"] == "linear"
+                assert not pt["validation"]["monte_carlo_stable"]
+        st = statement(res, i)
+        assert st.text.startswith(f"{o['name']}: ") and "asymmetric" not in st.text
+    if samples == 100:
+        assert "not decided" in text
+        assert any("not decided" in w and "JCGM 101 §7.9" in w for w in res["warnings"])
