@@ -20,7 +20,7 @@ from scipy import stats
 
 from uqthermo.report.sections.statement import statement
 from uqthermo.report.sections.warnings import grouped
-from uqthermo.uq.distributions import LogNormal, Normal
+from uqthermo.uq.distributions import Normal
 from uqthermo.uq.inputs import InputSet, InputVariable
 from uqthermo.uq.interval_noise import interval_noise, quantile_standard_error
 from uqthermo.uq.linear import propagate_linear
