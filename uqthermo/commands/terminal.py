@@ -39,7 +39,7 @@ def _reported(pt: dict) -> str:
     if not pt.get("monte_carlo"):
         return "linear only"
     if ok is None:
-        return "—"
+        return "not decided" if (pt.get("validation") or {}).get("verdict") == "undecided" else "—"
     return "within δ" if ok else "differs > δ"
 
 
@@ -66,7 +66,7 @@ def print_summary(results: dict, console=None) -> None:
         show = pts if len(pts) <= 6 else [pts[0], pts[len(pts) // 2], pts[-1]]
         for pt in show:
             p = pt.get("coverage_probability", 0.95)
-            src = pt.get("monte_carlo") or pt.get("linear") or {}
+            src = (pt.get("linear") if pt.get("reported") == "linear" else None) or pt.get("monte_carlo") or pt.get("linear") or {}
             est = src.get("mean", src.get("estimate"))
             u = src.get("standard_uncertainty")
             ci = src.get("coverage_interval") or [None, None]
@@ -90,7 +90,8 @@ def print_summary(results: dict, console=None) -> None:
         console.print(f"coverage probability {p:g}; estimate and u from Monte Carlo where run "
                       f"({results['run']['samples']} trials, {results['run']['sampling']}), else the linear method; "
                       "'linear vs MC': whether the linear (GUM) interval agrees with Monte Carlo within the numerical "
-                      "tolerance δ (JCGM 101 §8) — where it differs, the Monte Carlo result is the one reported")
+                      "tolerance δ (JCGM 101 §8) — where it differs, the Monte Carlo result is the one reported; "
+                      "'not decided': the Monte Carlo is not stable to δ (JCGM 101 §7.9), the row shows the linear result")
     from ..report.sections.warnings import grouped
 
     for w in grouped(results):      # per-temperature repeats folded into one line per output

@@ -155,6 +155,7 @@ def _propagate(case: Case, model: Model, warnings: list[str], t0: float, engine:
     """Linear and Monte Carlo propagation, validation and results assembly (see :func:`run_case`)."""
     from ..uq.linear import propagate_linear
     from ..uq.montecarlo import propagate_monte_carlo
+    from ..uq.interval_noise import interval_noise
     from ..uq.validation import validate_linear
 
     s = case.settings
@@ -195,7 +196,7 @@ def _propagate(case: Case, model: Model, warnings: list[str], t0: float, engine:
                                    shortest_interval=mc.shortest_interval[:m],
                                    standard_uncertainty=mc.standard_uncertainty[:m],
                                    coverage_probability=mc.coverage_probability)
-        validation = validate_linear(lin, reported, ndigits=s.significant_digits)
+        validation = validate_linear(lin, reported, ndigits=s.significant_digits, noise=interval_noise(mc).subset(m))
     y0 = model.evaluate(np.asarray(inputs.estimates, dtype=float)[None, :] if D else np.zeros((1, 0)))[0]
     _STAGE.update(stage="ranking drivers and assembling the results")
     from .results import assemble

@@ -130,6 +130,9 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
     if mc is not None:
         mc_q = np.atleast_2d(mc.quantile(list(ONE_SIDED)))           # (4, M_all)
         warnings += [w for w in mc.warnings]
+        from ..uq.interval_noise import interval_noise
+
+        noise = interval_noise(mc)       # endpoint noise: the symmetry verdict of each point
     if mc is not None:
         warnings += negative_cp_warnings(case, model, mc.X_kept)
     from . import safety_data as safety
@@ -188,19 +191,30 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
                     "coverage_interval": [_f(mc.coverage_interval[j, 0]), _f(mc.coverage_interval[j, 1])],
                     "shortest_coverage_interval": [_f(mc.shortest_interval[j, 0]), _f(mc.shortest_interval[j, 1])],
                     "samples": int(mc.samples_used), "median": _f(mc.median[j]), "skewness": _f(mc.skewness[j]),
+                    "coverage_interval_standard_errors": [_f(noise.low[j]), _f(noise.high[j])],
+                    "asymmetry": {"value": _f(noise.asymmetry[j]), "standard_error": _f(noise.asymmetry_se[j]),
+                                  "significant": bool(noise.significant_asymmetry()[j]), "basis": noise.basis},
                     "one_sided": {f"P{round(100 * q):02d}": _f(mc_q[k, j]) for k, q in enumerate(ONE_SIDED)},
                     "histogram": {"edges": edges.tolist(), "counts": counts.astype(int).tolist(),
                                   "samples": int(kept.size)},
                 }
-                if mc.skewness[j] is not None and abs(mc.skewness[j]) > SKEW_WARNING:
+                # skewed beyond the rule of thumb and beyond its sampling noise √(6/N) (normal samples)
+                if (mc.skewness[j] is not None and abs(mc.skewness[j]) > max(SKEW_WARNING, 3 * math.sqrt(6 / mc.samples_used))
+                        and noise.significant_asymmetry()[j]):
                     warnings.append(f"output.{o.name} at {model.columns[j].temperature:.2f} K: the Monte Carlo distribution "
                                     f"is skewed (skewness {mc.skewness[j]:.2f}); use the Monte Carlo interval, not ±U")
             pt["coverage_probability"] = p
             if validation is not None:
                 v = validation[j]
-                pt["linear_validated"] = bool(v.linear_validated)
+                pt["linear_validated"] = None if v.linear_validated is None else bool(v.linear_validated)
                 pt["validation"] = v.as_dict()
-                if not v.linear_validated:
+                if v.linear_validated is None:
+                    us = "" if model.units[i] in ("", "1") else f" {model.units[i]}"
+                    warnings.append(f"output.{o.name} at {model.columns[j].temperature:.2f} K: linear (GUM) vs Monte Carlo "
+                                    f"not decided: the Monte Carlo is not stable to δ = {v.tolerance:.2g}{us} at "
+                                    f"{int(mc.samples_used)} trials (JCGM 101 §7.9); increase --samples or use adaptive; "
+                                    "the linear result is reported")
+                elif not v.linear_validated:
                     us = "" if model.units[i] in ("", "1") else f" {model.units[i]}"
                     worst = max(abs(v.d_low), abs(v.d_high))
                     warnings.append(f"output.{o.name} at {model.columns[j].temperature:.2f} K: the linear (GUM) interval "
@@ -208,6 +222,9 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
                                     "(JCGM 101 §8); the Monte Carlo result is reported")
             else:
                 pt["linear_validated"] = None
+            # the result stated: Monte Carlo where run, except where its comparison with the linear one is undecided
+            pt["reported"] = ("linear" if "linear" in pt and ("monte_carlo" not in pt or pt["linear_validated"] is None
+                                                              and validation is not None) else "monte_carlo")
             if budget_q is not None:
                 pt["budget"] = _point_budget(lin_b, j, budget_q, model.units[i], inputs)
             if ranking is not None:
@@ -420,7 +437,8 @@ def _drivers_and_whatif(case: Case, model: Model, lin, warnings: list[str], vali
     # (JCGM 101 §8); without a validation (one method only), where the output is exactly linear
     reported = range(model.n_reported)
     if validation is not None:
-        linear_cols = [j for j in reported if validation[j].linear_validated]
+        linear_cols = [j for j in reported if validation[j].linear_validated or (
+            validation[j].linear_validated is None and model.linear_in_inputs[model.columns[j].output])]
     else:
         linear_cols = [j for j in reported if model.linear_in_inputs[model.columns[j].output]]
     other_cols = [j for j in reported if j not in set(linear_cols)]

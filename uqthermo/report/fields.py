@@ -100,17 +100,23 @@ def coverage_probability(results: Mapping, point: Mapping | None = None) -> floa
 
 
 def point_u(point: Mapping) -> float | None:
-    """The point's reported standard uncertainty (Monte Carlo when present, else linear)."""
+    """The point's reported standard uncertainty (Monte Carlo when present, else linear; linear where
+    the point says ``reported = "linear"``: its comparison with Monte Carlo was undecided)."""
     mc = point.get("monte_carlo") or {}
     lin = point.get("linear") or {}
     u = num(mc.get("standard_uncertainty"))
+    if point.get("reported") == "linear" and num(lin.get("standard_uncertainty")) is not None:
+        u = None
     return u if u is not None else num(lin.get("standard_uncertainty"))
 
 
 def point_estimate(point: Mapping) -> float | None:
+    """The point's reported estimate (as :func:`point_u`)."""
     mc = point.get("monte_carlo") or {}
     lin = point.get("linear") or {}
     y = num(mc.get("mean"))
+    if point.get("reported") == "linear" and num(lin.get("estimate")) is not None:
+        y = None
     return y if y is not None else num(lin.get("estimate"))
 
 

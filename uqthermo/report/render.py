@@ -304,7 +304,8 @@ def _headline(results: Mapping, o: Mapping, p: Mapping) -> dict:
             "value": f"{fmt_fixed(lin.get('estimate'), d)}{unit}",
             "detail": f"u = {fmt_u(lin.get('standard_uncertainty'))}{unit}; U = {fmt_fixed(lin.get('expanded_uncertainty'), d)}{unit} "
                       f"(k = {fmt_k(lin.get('coverage_factor'))}); {p_cov} interval {fmt_interval(lin.get('coverage_interval'), d)}",
-            "badge": ("ok", "validated") if v is True else (("no", "not validated") if v is False else ("na", "not checked")),
+            "badge": ("ok", "validated") if v is True else (("no", "not validated") if v is False else (
+                ("na", "not decided") if (p.get("validation") or {}).get("verdict") == "undecided" else ("na", "not checked"))),
         })
     if p.get("exceedance_probability") is not None:
         se = num(p.get("exceedance_standard_error"))
@@ -325,7 +326,7 @@ def _summary_card(results: Mapping, o: Mapping, p: Mapping) -> dict:
     unit = unit_suffix(o.get("unit"))
     u = point_u(p)
     d = uncertainty_decimals(u)
-    src = "Monte Carlo" if num(mc.get("mean")) is not None else "linear"
+    src = "Monte Carlo" if num(mc.get("mean")) is not None and p.get("reported") != "linear" else "linear"
     iv = mc.get("coverage_interval") if src == "Monte Carlo" else lin.get("coverage_interval")
     details = [f"u = {fmt_u(u)}{unit} · {pct_label(coverage_probability(results, p))} interval {fmt_interval(iv, d)} ({src})"]
     if num(lin.get("expanded_uncertainty")) is not None:
@@ -342,7 +343,8 @@ def _summary_card(results: Mapping, o: Mapping, p: Mapping) -> dict:
         v = ft.get("mean") if num(ft.get("mean")) is not None else ft.get("estimate")
         details.append(f"boiling-limited end temperature {fmt_fixed(v, d)} K")
     v = p.get("linear_validated")
-    badge = ("ok", "linear validated") if v is True else (("no", "linear not validated") if v is False else None)
+    badge = ("ok", "linear validated") if v is True else (("no", "linear not validated") if v is False else (
+        ("na", "linear vs MC not decided") if (p.get("validation") or {}).get("verdict") == "undecided" else None))
     return {"T": fmt_temperature(p.get("temperature_K")), "value": f"{fmt_fixed(point_estimate(p), d)}{unit}",
             "details": details, "badge": badge}
 

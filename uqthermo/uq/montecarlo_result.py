@@ -142,6 +142,13 @@ class MonteCarloResult:
         pr = np.clip(pr, 0.0, 1.0)
         return pr, np.sqrt(pr * (1.0 - pr) / n)
 
+    def tail_sums(self, low, high) -> tuple[np.ndarray, np.ndarray] | None:
+        """(Σ_{y ≤ low} (y − ȳ), Σ_{y > high} (y − ȳ)) per output from the exact order statistics
+        (``low``/``high`` (M,): interval endpoints); None in histogram mode."""
+        if self._order is None:
+            return None
+        return self._order.tail_sums(low, high, self.mean)
+
     def histogram(self, output: int = 0, bins: int = 50, range_p: tuple[float, float] = (0.0, 1.0)):
         """(edges (bins+1,), counts (bins,)) of one output over its quantile range ``range_p``."""
         if self._order is not None:

@@ -300,6 +300,18 @@ class OrderStatistics:
             return intervals_from_sorted(self.rows.T, p)
         return _intervals_from_tails(self.low.T, self.high.T, self.n, q)
 
+    def tail_sums(self, low: np.ndarray, high: np.ndarray, center: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(Σ_{y ≤ low} (y − c), Σ_{y > high} (y − c)) per output, (M,) each.
+
+        ``low`` (M,) at or below the a-th lowest value and ``high`` (M,) at or above the q-th
+        (the endpoints of the 100p % intervals are), so only the stored tails are read.
+        """
+        c = np.asarray(center, dtype=float)[:, None]
+        lo_v, hi_v = (self.rows, self.rows) if self._layout == "sorted" else (self.low, self.high)
+        s_lo = np.sum(np.where(lo_v <= np.asarray(low, dtype=float)[:, None], lo_v - c, 0.0), axis=1)
+        s_hi = np.sum(np.where(hi_v > np.asarray(high, dtype=float)[:, None], hi_v - c, 0.0), axis=1)
+        return s_lo, s_hi
+
     def count_at_most(self, limits: np.ndarray) -> np.ndarray:
         """Number of values ≤ limit per output, (M,)."""
         return np.count_nonzero(self.rows <= np.asarray(limits, dtype=float)[:, None], axis=1)

@@ -11,7 +11,15 @@ y = mean, u(y) = standard deviation, the probabilistically symmetric coverage in
 else the linear (GUM) one. For Monte Carlo, U is the half-width of the coverage interval
 and k = U/u(y); the ± form is used only when both sides of the interval about y round to
 the same U. Otherwise (a skewed distribution) the statement gives y and the coverage
-interval instead of ± U, as JCGM 101 §7.7 reports it.
+interval instead of ± U, as JCGM 101 §7.7 reports it — but only when that asymmetry is real:
+the endpoint asymmetry A = (y − y_low) − (y_high − y) must exceed 3 standard errors of A
+(results.json ``monte_carlo.asymmetry``, from the order-statistic variance p(1 − p)/(N f(q)²)
+of the endpoints or the adaptive batches, :mod:`uqthermo.uq.interval_noise`); an asymmetry
+within the Monte Carlo noise is not a property of the distribution.
+
+Where the JCGM 101 §8 comparison is undecided (the Monte Carlo is not stable to δ, point
+``reported = "linear"``), the linear result is stated with that caveat and the Monte Carlo
+interval as a further line. Every statement starts with the output's name.
 
 Every number is a :class:`~uqthermo.report.sections.numbers.Num` (it carries its path in
 results.json), so the concise section can be checked number by number.
@@ -100,12 +108,17 @@ def statement(results: Mapping, oi: int, tunit: str = "K") -> Statement:
     lin = p.get("linear") or {}
     y_mc, u_mc = num(mc.get("mean")), num(mc.get("standard_uncertainty"))
     lo, hi = pair(mc.get("coverage_interval"))
-    if y_mc is not None and u_mc is not None and u_mc > 0 and lo is not None and hi is not None:
+    linear_stated = p.get("reported") == "linear" and num(lin.get("estimate")) is not None \
+        and (num(lin.get("standard_uncertainty")) or 0) > 0
+    if y_mc is not None and u_mc is not None and u_mc > 0 and lo is not None and hi is not None and not linear_stated:
         st.method = "Monte Carlo"
         U = (hi - lo) / 2
         dU = uncertainty_decimals(U)
-        # ± U only when the interval is symmetric about y to the last digit of U (else state the interval)
-        sym_ok = dU is not None and abs((y_mc - lo) - (hi - y_mc)) <= 10.0 ** (-dU) * (1 + 1e-9)
+        # ± U when the interval is symmetric about y to the last digit of U, or when the asymmetry is
+        # within the noise of the endpoints (|A| ≤ 3 s(A)); else state the interval
+        asym = mc.get("asymmetry") if isinstance(mc.get("asymmetry"), Mapping) else {}
+        sym_ok = (dU is not None and abs((y_mc - lo) - (hi - y_mc)) <= 10.0 ** (-dU) * (1 + 1e-9)) \
+            or asym.get("significant") is False
         how = ["Monte Carlo, ", *_trials(results, mc, N.path(base, "monte_carlo", "samples"))]
         if sym_ok:
             st.parts = [*sym, " = ", N.value(y_mc, dU, N.path(base, "monte_carlo", "mean")), unit, ", U = ",
@@ -118,13 +131,14 @@ def statement(results: Mapping, oi: int, tunit: str = "K") -> Statement:
             st.parts = [*sym, " = ", N.value(y_mc, d, N.path(base, "monte_carlo", "mean")), unit, ", ", lab, " coverage interval [",
                         N.value(lo, d, N.path(base, "monte_carlo", "coverage_interval", 0)), ", ",
                         N.value(hi, d, N.path(base, "monte_carlo", "coverage_interval", 1)), "]", unit, " (", *how,
-                        "; the distribution is asymmetric about the estimate, so no ± U is stated)"]
+                        "; the distribution is asymmetric about the estimate beyond 3 standard errors of the Monte Carlo "
+                        "endpoints, so no ± U is stated)"]
         d = uncertainty_decimals(u_mc)
         st.details.append(["u(y) = ", N.value(u_mc, d, N.path(base, "monte_carlo", "standard_uncertainty")), unit,
                            "; ", lab, " coverage interval [", N.value(lo, d, N.path(base, "monte_carlo", "coverage_interval", 0)), ", ",
                            N.value(hi, d, N.path(base, "monte_carlo", "coverage_interval", 1)), "]", unit,
                            " (probabilistically symmetric, JCGM 101 §7.7)"])
-        st.details += _validation(o, p, base, unit)
+        st.details += _validation(o, p, base, unit, results)
     elif num(lin.get("estimate")) is not None and (num(lin.get("standard_uncertainty")) or 0) > 0:
         st.method = "linear"
         U, kf = num(lin.get("expanded_uncertainty")), num(lin.get("coverage_factor"))
@@ -152,6 +166,14 @@ def statement(results: Mapping, oi: int, tunit: str = "K") -> Statement:
                         " (standard uncertainty, linear propagation (GUM))"]
         d = uncertainty_decimals(u)
         st.details.append(["u(y) = ", N.value(u, d, N.path(base, "linear", "standard_uncertainty")), unit])
+        if y_mc is not None and u_mc is not None and lo is not None and hi is not None:
+            dm = uncertainty_decimals(u_mc) if u_mc > 0 else d
+            st.details.append(["Monte Carlo (", *_trials(results, mc, N.path(base, "monte_carlo", "samples")), "): y = ",
+                               N.value(y_mc, dm, N.path(base, "monte_carlo", "mean")), unit, ", u(y) = ",
+                               N.value(u_mc, dm, N.path(base, "monte_carlo", "standard_uncertainty")), unit, ", ", lab,
+                               " coverage interval [", N.value(lo, dm, N.path(base, "monte_carlo", "coverage_interval", 0)),
+                               ", ", N.value(hi, dm, N.path(base, "monte_carlo", "coverage_interval", 1)), "]", unit])
+        st.details += _validation(o, p, base, unit, results)
     else:
         st.method = "exact"
         y = num(lin.get("estimate")) if num(lin.get("estimate")) is not None else y_mc
@@ -161,22 +183,38 @@ def statement(results: Mapping, oi: int, tunit: str = "K") -> Statement:
     st.details += _limit_line(o, oi, p, k, tunit)
     v = p.get("linear_validated")
     st.badge = ("ok", "linear validated") if v is True else (("no", "Monte Carlo reported") if v is False else None)
-    st.parts = Parts(st.parts)
+    if v is None and _undecided(p):
+        st.badge = ("na", "linear vs Monte Carlo not decided")
+    st.parts = Parts([st.name, ": ", *st.parts])
     st.details = [Parts(d) for d in st.details]
     return st
 
 
-def _validation(o: Mapping, p: Mapping, base: str, unit: str) -> list[list[Any]]:
+def _undecided(p: Mapping) -> bool:
+    """The point's JCGM 101 §8 comparison was made but is undecided (Monte Carlo not stable to δ)."""
+    val = p.get("validation")
+    return isinstance(val, Mapping) and val.get("verdict") == "undecided"
+
+
+def _validation(o: Mapping, p: Mapping, base: str, unit: str, results: Mapping | None = None) -> list[list[Any]]:
     """The JCGM 101 §8 comparison, in words that state what was done (never "linear ok NO")."""
     v = p.get("linear_validated")
     val = p.get("validation") or {}
     tol = num(val.get("tolerance"))
-    if v is None or tol is None:
+    if tol is None:
+        return []
+    t = Num(fmt_sig(tol, 2), N.path(base, "validation", "tolerance"))
+    if v is None and _undecided(p):
+        mc = p.get("monte_carlo") or {}
+        stated = "linear" if p.get("reported") == "linear" else "Monte Carlo"
+        return [["Linear (GUM) vs Monte Carlo not decided: the Monte Carlo is not stable to δ = ", t, unit, " at ",
+                 *_trials(results or {}, mc, N.path(base, "monte_carlo", "samples")),
+                 " (JCGM 101 §7.9); increase --samples or use adaptive. The ", stated, " result is stated."]]
+    if v is None:
         return []
     dl, dh = num(val.get("d_low")), num(val.get("d_high"))
     worst = max(abs(dl or 0.0), abs(dh or 0.0))
     which = "d_low" if abs(dl or 0.0) >= abs(dh or 0.0) else "d_high"
-    t = Num(fmt_sig(tol, 2), N.path(base, "validation", "tolerance"))
     if v:
         return [["Linear (GUM) interval agrees with Monte Carlo within δ = ", t, unit, " (JCGM 101 §8)."]]
     return [["Linear (GUM) interval differs from Monte Carlo by ", Num(fmt_sig(worst, 2), N.path(base, "validation", which)), unit,

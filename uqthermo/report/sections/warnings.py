@@ -26,6 +26,11 @@ _SKEWED = re.compile(
     r"^output\.(?P<name>.+?) at (?P<T>[-+\d.eE]+) K: the Monte Carlo distribution is skewed \(skewness (?P<s>[-+\d.eE]+)\);"
     r" use the Monte Carlo interval, not ±U\s*$")
 
+_UNDECIDED = re.compile(
+    r"^output\.(?P<name>.+?) at (?P<T>[-+\d.eE]+) K: linear \(GUM\) vs Monte Carlo not decided: the Monte Carlo is not "
+    r"stable to δ = (?P<d>[-+\d.eE]+)(?: (?P<unit>.+?))? at (?P<n>\d+) trials \(JCGM 101 §7\.9\); increase --samples "
+    r"or use adaptive; the linear result is reported\s*$")
+
 
 def _range(values: Sequence[float], fmt) -> str:
     lo, hi = min(values), max(values)
@@ -45,6 +50,9 @@ def grouped(results: Mapping, warnings: Sequence[Any] | None = None) -> list[str
             m = _SKEWED.match(w)
             kind = "skew"
         if not m:
+            m = _UNDECIDED.match(w)
+            kind = "nd"
+        if not m:
             out.append(w)
             continue
         key = (kind, m.group("name"))
@@ -55,6 +63,9 @@ def grouped(results: Mapping, warnings: Sequence[Any] | None = None) -> list[str
         g["T"].append(float(m.group("T")))
         if kind == "skew":
             g["x"].append(float(m.group("s")))
+        elif kind == "nd":
+            g["x"].append(float(m.group("d")))
+            g["unit"], g["tol"] = m.group("unit") or "", m.group("n")
         else:
             g["tol"] = m.group("tol") or m.group("tol2")
             g["unit"] = m.group("unit") or ""
@@ -75,6 +86,11 @@ def grouped(results: Mapping, warnings: Sequence[Any] | None = None) -> list[str
             lines.append(f"output.{name} {where}: the linear (GUM) interval differs from the Monte Carlo interval {by}more "
                          f"than the numerical tolerance δ = {item['tol']}{unit if item['x'] else ''} (JCGM 101 §8); the Monte "
                          f"Carlo result{'s are' if len(Ts) > 1 else ' is'} reported")
+        elif item["kind"] == "nd":
+            unit = f" {item['unit']}" if item["unit"] else ""
+            lines.append(f"output.{name} {where}: linear (GUM) vs Monte Carlo not decided: the Monte Carlo is not stable "
+                         f"to δ = {_range(item['x'], lambda v: f'{v:.2g}')}{unit} at {item['tol']} trials (JCGM 101 §7.9); "
+                         f"increase --samples or use adaptive; the linear result{'s are' if len(Ts) > 1 else ' is'} reported")
         else:
             lines.append(f"output.{name} {where}: the Monte Carlo distribution is skewed (skewness "
                          f"{_range(item['x'], lambda v: f'{v:.2f}')}); use the Monte Carlo intervals, not ±U")
