@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 
-from ..fields import kind_symbol, num, point_estimate, point_u, points, text
+from ..fields import num, output_symbol, point_estimate, point_u, points, text
 from ..rounding import fmt_fixed, fmt_probability, fmt_sig, fmt_temperature, fmt_u, fmt_value, uncertainty_decimals
 from .display import DisplayTable, in_unit, output_unit, unit_suffix
 
@@ -34,7 +34,7 @@ def limit_text(output: Mapping) -> str:
     shown = _shown_unit(written) if isinstance(written, str) and written.strip() else \
         f"{fmt_value(value)}{'' if unit in ('', '1') else ' ' + unit}"
     what = "final temperature" if output.get("kind") == "adiabatic_temperature_rise" and \
-        output.get("limit_applies_to", "final_temperature") != "rise" else kind_symbol(output.get("kind"))
+        output.get("limit_applies_to", "final_temperature") != "rise" else output_symbol(output)
     return f"{what} {side} {label + ' ' if label != 'limit' else ''}{shown}"
 
 
