@@ -98,3 +98,52 @@ def test_log10k_limit_is_labelled_with_the_output_quantity(nh3_run):
     assert "logK: P(log₁₀ K < -4.5)" in nh3_run["stdout"]
     md = nh3_run["md"]
     assert md.count("P(log₁₀ K &lt; -4.5)") >= 3      # summary sentence, Table 1, appendix
+
+
+# --------------------------------------------------------------------------- 2. probabilities near 1 and 0
+
+@pytest.mark.parametrize("p, ub, n, want", [
+    (0.99864, 0.99889, 50000, "99.86 % (95 % upper bound 99.89 %, 50 000 trials)"),
+    (0.996, None, None, "99.6 % (normal approximation)"),
+    (1 - 2e-5, 1 - 2e-6, 50000, "99.998 % (95 % upper bound 99.9998 %, 50 000 trials)"),
+    (1 - 1e-8, None, None, "> 99.9999 % (normal approximation)"),
+    (0.97, None, None, "97 % (normal approximation)"),
+])
+def test_probability_below_one_never_shows_as_100_percent(p, ub, n, want):
+    """A probability that is not exactly 1 keeps enough digits to differ from 100 % (its distance from
+    100 % to two significant digits; an upper bound's distance rounded down, so it stays outward)."""
+    from uqthermo.report.style import probability_text
+
+    assert probability_text(p, ub, n) == want
+
+
+def test_probability_rounded_at_its_standard_error_never_shows_0_or_100_percent():
+    from uqthermo.report.rounding import fmt_probability
+
+    assert fmt_probability(0.99864, 0.00016) == "99.864 %"
+    assert fmt_probability(0.99996) == "99.9960 %"
+    assert fmt_probability(0.99996, 0.3) == "99.9960 %"
+    assert fmt_probability(1 - 1e-9) == "> 99.9999 %"
+    assert fmt_probability(2e-5, 0.3) == "0.0020 %"
+    assert fmt_probability(1.0) == "100 %" and fmt_probability(0.0) == "0 %"
+    assert fmt_probability(0.5) == "50.0 %"         # unchanged away from the ends
+
+
+def test_criticality_class_probability_099864_shows_digits_in_table_and_terminal():
+    """run.toml of the QA pass: P(class 1) = 0.99864 printed "100 % (95 % upper bound 100 %)"."""
+    from uqthermo.commands.terminal import safety_lines
+    from uqthermo.report.tables.design import safety_table
+
+    pt = {"temperature_K": 313.15, "mtsr_K": 346.0, "criticality_class": 1,
+          "criticality_class_probabilities": {"1": 0.99864, "2": 0.00136},
+          "criticality_class_probabilities_upper_bounds": {"1": 0.99889, "2": 0.00162},
+          "monte_carlo": {"samples": 50000}}
+    out = {"name": "runaway", "kind": "adiabatic_temperature_rise", "unit": "K", "points": [pt]}
+    line = " ".join(safety_lines({"outputs": [out]}))
+    assert "1: 99.86 % (95 % upper bound 99.89 %)" in line and "100 %" not in line
+    t = safety_table({"outputs": [out]}, out, "t")
+    cells = {r[0]: r[1] for r in t.rows}
+    assert cells["P(criticality class 1)"] == "99.86 % (95 % upper bound 99.89 %, 50 000 trials)"
+    pt.pop("criticality_class_probabilities_upper_bounds")
+    cells = {r[0]: r[1] for r in safety_table({"outputs": [out]}, out, "t").rows}
+    assert "100" not in cells["P(criticality class 1)"]

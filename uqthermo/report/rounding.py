@@ -170,9 +170,13 @@ def fmt_probability(p: Any, se: Any = None) -> str:
         return "—"
     s = num(se)
     dec = uncertainty_decimals(100 * s) if s else None
-    if dec is None:
-        return fmt_sig(100 * v, 3) + " %"
-    return fmt_fixed(100 * v, dec) + " %"
+    shown = fmt_sig(100 * v, 3) if dec is None else fmt_fixed(100 * v, dec)
+    if 0 < v < 1 and num(shown) in (0.0, 100.0):   # not 0 or 1: never shown as "0 %" or "100 %"
+        dec = uncertainty_decimals(100 * min(v, 1 - v)) or 0
+        if dec > 4:
+            return "> 99.9999 %" if v > 0.5 else "< 0.0001 %"
+        shown = fmt_fixed(100 * v, dec)
+    return shown + " %"
 
 
 def fmt_value(x: Any) -> str:

@@ -279,6 +279,8 @@ def _prob_number(x: float, up: bool = False) -> str:
         return "0"
     if x >= 1:
         return "100 %"
+    if 1.0 - x < 0.01:
+        return _near_one(x, up)
     m, e = _sig2(x, up)
     if e >= -3:
         pct = m * 10.0 ** (e + 2)
@@ -289,6 +291,27 @@ def _prob_number(x: float, up: bool = False) -> str:
         return f"{s} %"
     ms = f"{m:.1f}".rstrip("0").rstrip(".") if up else f"{m:.1f}"
     return f"{ms}×10{str(e).translate(_SUPERSCRIPT)}" if math.isfinite(m) else "—"
+
+
+def _near_one(x: float, up: bool = False) -> str:
+    """A probability above 99 % and below 1 as per cent, its distance from 100 % to two significant
+    digits (rounded down for an upper bound, so the bound stays outward): 0.99864 → "99.86 %",
+    never "100 %"; beyond 99.9999 % → "> 99.9999 %"."""
+    import math
+
+    q = 1.0 - x
+    if q < 1e-6:
+        return "> 99.9999 %"
+    e = math.floor(math.log10(q))
+    m = q / 10.0**e
+    m = math.floor(m * 10.0 + 1e-9) / 10.0 if up else round(m, 1)
+    if m >= 10.0:
+        m, e = m / 10.0, e + 1
+    dec = max(0, 1 - (e + 2))
+    s = f"{100.0 - m * 10.0 ** (e + 2):.{dec}f}"
+    if "." in s:
+        s = s.rstrip("0").rstrip(".")
+    return f"{s} %"
 
 
 def _lower_near_one(lb: float) -> str:

@@ -150,7 +150,7 @@ def safety_table(results: Mapping, output: Mapping, key: str) -> DisplayTable:
         n = (p.get("monte_carlo") or {}).get("samples")
         for k, v in probs.items():
             add(f"P(criticality class {text(k)})",
-                probability_text(v, ubs.get(k), n) if ubs else fmt_fixed(100 * (num(v) or 0), 1) + " %")
+                probability_text(v, ubs.get(k), n) if ubs else fmt_probability(num(v) or 0))
     for k, lab in (("p_mtsr_above_mtt", "P(MTSR > MTT)"), ("p_mtsr_above_td24", "P(MTSR > T_D24)"),
                    ("p_phase_change", "P(the charge reaches a phase change on its real path, e.g. the solvent boils)")):
         if p.get(k) is not None:
