@@ -147,3 +147,27 @@ def test_criticality_class_probability_099864_shows_digits_in_table_and_terminal
     pt.pop("criticality_class_probabilities_upper_bounds")
     cells = {r[0]: r[1] for r in safety_table({"outputs": [out]}, out, "t").rows}
     assert "100" not in cells["P(criticality class 1)"]
+
+
+# --------------------------------------------------------------------------- 3. normal tails far out
+
+def test_normal_tail_probability_below_floor_is_not_printed_with_false_precision(tmp_path):
+    """`--method linear`: P(Q̇ > 2.0 MW) from the normal tail is ~1e-65 (z ≈ 17; scipy.stats.norm.sf(17)
+    = 4e-65): printed as "< 10⁻⁹ (… normal approximation)", results.json keeps the number."""
+    from scipy.stats import norm
+
+    from uqthermo.report.style import NORMAL_TAIL_FLOOR, probability_text
+
+    assert probability_text(3.8e-65, None, None, basis="linear normal approximation") == \
+        "< 10⁻⁹ (linear normal approximation)"
+    assert probability_text(2e-9, None, None) == "2.0×10⁻⁹ (normal approximation)"
+    assert probability_text(2e-6, 2.5e-6, 50000).startswith("2.0×10⁻⁶")    # Monte Carlo counts: no floor
+    run = _run(tmp_path, "--method", "linear")
+    duty = next(o for o in run["results"]["outputs"] if o["name"] == "duty")["points"][0]
+    p = duty["exceedance_probability"]
+    # z = (2000 − 260 kW)/√(22² + 100²) ≈ 17: scipy.stats.norm.sf(17) ≈ 4e-65
+    assert 0 < p < NORMAL_TAIL_FLOOR and 1e-3 * norm.sf(17) < p < 1e3 * norm.sf(17)
+    assert "duty: P(Q̇ > cooling capacity 2.0 MW) < 10⁻⁹ (linear normal approximation)" in run["stdout"]
+    for txt in (run["stdout"], run["md"], (run["out"] / "report.html").read_text(encoding="utf-8")):
+        assert "×10⁻⁶⁵" not in txt and "×10⁻⁶⁴" not in txt
+        assert "= &lt; 10⁻⁹" not in txt and "= < 10⁻⁹" not in txt

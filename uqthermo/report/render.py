@@ -332,7 +332,8 @@ def _summary_card(results: Mapping, o: Mapping, p: Mapping) -> dict:
         dl = uncertainty_decimals(lin.get("standard_uncertainty"))
         details.append(f"linear: U = {fmt_fixed(lin.get('expanded_uncertainty'), dl)}{unit} (k = {fmt_k(lin.get('coverage_factor'))})")
     if p.get("exceedance_probability") is not None:
-        details.append(f"P({limit_text(o) or 'beyond the limit'}) = {probability_cell(p, 'exceedance_probability')}")
+        ptxt = probability_cell(p, "exceedance_probability")
+        details.append(f"P({limit_text(o) or 'beyond the limit'}) {'' if ptxt.startswith('<') else '= '}{ptxt}")
     if num(p.get("mtsr_K")) is not None:
         details.append(f"MTSR (no evaporative cooling) {fmt_fixed(p.get('mtsr_K'), d)} K"
                        + (f"; P(MTSR > MTT) = {probability_cell(p, 'p_mtsr_above_mtt')}" if p.get("p_mtsr_above_mtt") is not None else ""))

@@ -15,7 +15,9 @@ moves one place left (0.10). Other numbers:
 * probabilities (exceedance, MTSR above MTT/TD24, phase change, criticality classes): two
   significant digits (per cent down to 0.1 %, below that m×10⁻ⁿ) with the one-sided 95 %
   upper bound rounded up and the number of trials, as ``report.style.probability_text``
-  writes them; no hit shows the bound, "< 6×10⁻⁵ (95 % upper bound, 50 000 trials)", never 0 %.
+  writes them; no hit shows the bound, "< 6×10⁻⁵ (95 % upper bound, 50 000 trials)", never 0 %;
+  above 99 % the distance from 100 % keeps two significant digits ("99.86 %"), never 100 % unless
+  every trial; a normal-approximation value below 10⁻⁹ shows as "< 10⁻⁹ (normal approximation)".
   A standard-error column is rounded at its own second significant digit;
 * coverage factor k: two decimals; effective degrees of freedom: integer (∞ above 10⁶);
 * validation tolerance δ and the differences d_low, d_high: two significant digits;

@@ -322,6 +322,10 @@ def _lower_near_one(lb: float) -> str:
     return (s.rstrip("0").rstrip(".") if "." in s else s) + " %"
 
 
+#: below this a probability from a normal approximation (no trials behind it) is shown as "< 10⁻⁹"
+NORMAL_TAIL_FLOOR = 1e-9
+
+
 def count_text(n: int) -> str:
     """A whole number with spaces between thousands: 50000 → "50 000"."""
     return f"{int(n):,}".replace(",", " ")
@@ -336,7 +340,8 @@ def probability_text(p, upper_bound=None, trials=None, *, lower_bound=None, conf
     * otherwise the estimate with its bound: ``"1.9 % (95 % upper bound 2.1 %, 20 000 trials)"``;
     * every trial beyond the limit: ``"100 % (all 20 000 trials; 95 % lower bound 99.99 %)"``;
     * without trials (a linear normal-tail estimate): ``"3.2 % (normal approximation)"`` or
-      with ``basis`` the words given.
+      with ``basis`` the words given; below :data:`NORMAL_TAIL_FLOOR` ``"< 10⁻⁹ (normal approximation)"``
+      (a normal tail that far out is no estimate of the real one).
 
     Per cent down to 0.1 %, below that m×10⁻ⁿ; two significant digits; bounds rounded outwards.
 
@@ -383,6 +388,11 @@ def probability_text(p, upper_bound=None, trials=None, *, lower_bound=None, conf
             lb = None
         tail = f"; {level} lower bound {_lower_near_one(lb)}" if lb is not None and math.isfinite(lb) and 0 < lb < 1 else ""
         return f"100 % (all {nt}{tail})"
+    if ub is None and not n and p < NORMAL_TAIL_FLOOR:
+        # a normal-tail value this far out says nothing (the tails of the real distribution are not
+        # normal): the floor, not false precision; results.json keeps the number
+        floor = f"10{str(round(math.log10(NORMAL_TAIL_FLOOR))).translate(_SUPERSCRIPT)}"
+        return f"< {floor} ({basis or 'normal approximation'})"
     text = _prob_number(p)
     if ub is not None:
         return f"{text} ({level} upper bound {_prob_number(ub, up=True)}" + (f", {nt})" if nt else ")")
