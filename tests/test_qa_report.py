@@ -171,3 +171,32 @@ def test_normal_tail_probability_below_floor_is_not_printed_with_false_precision
     for txt in (run["stdout"], run["md"], (run["out"] / "report.html").read_text(encoding="utf-8")):
         assert "×10⁻⁶⁵" not in txt and "×10⁻⁶⁴" not in txt
         assert "= &lt; 10⁻⁹" not in txt and "= < 10⁻⁹" not in txt
+
+
+# --------------------------------------------------------------------------- 4. per kg of what
+
+def test_mass_basis_result_says_per_kg_of_what(nh3_run):
+    """`basis = "mass"`, `mass_of = "NH3"`: ΔrH / (|ν| M) per kg of NH3 converted (docs §11.6) — the
+    statement, the appendix heading and overview table, and the terminal say so."""
+    from uqthermo.report.fields import mass_basis, unit_with_basis
+
+    out = next(o for o in nh3_run["results"]["outputs"] if o["name"] == "dH_kg")
+    assert unit_with_basis(out) == "kJ/kg of NH3 converted"
+    md = nh3_run["md"]
+    head = next(line for line in md.splitlines() if line.startswith("- **ΔrH(450 °C) = "))
+    assert " kJ/kg of NH3 converted, U = " in head
+    assert "dH\\_kg — reaction enthalpy in kJ/kg of NH3 converted" in md
+    assert "| kJ/kg of NH3 converted |" in md
+    assert "dH_kg [kJ/kg]: per kg of NH3 converted" in nh3_run["stdout"]
+    # a molar output has no basis; a heating enthalpy per kg is per kg of the species heated
+    assert unit_with_basis({"kind": "reaction_enthalpy", "unit": "kJ/mol"}) == "kJ/mol"
+    assert mass_basis({"kind": "heating_enthalpy", "unit": "kJ/kg", "basis": "mass", "species": "H2O(l)"}) == "H2O(l)"
+    assert mass_basis({"kind": "adiabatic_temperature_rise", "unit": "K", "basis": "mass"}) == ""
+
+
+def test_specific_heat_of_reaction_says_per_kg_of_reaction_mass():
+    from uqthermo.commands.terminal import safety_lines
+
+    out = {"name": "runaway", "kind": "adiabatic_temperature_rise", "unit": "K",
+           "points": [{"temperature_K": 313.15, "specific_heat_of_reaction": {"mean": 187.2, "standard_uncertainty": 3.3}}]}
+    assert "runaway: Q'_r = 187.2 ± 3.3 kJ/kg of reaction mass" in safety_lines({"outputs": [out]})

@@ -84,6 +84,12 @@ def print_summary(results: dict, console=None) -> None:
         del notes[plain]    # the note on covariance rows says it too: one line, not two
     for n in notes:
         console.print(f"top drivers: {n}")
+    from ..report.fields import mass_basis
+
+    for out in raw["outputs"]:       # per kg of what (the table's column has room for the unit only)
+        if mass_basis(out):
+            console.print(terminal_text(f"{out['name']} [{out['unit']}]: per kg of {mass_basis(out)}"),
+                          highlight=False, markup=False)
     for line in safety_lines(raw):     # plain text: control characters made visible, no markup
         console.print(terminal_text(line), highlight=False, markup=False)
     if p is not None:
@@ -157,7 +163,7 @@ def safety_lines(results: dict) -> list[str]:
                     txt += f", 95th percentile {mol['P95']:.3g} mol"
                 parts.append(txt)
             lines.append(f"{name}: " + "; ".join(parts))
-        for key, lab, unit in (("specific_heat_of_reaction", "Q'_r", "kJ/kg"), ("specific_heat_capacity", "c'_p", "J/(g*K)"),
+        for key, lab, unit in (("specific_heat_of_reaction", "Q'_r", "kJ/kg of reaction mass"), ("specific_heat_capacity", "c'_p", "J/(g*K)"),
                                ("final_pressure", "final pressure of the closed vessel (ideal gas)", "kPa")):
             blk = pt.get(key)
             if blk:

@@ -29,7 +29,7 @@ from markupsafe import Markup, escape
 from . import files, style
 from .fields import (
     SAFETY_KINDS, check_results, coverage_probability, headline_index, kind_label, num, outputs, point_estimate, point_u,
-    points, safety_relevant, slugs, text,
+    points, safety_relevant, slugs, text, unit_with_basis,
 )
 from .rounding import (
     fmt_cost, fmt_fixed, fmt_interval, fmt_k, fmt_probability, fmt_sig, fmt_temperature, fmt_u, fmt_value, pct_label,
@@ -408,7 +408,7 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
         pts = points(o)
         entry: dict[str, Any] = {
             "anchor": f"out-{oi + 1}", "number": oi + 1, "name": text(o.get("name")), "kind": kind_label(o.get("kind")),
-            "unit": unit_suffix(o.get("unit")).strip(), "description": text(o.get("description")), "reaction": text(o.get("reaction")),
+            "unit": unit_with_basis(o), "description": text(o.get("description")), "reaction": text(o.get("reaction")),
             "equation": text(o.get("equation")), "span": _span_text(o), "first": oi == 0,
             "figures": [], "tables": [], "headline": None, "summary_card": None, "headline_note": "",
             "drivers_table": None, "drivers_figure": None, "whatif_table": None, "not_validated": [], "drivers_note": "", "limit": "", "phase_changes": [],

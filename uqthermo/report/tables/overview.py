@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 
-from ..fields import coverage_probability, headline_index, kind_label, outputs, point_estimate, point_u, points, text
+from ..fields import coverage_probability, headline_index, kind_label, outputs, point_estimate, point_u, points, text, unit_with_basis
 from ..rounding import fmt_fixed, fmt_interval, fmt_share, fmt_temperature, pct_label, uncertainty_decimals
 from .display import DisplayTable, output_unit
 from .propagation import validation_label
@@ -43,7 +43,7 @@ def summary_table(results: Mapping) -> DisplayTable:
             tlabel += " *"
         t.rows.append([
             text(o.get("name")), kind_label(o.get("kind")), tlabel,
-            fmt_fixed(point_estimate(p), dec), fmt_fixed(u, dec), fmt_interval(iv, dec), output_unit(o),
+            fmt_fixed(point_estimate(p), dec), fmt_fixed(u, dec), fmt_interval(iv, dec), unit_with_basis(o) or output_unit(o),
             validation_label(p), main, main_share,
         ])
     if curve:
