@@ -200,3 +200,31 @@ def test_specific_heat_of_reaction_says_per_kg_of_reaction_mass():
     out = {"name": "runaway", "kind": "adiabatic_temperature_rise", "unit": "K",
            "points": [{"temperature_K": 313.15, "specific_heat_of_reaction": {"mean": 187.2, "standard_uncertainty": 3.3}}]}
     assert "runaway: Q'_r = 187.2 ± 3.3 kJ/kg of reaction mass" in safety_lines({"outputs": [out]})
+
+
+# --------------------------------------------------------------------------- 5. "other data" counted one way
+
+def test_drivers_list_only_data_the_output_can_depend_on(nh3_run):
+    """The drivers and what-if rows of an output list the data its value can depend on
+    (case/model/dependence.py::value_data), the same data as its GUM budget — not another output's
+    extents or limits, not its own limit, not entropies for an enthalpy — so every "N other data"
+    counts the same set."""
+    outs = {o["name"]: o for o in nh3_run["results"]["outputs"]}
+    for name, o in outs.items():
+        for pt in o["points"]:
+            drivers = [d["datum"] for d in pt["drivers"]]
+            assert not [d for d in drivers if d.startswith("output.") and not d.startswith(f"output.{name}.")], name
+            assert f"output.{name}.limit" not in drivers and f"output.{name}.cooling_capacity" not in drivers
+            assert {w["datum"] for w in pt["whatif"]} <= set(drivers), name
+            assert set(drivers) == {r["datum"] for r in pt["budget"]["rows"]}, name
+    assert not [d for d in outs["dH_kg"]["points"][0]["drivers"] if d["datum"].endswith("standard_entropy")]
+    n = len(outs["logK"]["points"][0]["drivers"])
+    assert f"{n - 3} other data" in nh3_run["stdout"].split("logK [1]")[1].split("duty [kW]")[0].replace("│", " ")
+
+
+def test_other_data_row_counts_every_datum_not_named():
+    from uqthermo.report.drivers import driver_rows
+
+    pt = {"drivers_method": "linear", "drivers": [{"datum": "a", "share": 0.9}, {"datum": "b", "share": 0.09},
+                                                  {"datum": "c", "share": 0.01}, {"datum": "d", "share": 0.0}]}
+    assert driver_rows(pt, max_data=1)[-1].label == "3 other data"
