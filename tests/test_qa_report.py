@@ -228,3 +228,47 @@ def test_other_data_row_counts_every_datum_not_named():
     pt = {"drivers_method": "linear", "drivers": [{"datum": "a", "share": 0.9}, {"datum": "b", "share": 0.09},
                                                   {"datum": "c", "share": 0.01}, {"datum": "d", "share": 0.0}]}
     assert driver_rows(pt, max_data=1)[-1].label == "3 other data"
+
+
+# --------------------------------------------------------------------------- 6. which legend applies to which rows
+
+def _summary_text(results) -> str:
+    from rich.console import Console
+
+    from uqthermo.commands.terminal import print_summary
+
+    console = Console(record=True, width=200, file=open("/dev/null", "w"))
+    print_summary(results, console)
+    return console.export_text()
+
+
+def test_mixed_linear_and_sobol_drivers_are_tagged_in_rows_and_legends(nh3_run):
+    import copy
+
+    res = copy.deepcopy(nh3_run["results"])
+    plain = _summary_text(res)
+    assert "[u²]" not in plain and "[S1]" not in plain           # one method: one legend, no tags
+    logk = next(o for o in res["outputs"] if o["name"] == "logK")
+    for pt in logk["points"]:
+        pt["drivers_method"] = "sobol"
+        pt["covariance_terms"] = []
+    txt = _summary_text(res)
+    rows = {line.split("│")[1].strip(): line for line in txt.splitlines() if line.startswith("│") and line.split("│")[1].strip()}
+    assert "[S1] output.logK.temperature" in rows["logK [1]"]
+    assert "[u²] " in rows["duty [kW]"] and "[S1]" not in rows["duty [kW]"]
+    assert "top drivers: [u²] shares of u²(y)" in txt
+    assert "top drivers: [S1] first-order Sobol' indices S1" in txt
+
+
+def test_overview_table_marks_share_method_when_mixed(nh3_run):
+    import copy
+
+    from uqthermo.report.tables.overview import summary_table
+
+    res = copy.deepcopy(nh3_run["results"])
+    assert not any("(S1)" in r[-1] or "(u²)" in r[-1] for r in summary_table(res).rows)
+    next(o for o in res["outputs"] if o["name"] == "logK")["points"][0]["drivers_method"] = "sobol"
+    t = summary_table(res)
+    shares = {r[0]: r[-1] for r in t.rows}
+    assert shares["logK"].endswith(" (S1)") and shares["duty"].endswith(" (u²)")
+    assert any("(S1) its first-order Sobol' index" in n for n in t.notes)

@@ -22,6 +22,8 @@ def summary_table(results: Mapping) -> DisplayTable:
         ["l", "w", "r", "r", "r", "r", "l", "l", "l", "r"],
     )
     curve = False
+    methods = {p.get("drivers_method") for o in outputs(results) for p in points(o) if p.get("drivers")} - {None}
+    mixed = len(methods) > 1      # u² shares and Sobol' S1 in one column: each cell says which
     for o in outputs(results):
         pts = points(o)
         if not pts:
@@ -37,6 +39,8 @@ def summary_table(results: Mapping) -> DisplayTable:
         main, main_share = "—", "—"
         if drivers:
             main, main_share = text(drivers[0].get("datum")), fmt_share(drivers[0].get("share"))
+            if mixed:
+                main_share += " (S1)" if p.get("drivers_method") == "sobol" else " (u²)"
         tlabel = fmt_temperature(p.get("temperature_K"))
         if len(pts) > 1:
             curve = True
@@ -49,4 +53,6 @@ def summary_table(results: Mapping) -> DisplayTable:
     if curve:
         t.notes.append("* Curve outputs are summarised at the temperature with the largest standard uncertainty; all points are in the results section.")
     t.notes.append("Estimate, u and interval from the Monte Carlo method (JCGM 101) where it was run, else from the linear method (GUM).")
+    if mixed:
+        t.notes.append("Share: (u²) the main driver's share of u²(y) (GUM budget); (S1) its first-order Sobol' index.")
     return t
