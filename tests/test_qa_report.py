@@ -272,3 +272,44 @@ def test_overview_table_marks_share_method_when_mixed(nh3_run):
     shares = {r[0]: r[-1] for r in t.rows}
     assert shares["logK"].endswith(" (S1)") and shares["duty"].endswith(" (u²)")
     assert any("(S1) its first-order Sobol' index" in n for n in t.notes)
+
+
+# --------------------------------------------------------------------------- 7. MTT off scale, uncertain limits as bands
+
+def test_distribution_figure_says_where_mtt_is_reached_and_draws_uncertain_limits_as_bands(tmp_path):
+    """MTSR = T_process + accumulation·ΔT_ad (Stoessel): with T_process 40 °C and accumulation 0.6,
+    MTT 100 °C is reached at ΔT_ad = (100 − 40)/0.6 = 100 K; the legend says so. A limit with
+    u = 2 K is a band ± 2u, not a sharp line."""
+    import matplotlib.pyplot as plt
+    from matplotlib.patches import Polygon, Rectangle
+
+    from uqthermo.report.figures.distribution import draw_distribution
+
+    counts = [5, 40, 120, 200, 120, 40, 5]
+    edges = [52.0 + 0.5 * i for i in range(len(counts) + 1)]
+    pt = {"temperature_K": 313.15, "linear": {"estimate": 54.8, "standard_uncertainty": 1.0, "coverage_interval": [52.8, 56.8]},
+          "monte_carlo": {"mean": 54.8, "standard_uncertainty": 1.0, "coverage_interval": [52.8, 56.8], "samples": 530,
+                          "histogram": {"edges": edges, "counts": counts, "samples": 530}},
+          "exceedance_probability": 0.46, "exceedance_upper_bound": 0.48, "exceedance_trials": 530}
+    out = {"name": "runaway", "kind": "adiabatic_temperature_rise", "unit": "K", "start_temperature_K": 313.15,
+           "process_temperature_K": 313.15, "accumulation": 0.6, "mtt_K": 373.15, "td24_K": 403.15,
+           "mtt": {"value": 373.15, "standard_uncertainty": 0.0, "unit": "K", "as_written": "100 degC"},
+           "td24": {"value": 403.15, "standard_uncertainty": 10.0, "unit": "K", "as_written": "130 degC"},
+           "limit_K": 368.15, "limit_applies_to": "final_temperature",
+           "limit": {"value": 368.15, "standard_uncertainty": 2.0, "unit": "K", "as_written": "95 degC", "side": "above"},
+           "points": [pt]}
+    results = {"display_units": {"temperature": "degC"}, "outputs": [out], "run": {"samples": 530}}
+    fig = draw_distribution(results, out, pt)
+    try:
+        ax = fig.axes[0]
+        labels = ax.get_legend_handles_labels()[1]
+        mtt = next(lab for lab in labels if lab.startswith("MTT"))
+        assert "off scale" in mtt and "0.6·ΔT_ad reaches MTT at ΔT_ad = 100 K" in mtt
+        assert any(lab.startswith("T_D24 130 °C (u = 10 K): off scale") for lab in labels), labels
+        lim = next(lab for lab in labels if lab.startswith("limit:"))
+        assert "95 °C" in lim and "band ± 2u = ± 4 K" in lim
+        spans = [p for p in ax.patches if isinstance(p, (Polygon, Rectangle)) and (p.get_alpha() or 1) < 0.5]
+        xs = [list(p.get_xy()[:, 0]) if isinstance(p, Polygon) else [p.get_x(), p.get_x() + p.get_width()] for p in spans]
+        assert any(min(x) == pytest.approx(55.0 - 4.0) and max(x) == pytest.approx(55.0 + 4.0) for x in xs), xs
+    finally:
+        plt.close(fig)
