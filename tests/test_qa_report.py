@@ -313,3 +313,47 @@ def test_distribution_figure_says_where_mtt_is_reached_and_draws_uncertain_limit
         assert any(min(x) == pytest.approx(55.0 - 4.0) and max(x) == pytest.approx(55.0 + 4.0) for x in xs), xs
     finally:
         plt.close(fig)
+
+
+# --------------------------------------------------------------------------- 8. cosmetics
+
+def test_library_uncertainty_is_stated_in_the_report_unit_to_two_digits(nh3_run):
+    """A u the library chose reads "u = 0.50 kJ/mol" or "U = 0.10 kJ/mol (k = 2)", never "u = 500 J/mol" or
+    "u = 0.875665000000012 J/(mol*K)" (GUM 7.2.6: two significant digits); the value used is unrounded."""
+    import re
+
+    for i in nh3_run["results"]["inputs"]:
+        st = i.get("stated") or ""
+        m = re.match(r"^[uU] = ([0-9.eE+-]+) (\S+)", st)
+        if not m or not i.get("library"):
+            continue
+        assert m.group(2) == i["unit"], (i["datum"], st)
+        digits = m.group(1).lstrip("0.").replace(".", "")
+        assert len(digits) <= 2, (i["datum"], st)
+
+
+def test_inputs_table_shows_a_limit_as_the_case_wrote_it():
+    from uqthermo.report.tables.inputs import inputs_table
+
+    res = {"inputs": [{"datum": "output.runaway.limit", "quantity": "limit", "stated": "u = 2 K", "estimate": 368.15,
+                       "standard_uncertainty": 2.0, "unit": "K", "distribution": "normal, u 2 K"}],
+           "outputs": [{"name": "runaway", "limit": {"value": 368.15, "standard_uncertainty": 2.0, "unit": "K",
+                                                     "as_written": "95 degC", "datum": "output.runaway.limit"}}]}
+    assert inputs_table(res).rows[0][2] == "368.15 (95 °C)"
+
+
+def test_plan_front_values_keep_digits_to_differ():
+    from uqthermo.report.rounding import distinct_sig
+    from uqthermo.report.tables.plan import plan_front_table
+
+    assert distinct_sig([1.0727, 1.0677]) == 4 and distinct_sig([1.45, 1.22]) == 3
+    plan = {"target": {"U": 1.0, "unit": "of target"}, "front": [
+        {"cost": 2800, "U": 1.0727, "set": ["C1", "C3"]}, {"cost": 11500, "U": 1.0677, "set": ["C1", "C2"]}]}
+    us = [r[1] for r in plan_front_table(plan).rows]
+    assert us == ["1.073", "1.068"]
+
+
+def test_linear_limit_probability_states_its_basis_once(tmp_path):
+    run = _run(tmp_path, "--method", "linear")
+    assert "(limit); linear normal approximation" not in run["md"]
+    assert "linear normal approximation) (limit)" in run["md"]

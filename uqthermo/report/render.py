@@ -308,12 +308,14 @@ def _headline(results: Mapping, o: Mapping, p: Mapping) -> dict:
         })
     if p.get("exceedance_probability") is not None:
         se = num(p.get("exceedance_standard_error"))
+        value = probability_cell(p, "exceedance_probability")
+        basis = text(p.get("exceedance_basis"))
         items.append({
             "label": f"P({limit_text(o) or 'beyond the limit'})",
-            "value": probability_cell(p, "exceedance_probability"),
+            "value": value,
             "detail": (f"standard error {fmt_probability(se, se)}; the bound is one-sided" if se else
                        "no trial beyond the limit: the value shown is the one-sided upper bound"
-                       if num(p.get("exceedance_upper_bound")) is not None else text(p.get("exceedance_basis"))),
+                       if num(p.get("exceedance_upper_bound")) is not None else "" if basis in value else basis),
             "badge": ("no", "limit") if (num(p.get("exceedance_probability")) or 0) > 0 else ("ok", "limit"),
         })
     return {"T": fmt_temperature(p.get("temperature_K")), "items": items}

@@ -44,7 +44,7 @@ from .fields import num, pair
 
 __all__ = [
     "uncertainty_decimals", "fmt_fixed", "fmt_sig", "fmt_u", "fmt_interval", "fmt_share", "fmt_share_ci", "fmt_k",
-    "fmt_dof", "fmt_probability", "fmt_value", "fmt_temperature", "fmt_cost", "pct_label",
+    "fmt_dof", "fmt_probability", "fmt_value", "fmt_temperature", "fmt_cost", "pct_label", "distinct_sig",
 ]
 
 
@@ -179,6 +179,16 @@ def fmt_probability(p: Any, se: Any = None) -> str:
             return "> 99.9999 %" if v > 0.5 else "< 0.0001 %"
         shown = fmt_fixed(100 * v, dec)
     return shown + " %"
+
+
+def distinct_sig(values: Any, sig: int = 3, most: int = 6) -> int:
+    """The fewest significant digits (from ``sig`` up to ``most``) that print different values
+    differently: 1.0727 and 1.0677 need 4 ("1.073", "1.068"), not 3 (both "1.07")."""
+    vals = sorted({v for v in (num(x) for x in (values or [])) if v is not None})
+    for s in range(sig, most + 1):
+        if len({fmt_sig(v, s) for v in vals}) == len(vals):
+            return s
+    return most
 
 
 def fmt_value(x: Any) -> str:
