@@ -578,13 +578,17 @@ def render_html(results: Mapping, figures: bool = True, _rendered: Sequence | No
 
         _rendered = render_figures(results)
     ctx = build_context(results, figures=figures, rendered=_rendered if figures else None)
-    return environment("html").get_template("report.html.j2").render(**ctx)
+    from .document_order import renumber
+
+    return renumber(environment("html").get_template("report.html.j2").render(**ctx), "html")
 
 
 def render_markdown(results: Mapping, figures: bool = True) -> str:
     """The report as Markdown; figures are referenced as ``figures/NAME.png``."""
     ctx = build_context(results, figures=figures, rendered=None)
-    return environment("md").get_template("report.md.j2").render(**ctx)
+    from .document_order import renumber
+
+    return renumber(environment("md").get_template("report.md.j2").render(**ctx), "md")
 
 
 def write_tables(results: Mapping, out_dir: Path) -> dict[str, Path]:
