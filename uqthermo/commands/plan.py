@@ -82,11 +82,14 @@ def _plan(args, folder) -> int:
     for c in ("cost", label, "buy", "meets target"):
         front.add_column(c)
     best = plan["best"]
+    from ..report.rounding import distinct_sig
+
+    digits = distinct_sig([p["U"] for p in plan["front"]] + [plan["target"]["U"]])
     for p in plan["front"]:
         chosen = best is not None and p["set"] == best["set"] and p["cost"] == best["cost"]
         meets = "—" if plan["target"]["U"] is None else ("yes" if p["U"] <= plan["target"]["U"] else "no")
         style = "bold" if chosen else None
-        front.add_row(f"{p['cost']:g}", _fmt(p["U"]), ", ".join(p["set"]) or "(nothing)", meets, style=style)
+        front.add_row(f"{p['cost']:g}", _fmt(p["U"], digits), ", ".join(p["set"]) or "(nothing)", meets, style=style)
     console.print(front)
     if best is None:
         console.print("[red]no selection of the candidates meets the target[/red]" if plan["target"]["U"] is not None

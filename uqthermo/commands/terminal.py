@@ -59,6 +59,10 @@ def print_summary(results: dict, console=None) -> None:
     p = None
     notes: dict[str, None] = {}
     table = Table(title=results["case"]["title"], title_justify="left", header_style="bold", show_lines=False)
+    # linear shares and Sobol' indices in one table: each row and each legend line carry a tag ("[u²]",
+    # "[S1]") so that every legend visibly applies to its rows (rich markup: a backslash makes "[" literal)
+    methods = {pt.get("drivers_method") for out in results["outputs"] for pt in out["points"] if pt.get("drivers")}
+    tags = {"linear": "\\[u²] ", "sobol": "\\[S1] "} if len(methods - {None}) > 1 else {}
     for col in ("output", "T / K", "estimate", "u", "coverage interval", "linear vs MC", "top drivers (share)"):
         table.add_column(col, justify="right" if col in ("T / K", "estimate", "u") else "left", no_wrap=col == "linear vs MC")
     for out in results["outputs"]:
@@ -71,19 +75,29 @@ def print_summary(results: dict, console=None) -> None:
             u = src.get("standard_uncertainty")
             ci = src.get("coverage_interval") or [None, None]
             drivers = ", ".join(f"{r.label} {share_text(r.share)} %" for r in driver_rows(pt, max_data=3, skip_zero=True))
+            tag = tags.get(pt.get("drivers_method"), "")
+            if drivers:
+                drivers = tag + drivers
             if drivers and rows_sum_note(pt):
-                notes[rows_sum_note(pt)] = None
+                notes[tag + rows_sum_note(pt)] = None
             table.add_row(f"{out['name']} \\[{out['unit']}]", f"{pt['temperature_K']:.2f}", sig(est, u), sig(u, u),
                           f"[{sig(ci[0], u)}, {sig(ci[1], u)}]",
                           _reported(pt), drivers)
         if len(pts) > len(show):
             table.add_row(f"  … {len(pts) - len(show)} more temperatures in results.json", "", "", "", "", "", "")
     console.print(table)
-    plain = rows_sum_note({"drivers_method": "linear"})
-    if plain in notes and any(n != plain and n.startswith(plain.split(";")[0]) for n in notes):
-        del notes[plain]    # the note on covariance rows says it too: one line, not two
+    for tag in ("", tags.get("linear", "")):
+        plain = tag + rows_sum_note({"drivers_method": "linear"})
+        if plain in notes and any(n != plain and n.startswith(plain.split(";")[0]) for n in notes):
+            del notes[plain]    # the note on covariance rows says it too: one line, not two
     for n in notes:
         console.print(f"top drivers: {n}")
+    from ..report.fields import mass_basis
+
+    for out in raw["outputs"]:       # per kg of what (the table's column has room for the unit only)
+        if mass_basis(out):
+            console.print(terminal_text(f"{out['name']} [{out['unit']}]: per kg of {mass_basis(out)}"),
+                          highlight=False, markup=False)
     for line in safety_lines(raw):     # plain text: control characters made visible, no markup
         console.print(terminal_text(line), highlight=False, markup=False)
     if p is not None:
@@ -158,7 +172,7 @@ def safety_lines(results: dict) -> list[str]:
                     txt += f", 95th percentile {mol['P95']:.3g} mol"
                 parts.append(txt)
             lines.append(f"{name}: " + "; ".join(parts))
-        for key, lab, unit in (("specific_heat_of_reaction", "Q'_r", "kJ/kg"), ("specific_heat_capacity", "c'_p", "J/(g*K)"),
+        for key, lab, unit in (("specific_heat_of_reaction", "Q'_r", "kJ/kg of reaction mass"), ("specific_heat_capacity", "c'_p", "J/(g*K)"),
                                ("final_pressure", "final pressure of the closed vessel (ideal gas)", "kPa")):
             blk = pt.get(key)
             if blk:

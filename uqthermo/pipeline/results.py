@@ -14,6 +14,7 @@ from typing import Any
 import numpy as np
 
 from .. import __version__
+from ..case.model.dependence import value_data
 from ..case.model.layout import QUANTITY, Model
 from ..case.schema import Case
 from ..uq.margins import Margins, curve_band, level_key, margins_from_linear, margins_from_monte_carlo
@@ -169,6 +170,7 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
             out["temperature_uncertain"] = o.temperature_datum
         out["phase_changes"] = _phase_changes(case, o, lo, hi)
         points = []
+        own_data = value_data(case, o)
         for j in cols:
             pt: dict[str, Any] = {"temperature_K": model.columns[j].temperature}
             if lin is not None:
@@ -233,6 +235,7 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
                 pt["drivers"] = []
             if whatif is not None:
                 pt["whatif"] = whatif.rows(j)
+            _own_data_only(pt, own_data)
             if margins is not None:
                 pt["margins"] = _margins_point(margins, j, o.design_value)
             y_est = (pt.get("monte_carlo") or {}).get("mean", (pt.get("linear") or {}).get("estimate"))
@@ -382,6 +385,16 @@ def _driver_rows(point: dict, budget: dict | None) -> dict:
         _, terms = datum_terms(budget)
     point["covariance_terms"] = terms
     return point
+
+
+def _own_data_only(point: dict, data: set[str]) -> None:
+    """Drop from the point's drivers and what-if rows the data its output cannot depend on (another
+    output's extents or limits, entropies for an enthalpy, its own limit): they are 0 by construction and
+    would only pad the rankings and the "N other data" counts."""
+    for key in ("drivers", "whatif"):
+        rows = point.get(key)
+        if isinstance(rows, list):
+            point[key] = [r for r in rows if not isinstance(r, dict) or r.get("datum") is None or r["datum"] in data]
 
 
 class _ByColumn:

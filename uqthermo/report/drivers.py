@@ -72,8 +72,7 @@ def driver_rows(point: Mapping, max_data: int | None = None, skip_zero: bool = F
     if rest:
         total = float(sum(num(d["share"]) for d in rest))
         if not (skip_zero and share_text(total) == "0.0"):
-            k = sum(1 for d in rest if num(d["share"]) != 0.0) or len(rest)
-            out.append(DriverRow(f"{k} other data", total, "others"))
+            out.append(DriverRow(f"{len(rest)} other data", total, "others"))   # counted as the tables count
     if point.get("drivers_method") == "linear":
         for c in point.get("covariance_terms") or []:
             if isinstance(c, Mapping) and num(c.get("share")) is not None:

@@ -16,7 +16,7 @@ from collections.abc import Mapping, Sequence
 from typing import Any
 
 __all__ = [
-    "KIND_LABELS", "SAFETY_KINDS", "num", "pair", "text", "kind_label", "kind_symbol", "check_results", "outputs", "points",
+    "KIND_LABELS", "SAFETY_KINDS", "num", "pair", "text", "kind_label", "kind_symbol", "output_symbol", "QUANTITY_SYMBOLS", "mass_basis", "unit_with_basis", "check_results", "outputs", "points",
     "coverage_probability", "point_u", "point_estimate", "headline_index", "limit_on_output", "slugs", "safety_relevant",
 ]
 
@@ -27,8 +27,11 @@ KIND_LABELS = {
     "heat_release": ("heat release rate", "Q̇"),
     "adiabatic_temperature_rise": ("adiabatic temperature rise", "ΔT_ad"),
     "reaction_gibbs_energy": ("reaction Gibbs energy", "ΔrG"),
-    "equilibrium_constant": ("equilibrium constant", "K"),
+    "equilibrium_constant": ("equilibrium constant", "log₁₀ K"),   # the output is log10 K, not K
 }
+
+#: display symbol of results.json ``quantity`` (the output's quantity, e.g. "log10 K" → "log₁₀ K")
+QUANTITY_SYMBOLS = {"ΔrH": "ΔrH", "ΔrG": "ΔrG", "log10 K": "log₁₀ K", "ΔH": "ΔH", "Q": "Q̇", "ΔT_ad": "ΔT_ad"}
 
 
 SAFETY_KINDS = {"heat_release", "adiabatic_temperature_rise"}
@@ -73,6 +76,34 @@ def kind_label(kind: str | None) -> str:
 
 def kind_symbol(kind: str | None) -> str:
     return KIND_LABELS.get(kind or "", ("", "y"))[1]
+
+
+def output_symbol(output: Mapping) -> str:
+    """The symbol of an output's quantity as shown in text ("ΔrH", "log₁₀ K", "Q̇"): from its results.json
+    ``quantity``, else from its kind."""
+    q = text(output.get("quantity"))
+    return QUANTITY_SYMBOLS.get(q, q) if q else kind_symbol(output.get("kind"))
+
+
+def mass_basis(output: Mapping) -> str:
+    """What a per-mass output is per kg of, or "" (not per mass): ``basis = "mass"`` of a reaction
+    enthalpy or Gibbs energy is per kg of ``mass_of`` converted; of a heating enthalpy per kg of the
+    species heated (or of the mixture)."""
+    if output.get("basis") != "mass" or "/kg" not in text(output.get("unit")):
+        return ""
+    if output.get("kind") in ("reaction_enthalpy", "reaction_gibbs_energy") and text(output.get("mass_of")):
+        return f"{text(output.get('mass_of'))} converted"
+    if output.get("kind") == "heating_enthalpy":
+        return text(output.get("species")) or "the mixture"
+    return text(output.get("mass_of"))
+
+
+def unit_with_basis(output: Mapping) -> str:
+    """The output's unit with its mass basis: "kJ/kg of acetic_anhydride converted"; else the unit ("" if none)."""
+    u = text(output.get("unit"))
+    u = "" if u in ("", "1") else u
+    b = mass_basis(output)
+    return f"{u} of {b}" if u and b else u
 
 
 def check_results(results: Any) -> Mapping:

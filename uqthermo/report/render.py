@@ -29,7 +29,7 @@ from markupsafe import Markup, escape
 from . import files, style
 from .fields import (
     SAFETY_KINDS, check_results, coverage_probability, headline_index, kind_label, num, outputs, point_estimate, point_u,
-    points, safety_relevant, slugs, text,
+    points, safety_relevant, slugs, text, unit_with_basis,
 )
 from .rounding import (
     fmt_cost, fmt_fixed, fmt_interval, fmt_k, fmt_probability, fmt_sig, fmt_temperature, fmt_u, fmt_value, pct_label,
@@ -309,12 +309,14 @@ def _headline(results: Mapping, o: Mapping, p: Mapping) -> dict:
         })
     if p.get("exceedance_probability") is not None:
         se = num(p.get("exceedance_standard_error"))
+        value = probability_cell(p, "exceedance_probability")
+        basis = text(p.get("exceedance_basis"))
         items.append({
             "label": f"P({limit_text(o) or 'beyond the limit'})",
-            "value": probability_cell(p, "exceedance_probability"),
+            "value": value,
             "detail": (f"standard error {fmt_probability(se, se)}; the bound is one-sided" if se else
                        "no trial beyond the limit: the value shown is the one-sided upper bound"
-                       if num(p.get("exceedance_upper_bound")) is not None else text(p.get("exceedance_basis"))),
+                       if num(p.get("exceedance_upper_bound")) is not None else "" if basis in value else basis),
             "badge": ("no", "limit") if (num(p.get("exceedance_probability")) or 0) > 0 else ("ok", "limit"),
         })
     return {"T": fmt_temperature(p.get("temperature_K")), "items": items}
@@ -333,7 +335,8 @@ def _summary_card(results: Mapping, o: Mapping, p: Mapping) -> dict:
         dl = uncertainty_decimals(lin.get("standard_uncertainty"))
         details.append(f"linear: U = {fmt_fixed(lin.get('expanded_uncertainty'), dl)}{unit} (k = {fmt_k(lin.get('coverage_factor'))})")
     if p.get("exceedance_probability") is not None:
-        details.append(f"P({limit_text(o) or 'beyond the limit'}) = {probability_cell(p, 'exceedance_probability')}")
+        ptxt = probability_cell(p, "exceedance_probability")
+        details.append(f"P({limit_text(o) or 'beyond the limit'}) {'' if ptxt.startswith('<') else '= '}{ptxt}")
     if num(p.get("mtsr_K")) is not None:
         details.append(f"MTSR (no evaporative cooling) {fmt_fixed(p.get('mtsr_K'), d)} K"
                        + (f"; P(MTSR > MTT) = {probability_cell(p, 'p_mtsr_above_mtt')}" if p.get("p_mtsr_above_mtt") is not None else ""))
@@ -409,7 +412,7 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
         pts = points(o)
         entry: dict[str, Any] = {
             "anchor": f"out-{oi + 1}", "number": oi + 1, "name": text(o.get("name")), "kind": kind_label(o.get("kind")),
-            "unit": unit_suffix(o.get("unit")).strip(), "description": text(o.get("description")), "reaction": text(o.get("reaction")),
+            "unit": unit_with_basis(o), "description": text(o.get("description")), "reaction": text(o.get("reaction")),
             "equation": text(o.get("equation")), "span": _span_text(o), "first": oi == 0,
             "figures": [], "tables": [], "headline": None, "summary_card": None, "headline_note": "",
             "drivers_table": None, "drivers_figure": None, "whatif_table": None, "not_validated": [], "drivers_note": "", "limit": "", "phase_changes": [],
@@ -577,13 +580,17 @@ def render_html(results: Mapping, figures: bool = True, _rendered: Sequence | No
 
         _rendered = render_figures(results)
     ctx = build_context(results, figures=figures, rendered=_rendered if figures else None)
-    return environment("html").get_template("report.html.j2").render(**ctx)
+    from .document_order import renumber
+
+    return renumber(environment("html").get_template("report.html.j2").render(**ctx), "html")
 
 
 def render_markdown(results: Mapping, figures: bool = True) -> str:
     """The report as Markdown; figures are referenced as ``figures/NAME.png``."""
     ctx = build_context(results, figures=figures, rendered=None)
-    return environment("md").get_template("report.md.j2").render(**ctx)
+    from .document_order import renumber
+
+    return renumber(environment("md").get_template("report.md.j2").render(**ctx), "md")
 
 
 def write_tables(results: Mapping, out_dir: Path) -> dict[str, Path]:

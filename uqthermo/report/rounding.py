@@ -15,7 +15,9 @@ moves one place left (0.10). Other numbers:
 * probabilities (exceedance, MTSR above MTT/TD24, phase change, criticality classes): two
   significant digits (per cent down to 0.1 %, below that m×10⁻ⁿ) with the one-sided 95 %
   upper bound rounded up and the number of trials, as ``report.style.probability_text``
-  writes them; no hit shows the bound, "< 6×10⁻⁵ (95 % upper bound, 50 000 trials)", never 0 %.
+  writes them; no hit shows the bound, "< 6×10⁻⁵ (95 % upper bound, 50 000 trials)", never 0 %;
+  above 99 % the distance from 100 % keeps two significant digits ("99.86 %"), never 100 % unless
+  every trial; a normal-approximation value below 10⁻⁹ shows as "< 10⁻⁹ (normal approximation)".
   A standard-error column is rounded at its own second significant digit;
 * coverage factor k: two decimals; effective degrees of freedom: integer (∞ above 10⁶);
 * validation tolerance δ and the differences d_low, d_high: two significant digits;
@@ -42,7 +44,7 @@ from .fields import num, pair
 
 __all__ = [
     "uncertainty_decimals", "fmt_fixed", "fmt_sig", "fmt_u", "fmt_interval", "fmt_share", "fmt_share_ci", "fmt_k",
-    "fmt_dof", "fmt_probability", "fmt_value", "fmt_temperature", "fmt_cost", "pct_label",
+    "fmt_dof", "fmt_probability", "fmt_value", "fmt_temperature", "fmt_cost", "pct_label", "distinct_sig",
 ]
 
 
@@ -170,9 +172,23 @@ def fmt_probability(p: Any, se: Any = None) -> str:
         return "—"
     s = num(se)
     dec = uncertainty_decimals(100 * s) if s else None
-    if dec is None:
-        return fmt_sig(100 * v, 3) + " %"
-    return fmt_fixed(100 * v, dec) + " %"
+    shown = fmt_sig(100 * v, 3) if dec is None else fmt_fixed(100 * v, dec)
+    if 0 < v < 1 and num(shown) in (0.0, 100.0):   # not 0 or 1: never shown as "0 %" or "100 %"
+        dec = uncertainty_decimals(100 * min(v, 1 - v)) or 0
+        if dec > 4:
+            return "> 99.9999 %" if v > 0.5 else "< 0.0001 %"
+        shown = fmt_fixed(100 * v, dec)
+    return shown + " %"
+
+
+def distinct_sig(values: Any, sig: int = 3, most: int = 6) -> int:
+    """The fewest significant digits (from ``sig`` up to ``most``) that print different values
+    differently: 1.0727 and 1.0677 need 4 ("1.073", "1.068"), not 3 (both "1.07")."""
+    vals = sorted({v for v in (num(x) for x in (values or [])) if v is not None})
+    for s in range(sig, most + 1):
+        if len({fmt_sig(v, s) for v in vals}) == len(vals):
+            return s
+    return most
 
 
 def fmt_value(x: Any) -> str:

@@ -279,6 +279,8 @@ def _prob_number(x: float, up: bool = False) -> str:
         return "0"
     if x >= 1:
         return "100 %"
+    if 1.0 - x < 0.01:
+        return _near_one(x, up)
     m, e = _sig2(x, up)
     if e >= -3:
         pct = m * 10.0 ** (e + 2)
@@ -291,12 +293,37 @@ def _prob_number(x: float, up: bool = False) -> str:
     return f"{ms}×10{str(e).translate(_SUPERSCRIPT)}" if math.isfinite(m) else "—"
 
 
+def _near_one(x: float, up: bool = False) -> str:
+    """A probability above 99 % and below 1 as per cent, its distance from 100 % to two significant
+    digits (rounded down for an upper bound, so the bound stays outward): 0.99864 → "99.86 %",
+    never "100 %"; beyond 99.9999 % → "> 99.9999 %"."""
+    import math
+
+    q = 1.0 - x
+    if q < 1e-6:
+        return "> 99.9999 %"
+    e = math.floor(math.log10(q))
+    m = q / 10.0**e
+    m = math.floor(m * 10.0 + 1e-9) / 10.0 if up else round(m, 1)
+    if m >= 10.0:
+        m, e = m / 10.0, e + 1
+    dec = max(0, 1 - (e + 2))
+    s = f"{100.0 - m * 10.0 ** (e + 2):.{dec}f}"
+    if "." in s:
+        s = s.rstrip("0").rstrip(".")
+    return f"{s} %"
+
+
 def _lower_near_one(lb: float) -> str:
     """A lower bound close to 1 as per cent, its distance from 100 % rounded up: 0.99985 → "99.985 %"."""
     m, e = _sig2(1.0 - lb, up=True)
     dec = max(0, 1 - (e + 2))
     s = f"{100.0 - m * 10.0 ** (e + 2):.{dec}f}"
     return (s.rstrip("0").rstrip(".") if "." in s else s) + " %"
+
+
+#: below this a probability from a normal approximation (no trials behind it) is shown as "< 10⁻⁹"
+NORMAL_TAIL_FLOOR = 1e-9
 
 
 def count_text(n: int) -> str:
@@ -313,7 +340,8 @@ def probability_text(p, upper_bound=None, trials=None, *, lower_bound=None, conf
     * otherwise the estimate with its bound: ``"1.9 % (95 % upper bound 2.1 %, 20 000 trials)"``;
     * every trial beyond the limit: ``"100 % (all 20 000 trials; 95 % lower bound 99.99 %)"``;
     * without trials (a linear normal-tail estimate): ``"3.2 % (normal approximation)"`` or
-      with ``basis`` the words given.
+      with ``basis`` the words given; below :data:`NORMAL_TAIL_FLOOR` ``"< 10⁻⁹ (normal approximation)"``
+      (a normal tail that far out is no estimate of the real one).
 
     Per cent down to 0.1 %, below that m×10⁻ⁿ; two significant digits; bounds rounded outwards.
 
@@ -360,6 +388,11 @@ def probability_text(p, upper_bound=None, trials=None, *, lower_bound=None, conf
             lb = None
         tail = f"; {level} lower bound {_lower_near_one(lb)}" if lb is not None and math.isfinite(lb) and 0 < lb < 1 else ""
         return f"100 % (all {nt}{tail})"
+    if ub is None and not n and p < NORMAL_TAIL_FLOOR:
+        # a normal-tail value this far out says nothing (the tails of the real distribution are not
+        # normal): the floor, not false precision; results.json keeps the number
+        floor = f"10{str(round(math.log10(NORMAL_TAIL_FLOOR))).translate(_SUPERSCRIPT)}"
+        return f"< {floor} ({basis or 'normal approximation'})"
     text = _prob_number(p)
     if ub is not None:
         return f"{text} ({level} upper bound {_prob_number(ub, up=True)}" + (f", {nt})" if nt else ")")

@@ -24,7 +24,7 @@ from __future__ import annotations
 
 from ..schema import Case, OutputSpec
 
-__all__ = ["output_data", "model_columns"]
+__all__ = ["output_data", "value_data", "model_columns"]
 
 #: output kinds whose value involves no standard entropy
 ENTHALPY_KINDS = ("reaction_enthalpy", "heating_enthalpy", "heat_release", "adiabatic_temperature_rise")
@@ -57,6 +57,13 @@ def output_data(case: Case, o: OutputSpec) -> set[str]:
              *(getattr(o, k, "") for k in ("limit_datum", "mtt_datum", "td24_datum", "initial_pressure_datum")),
              *(f.temperature_datum for f in feeds), *(did for f in feeds for did in f.flows.values())]
     return out | {did for did in extra if did}
+
+
+def value_data(case: Case, o: OutputSpec) -> set[str]:
+    """Datum ids the output's *value* may depend on: :func:`output_data` without the design thresholds
+    it is only compared with (its limit or cooling capacity, MTT, TD24), which enter its probabilities
+    but never y. Drivers and what-if rows of the output list these data only."""
+    return output_data(case, o) - {did for did in (o.limit_datum, o.mtt_datum, o.td24_datum) if did}
 
 
 def model_columns(case: Case, inputs) -> list[int]:

@@ -34,7 +34,38 @@ from typing import Any
 from ...errors import InputError
 from .fields import Collector, read_temperature
 
-__all__ = ["SpeciesLibrary", "is_auto_reference", "AUTO_SCALAR_KEYS", "AUTO_CP_KEYS"]
+__all__ = ["SpeciesLibrary", "is_auto_reference", "AUTO_SCALAR_KEYS", "AUTO_CP_KEYS", "restate_uncertainty"]
+
+
+def _sig2(x: float) -> str:
+    """Two significant digits without exponent for everyday magnitudes: 0.875665 → "0.88", 500 → "500"."""
+    import math
+
+    if x == 0 or not math.isfinite(x):
+        return f"{x:g}"
+    dec = max(0, 1 - math.floor(math.log10(abs(x))))
+    s = f"{round(x, dec):.{dec}f}"
+    return s if 1e-4 <= abs(x) < 1e7 else f"{x:.2g}"
+
+
+def restate_uncertainty(d, node: dict) -> None:
+    """The stated uncertainty of a datum the library chose (not the user's text): in the report unit
+    of the datum (kJ/mol, not J/mol) and to two significant digits, as the report rounds u — the value
+    used keeps its full precision. A u the user wrote is left as written."""
+    if d.kind != "scalar" or len(d.distributions) != 1:
+        return
+    f = d.to_report
+    if "U" in node and "k" in node and not any(k in node for k in ("u", "half_width", "relative_u")):
+        try:
+            U = float(str(node["U"]).split()[0]) * f if len(str(node["U"]).split()) == 2 else None
+        except ValueError:
+            U = None
+        if U is not None:
+            d.stated = f"U = {_sig2(U)} {d.unit} (k = {node['k']})"
+    elif "u" in node and len(node) and not any(k in node for k in ("U", "half_width", "relative_u")):
+        std = float(getattr(d.distributions[0], "std", 0.0))
+        if std > 0:
+            d.stated = f"u = {_sig2(std * f)} {d.unit}"
 
 AUTO_SCALAR_KEYS = {"library", "u", "U", "k", "half_width", "relative_u", "distribution", "dof", "source", "note"}
 AUTO_CP_KEYS = {"library", "relative_u", "extrapolate", "T", "source", "note"}

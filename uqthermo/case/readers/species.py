@@ -257,6 +257,10 @@ def _register_auto(c: Collector, node: dict, key: str, dimension: str, datum_id:
     if parsed is None:
         return None
     d = make_datum(datum_id, quantity, dimension, parsed, species=sp, phase=transition or sym, library=label)
+    if (prov or {}).get("uncertainty_basis") != "user":
+        from .library_auto import restate_uncertainty
+
+        restate_uncertainty(d, node)
     d.assumed = bool(assumed)
     d.provenance = prov
     register(c, data, d, key)

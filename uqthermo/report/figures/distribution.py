@@ -16,7 +16,7 @@ from ..rounding import fmt_fixed, pct_label, uncertainty_decimals
 from ..style import ROLE, mpl_text
 from ..tables.design import limit_text, probability_cell
 from .labels import axis_label, axis_symbol, location_text, set_titles
-from .safety_marks import draw_marks, split_plateau
+from .safety_marks import band_text, draw_marks, draw_threshold, split_plateau, threshold_u
 
 import matplotlib.pyplot as plt  # noqa: E402  (style sets the Agg backend first)
 from matplotlib.figure import Figure  # noqa: E402
@@ -102,16 +102,18 @@ def draw_distribution(results: Mapping, output: Mapping, point: Mapping) -> Figu
             lo_x, hi_x = xs[0], xs[-1]
     lim = limit_on_output(output, point)
     if lim is not None:
-        ax.axvline(lim, color=ROLE["limit"], linewidth=1.8, linestyle="-.")
+        u_lim = threshold_u(output.get("limit"))     # the limit's unit is the output's (K for a final temperature)
+        draw_threshold(ax, lim, u_lim, ROLE["limit"], "-.", 1.8)
         pe = point.get("exceedance_probability")
         lab = f"limit: {limit_text(output)}" if limit_text(output) else "limit"
+        lab += band_text(u_lim, text((output.get("limit") or {}).get("unit")) or "")
         ax.plot([], [], color=ROLE["limit"], linewidth=1.8, linestyle="-.", label=mpl_text(lab))
         if pe is not None:   # on its own legend line: the bound and the trials make it long
             ptxt = probability_cell(point, "exceedance_probability")
             ax.plot([], [], color="none", label=mpl_text(f"P {'' if ptxt.startswith('<') else '= '}{ptxt}"))
         if lo_x is not None:
             span = hi_x - lo_x
-            lo_x, hi_x = min(lo_x, lim - 0.03 * span), max(hi_x, lim + 0.03 * span)
+            lo_x, hi_x = min(lo_x, lim - 2 * u_lim - 0.03 * span), max(hi_x, lim + 2 * u_lim + 0.03 * span)
     if output.get("kind") == "adiabatic_temperature_rise" and lo_x is not None:
         lo_x, hi_x = draw_marks(ax, results, output, point, tuple(atom), ymax, (lo_x, hi_x))
     if lo_x is not None:

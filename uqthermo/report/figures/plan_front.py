@@ -42,7 +42,9 @@ def draw_plan(plan: Mapping) -> Figure:
         labelled = [(xs[i], ys[i], mpl_text(_set_label(f.get("set")))) for i, f in enumerate(front)]
     tU = num(tgt.get("U"))
     if tU is not None:
-        ax.axhline(tU, color=ROLE["limit"], linestyle="-.", linewidth=1.4, label=mpl_text(f"target U = {fmt_fixed(tU, 2)} {unit}"))
+        relative = unit.strip() == "of target"      # U as a multiple of each output's target: the target is 1
+        ax.axhline(tU, color=ROLE["limit"], linestyle="-.", linewidth=1.4,
+                   label=mpl_text("target U (1 = each output's target)" if relative else f"target U = {fmt_fixed(tU, 2)} {unit}"))
     bud = num(plan.get("budget"))
     if bud is not None:
         ax.axvline(bud, color=style.GREY, linestyle=":", linewidth=1.2, label=mpl_text(f"budget {int(bud)}"))
@@ -51,7 +53,8 @@ def draw_plan(plan: Mapping) -> Figure:
         ax.scatter([num(best["cost"])], [num(best["U"])], marker="*", s=190, color=ROLE["best"], edgecolor="white",
                    linewidth=0.6, zorder=5, label=mpl_text(f"recommended: {_set_label(best.get('set'))}"))
     ax.set_xlabel(mpl_text(f"cost / {cur}"))
-    ax.set_ylabel(axis_label(f"U ({pct_label(num(tgt.get('coverage_probability')) or 0.95)})", unit))
+    ulab = f"U ({pct_label(num(tgt.get('coverage_probability')) or 0.95)})"
+    ax.set_ylabel(mpl_text(f"{ulab} / target U") if unit.strip() == "of target" else axis_label(ulab, unit))
     where = ""
     if tgt.get("output"):
         where = f" for {text(tgt.get('output'))}"

@@ -93,12 +93,21 @@ def draw_marks(ax, results: Mapping, output: Mapping, point: Mapping, atom: tupl
         if x is None:
             continue
         label = f"{name} {fmt_T(T, tunit)}"
+        acc = num(output.get("accumulation"))
+        acc = 1.0 if acc is None or acc <= 0 else acc
+        u_x = threshold_u(output.get(key[:-2])) / acc        # on the rise axis: ΔT_ad = (T − T_process)/accumulation
+        tp = num(output.get("process_temperature_K"))
+        where = (f"MTSR = T_process {fmt_T(tp, tunit)} + {acc:g}·ΔT_ad reaches {name}" if tp is not None
+                 else f"the final temperature reaches {name}")
         if x <= hi_x + 0.6 * span and x >= lo_x - 0.6 * span:
-            ax.axvline(x, color=style.INK, linewidth=1.3, linestyle=ls)
-            ax.plot([], [], color=style.INK, linewidth=1.3, linestyle=ls, label=mpl_text(f"{label} (MTSR = {name})"))
-            lo_x, hi_x = min(lo_x, x - 0.02 * span), max(hi_x, x + 0.02 * span)
+            draw_threshold(ax, x, u_x, style.INK, ls, 1.3)
+            ax.plot([], [], color=style.INK, linewidth=1.3, linestyle=ls,
+                    label=mpl_text(f"{label}: {where} at ΔT_ad = {x:.0f} K{band_text(u_x, 'K')}"))
+            lo_x, hi_x = min(lo_x, x - 2 * u_x - 0.02 * span), max(hi_x, x + 2 * u_x + 0.02 * span)
         else:
-            ax.plot([], [], color="none", label=mpl_text(f"{label}: off scale (ΔT_ad = {x:.0f} K)"))
+            u_T = threshold_u(output.get(key[:-2]))
+            ax.plot([], [], color="none", label=mpl_text(f"{label}{f' (u = {u_T:g} K)' if u_T else ''}: off scale; "
+                                                         f"{where} at ΔT_ad = {x:.0f} K"))
     start = num(output.get("start_temperature_K"))
     if start is not None:
         a, b = OFFSET.get(tunit, (1.0, 0.0))
@@ -108,4 +117,27 @@ def draw_marks(ax, results: Mapping, output: Mapping, point: Mapping, atom: tupl
     return lo_x, hi_x
 
 
-__all__ = ["split_plateau", "draw_marks"]
+def threshold_u(block) -> float:
+    """The standard uncertainty of a limit/MTT/TD24 block of results.json (0 when exact or missing)."""
+    u = num(block.get("standard_uncertainty")) if isinstance(block, Mapping) else None
+    return u if u is not None and u > 0 else 0.0
+
+
+def draw_threshold(ax, x: float, u: float, color, linestyle, linewidth: float) -> None:
+    """A threshold on the axis: a sharp line when exact, a band x ± 2u (≈ 95 % for a normal
+    uncertainty) with a thin line at x when uncertain."""
+    if u > 0:
+        ax.axvspan(x - 2 * u, x + 2 * u, color=color, alpha=0.16, linewidth=0)
+        ax.axvline(x, color=color, linewidth=0.8, linestyle=linestyle, alpha=0.9)
+    else:
+        ax.axvline(x, color=color, linewidth=linewidth, linestyle=linestyle)
+
+
+def band_text(u_axis: float, unit: str) -> str:
+    """" (band ± 2u = ± 4 K)" for an uncertain threshold, "" when exact."""
+    if u_axis <= 0:
+        return ""
+    return f" (band ± 2u = ± {2 * u_axis:.2g}{'' if unit in ('', '1') else ' ' + unit})"
+
+
+__all__ = ["split_plateau", "draw_marks", "draw_threshold", "threshold_u", "band_text"]

@@ -31,7 +31,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
-from ..fields import coverage_probability, headline_index, kind_symbol, num, outputs, pair, points, text
+from ..fields import coverage_probability, headline_index, kind_symbol, mass_basis, num, outputs, pair, points, text
 from ..rounding import fmt_fixed, fmt_k, fmt_sig, pct_label, uncertainty_decimals
 from . import numbers as N
 from .numbers import Num, Parts
@@ -179,6 +179,8 @@ def statement(results: Mapping, oi: int, tunit: str = "K") -> Statement:
         y = num(lin.get("estimate")) if num(lin.get("estimate")) is not None else y_mc
         where = N.path(base, "linear", "estimate") if num(lin.get("estimate")) is not None else N.path(base, "monte_carlo", "mean")
         st.parts = [*sym, " = ", Num(fmt_sig(y, 6), where, "value"), unit, " (exact: no uncertain input reaches this output)"]
+    if mass_basis(o) and unit in st.parts:      # per kg of what: after the estimate's unit
+        st.parts.insert(st.parts.index(unit) + 1, f" of {mass_basis(o)}")
     st.details += _curve_line(results, oi, tunit)
     st.details += _limit_line(o, oi, p, k, tunit)
     v = p.get("linear_validated")

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 
-from ..fields import kind_symbol, num, point_estimate, point_u, points, text
+from ..fields import num, output_symbol, point_estimate, point_u, points, text
 from ..rounding import fmt_fixed, fmt_probability, fmt_sig, fmt_temperature, fmt_u, fmt_value, uncertainty_decimals
 from .display import DisplayTable, in_unit, output_unit, unit_suffix
 
@@ -34,7 +34,7 @@ def limit_text(output: Mapping) -> str:
     shown = _shown_unit(written) if isinstance(written, str) and written.strip() else \
         f"{fmt_value(value)}{'' if unit in ('', '1') else ' ' + unit}"
     what = "final temperature" if output.get("kind") == "adiabatic_temperature_rise" and \
-        output.get("limit_applies_to", "final_temperature") != "rise" else kind_symbol(output.get("kind"))
+        output.get("limit_applies_to", "final_temperature") != "rise" else output_symbol(output)
     return f"{what} {side} {label + ' ' if label != 'limit' else ''}{shown}"
 
 
@@ -150,7 +150,7 @@ def safety_table(results: Mapping, output: Mapping, key: str) -> DisplayTable:
         n = (p.get("monte_carlo") or {}).get("samples")
         for k, v in probs.items():
             add(f"P(criticality class {text(k)})",
-                probability_text(v, ubs.get(k), n) if ubs else fmt_fixed(100 * (num(v) or 0), 1) + " %")
+                probability_text(v, ubs.get(k), n) if ubs else fmt_probability(num(v) or 0))
     for k, lab in (("p_mtsr_above_mtt", "P(MTSR > MTT)"), ("p_mtsr_above_td24", "P(MTSR > T_D24)"),
                    ("p_phase_change", "P(the charge reaches a phase change on its real path, e.g. the solvent boils)")):
         if p.get(k) is not None:

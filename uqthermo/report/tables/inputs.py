@@ -17,6 +17,7 @@ def inputs_table(results: Mapping) -> DisplayTable:
     cols = ["Datum", "Quantity", "Value", "Stated uncertainty", "u", "Unit", "Distribution", "Source"]
     align = ["l", "w", "r", "w", "r", "w", "w", "w"]
     t = DisplayTable("inputs", "Input data", cols, align)
+    written = _as_written(results)
     for i in rows:
         est, u = i.get("estimate"), i.get("standard_uncertainty")
         if isinstance(est, (list, tuple)):
@@ -34,6 +35,9 @@ def inputs_table(results: Mapping) -> DisplayTable:
             d = uncertainty_decimals(u)
             value = fmt_fixed(est, d) if d is not None else fmt_value(est)
             ustr = fmt_u(u) if d is not None else ("0 (exact)" if num(u) == 0 else "—")
+            w = written.get(text(i.get("datum")))
+            if w and text(i.get("unit")) == "K" and num(est) is not None:     # the case's own text, unrounded
+                value = f"{fmt_value(est)} ({w})"
         source = text(i.get("source"))
         lib = i.get("library")
         if lib not in (None, False, ""):
@@ -53,6 +57,21 @@ def inputs_table(results: Mapping) -> DisplayTable:
     if n_multi:
         t.notes.append("Heat-capacity data with several coefficients count as one datum in the driver ranking; their parameter count is in tables/inputs.csv.")
     return t
+
+
+def _as_written(results: Mapping) -> dict[str, str]:
+    """Datum id → the case's own text of a limit, MTT or TD24 written in another unit ("95 °C")."""
+    out: dict[str, str] = {}
+    for o in results.get("outputs") or []:
+        if not isinstance(o, Mapping):
+            continue
+        for key in ("limit", "mtt", "td24"):
+            blk = o.get(key)
+            if isinstance(blk, Mapping) and isinstance(blk.get("as_written"), str) and blk.get("datum"):
+                w = " ".join(blk["as_written"].replace("degC", "°C").replace("degF", "°F").split())
+                if w and not w.endswith(" K"):
+                    out[text(blk["datum"])] = w
+    return out
 
 
 def correlations_table(results: Mapping) -> DisplayTable:

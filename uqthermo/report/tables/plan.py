@@ -5,7 +5,7 @@ from __future__ import annotations
 from collections.abc import Mapping
 
 from ..fields import num, text
-from ..rounding import fmt_cost, fmt_sig
+from ..rounding import distinct_sig, fmt_cost, fmt_sig
 from .display import DisplayTable
 
 __all__ = ["plan_candidates_table", "plan_front_table"]
@@ -30,10 +30,11 @@ def plan_front_table(plan: Mapping) -> DisplayTable:
     t = DisplayTable("plan_front", "Cost–uncertainty front (each set is the cheapest way to reach its U)",
                      [f"Cost / {cur}", f"U / {unit}" if unit else "U", "Purchases", "Meets target"], ["r", "r", "w", "l"])
     tU = num(tgt.get("U"))
+    sig = distinct_sig([f.get("U") for f in plan.get("front") or [] if isinstance(f, Mapping)] + [tU])
     for f in plan.get("front") or []:
         if not isinstance(f, Mapping):
             continue
         U = num(f.get("U"))
         meets = "—" if tU is None or U is None else ("yes" if U <= tU else "no")
-        t.rows.append([fmt_cost(f.get("cost")), fmt_sig(U, 3), text(f.get("set")) or "(none)", meets])
+        t.rows.append([fmt_cost(f.get("cost")), fmt_sig(U, sig), text(f.get("set")) or "(none)", meets])
     return t
