@@ -183,7 +183,7 @@ def test_mass_basis_result_says_per_kg_of_what(nh3_run):
     out = next(o for o in nh3_run["results"]["outputs"] if o["name"] == "dH_kg")
     assert unit_with_basis(out) == "kJ/kg of NH3 converted"
     md = nh3_run["md"]
-    head = next(line for line in md.splitlines() if line.startswith("- **ΔrH(450 °C) = "))
+    head = next(line for line in md.splitlines() if line.startswith("- **dH\\_kg: ΔrH(450 °C) = "))
     assert " kJ/kg of NH3 converted, U = " in head
     assert "dH\\_kg — reaction enthalpy in kJ/kg of NH3 converted" in md
     assert "| kJ/kg of NH3 converted |" in md
