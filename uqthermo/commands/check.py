@@ -30,8 +30,9 @@ def execute(args) -> int:
                 console.print(f"{path}: warning: {w}")
             continue
         n_unc = sum(1 for d in case.data.values() if d.uncertain)
-        console.print(f"{markup(path)}: OK — {len(case.species)} species, {len(case.reactions)} reactions, "
-                      f"{len(case.outputs)} outputs, {n_unc} uncertain data ({len(model.inputs.variables)} variables)")
+        n_var = len(model.inputs.variables)
+        console.print(f"{markup(path)}: OK — {len(case.species)} species, {_count(len(case.reactions), 'reaction')}, "
+                      f"{_count(len(case.outputs), 'output')}, {n_unc} uncertain data ({_count(n_var, 'variable')})")
         for w in warnings:
             console.print(f"{markup(path)}: warning: {markup(w)}")
     if problems:
@@ -40,3 +41,8 @@ def execute(args) -> int:
         print(f"{len(problems)} problem(s) found", file=sys.stderr)
         return 2
     return 0
+
+
+def _count(n: int, noun: str) -> str:
+    """``n`` with ``noun``, plural unless one: "1 reaction", "2 reactions"."""
+    return f"{n} {noun}" + ("" if n == 1 else "s")
