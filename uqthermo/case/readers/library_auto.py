@@ -204,6 +204,11 @@ class SpeciesLibrary:
             out["u"] = f"{u.u:.15g} {unit}"
         if not user and u.u > 0:
             src_text += f"; u: {u.basis} ({u.reason})"
+        return self._with_provenance(out, node, src_text, prov, sel)
+
+    def _with_provenance(self, out: dict, node: dict, src_text: str, prov: dict, sel) -> dict:
+        """``out`` with its source text (the user's own ``source`` appended) and the private provenance
+        fields the species reader reads back (provenance, assumed, estimate, label)."""
         if isinstance(node.get("source"), str) and node["source"].strip():
             src_text += "; " + node["source"].strip()
         out["source"] = src_text
@@ -316,11 +321,4 @@ class SpeciesLibrary:
             src_text += f"; u: {u.basis} ({u.reason})"
         if "extrapolate" in node:
             out["extrapolate"] = node["extrapolate"]
-        if isinstance(node.get("source"), str) and node["source"].strip():
-            src_text += "; " + node["source"].strip()
-        out["source"] = src_text
-        out["_provenance"] = prov
-        out["_assumed"] = bool(prov["assumed"])
-        out["_estimate"] = bool(sel.estimate)
-        out["_label"] = self.label(sel)
-        return out
+        return self._with_provenance(out, node, src_text, prov, sel)
