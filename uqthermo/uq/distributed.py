@@ -64,7 +64,7 @@ import numpy as np
 
 from ..errors import StatisticsError
 from .inputs import InputSet
-from .montecarlo import (adaptive_batch_size, batch_origin, batch_summary, batch_test, check_run_arguments,
+from .montecarlo import (adaptive_batch_size, batch_origin, batch_summary, batch_test, cap_warning, check_run_arguments,
                          evaluate_batch, trial_design)
 from .montecarlo_result import (HISTOGRAM_BINS, KEEP_VALUES, MAX_STORED_VALUES, Collector, MonteCarloResult,
                                 collected_result, kept_rows, summarised_result)
@@ -469,9 +469,7 @@ def _adaptive(client, n_workers, remote, design, method, seed, p, chunk_size, nd
                 break
     warnings: list[str] = []
     if not converged:
-        warnings.append(f"adaptive Monte Carlo stopped at {done} trials (the cap max_samples = {max_samples}, in "
-                        f"whole batches of {M_b}) before u(y) and the interval endpoints were stable to "
-                        f"{ndigits} significant digits")
+        warnings.append(cap_warning(done, max_samples, M_b, ndigits))
     return collected_result(collector, d, p, ndigits, warnings, conv_n, conv_u, adaptive=True,
                             converged=converged, stability=stability, batch_size=M_b, batches=batches,
                             seed=int(seed), sampling=method, rotated_scores=design.rotation is not None)

@@ -55,7 +55,7 @@ from .sampling import UniformStream, sampling_method
 from .stats import OrderStatistics, numerical_tolerance
 from .trials import TrialDesign
 
-__all__ = ["propagate_monte_carlo", "adaptive_batch_size", "batch_summary", "batch_test", "check_run_arguments"]
+__all__ = ["cap_warning", "propagate_monte_carlo", "adaptive_batch_size", "batch_summary", "batch_test", "check_run_arguments"]
 
 #: relative size below which a gradient direction (or the new part of a score axis) is
 #: left out of :func:`score_rotation`'s leading columns
@@ -226,6 +226,13 @@ def batch_summary(Y: np.ndarray, p: float) -> np.ndarray:
     whose batch-to-batch spread :func:`batch_test` checks)."""
     sym, short = OrderStatistics(Y.T.copy(order="C"), p).intervals(p)
     return np.stack([Y.mean(axis=0), Y.std(axis=0, ddof=1), sym[:, 0], sym[:, 1], short[:, 0], short[:, 1]])
+
+
+def cap_warning(done: int, max_samples: int, batch_size: int, ndigits: int) -> str:
+    """The warning of an adaptive run (JCGM 101 §7.9) that reached its cap before it was stable."""
+    return (f"adaptive Monte Carlo stopped at {done} trials (the cap max_samples = {max_samples}, in "
+            f"whole batches of {batch_size}) before u(y) and the interval endpoints were stable to "
+            f"{ndigits} significant digits")
 
 
 def batch_test(summaries: list[np.ndarray], u_all: np.ndarray, ndigits: int,
@@ -458,9 +465,7 @@ def propagate_monte_carlo(
                 converged, stability = stable, spread
                 break
         if not converged:
-            warnings.append(f"adaptive Monte Carlo stopped at {done} trials (the cap max_samples = {max_samples}, in "
-                            f"whole batches of {M_b}) before u(y) and the interval endpoints were stable to "
-                            f"{ndigits} significant digits")
+            warnings.append(cap_warning(done, max_samples, M_b, ndigits))
 
     assert collector is not None
     return collected_result(collector, d, p, ndigits, warnings, conv_n, conv_u, adaptive=adaptive,
