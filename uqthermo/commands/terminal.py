@@ -57,7 +57,8 @@ def print_summary(results: dict, console=None) -> None:
     raw, results = results, markup_view(results)
     console = console or make_console()
     p = None
-    notes: dict[str, None] = {}
+    # one legend line per ranking method; for linear shares the wording with covariance rows covers the plain one
+    notes: dict[str | None, str] = {}
     table = Table(title=results["case"]["title"], title_justify="left", header_style="bold", show_lines=False)
     # linear shares and Sobol' indices in one table: each row and each legend line carry a tag ("[u²]",
     # "[S1]") so that every legend visibly applies to its rows (rich markup: a backslash makes "[" literal)
@@ -78,19 +79,16 @@ def print_summary(results: dict, console=None) -> None:
             tag = tags.get(pt.get("drivers_method"), "")
             if drivers:
                 drivers = tag + drivers
-            if drivers and rows_sum_note(pt):
-                notes[tag + rows_sum_note(pt)] = None
+            method = pt.get("drivers_method")
+            if drivers and rows_sum_note(pt) and (method not in notes or pt.get("covariance_terms")):
+                notes[method] = tag + rows_sum_note(pt)
             table.add_row(f"{out['name']} \\[{out['unit']}]", f"{pt['temperature_K']:.2f}", sig(est, u), sig(u, u),
                           f"[{sig(ci[0], u)}, {sig(ci[1], u)}]",
                           _reported(pt), drivers)
         if len(pts) > len(show):
             table.add_row(f"  … {len(pts) - len(show)} more temperatures in results.json", "", "", "", "", "", "")
     console.print(table)
-    for tag in ("", tags.get("linear", "")):
-        plain = tag + rows_sum_note({"drivers_method": "linear"})
-        if plain in notes and any(n != plain and n.startswith(plain.split(";")[0]) for n in notes):
-            del notes[plain]    # the note on covariance rows says it too: one line, not two
-    for n in notes:
+    for n in notes.values():
         console.print(f"top drivers: {n}")
     from ..report.fields import mass_basis
 
