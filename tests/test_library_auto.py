@@ -516,3 +516,35 @@ def test_data_command_marks_the_outlier_and_shows_the_basis(capsys):
     assert main(["data", "acetic anhydride", "--T", "298.15K..340K"]) == 0
     out = capsys.readouterr().out
     assert "u = 2 % [assumed]" in out and "outlier: -34 % from ★" in out
+
+
+# ------------------------------------------------------------------ extrapolation warnings name the curve's form
+@pytest.mark.parametrize("cas, form, table", [
+    ("108-87-2", "Zabransky cubic spline (isobaric)", "zabransky"),     # methylcyclohexane(l)
+    ("108-24-7", "DIPPR 100 polynomial (Perry Table 2-153)", "perry"),  # acetic anhydride(l)
+])
+def test_extrapolation_warning_names_the_library_curve_form_and_datum(tmp_path, cas, form, table):
+    """QA: a library liquid curve (held in Shomate form inside) evaluated beyond its range warned about
+    "the shomate heat capacity". The warning names the source's own form, the species/phase and the
+    datum; the range is chemicals' own (zabransky_dict_iso_s, Cp_data_Perry_Table_153_100)."""
+    from uqthermo.case.loader import load_case
+    from uqthermo.pipeline.job import prepare_model
+
+    chem_hc._load_Cp_data()
+    if table == "zabransky":
+        z = chem_hc.zabransky_dict_iso_s[cas]
+        lo, hi = z.Tmin, z.Tmax
+    else:
+        row = chem_hc.Cp_data_Perry_Table_153_100.loc[cas]
+        lo, hi = float(row.Tmin), float(row.Tmax)
+    T = hi + 25.0
+    text = (f'title = "liquid warmed past its Cp range (test)"\n[species.X]\ncas = "{cas}"\n[species.X.l]\n'
+            'formation_enthalpy = { library = "auto" }\nheat_capacity = { library = "auto", extrapolate = true }\n'
+            f'[[output]]\nname = "h"\nkind = "heating_enthalpy"\nspecies = "X(l)"\nfrom = "298.15 K"\nto = "{T:g} K"\n')
+    case = load_case(str(_write(tmp_path, text)))
+    _, warnings = prepare_model(case)
+    (line,) = [w for w in warnings if "validity range" in w]
+    assert line.startswith("output.h: extrapolated beyond a correlation's validity range")
+    assert f"X(l): T = {T:g} K outside the validity range {lo:g}-{hi:g} K of the {form} heat capacity" in line
+    assert line.endswith("(datum X.l.heat_capacity)")
+    assert "shomate" not in line.lower()

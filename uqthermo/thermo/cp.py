@@ -142,6 +142,11 @@ class CpModel:
     ----------
     kind : str
         ``"constant"``, ``"polynomial"``, ``"shomate"`` or ``"nasa7"``.
+    form : str
+        How messages name the curve: the model's own name (``"Shomate"``, ``"NASA-7"``, ...) by
+        default; a curve taken from a source in another form and held here in this model's form
+        (a Zabransky spline or a DIPPR polynomial held as Shomate ranges) is given its source's
+        form, e.g. ``cp.form = "Zabransky cubic spline (isobaric)"``.
     coefficients : numpy.ndarray
         Nominal coefficient vector, shape ``(P,)``, native units of the model.
     coefficient_names : list of str
@@ -157,6 +162,7 @@ class CpModel:
     """
 
     kind: str = "base"
+    form: str = "base"
     _n_terms: int = 0
     _term_names: tuple[str, ...] = ()
 
@@ -314,7 +320,7 @@ class CpModel:
             return None
         Ts = " and ".join(f"T = {format_number(x)} K" for x in bad)
         return (f"{Ts} outside the validity range {format_number(self.t_min)}-{format_number(self.t_max)} K "
-                f"of the {self.kind} heat capacity")
+                f"of the {self.form} heat capacity")
 
     def cp_basis(self, T) -> np.ndarray:
         """Basis of :math:`C_p`: ``cp(T, c) = cp_basis(T) @ c``; shape ``T.shape + (P,)``, J/(mol K) per unit coefficient."""
@@ -463,6 +469,7 @@ class ConstantCp(CpModel):
     """
 
     kind = "constant"
+    form = "constant"
     _n_terms = 1
     _term_names = ("Cp",)
     _h_monomials = ((1, 1.0),)
@@ -509,6 +516,7 @@ class PolynomialCp(CpModel):
     """
 
     kind = "polynomial"
+    form = "polynomial"
     _n_terms = 5
     _term_names = ("a", "b", "c", "d", "e")
     _h_monomials = ((1, 1.0), (2, 0.5), (3, 1.0 / 3.0), (4, 0.25), (-1, -1.0))
@@ -572,6 +580,7 @@ class ShomateCp(CpModel):
     """
 
     kind = "shomate"
+    form = "Shomate"
     _n_terms = 5
     _term_names = ("A", "B", "C", "D", "E")
     # 1000·[t, t²/2, t³/3, t⁴/4, -1/t] with t = T/1000, as powers of T
@@ -639,6 +648,7 @@ class Nasa7Cp(CpModel):
     """
 
     kind = "nasa7"
+    form = "NASA-7"
     _n_terms = 7
     _term_names = ("a1", "a2", "a3", "a4", "a5", "a6", "a7")
     _h_monomials = ((1, R), (2, R / 2.0), (3, R / 3.0), (4, R / 4.0), (5, R / 5.0), None, None)
