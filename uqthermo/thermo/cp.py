@@ -143,10 +143,7 @@ class CpModel:
     kind : str
         ``"constant"``, ``"polynomial"``, ``"shomate"`` or ``"nasa7"``.
     form : str
-        How messages name the curve: the model's own name (``"Shomate"``, ``"NASA-7"``, ...) by
-        default; a curve taken from a source in another form and held here in this model's form
-        (a Zabransky spline or a DIPPR polynomial held as Shomate ranges) is given its source's
-        form, e.g. ``cp.form = "Zabransky cubic spline (isobaric)"``.
+        Name in messages (``"Shomate"``, ``"NASA-7"``...); a library curve held in another model's form sets its own.
     coefficients : numpy.ndarray
         Nominal coefficient vector, shape ``(P,)``, native units of the model.
     coefficient_names : list of str
@@ -468,8 +465,7 @@ class ConstantCp(CpModel):
         Evaluate outside the range instead of raising.
     """
 
-    kind = "constant"
-    form = "constant"
+    kind, form = "constant", "constant"
     _n_terms = 1
     _term_names = ("Cp",)
     _h_monomials = ((1, 1.0),)
@@ -515,8 +511,7 @@ class PolynomialCp(CpModel):
         Evaluate outside the range instead of raising.
     """
 
-    kind = "polynomial"
-    form = "polynomial"
+    kind, form = "polynomial", "polynomial"
     _n_terms = 5
     _term_names = ("a", "b", "c", "d", "e")
     _h_monomials = ((1, 1.0), (2, 0.5), (3, 1.0 / 3.0), (4, 0.25), (-1, -1.0))
@@ -579,8 +574,7 @@ class ShomateCp(CpModel):
         Evaluate outside the overall range with the nearest range instead of raising.
     """
 
-    kind = "shomate"
-    form = "Shomate"
+    kind, form = "shomate", "Shomate"
     _n_terms = 5
     _term_names = ("A", "B", "C", "D", "E")
     # 1000·[t, t²/2, t³/3, t⁴/4, -1/t] with t = T/1000, as powers of T
@@ -647,8 +641,7 @@ class Nasa7Cp(CpModel):
         Evaluate outside the overall range with the nearest range instead of raising.
     """
 
-    kind = "nasa7"
-    form = "NASA-7"
+    kind, form = "nasa7", "NASA-7"
     _n_terms = 7
     _term_names = ("a1", "a2", "a3", "a4", "a5", "a6", "a7")
     _h_monomials = ((1, R), (2, R / 2.0), (3, R / 3.0), (4, R / 4.0), (5, R / 5.0), None, None)
