@@ -17,7 +17,7 @@ from __future__ import annotations
 from collections.abc import Mapping
 from typing import Any
 
-__all__ = ["table_entry", "document_order", "number"]
+__all__ = ["document_order", "number", "table_entry"]
 
 
 def table_entry(table: Any) -> dict:
