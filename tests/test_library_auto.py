@@ -624,3 +624,30 @@ def test_scalar_outlier_in_the_shipped_tables_is_left_out_and_warned(tmp_path, c
     # the data command marks it
     assert main(["data", "64-19-7"]) == 0
     assert "outlier: +29.46 J/(mol*K) from ★, left out of u" in capsys.readouterr().out
+
+
+def test_reprinted_values_make_no_majority_for_the_outlier_rule():
+    """Tetramethylsilane ΔfH°(g) in chemicals' tables (chemicals.reaction.Hfg): JANAF -286.604, WebBook
+    -286.60, Yaws -286.60 and CRC -239.1 kJ/mol. The first three are one evaluation reprinted (the
+    WebBook's gas-phase values of such species are JANAF's), so there are two independent values, not
+    a majority of three against one: CRC is not screened out and u stays half the spread (23.75 kJ/mol),
+    not the 0.5 kJ/mol assumed for JANAF. Sulfur S(g) in the same tables: JANAF 276.98 (= Yaws), WebBook
+    277.04, CRC 277.2 and API-TDB -20.63 kJ/mol: four distinct values, so API-TDB is still left out."""
+    from uqthermo.case.library.uncertainty import copy_groups
+
+    tms = {m: chem_reaction.Hfg("75-76-3", method=m) for m in ("JANAF", "WEBBOOK", "YAWS", "CRC")}
+    assert max(tms[m] for m in ("JANAF", "WEBBOOK", "YAWS")) - min(tms[m] for m in ("JANAF", "WEBBOOK", "YAWS")) <= 10.0
+    assert copy_groups(list(tms.values()), "formation_enthalpy") == [[0, 1, 2], [3]]
+    sel = select_value(identify(cas="75-76-3"), "formation_enthalpy", "g")
+    assert sel.chosen.source.key == "JANAF" and sel.value == pytest.approx(tms["JANAF"])
+    assert sel.uncertainty.outliers == () and sel.uncertainty.basis == "spread"
+    assert sel.uncertainty.u == pytest.approx(0.5 * (tms["CRC"] - tms["JANAF"]))
+    assert "give the same value to 0.01 kJ/mol (one evaluation reprinted: counted once)" in sel.uncertainty.reason
+    assert not any(s["outlier"] for s in sel.provenance()["sources"])
+
+    s = {m: chem_reaction.Hfg("7704-34-9", method=m) for m in ("JANAF", "WEBBOOK", "CRC", "YAWS", "API_TDB_G")}
+    assert s["JANAF"] == s["YAWS"] and s["API_TDB_G"] == pytest.approx(-20630.0)
+    sel = select_value(identify(cas="7704-34-9"), "formation_enthalpy", "g")
+    (out,) = sel.uncertainty.outliers
+    assert out["source"].startswith("API-TDB") and out["value"] == pytest.approx(s["API_TDB_G"])
+    assert out["rule"] == "median/MAD of 4 distinct values from 5 sources, equal values counted once"

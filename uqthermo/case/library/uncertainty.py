@@ -39,7 +39,9 @@ each temperature of the window where other sources give a Cp (:func:`screen_outl
 **Outliers of scalars** (ΔfH°, S°, Tb, ...; :func:`screen_scalar_outliers`), where rule 4 applies
 (not to an exact, stated or estimated value): the same robust rule (:func:`robust_outliers`) on the
 sources' values when there are three or more, with a floor of :data:`OUTLIER_FACTOR` times the
-assumed u of a compilation (:func:`outlier_floor`); two values keep their spread.
+assumed u of a compilation (:func:`outlier_floor`); two values keep their spread. Values equal to
+:func:`copy_tolerance` count once (:func:`copy_groups`): a reprint is not a second opinion, so JANAF
+reprinted by the WebBook and Yaws is no majority against the CRC Handbook.
 
 The selected curve or value is never screened out (if it is the odd one, the spread stays). An
 outlier is left out of the spread, named with its disagreement in the uncertainty's reason and in
@@ -55,11 +57,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .candidates import CurveCandidate, ScalarCandidate
+from .candidates import QUANTITY_UNITS, CurveCandidate, ScalarCandidate
 
 __all__ = ["Uncertainty", "ASSUMED", "OUTLIER_RELATIVE", "scalar_uncertainty", "curve_uncertainty", "assumed_value",
            "screen_outliers", "outlier_text", "robust_outliers", "OUTLIER_FACTOR", "outlier_floor",
-           "screen_scalar_outliers", "scalar_outlier_text"]
+           "screen_scalar_outliers", "scalar_outlier_text", "copy_tolerance", "copy_groups"]
 
 OUTLIER_RELATIVE = 0.10
 """Relative disagreement beyond which a heat capacity is screened as an outlier: five times the 2 %
@@ -179,7 +181,7 @@ def scalar_uncertainty(chosen: ScalarCandidate, others: list[ScalarCandidate], *
         half = 0.5 * (max(vals) - min(vals))
         if half > u0:
             result = Uncertainty(half, False, "spread",
-                                 f"half the spread of {len(vals)} sources ({_fmt(min(vals), q)} to {_fmt(max(vals), q)}), "
+                                 f"half the spread of {len(vals)} sources ({_fmt(min(vals), q, 4)} to {_fmt(max(vals), q, 4)}), "
                                  f"larger than the {basis0} {_fmt(u0, q)}")
         else:
             result = Uncertainty(u0, False, basis0, why0 + f"; larger than half the spread of {len(vals)} sources "
@@ -189,6 +191,16 @@ def scalar_uncertainty(chosen: ScalarCandidate, others: list[ScalarCandidate], *
 
         result = replace(result, reason=f"{result.reason}; {scalar_outlier_text(outliers, chosen)}",
                          outliers=tuple(outliers))
+    elif result.basis == "spread" and len(vals) >= 3:
+        from dataclasses import replace
+
+        groups = copy_groups(vals, q)
+        if len(groups) < 3:
+            srcs = [chosen] + measured
+            same = "; ".join(", ".join(srcs[i].source.label for i in g) for g in groups if len(g) > 1)
+            result = replace(result, reason=f"{result.reason}; {same} give the same value to 0.01 "
+                                            f"{_fmt(0, q).split()[-1]} (one evaluation reprinted: counted once), so "
+                                            f"only {len(groups)} distinct values remain, no majority to leave one out")
     return result
 
 
@@ -213,16 +225,49 @@ def screen_scalar_outliers(chosen: ScalarCandidate, others: list[ScalarCandidate
         return []
     others = [o for o in others if not o.estimate]
     relative, absolute = outlier_floor(chosen.quantity)
-    flagged, _, limit = robust_outliers([chosen.value] + [o.value for o in others], relative=relative, absolute=absolute)
+    groups = copy_groups([chosen.value] + [o.value for o in others], chosen.quantity)
+    # one value per group of equal values (the selected value's group first), so reprints make no majority
+    flagged, _, limit = robust_outliers([chosen.value] + [others[g[0] - 1].value for g in groups[1:]],
+                                        relative=relative, absolute=absolute)
+    n = len(others) + 1
+    rule = (f"median/MAD of {n} sources" if len(groups) == n else
+            f"median/MAD of {len(groups)} distinct values from {n} sources, equal values counted once")
     out = []
-    for i in flagged:
+    for i in sorted(j for g in flagged for j in groups[g]):
         o = others[i - 1]
         dev = o.value - chosen.value
         out.append({"source": o.source.label, "value": float(o.value), "selected_value": float(chosen.value),
                     "deviation": float(dev), "limit": float(limit), "temperature_K": o.temperature,
                     "deviation_percent": float(100.0 * dev / abs(chosen.value)) if chosen.value else None,
-                    "rule": f"median/MAD of {len(others) + 1} sources"})
+                    "rule": rule})
     return out
+
+
+def copy_tolerance(quantity: str) -> float:
+    """Two sources' values of a scalar closer than this (SI) count as one value: 0.01 in the unit the
+    tables print (kJ/mol for energies, J/(mol K), K) — the last digit of a two-decimal table. Such
+    agreement is the mark of one evaluation reprinted (the NIST WebBook gives JANAF's gas-phase values
+    for inorganic species; Yaws and the CRC Handbook take many of theirs from the same tables), not of
+    independent measurements. A rule of our own."""
+    return 10.0 * (1 + 1e-9) if QUANTITY_UNITS.get(quantity) == "J/mol" else 0.01 * (1 + 1e-9)
+
+
+def copy_groups(values, quantity: str) -> list[list[int]]:
+    """Indices of ``values`` grouped by equality to :func:`copy_tolerance` (single linkage, in order of
+    first appearance; the group of ``values[0]``, the selected value, comes first)."""
+    tol = copy_tolerance(quantity)
+    groups: list[list[int]] = []
+    for i, v in enumerate(values):
+        hit = [g for g in groups if any(abs(v - values[j]) <= tol for j in g)]
+        if hit:
+            for g in hit[1:]:
+                hit[0].extend(g)
+                groups.remove(g)
+            hit[0].append(i)
+            hit[0].sort()
+        else:
+            groups.append([i])
+    return groups
 
 
 def scalar_outlier_text(outliers: list[dict], chosen: ScalarCandidate) -> str:
