@@ -653,3 +653,17 @@ def test_edge_cases_render(tmp_path):
     assert "1.234e+12" in text and "3.1e+10" in text          # e-notation keeps the GUM digits
     assert "Cautions for safety use" in text                  # heat_release output
     assert {"curve-K_eq", "convergence", "plan-front"} <= {Path(k).stem for k in written if k.startswith("figures/")}
+
+
+def test_markdown_list_items_start_on_their_own_line(md):
+    """CommonMark 0.30 §5.2–5.3: a list item starts with its marker at the start of a line, and a list
+    ends at a blank line. The Monte Carlo, linear (GUM) and probability items of each output in
+    appendix A.4 were glued onto one line ('…[-180.64, -178.64]- **Linear (GUM):** …')."""
+    assert "Monte Carlo (JCGM 101):**" in md
+    for line in md.splitlines():
+        assert not re.search(r"\S- \*\*", line), line[:160]
+    lines = md.splitlines()
+    for i, line in enumerate(lines[:-1]):
+        if line.startswith("- **Linear (GUM):**"):
+            nxt = lines[i + 1]
+            assert nxt == "" or nxt.startswith("- "), (line[:80], nxt[:80])
