@@ -651,3 +651,31 @@ def test_reprinted_values_make_no_majority_for_the_outlier_rule():
     (out,) = sel.uncertainty.outliers
     assert out["source"].startswith("API-TDB") and out["value"] == pytest.approx(s["API_TDB_G"])
     assert out["rule"] == "median/MAD of 4 distinct values from 5 sources, equal values counted once"
+
+
+def test_extrapolation_warning_names_every_curve_the_output_extrapolates(tmp_path):
+    """QA: a reaction enthalpy above the range of three liquid curves named only the first one met.
+    Ranges from chemicals' Perry Table 2-153 (Cp_data_Perry_Table_153_100): ethanol 159.05-390 K,
+    acetic acid 289.81-391.05 K, ethyl acetate 189.6-350.21 K; water's Zabransky curve reaches 644.6 K."""
+    from uqthermo.case.loader import load_case
+    from uqthermo.pipeline.job import prepare_model
+
+    chem_hc._load_Cp_data()
+    perry = chem_hc.Cp_data_Perry_Table_153_100
+    cas = {"EtOH": "64-17-5", "AcOH": "64-19-7", "EtOAc": "141-78-6", "H2O": "7732-18-5"}
+    text = ('title = "esterification above the liquid curves (test)"\n[settings]\nallow_extrapolation = true\n'
+            + "".join(f'[species.{s}]\ncas = "{c}"\n[species.{s}.l]\nformation_enthalpy = {{ library = "auto" }}\n'
+                      'heat_capacity = { library = "auto" }\n' for s, c in cas.items())
+            + '[reaction.r]\nequation = "EtOH(l) + AcOH(l) -> EtOAc(l) + H2O(l)"\n'
+              '[[output]]\nname = "h"\nkind = "reaction_enthalpy"\nreaction = "r"\ntemperature = "413.15 K"\n')
+    case = load_case(str(_write(tmp_path, text)))
+    _, warnings = prepare_model(case)
+    (line,) = [w for w in warnings if w.startswith("output.h: extrapolated")]
+    assert line.startswith("output.h: extrapolated beyond the validity ranges of 3 correlations")
+    for s in ("EtOH", "AcOH", "EtOAc"):
+        row = perry.loc[cas[s]]
+        assert (f"{s}(l): T = 413.15 K outside the validity range {float(row.Tmin):g}-{float(row.Tmax):g} K of the "
+                f"DIPPR 100 polynomial (Perry Table 2-153) heat capacity (datum {s}.l.heat_capacity)") in line
+    assert "H2O" not in line
+    # the switches are restored: with extrapolation allowed the run evaluates
+    assert all(p.cp.allow_extrapolation for sp in case.species.values() for p in sp.phases.values() if p.cp)

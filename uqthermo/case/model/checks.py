@@ -47,11 +47,14 @@ def check_model(case: Case, model: Model) -> list[str]:
                 msg = f"{msg} (datum {err.key}; allow with extrapolate = true on that heat_capacity or settings.allow_extrapolation = true)"
             problems.append(Problem(case.path, key or o.key, msg))
         elif strict is not None:
-            text = strict.message if isinstance(strict, UqthermoError) else str(strict)
-            text = text.removesuffix(" (extrapolation not allowed)")
-            datum = f" (datum {strict.key})" if isinstance(strict, UqthermoError) and strict.key else ""
-            warnings.append(f"{o.key}: extrapolated beyond a correlation's validity range, as the case allows "
-                            f"(extrapolate = true) — {text}{datum}")
+            texts = []
+            for e in _every_extrapolation(case, model, x0, i, strict, cps):
+                text = e.message if isinstance(e, UqthermoError) else str(e)
+                text = text.removesuffix(" (extrapolation not allowed)")
+                texts.append(text + (f" (datum {e.key})" if isinstance(e, UqthermoError) and e.key else ""))
+            where = "a correlation's validity range" if len(texts) == 1 else f"the validity ranges of {len(texts)} correlations"
+            warnings.append(f"{o.key}: extrapolated beyond {where}, as the case allows (extrapolate = true) — "
+                            + "; ".join(texts))
     if problems:
         raise InputError(problems)
     y = model.evaluate(x0)
@@ -60,6 +63,32 @@ def check_model(case: Case, model: Model) -> list[str]:
         raise InputError([Problem(case.path, k, "the model gives a non-finite value at the best estimates; check the data")
                           for k in dict.fromkeys(bad)])
     return warnings + model_warnings(case, model, y[0])
+
+
+def _every_extrapolation(case: Case, model: Model, x0: np.ndarray, i: int, first: Exception, cps: list) -> list[Exception]:
+    """Every heat-capacity curve output ``i`` takes beyond its range, not only the first one met:
+    ``first`` (the error with extrapolation off everywhere), then the next one with that curve allowed
+    again, and so on (for an output the case allows to extrapolate)."""
+    by_key = {f"{sp}.{ph}.heat_capacity": cp for sp, ph, cp in cps}
+    sub = Case(**{**case.__dict__, "outputs": [case.outputs[i]]})
+    found, saved = [first], {id(cp): cp.allow_extrapolation for _, _, cp in cps}
+    try:
+        for _, _, cp in cps:
+            cp.allow_extrapolation = False
+        e = first
+        while isinstance(e, ValidityError) and by_key.get(e.key) is not None and not by_key[e.key].allow_extrapolation:
+            by_key[e.key].allow_extrapolation = True
+            nxt = _try_outputs(sub, model, x0).get(0)
+            if nxt is None or not isinstance(nxt[0], ValidityError):
+                break
+            e = nxt[0]
+            if by_key.get(e.key) is not None and by_key[e.key].allow_extrapolation:
+                break       # the same curve again (not expected): stop
+            found.append(e)
+    finally:
+        for _, _, cp in cps:
+            cp.allow_extrapolation = saved[id(cp)]
+    return found
 
 
 def _try_outputs(case: Case, model: Model, x0: np.ndarray) -> dict[int, tuple[Exception, str | None]]:
