@@ -436,6 +436,15 @@ _FEED = ('\n[[output]]\nname = "duty"\nkind = "heat_release"\ntemperature = "320
     (adiabatic(charge='{ "S(l)" = "10 mol", "S( l )" = "1 kg" }'), "output.rise.charge.S( l )", "species listed twice"),
     (adiabatic(charge="[]"), "output.rise.charge", "must be a table of amounts, e.g. "),
     (adiabatic(charge='{ "S(x)" = "10 mol" }'), "output.rise.charge.S(x)", "S(x) has no phase data"),
+    # QA: a charge or a stream of zeros only, and an amount without unit (the hint names the mass form)
+    (adiabatic(charge='{ "S(l)" = "0 kg" }'), "output.rise.charge", "every amount is 0"),
+    (_FEED % '{ "S(l)" = "0 kg/h" }', "output.duty.feed[0].flows", "every flow of this stream is 0"),
+    (adiabatic(charge='{ "S(l)" = "0.7" }'), "output.rise.charge.S(l)",
+     "'0.7' has no unit; write it with a unit of amount of substance, e.g. \"0.7 mol\" (or kmol); a mass such as "
+     "\"0.7 kg\" is converted with the molar mass"),
+    (_FEED % '{ "S(l)" = 12 }', "output.duty.feed[0].flows.S(l)",
+     "12 has no unit; write it with a unit of amount rate, e.g. \"12 mol/s\" (or kmol/h); a mass flow such as "
+     "\"12 kg/h\" is converted"),
 ])
 def test_amounts_of_charges_and_feeds_read_by_one_parser(tmp_path, output, key, message):
     """The charge of an adiabatic rise and the flows of a feed stream are read by one parser

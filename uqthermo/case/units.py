@@ -125,7 +125,9 @@ def parse_quantity(value: object, dimension: str, *, difference: bool = False) -
     if unit_text == "":
         if dimension == "dimensionless":
             return magnitude
-        raise UnitProblem(f"{value!r} has no unit; write it with a {dim.name} unit, e.g. \"{magnitude:g} {dim.example}\"")
+        first, *more = re.split(r",\s*|\s+or\s+", dim.example)
+        also = f" (or {', '.join(more)})" if more else ""
+        raise UnitProblem(f"{value!r} has no unit; write it with a unit of {dim.name}, e.g. \"{magnitude:g} {first}\"{also}")
     if difference:
         unit_text = re.sub(r"\bdeg(C|F)\b", r"delta_deg\1", unit_text)
         unit_text = re.sub(r"\b(celsius|fahrenheit)\b", r"delta_\1", unit_text)

@@ -63,11 +63,13 @@ AMOUNT_KINDS = {
                "table": "must be a table of amounts, e.g. { \"S(l)\" = \"8 mol\" }",
                "no_mass": "the species' formula has no standard atomic weights, so give the amount in mol",
                "negative": "amount must not be negative", "twice": "species listed twice",
+             "all_zero": "every amount is 0: give what is present (in mol, kmol or kg)",
                "largest": (1e9, "amount is implausibly large (> 1e9 mol); give the charge per batch in mol or kmol")},
     "flow": {"dimension": "amount_rate", "quantity": "feed flow",
              "table": "must be a table of flows, e.g. { \"CO2(g)\" = \"100 kmol/h\", \"H2O(l)\" = \"900 kg/h\" }",
              "no_mass": "the species' formula has no standard atomic weights, so give the flow in mol/s or kmol/h",
              "negative": "a feed flow must not be negative", "twice": "species listed twice in one stream",
+             "all_zero": "every flow of this stream is 0: give the flows fed (in kmol/h, mol/s or kg/h), or leave the stream out",
              "largest": None},
 }
 
@@ -91,6 +93,7 @@ def read_species_amounts(c: Collector, node: Any, key: str, species: dict, data:
         return None
     out: dict[tuple[str, str], str] = {}
     ok = True
+    total = 0.0
     for ref, amount in node.items():
         k = f"{key}.{ref}"
         sp = species_ref(c, ref, k, species)
@@ -118,4 +121,8 @@ def read_species_amounts(c: Collector, node: Any, key: str, species: dict, data:
         register(c, data, make_datum(did, spec["quantity"], spec["dimension"], parsed, species=sp[0], phase=sp[1],
                                      molar_mass=m), k)
         out[sp] = did
+        total += parsed[0]
+    if ok and total == 0.0:
+        c.add(key, spec["all_zero"])
+        ok = False
     return out if ok else None

@@ -105,7 +105,11 @@ def read_quantity(c: Collector, value: Any, key: str, dimension: str, *, differe
                     c.add(key, f"{value!r} is a mass; {molar_mass}")
                     return None
                 return m / molar_mass
-        c.add(key, str(e))
+        msg = str(e)
+        if dimension in MASS_OF and isinstance(molar_mass, (int, float)) and "has no unit" in msg:
+            unit = "kg" if MASS_OF[dimension] == "mass" else "kg/h"
+            msg += f"; a mass{' flow' if unit == 'kg/h' else ''} such as \"{value if isinstance(value, (int, float)) else str(value).strip()} {unit}\" is converted with the molar mass"
+        c.add(key, msg)
         return None
 
 
