@@ -12,10 +12,11 @@ drawing it at once, whatever the chunk size.
   ``skip`` uses ``fast_forward``. The 30-bit points k·2⁻³⁰ are shifted by half a cell
   (+2⁻³¹) so that no value is exactly 0; at most 2³⁰ points per sequence.
 * ``"latin-hypercube"`` -- random-within-stratum Latin hypercube (McKay, Beckman & Conover
-  1979; the design of ``scipy.stats.qmc.LatinHypercube(scramble=True)``). A design is stratified over the points drawn *together*: one call of
+  1979; the design of ``scipy.stats.qmc.LatinHypercube(scramble=True)``), built by
+  :mod:`uqthermo.uq.latin`. A design is stratified over the points drawn *together*: one call of
   :func:`uniform_sample` (or one ``draw`` of a :class:`UniformStream`) of n points is one
   design, built from ⌈n/2¹⁸⌉ equal blocks of at most 2¹⁸ points (each block an LHS of its
-  own, seeded from ``(seed, skip, block)``) so that memory stays bounded; chunked
+  own, column c seeded from ``(seed, skip, block, c)``) so that memory stays bounded; chunked
   iteration slices these blocks and is therefore chunk-size independent too.
   Different ``skip`` values give independent designs.
 
@@ -36,13 +37,12 @@ import numpy as np
 from scipy.stats import qmc
 
 from ..errors import StatisticsError
+from .latin import LHS_BLOCK, latin_uniform_blocks
 
 __all__ = ["METHODS", "UniformStream", "ScoreStream", "uniform_sample", "iter_uniform_chunks", "LHS_BLOCK",
            "SCORE_BLOCK", "sampling_method"]
 
 METHODS = ("random", "latin-hypercube", "sobol")
-#: largest number of points in one Latin-hypercube block
-LHS_BLOCK = 2**18
 SOBOL_BITS = 30
 SOBOL_MAX = 2**SOBOL_BITS
 #: rows per block of :class:`ScoreStream` (each block has its own generators)
@@ -139,7 +139,7 @@ class UniformStream:
                 out = self._engine.random(n)
             out += 2.0 ** -(SOBOL_BITS + 1)
         else:
-            out = np.concatenate(list(_lhs_blocks(n, self.d, self.seed, self.position)), axis=0)
+            out = np.concatenate(list(latin_uniform_blocks(n, self.d, self.seed, self.position)), axis=0)
         self.position += n
         return out
 
@@ -163,7 +163,7 @@ class UniformStream:
         self.position += n
         buf: list[np.ndarray] = []
         have = 0
-        for block in _lhs_blocks(n, self.d, self.seed, start):
+        for block in latin_uniform_blocks(n, self.d, self.seed, start):
             buf.append(block)
             have += len(block)
             while have >= chunk_size:
@@ -173,24 +173,6 @@ class UniformStream:
                 buf, have = ([rest] if len(rest) else []), len(rest)
         if have:
             yield np.concatenate(buf, axis=0) if len(buf) > 1 else buf[0]
-
-
-def _lhs_blocks(n: int, d: int, seed: int, start: int) -> Iterator[np.ndarray]:
-    """Latin-hypercube blocks: u_ij = (π_j(i) + v_ij)/m with an independent random permutation
-    π_j of the m strata per column and v_ij uniform on [0, 1) (McKay, Beckman & Conover 1979;
-    the random-within-stratum form of ``scipy.stats.qmc.LatinHypercube(scramble=True)``),
-    drawn with numpy's ``Generator.permuted`` (Fisher-Yates) on 32-bit stratum indices."""
-    nb = -(-n // LHS_BLOCK)
-    sizes = [n // nb + (1 if b < n % nb else 0) for b in range(nb)]
-    for b, m in enumerate(sizes):
-        gen = np.random.Generator(np.random.PCG64(np.random.SeedSequence(seed, spawn_key=(start, b))))
-        strata = np.empty((d, m), dtype=np.int32)
-        strata[:] = np.arange(m, dtype=np.int32)
-        gen.permuted(strata, axis=1, out=strata)
-        U = gen.random((m, d))
-        U += strata.T
-        U *= 1.0 / m
-        yield U
 
 
 def uniform_sample(n: int, d: int, method: str = "sobol", seed: int = 0, skip: int = 0) -> np.ndarray:
