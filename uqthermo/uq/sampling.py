@@ -37,7 +37,7 @@ import numpy as np
 from scipy.stats import qmc
 
 from ..errors import StatisticsError
-from .latin import LHS_BLOCK, latin_uniform_blocks
+from .latin import LHS_BLOCK, column_generator, latin_uniform_blocks
 
 __all__ = ["METHODS", "UniformStream", "ScoreStream", "uniform_sample", "iter_uniform_chunks", "LHS_BLOCK",
            "SCORE_BLOCK", "sampling_method"]
@@ -217,13 +217,14 @@ class ScoreStream:
         Rows to skip at the start of the stream.
 
     The rows are grouped in blocks of :data:`SCORE_BLOCK`. In block b, column label c draws
-    its values one after the other from ``PCG64(SeedSequence(seed, spawn_key=(b, c)))``:
+    its values one after the other from ``SFC64(SeedSequence(seed, spawn_key=(b, c)))``
+    (:func:`~uqthermo.uq.latin.column_generator`):
     normal scores with ``Generator.standard_normal`` (numpy's ziggurat method, Marsaglia &
     Tsang 2000, J. Stat. Softw. 5(8)), uniforms with ``Generator.random`` ([0, 1) at 2⁻⁵³
-    resolution) — independent streams in the sense of numpy's ``SeedSequence.spawn``
-    (O'Neill 2014, PCG). A ziggurat draw consumes a variable number of 64-bit outputs, so a
-    row range that starts inside a block is reached by drawing and discarding that block's
-    earlier rows. ``draw(10)`` then ``draw(20)`` equals ``draw(30)``.
+    resolution) — independent streams in the sense of numpy's ``SeedSequence.spawn``. A row
+    range that starts inside a block is reached by drawing and discarding that block's
+    earlier rows (a ziggurat draw consumes a variable number of 64-bit outputs, and SFC64
+    has no jump-ahead). ``draw(10)`` then ``draw(20)`` equals ``draw(30)``.
     """
 
     def __init__(self, normal, uniform=(), seed: int = 0, skip: int = 0):
@@ -249,20 +250,16 @@ class ScoreStream:
 
     def _open(self, block: int) -> None:
         """Generators of ``block``, advanced to the current position."""
-        self._gens = [np.random.Generator(np.random.PCG64(np.random.SeedSequence(self.seed, spawn_key=(block, c))))
-                      for c in self.normal + self.uniform]
+        self._gens = [column_generator(self.seed, (block, c)) for c in self.normal + self.uniform]
         self._block = block
         lead = self.position - block * SCORE_BLOCK
-        if lead:
-            waste = np.empty(min(lead, 1 << 16))
-            for g in self._gens[:self.k]:
-                todo = lead
-                while todo:
-                    t = min(todo, waste.size)
-                    g.standard_normal(out=waste[:t])
-                    todo -= t
-            for g in self._gens[self.k:]:
-                g.bit_generator.advance(lead)     # one 64-bit output per uniform
+        if lead:                                  # SFC64 has no jump-ahead: draw and discard
+            waste = np.empty(min(lead, SCORE_BLOCK))
+            for i, g in enumerate(self._gens):
+                if i < self.k:
+                    g.standard_normal(out=waste[:lead])
+                else:
+                    g.random(out=waste[:lead])
 
     def draw(self, n: int, out: tuple[np.ndarray, np.ndarray] | None = None) -> tuple[np.ndarray, np.ndarray]:
         """The next ``n`` rows as (Z (n, k), V (n, m)), column-major; ``out``: such arrays to fill instead."""
