@@ -81,7 +81,11 @@ def test_histogram_mode_matches_exact_mode():
     np.testing.assert_allclose(binned.coverage_interval, exact.coverage_interval, atol=2 * res.max())
     np.testing.assert_allclose(binned.quantile([0.05, 0.5, 0.95]), exact.quantile([0.05, 0.5, 0.95]),
                                atol=2 * res.max())
-    np.testing.assert_allclose(binned.shortest_interval, exact.shortest_interval, atol=0.2 * binned.tolerance.max())
+    # the shortest interval (JCGM 101 §7.7.2) is the argmin of a flat valley of widths: its
+    # width is sharp, its position only to about δ (seeds 12-23: widths within 5e-5, ends 1.4e-3)
+    w_b, w_e = np.diff(binned.shortest_interval, axis=1), np.diff(exact.shortest_interval, axis=1)
+    np.testing.assert_allclose(w_b, w_e, atol=0.05 * binned.tolerance.max())
+    np.testing.assert_allclose(binned.shortest_interval, exact.shortest_interval, atol=binned.tolerance.max())
     np.testing.assert_allclose(binned.standard_uncertainty, exact.standard_uncertainty, rtol=1e-12)
     pa, _ = exact.probability_above(exact.median)
     pb, _ = binned.probability_above(exact.median)

@@ -46,7 +46,7 @@ METHODS = ("random", "latin-hypercube", "sobol")
 SOBOL_BITS = 30
 SOBOL_MAX = 2**SOBOL_BITS
 #: rows per block of :class:`ScoreStream` (each block has its own generators)
-SCORE_BLOCK = 2**14
+SCORE_BLOCK = 2**16
 
 _ALIASES = {"lhs": "latin-hypercube", "latin_hypercube": "latin-hypercube", "pseudo-random": "random",
             "qmc": "sobol", "sobol'": "sobol"}

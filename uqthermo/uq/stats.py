@@ -272,9 +272,12 @@ class OrderStatistics:
         mid = (ranks >= self.a) & (ranks < self.q)
         need = sorted({int(r) for r in ranks[mid]} - set(self._middle))
         if need:
-            if self._layout == "selected":
-                part = np.partition(self.rows, need, axis=1)
-                self._middle.update({r: part[:, r].copy() for r in need})
+            if self._layout == "selected":       # by pilot bands; a row the pilot missed is partitioned
+                vals = np.empty((len(need), self.m))
+                for j in range(self.m):
+                    got = _select_bands(self.rows[j], need)
+                    vals[:, j] = got if got is not None else np.partition(self.rows[j], need)[need]
+                self._middle.update({r: vals[i].copy() for i, r in enumerate(need)})
             else:
                 part = np.partition(self.rows[:, self.a:self.q], [r - self.a for r in need], axis=1)
                 self._middle.update({r: part[:, r - self.a].copy() for r in need})
@@ -333,15 +336,62 @@ def pilot_positions(n: int) -> np.ndarray:
     return idx
 
 
+def _pilot_quantile(y: np.ndarray):
+    """prob ↦ the pilot's value at probability prob (clamped to the pilot's range) for row y."""
+    pilot = np.sort(y[pilot_positions(y.size)])
+    k = pilot.size
+    return lambda prob: float(pilot[min(k - 1, max(0, int(prob * k)))])
+
+
+def _select_bands(y: np.ndarray, ranks: list[int]) -> np.ndarray | None:
+    """Values of row y at the 0-based ``ranks`` (sorted), by pilot thresholds: a band of
+    ±:data:`MEDIAN_MARGIN` in probability around each rank (overlapping bands merged), one
+    marking pass that counts the values below each band and gathers those inside, one sort of
+    the gathered values. None when the pilot missed (a rank outside its band)."""
+    n = y.size
+    at = _pilot_quantile(y)
+    bands: list[list] = []                      # [lo, hi, ranks]
+    for r in ranks:
+        lo, hi = at(r / n - MEDIAN_MARGIN), at((r + 1) / n + MEDIAN_MARGIN)
+        if bands and lo <= bands[-1][1]:
+            bands[-1][1] = max(bands[-1][1], hi)
+            bands[-1][2].append(r)
+        else:
+            bands.append([lo, hi, [r]])
+    size = min(n, SELECT_BLOCK)
+    mark, tmp, inb = (np.empty(size, dtype=bool) for _ in range(3))
+    parts, below = [], [0] * len(bands)
+    for s in range(0, n, size):
+        v = y[s:s + size]
+        mk, tm, ib = mark[:v.size], tmp[:v.size], inb[:v.size]
+        mk[:] = False
+        for i, (lo, hi, _) in enumerate(bands):
+            np.greater_equal(v, lo, out=ib)
+            below[i] += v.size - int(np.count_nonzero(ib))
+            np.less_equal(v, hi, out=tm)
+            ib &= tm
+            mk |= ib
+        parts.append(v[np.flatnonzero(mk)])
+    c = np.concatenate(parts)
+    c.sort()
+    out = np.empty(len(ranks))
+    i = 0
+    for (lo, hi, rs), nb in zip(bands, below):
+        start, stop = int(np.searchsorted(c, lo, "left")), int(np.searchsorted(c, hi, "right"))
+        for r in rs:
+            j = r - nb
+            if not 0 <= j < stop - start:
+                return None
+            out[i] = c[start + j]
+            i += 1
+    return out
+
+
 def _select_row(y: np.ndarray, n_low: int, n_high: int, med: list[int]):
     """(lowest ``n_low`` sorted, highest ``n_high`` sorted, values at the ranks ``med``) of one
     row by pilot thresholds (see :class:`OrderStatistics`), or None when the pilot missed."""
     n = y.size
-    pilot = np.sort(y[pilot_positions(n)])
-    k = pilot.size
-
-    def at(prob: float) -> float:
-        return float(pilot[min(k - 1, max(0, int(prob * k)))])
+    at = _pilot_quantile(y)
 
     t_lo, t_hi = at(n_low / n + SELECT_MARGIN), at(1.0 - n_high / n - SELECT_MARGIN)
     m_lo, m_hi = at(min(med) / n - MEDIAN_MARGIN), at(max(med) / n + MEDIAN_MARGIN)
