@@ -509,6 +509,7 @@ def test_pilot_of_sobol_ordered_values_finds_the_tails():
     got = stats._select_row(y, a, a, [n // 2 - 1, n // 2])
     assert got is not None
     ys = np.sort(y)
-    np.testing.assert_array_equal(got[0], ys[:a])
-    np.testing.assert_array_equal(got[1], ys[n - a:])
+    assert got[0].size >= a and got[1].size >= a       # every value beyond the thresholds
+    np.testing.assert_array_equal(got[0], ys[:got[0].size])
+    np.testing.assert_array_equal(got[1], ys[n - got[1].size:])
     np.testing.assert_array_equal(got[2], ys[[n // 2 - 1, n // 2]])

@@ -232,8 +232,7 @@ class OrderStatistics:
         med = sorted({int(i0[0]), int(i1[0])})
         if self.n >= SELECT_MIN:
             self._layout = "selected"
-            self._low = np.empty((self.m, self.a))
-            self._high = np.empty((self.m, self.n - self.q))
+            lows, highs = [], []
             mid = np.empty((len(med), self.m))
             for j in range(self.m):
                 got = _select_row(rows[j], self.a, self.n - self.q, med)
@@ -241,7 +240,14 @@ class OrderStatistics:
                     y = rows[j].copy()
                     y.partition(sorted({self.a - 1, *med, self.q}))
                     got = np.sort(y[:self.a]), np.sort(y[self.q:]), y[med]
-                self._low[j], self._high[j], mid[:, j] = got
+                lows.append(got[0])
+                highs.append(got[1])
+                mid[:, j] = got[2]
+            # the tails as far as every row has them (the pilot's margin: the ranks a little
+            # beyond the intervals' own, e.g. the one-sided 5 %/95 % quantiles, come free)
+            lo_n, hi_n = min(v.size for v in lows), min(v.size for v in highs)
+            self._low = np.stack([v[:lo_n] for v in lows])
+            self._high = np.stack([v[v.size - hi_n:] for v in highs])
             self._middle = {r: mid[k].copy() for k, r in enumerate(med)}
             return
         self._layout = "partitioned"                     # rows[:, :a] and rows[:, q:] sorted
@@ -253,23 +259,29 @@ class OrderStatistics:
     @property
     def low(self) -> np.ndarray:
         """The a = N − q lowest values of each output, sorted, (M, a)."""
-        return self._low if self._low is not None else self.rows[:, :self.a]
+        return self._low[:, :self.a] if self._low is not None else self.rows[:, :self.a]
 
     @property
     def high(self) -> np.ndarray:
         """The N − q highest values of each output, sorted, (M, N − q)."""
-        return self._high if self._high is not None else self.rows[:, self.q:]
+        return self._high[:, self._high.shape[1] - (self.n - self.q):] if self._high is not None \
+            else self.rows[:, self.q:]
 
     def at(self, ranks: np.ndarray) -> np.ndarray:
         """Order statistics at 0-based ``ranks`` (K,), shape (K, M)."""
         ranks = np.asarray(ranks, dtype=np.intp)
         out = np.empty((ranks.size, self.m))
+        lo_n, hi_n = self.a, self.n - self.q          # ranks [0, lo_n) and [n − hi_n, n) are stored
+        if self._low is not None:
+            lo_n, hi_n = self._low.shape[1], self._high.shape[1]
+        low = self._low if self._low is not None else self.rows[:, :lo_n]
+        high = self._high if self._high is not None else self.rows[:, self.n - hi_n:]
         for i, r in enumerate(ranks.tolist()):
-            if r < self.a:
-                out[i] = self.low[:, r]
-            elif r >= self.q:
-                out[i] = self.high[:, r - self.q]
-        mid = (ranks >= self.a) & (ranks < self.q)
+            if r < lo_n:
+                out[i] = low[:, r]
+            elif r >= self.n - hi_n:
+                out[i] = high[:, r - (self.n - hi_n)]
+        mid = (ranks >= lo_n) & (ranks < self.n - hi_n)
         need = sorted({int(r) for r in ranks[mid]} - set(self._middle))
         if need:
             if self._layout == "selected":       # by pilot bands; a row the pilot missed is partitioned
@@ -388,8 +400,9 @@ def _select_bands(y: np.ndarray, ranks: list[int]) -> np.ndarray | None:
 
 
 def _select_row(y: np.ndarray, n_low: int, n_high: int, med: list[int]):
-    """(lowest ``n_low`` sorted, highest ``n_high`` sorted, values at the ranks ``med``) of one
-    row by pilot thresholds (see :class:`OrderStatistics`), or None when the pilot missed."""
+    """(lowest values sorted, highest values sorted, values at the ranks ``med``) of one row by
+    pilot thresholds (see :class:`OrderStatistics`), or None when the pilot missed. The tails
+    hold at least ``n_low`` and ``n_high`` values: all those at or beyond the thresholds."""
     n = y.size
     at = _pilot_quantile(y)
 
@@ -423,7 +436,7 @@ def _select_row(y: np.ndarray, n_low: int, n_high: int, med: list[int]):
     r = [i - below for i in med]
     if min(r) < 0 or max(r) >= b_hi - b_lo:
         return None
-    return c[:n_low], c[i_hi:][c.size - i_hi - n_high:], c[b_lo:b_hi][r]
+    return c[:i_lo], c[i_hi:], c[b_lo:b_hi][r]
 
 
 #: probability in each open end of the pilot that gets equal-probability bins (see BinLayout)
