@@ -105,3 +105,27 @@ def test_bad_arguments():
         LatinScoreStream([0], skip=-1)
     with pytest.raises(StatisticsError):
         list(LatinScoreStream([0]).chunks(10, 0))
+
+
+def test_stratified_scores_of_sobol_blocks():
+    """Every coordinate of an aligned 2^k block of scrambled Sobol' points (scipy.stats.qmc.Sobol)
+    holds one point per stratum (a (0, k, 1)-net); Φ⁻¹ through the stratum table is within a few
+    ulp of ``ndtri``. Columns that are not so stratified are refused."""
+    from scipy.stats import qmc
+
+    from uqthermo.uq.latin import NET_MIN, stratified_scores
+
+    eng = qmc.Sobol(3, scramble=True, bits=30, rng=np.random.default_rng(2))
+    eng.fast_forward(2**16)                      # the second block of 2^16 points
+    U = eng.random(2**16) + 2.0**-31
+    for col in U.T:
+        out = np.empty_like(col)
+        assert stratified_scores(np.ascontiguousarray(col), out)
+        ref = special.ndtri(col)
+        pq = np.minimum(col, 1.0 - col)
+        cond = EPS * pq * np.sqrt(2.0 * np.pi) * np.exp(0.5 * ref**2)
+        assert np.all(np.abs(out - ref) <= 4.0 * (np.spacing(np.abs(ref)) + cond) + 2.0 * cond)
+    out = np.empty(NET_MIN)
+    assert not stratified_scores(np.random.default_rng(1).random(NET_MIN), out)   # random: not stratified
+    assert not stratified_scores(U[:NET_MIN + 1, 0].copy(), np.empty(NET_MIN + 1))  # not a power of two
+    assert not stratified_scores(U[:NET_MIN // 2, 0].copy(), np.empty(NET_MIN // 2))  # too short

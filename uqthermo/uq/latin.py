@@ -45,7 +45,8 @@ from scipy import special
 
 from ..errors import StatisticsError
 
-__all__ = ["LatinScoreStream", "latin_uniform_blocks", "stratum_scores", "LHS_BLOCK", "block_sizes", "column_generator"]
+__all__ = ["LatinScoreStream", "latin_uniform_blocks", "stratum_scores", "LHS_BLOCK", "block_sizes", "column_generator",
+           "stratified_scores", "NET_MIN"]
 
 #: largest number of points in one Latin-hypercube block
 LHS_BLOCK = 2**18
@@ -142,6 +143,41 @@ def column_generator(seed: int, key: tuple[int, ...]) -> np.random.Generator:
     distinct spawn keys are independent in the sense of ``SeedSequence.spawn``. It has no
     jump-ahead, so a stream is positioned by drawing (see ``ScoreStream``)."""
     return np.random.Generator(np.random.SFC64(np.random.SeedSequence(seed, spawn_key=key)))
+
+
+#: smallest power-of-two column that :func:`stratified_scores` maps through the stratum table
+#: (below about 10⁴ strata the cubic's error bound holds nowhere and every stratum is exact)
+NET_MIN = 2**14
+
+
+def stratified_scores(u: np.ndarray, out: np.ndarray) -> bool:
+    """z = Φ⁻¹(u) into ``out`` for a column of m = 2^k uniforms with exactly one value in each
+    stratum [j/m, (j + 1)/m), as :func:`stratum_scores` computes it; False (``out`` untouched)
+    when m is not a power of two of at least :data:`NET_MIN` or the column is not so stratified.
+
+    The one-value-per-stratum property holds for every coordinate of 2^k consecutive points of
+    a scrambled Sobol' sequence that start at a multiple of 2^k: each coordinate of a digital
+    (t, s)-sequence in base 2 is a (0, 1)-sequence, and those blocks are (0, k, 1)-nets, which
+    Owen's and Matoušek's scrambles preserve (Dick & Pillichshammer 2010, *Digital Nets and
+    Sequences*, ch. 4 and 13). With k_i = ⌊m u_i⌋ and s_i = m u_i − k_i (exact: m is a power of
+    two), the offsets are scattered into stratum order, mapped there, and gathered back.
+    """
+    m = u.shape[0]
+    if m < NET_MIN or m & (m - 1):
+        return False
+    x = u * float(m)
+    k = x.astype(np.intp)
+    if k[0] < 0 or np.any(k >= m):                 # u outside [0, 1): not a column of uniforms
+        return False
+    x -= k
+    s = np.full(m, np.nan)
+    s[k] = x
+    if np.isnan(s).any():                          # a stratum without a value: not stratified
+        return False
+    for a in range(0, m, _PASS):
+        stratum_scores(s[a:a + _PASS], m, a)
+    np.take(s, k, out=out)
+    return True
 
 
 def _generators(seed: int, position: int, block: int, labels: Sequence[int]) -> list[np.random.Generator]:

@@ -35,6 +35,9 @@ in the run's stream into model values. Three things decide the cost of a trial:
 
 Every row depends only on its position in the stream (never on where a chunk or a Dask block
 ends): products of one row are computed as two rows (BLAS rounds a single row differently).
+One exception, at the level of rounding: a Sobol' coordinate is mapped through the stratum
+table when the chunk holds a whole power-of-two block of the sequence and through ``ndtri``
+otherwise, so its normal scores may differ by a few ulp between chunkings.
 """
 
 from __future__ import annotations
@@ -48,7 +51,7 @@ from scipy import special
 from ..errors import StatisticsError
 from .blas import one_blas_thread
 from .inputs import U_CLIP, InputSet, rows_times
-from .latin import LatinScoreStream
+from .latin import LatinScoreStream, stratified_scores
 from .sampling import ScoreStream, UniformStream
 
 __all__ = ["TrialDesign", "fit_affine"]
@@ -322,10 +325,18 @@ class TrialDesign:
     # ------------------------------------------------------------------ evaluation
     @staticmethod
     def _ndtri(U: np.ndarray) -> np.ndarray:
-        """z = Φ⁻¹(u) (u clipped to [2⁻⁵³, 1 − 2⁻⁵³]) into a per-thread array, valid within one evaluation."""
+        """z = Φ⁻¹(u) (u clipped to [2⁻⁵³, 1 − 2⁻⁵³]) into a per-thread column-major array, valid
+        within one evaluation. A column of a power-of-two block of Sobol' points holds one value
+        per stratum and goes through the stratum table (:func:`~uqthermo.uq.latin.stratified_scores`,
+        a few ulp of ``ndtri``); any other column through ``scipy.special.ndtri``."""
         if U.size and (U.min() < U_CLIP or U.max() > 1.0 - U_CLIP):   # two cheap reductions; clip only if needed
             U = np.clip(U, U_CLIP, 1.0 - U_CLIP)
-        return special.ndtri(U, out=_scratch("ndtri", U.shape))
+        out = _scratch("ndtri", (U.shape[1], U.shape[0]))
+        for j in range(U.shape[1]):
+            col = np.ascontiguousarray(U[:, j])
+            if not stratified_scores(col, out[j]):
+                special.ndtri(col, out=out[j])
+        return out.T
 
     def _coordinates(self, chunk, rows: slice | None = None, need: np.ndarray | None = None):
         """(Z scores of the coordinates ``need`` (all by default), V uniforms) of a chunk's rows."""
