@@ -470,7 +470,7 @@ def test_order_statistics_by_pilot_thresholds_equal_a_full_sort(shape):
     """Long rows find their tails by thresholds from a pilot; whatever the pilot sees
     (an indicator column, heavy ties, a pilot planted far from the rest), the order statistics
     equal those of a full sort exactly."""
-    from uqthermo.uq.stats import OrderStatistics, pilot_positions, quantile_sorted
+    from uqthermo.uq.order_statistics import OrderStatistics, pilot_positions, quantile_sorted
 
     n = 8 * 2**16 + 7
     rng = np.random.default_rng(3)
@@ -500,12 +500,12 @@ def test_pilot_of_sobol_ordered_values_finds_the_tails():
     row fall back to a full partition)."""
     from scipy.stats import qmc
 
-    from uqthermo.uq import stats
+    from uqthermo.uq import order_statistics as stats
 
     n = 2**19
     u = qmc.Sobol(2, scramble=True, rng=np.random.default_rng(5)).random(n)
     y = special.ndtri(u[:, 0]) + 0.1 * special.ndtri(u[:, 1])
-    a = n - stats._q_count(0.95, n)
+    a = n - stats.q_count(0.95, n)
     got = stats._select_row(y, a, a, [n // 2 - 1, n // 2])
     assert got is not None
     ys = np.sort(y)
