@@ -569,6 +569,8 @@ def bench_side_by_side(quick: bool) -> dict:
                                                                  str(folder / f"out-{c['key']}-{scheme}-{n}")]))
             jobs.append((c["key"], "script", n, [c["script"][0], str(n), "7", *c["script"][1:]]))
             jobs.append((c["key"], "floor", n, ["normal_floor.py", str(n), "7", str(c["normals"]), str(c["uniforms"])]))
+            jobs.append((c["key"], "floor sfc64", n, ["normal_floor.py", str(n), "7", str(c["normals"]),
+                                                      str(c["uniforms"]), "sfc64"]))
         for n in (q1, q2):
             jobs.append((c["key"], "per-sample quad", n, ["quad_script.py", str(n), "7", c["case"], *c["quad"]]))
     best: dict = {}
@@ -592,6 +594,7 @@ def bench_side_by_side(quick: bool) -> dict:
 
         row = {"label": c["label"], "normals": c["normals"], "uniforms": c["uniforms"],
                "script_ns": marginal("script"), "floor_ns": marginal("floor"),
+               "floor_sfc64_ns": marginal("floor sfc64"),
                "quad_ns": marginal("per-sample quad", q1, q2), "seconds": {}}
         for prog in ["script", "floor", *[f"pipeline {s}" for s in SCHEMES]]:
             row["seconds"][prog] = [best[(key, prog, n1)], best[(key, prog, n2)]]
@@ -601,6 +604,7 @@ def bench_side_by_side(quick: bool) -> dict:
             got = last[(key, f"pipeline {s}", n2)]
             u = np.asarray(ref["u"])
             row[s] = {"pipeline_ns": ns, "vs_script": ns / row["script_ns"], "vs_floor": ns / row["floor_ns"],
+                      "vs_floor_sfc64": ns / row["floor_sfc64_ns"],
                       "quad_over_pipeline": row["quad_ns"] / ns,
                       "peak_rss_MiB": [last[(key, f"pipeline {s}", n1)]["peak_rss_MiB"], got["peak_rss_MiB"]],
                       # agreement with the independent script at N2, in standard errors u/sqrt(N)
@@ -767,22 +771,26 @@ def render(results: dict) -> str:
               "the whole sample), always pseudo-random;",
               "- *floor*: drawing the N x K normal variates (and uniforms) the output's trials need, in chunks "
               "of 65536 rows into one reused array, "
-              "`Generator.standard_normal` (`normal_floor.py`);",
+              "`Generator.standard_normal` of numpy's default generator (PCG64) (`normal_floor.py`); the targets "
+              "refer to it. The tool's score streams draw from SFC64, so the same draws on SFC64 (*floor SFC64*) "
+              "are shown beside it: tool/floor SFC64 is the ratio with the generator's speed taken out;",
               "- *per-sample quad*: one trial at a time, every Cp integral by `scipy.integrate.quad` "
               "(`quad_script.py`).", "",
               "Ratios: tool/script (target ≤ 1.0), tool/floor (target ≤ 2), per-sample/tool (speed-up). "
               "Mean difference: |tool − script| at N2 in standard errors u/√N2, the largest over the output's "
               "points (both are Monte Carlo estimates of the same quantity from independent code).", "",
-              "| output | K | script ns/trial | floor ns/trial | per-sample ns/trial | sampling | tool ns/trial | "
-              "tool/script | tool/floor | per-sample/tool | peak memory MiB (N1, N2) | mean difference (SE) |",
-              "|---|---|---|---|---|---|---|---|---|---|---|---|"]
+              "| output | K | script ns/trial | floor ns/trial (SFC64) | per-sample ns/trial | sampling | tool ns/trial | "
+              "tool/script | tool/floor | tool/floor SFC64 | per-sample/tool | peak memory MiB (N1, N2) | "
+              "mean difference (SE) |",
+              "|---|---|---|---|---|---|---|---|---|---|---|---|---|"]
         for r in b["cases"].values():
             for i, sch in enumerate(SCHEMES):
                 x = r[sch]
                 first = (f"| {r['label']} | {r['normals']}" + (f" + {r['uniforms']} uniform" if r['uniforms'] else "")
-                         + f" | {r['script_ns']:.0f} | {r['floor_ns']:.0f} | {r['quad_ns']:.3g} ") if i == 0 else \
-                    "| | | | | "
+                         + f" | {r['script_ns']:.0f} | {r['floor_ns']:.0f} ({r.get('floor_sfc64_ns', float('nan')):.0f}) "
+                         f"| {r['quad_ns']:.3g} ") if i == 0 else "| | | | | "
                 L.append(first + f"| {sch} | {x['pipeline_ns']:.0f} | **{x['vs_script']:.2f}** | **{x['vs_floor']:.2f}** "
+                         f"| {x.get('vs_floor_sfc64', float('nan')):.2f} "
                          f"| {x['quad_over_pipeline']:.0f} | {x['peak_rss_MiB'][0]:.0f}, {x['peak_rss_MiB'][1]:.0f} "
                          f"| {x['mean_difference_in_se']:.1f} |")
         L += [""]
