@@ -199,6 +199,80 @@ def fast_run(tmp_path_factory):
     return {"code": code, "stdout": stdout, "stderr": stderr, "out": out, "case": case, "results": res}
 
 
+# --------------------------------------------------------------------------- report numbering
+
+def _plain(s: str) -> str:
+    return " ".join(s.split())
+
+
+def check_report_numbering(page: str, md: str | None, docx_path: Path | None, user_text: tuple[str, ...] = ()) -> tuple[int, int]:
+    """Assert that the report's tables and figures run 1, 2, 3… in the order they appear in the HTML
+    page, the Markdown and the Word file (read back with python-docx; each skipped when None),
+    with the same captions in the same order in all three, and that every "Table N"/"Figure N" the
+    report writes points to an existing caption of that number (a figure reference also names that
+    figure's title; ``user_text``: strings of the case, left out of that last check).
+    Returns (number of tables, number of figures)."""
+    import html as html_mod
+    import re
+
+    def run(found: list[str], what: str) -> int:
+        assert found == [str(i) for i in range(1, len(found) + 1)], (what, found)
+        return len(found)
+
+    # HTML: anchors, captions and alt texts
+    n_tab = run(re.findall(r'<table id="table-([^"]*)"', page), "html table anchors")
+    caps = re.findall(r"<caption>Table ([^.<]*)\. (.*?)</caption>", page)
+    assert [c[0] for c in caps] == [str(i) for i in range(1, n_tab + 1)], caps
+    n_fig = run(re.findall(r'<figure id="figure-([^"]*)"', page), "html figure anchors")
+    run(re.findall(r'<figcaption><b>Figure ([^.<]*)\.</b>', page), "html figure captions")
+    alts = re.findall(r'alt="Figure ([^:"]*): ([^"]*)"', page)
+    assert [a[0] for a in alts] == [str(i) for i in range(1, n_fig + 1)], alts
+    html_titles = {int(n): html_mod.unescape(t) for n, t in alts}
+    html_caps = [_plain(html_mod.unescape(re.sub(r"<[^>]+>", "", c))) for _, c in caps]
+    html_fig_caps = [_plain(html_mod.unescape(re.sub(r"<[^>]+>", "", c)))
+                     for c in re.findall(r"<figcaption><b>Figure \d+\.</b> (.*?)</figcaption>", page, re.S)]
+    for n, title in re.findall(r"Figure (\d+) \(section [^)]*\) shows (.*?)\.</p>", page):
+        assert html_titles.get(int(n)) == html_mod.unescape(title), (n, title)
+    for kind, n in re.findall(r'href="#(table|figure)-([^"]*)"', page):
+        assert n.isdigit() and 1 <= int(n) <= (n_tab if kind == "table" else n_fig), (kind, n)
+    text = html_mod.unescape(re.sub(r"<[^>]+>", " ", page.split("<body", 1)[1].replace("<wbr>", "")))
+    for t in user_text:
+        text = text.replace(t, " ")
+    for word, n in re.findall(r"\b(Table|Figure) (\d+)(?![\d-]|\.\d)", text):
+        assert 1 <= int(n) <= (n_tab if word == "Table" else n_fig), (word, n)
+
+    # Markdown: the same numbers, captions and references
+    if md is not None:
+        unmd = lambda s: _plain(re.sub(r"\\(.)", r"\1", s).replace("&lt;", "<").replace("&amp;", "&"))
+        md_caps = re.findall(r"^\*\*Table ([^.]*)\. (.*)\*\*$", md, re.M)
+        assert [c[0] for c in md_caps] == [str(i) for i in range(1, n_tab + 1)], md_caps
+        assert [unmd(c) for _, c in md_caps] == html_caps
+        md_alts = re.findall(r"^!\[Figure ([^:]*): (.*)\]\(figures/", md, re.M)
+        assert [a[0] for a in md_alts] == [str(i) for i in range(1, n_fig + 1)], md_alts
+        md_fig_caps = re.findall(r"^\*Figure (\d+)\. (.*)\*$", md, re.M)
+        assert [c[0] for c in md_fig_caps] == [str(i) for i in range(1, n_fig + 1)]
+        assert [unmd(c) for _, c in md_fig_caps] == html_fig_caps
+        md_titles = {int(n): unmd(t) for n, t in md_alts}
+        refs = re.findall(r"^\*Figure (\d+) \(section [^)]*\) shows (.*)\.\*$", md, re.M)
+        assert len(refs) == len(re.findall(r"Figure \d+ \(section ", page))
+        for n, title in refs:
+            assert md_titles.get(int(n)) == unmd(title), (n, title)
+
+    # Word: caption paragraphs in the same order with the same text as the HTML's
+    if docx_path is not None:
+        import docx
+
+        d = docx.Document(str(docx_path))
+        paras = [_plain(p.text) for p in d.paragraphs]
+        doc_caps = [_plain(p.text) for p in d.paragraphs if p.style.name == "Caption"]
+        assert [c for c in doc_caps if c.startswith("Table ")] == [f"Table {i + 1}. {c}" for i, c in enumerate(html_caps)]
+        assert [c for c in doc_caps if c.startswith("Figure ")] == [f"Figure {i + 1}. {c}" for i, c in enumerate(html_fig_caps)]
+        doc_refs = [m for p in paras for m in re.findall(r"^Figure (\d+) \(section [^)]*\) shows (.*)\.$", p)]
+        assert doc_refs == [(n, html_mod.unescape(t)) for n, t in re.findall(
+            r"Figure (\d+) \(section [^)]*\) shows (.*?)\.</p>", page)]
+    return n_tab, n_fig
+
+
 # --------------------------------------------------------------------------- figures for the summary
 
 #: filled by tests/test_bad_inputs.py: ids tried/rejected, classes, bad command lines

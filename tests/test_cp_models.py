@@ -167,6 +167,11 @@ def test_validity_error_and_extrapolation_flag():
     t = 0.25
     assert float(x.cp(250.0)) == pytest.approx(lo[0] + lo[1] * t + lo[2] * t ** 2 + lo[3] * t ** 3 + lo[4] / t ** 2)
     assert x.out_of_range(250, 500) is not None
+    # the message names the curve's form; a curve held in Shomate form names its source's own form
+    assert x.out_of_range(250, 500).endswith("of the Shomate heat capacity")
+    x.form = "Zabransky cubic spline (isobaric)"
+    assert x.out_of_range(250, 500).endswith("of the Zabransky cubic spline (isobaric) heat capacity")
+    assert ShomateCp(CO2_SHOMATE).form == "Shomate"     # the class default is untouched
     assert float(x.enthalpy_change(250, 500)) == pytest.approx(quad(lambda T: float(x.cp(T)), 250, 500)[0], rel=1e-10)
     # check=False skips the range check (used internally for sampled end points)
     assert np.isfinite(m.enthalpy_change(290.0, 500.0, check=False))

@@ -516,3 +516,111 @@ def test_data_command_marks_the_outlier_and_shows_the_basis(capsys):
     assert main(["data", "acetic anhydride", "--T", "298.15K..340K"]) == 0
     out = capsys.readouterr().out
     assert "u = 2 % [assumed]" in out and "outlier: -34 % from ★" in out
+
+
+# ------------------------------------------------------------------ extrapolation warnings name the curve's form
+@pytest.mark.parametrize("cas, form, table", [
+    ("108-87-2", "Zabransky cubic spline (isobaric)", "zabransky"),     # methylcyclohexane(l)
+    ("108-24-7", "DIPPR 100 polynomial (Perry Table 2-153)", "perry"),  # acetic anhydride(l)
+])
+def test_extrapolation_warning_names_the_library_curve_form_and_datum(tmp_path, cas, form, table):
+    """QA: a library liquid curve (held in Shomate form inside) evaluated beyond its range warned about
+    "the shomate heat capacity". The warning names the source's own form, the species/phase and the
+    datum; the range is chemicals' own (zabransky_dict_iso_s, Cp_data_Perry_Table_153_100)."""
+    from uqthermo.case.loader import load_case
+    from uqthermo.pipeline.job import prepare_model
+
+    chem_hc._load_Cp_data()
+    if table == "zabransky":
+        z = chem_hc.zabransky_dict_iso_s[cas]
+        lo, hi = z.Tmin, z.Tmax
+    else:
+        row = chem_hc.Cp_data_Perry_Table_153_100.loc[cas]
+        lo, hi = float(row.Tmin), float(row.Tmax)
+    T = hi + 25.0
+    text = (f'title = "liquid warmed past its Cp range (test)"\n[species.X]\ncas = "{cas}"\n[species.X.l]\n'
+            'formation_enthalpy = { library = "auto" }\nheat_capacity = { library = "auto", extrapolate = true }\n'
+            f'[[output]]\nname = "h"\nkind = "heating_enthalpy"\nspecies = "X(l)"\nfrom = "298.15 K"\nto = "{T:g} K"\n')
+    case = load_case(str(_write(tmp_path, text)))
+    _, warnings = prepare_model(case)
+    (line,) = [w for w in warnings if "validity range" in w]
+    assert line.startswith("output.h: extrapolated beyond a correlation's validity range")
+    assert f"X(l): T = {T:g} K outside the validity range {lo:g}-{hi:g} K of the {form} heat capacity" in line
+    assert line.endswith("(datum X.l.heat_capacity)")
+    assert "shomate" not in line.lower()
+
+
+# ------------------------------------------------------------------ outliers among scalar values
+def _scalar(key, value, kind="compilation", quantity="formation_enthalpy"):
+    from uqthermo.case.library.candidates import ScalarCandidate, SourceInfo
+
+    src = SourceInfo(key=key, title=key, version="", citation="", kind=kind, uncertainty="")
+    return ScalarCandidate(source=src, quantity=quantity, phase="g", cas="74-82-8", value=value)
+
+
+def test_scalar_outlier_rule_on_methane_formation_enthalpies_from_chemicals():
+    """Methane ΔfH°(g) from chemicals' own tables (chemicals.reaction.Hfg with ATCT_G, JANAF, CRC,
+    WEBBOOK, API_TDB_G, YAWS: -74.5 to -74.9 kJ/mol) and, as the wrong value, the TRC table's Hfg
+    column (-66.6 kJ/mol: a 0 K formation enthalpy, the kind of slip a user's copied value can
+    carry). The rule of uqthermo.case.library.uncertainty: median ± max(3 × 1.4826 × MAD, 5 kJ/mol)."""
+    from uqthermo.case.library.uncertainty import robust_outliers, scalar_uncertainty
+
+    good = {m: chem_reaction.Hfg("74-82-8", method=m) for m in ("JANAF", "ATCT_G", "CRC", "WEBBOOK", "API_TDB_G", "YAWS")}
+    wrong = chem_reaction.Hfg("74-82-8", method="TRC")
+    assert wrong == pytest.approx(-66600.0) and max(good.values()) - min(good.values()) < 500.0
+    chosen = _scalar("JANAF", good["JANAF"], kind="evaluated")          # no stated u: the spread rule applies
+    others = [_scalar(m, v) for m, v in good.items() if m != "JANAF"]
+    plain = scalar_uncertainty(chosen, others)
+    # no outlier: exactly the rule as before — max(assumed 0.5 kJ/mol, half the spread)
+    assert plain.outliers == ()
+    assert plain.u == pytest.approx(max(500.0, 0.5 * (max(good.values()) - min(good.values()))))
+    assert plain.basis == "assumed" and "disagrees" not in plain.reason
+    # the 0 K value joins: left out, named, the uncertainty unchanged (unscreened it would be 4.1 kJ/mol)
+    screened = scalar_uncertainty(chosen, others + [_scalar("TRC", wrong)])
+    (out,) = screened.outliers
+    assert out["source"] == "TRC" and out["value"] == wrong
+    assert out["deviation"] == pytest.approx(wrong - good["JANAF"])
+    assert out["deviation_percent"] == pytest.approx(100 * (wrong - good["JANAF"]) / abs(good["JANAF"]))
+    assert screened.u == plain.u and screened.basis == plain.basis
+    assert screened.reason.startswith(plain.reason + "; TRC disagrees by +8.27 kJ/mol")
+    assert "treated as an outlier (median/MAD of 7 sources, beyond 5 kJ/mol" in screened.reason
+    # the shared rule itself: two values give no majority; the selected value (index 0) is never flagged
+    assert robust_outliers([1.0, 50.0], absolute=5.0)[0] == []
+    assert robust_outliers([wrong] + list(good.values()), absolute=5000.0)[0] == []
+
+
+def test_scalar_outlier_in_the_shipped_tables_is_left_out_and_warned(tmp_path, capsys):
+    """Acetic acid gas S° in chemicals' tables (chemicals.reaction.S0g): WebBook 282.84, CRC 283.5 and
+    Yaws 312.3 J/(mol*K). Yaws is screened out: u is half the spread of the other two, not 14.7."""
+    from uqthermo.case.loader import load_case
+    from uqthermo.pipeline.job import prepare_model
+
+    vals = {m: chem_reaction.S0g("64-19-7", method=m) for m in ("WEBBOOK", "CRC", "YAWS")}
+    sel = select_value(identify(cas="64-19-7"), "standard_entropy", "g")
+    assert sel.chosen.source.key == "WebBook" and sel.value == pytest.approx(vals["WEBBOOK"])
+    assert sel.uncertainty.basis == "spread"
+    assert sel.uncertainty.u == pytest.approx(0.5 * abs(vals["CRC"] - vals["WEBBOOK"]))
+    prov = sel.provenance()
+    (out,) = prov["outliers"]
+    assert out["source"].startswith("Yaws") and out["value"] == pytest.approx(vals["YAWS"])
+    assert out["unit"] == "J/(mol*K)" and out["temperature_K"] == pytest.approx(298.15)
+    assert [s["outlier"] for s in prov["sources"]] == [False, False, True]
+    # a value without outliers keeps an empty list (and the spread of every source)
+    ea = select_value(identify(cas="141-78-6"), "formation_enthalpy", "g").provenance()
+    assert ea["outliers"] == [] and not any(s["outlier"] for s in ea["sources"])
+    # the run warns with species, datum and both sources (the entropy is used by a Gibbs-energy output)
+    text = ('title = "acetic acid vapour combustion (test)"\n'
+            '[species.AcOH]\ncas = "64-19-7"\n[species.O2]\n[species.CO2]\ncas = "124-38-9"\n[species.H2O]\ncas = "7732-18-5"\n'
+            + "".join(f'[species.{s}.g]\nformation_enthalpy = {{ library = "auto" }}\nstandard_entropy = {{ library = "auto" }}\n'
+                      f'heat_capacity = {{ library = "auto" }}\n' for s in ("AcOH", "O2", "CO2", "H2O"))
+            + '[reaction.burn]\nequation = "AcOH(g) + 2 O2(g) -> 2 CO2(g) + 2 H2O(g)"\n'
+              '[[output]]\nname = "g"\nkind = "reaction_gibbs_energy"\nreaction = "burn"\ntemperature = "298.15 K"\n')
+    case = load_case(str(_write(tmp_path, text)))
+    _, warnings = prepare_model(case)
+    line = next(w for w in case.warnings + warnings if "outlier" in w)
+    assert line.startswith("AcOH.g.standard_entropy: Yaws 2nd ed. (2014) gives 312.3 J/(mol*K) at 298.15 K, "
+                           "+29.5 J/(mol*K) (+10 %) from the 282.8 J/(mol*K) of WebBook NIST SRD 69")
+    assert case.data["AcOH.g.standard_entropy"].distributions[0].std == pytest.approx(sel.uncertainty.u)
+    # the data command marks it
+    assert main(["data", "64-19-7"]) == 0
+    assert "outlier: +29.46 J/(mol*K) from ★, left out of u" in capsys.readouterr().out

@@ -26,6 +26,7 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
+from conftest import check_report_numbering, main_in_process, write_case
 from uqthermo.errors import InputError
 from uqthermo.report import ResultsView, make_figures, render_html, render_markdown, results_table, write_report
 from uqthermo.report.figures import assembly as figmod
@@ -235,6 +236,92 @@ def test_markdown_references_written_figures(report_dir):
     for r in refs:
         assert r.startswith("figures/") and r.endswith(".png")
         assert (out / r).is_file()
+
+
+# ---------------------------------------------------------------------------
+# numbering: tables and figures 1, 2, 3… in document order; user text as written
+# ---------------------------------------------------------------------------
+
+def test_tables_and_figures_numbered_in_document_order_in_every_format(report_dir):
+    """HTML, Markdown and Word: tables 1..n and figures 1..m in the order they appear, the same captions
+    in the same order, and every "Table N"/"Figure N" pointing at an existing caption (the sample has a
+    plan and a convergence figure, so every kind of table and figure is in it)."""
+    pytest.importorskip("docx")
+    out, written = report_dir
+    page = (out / "report.html").read_text(encoding="utf-8")
+    md = (out / "report.md").read_text(encoding="utf-8")
+    n_tab, n_fig = check_report_numbering(page, md, written["report.docx"])
+    assert n_fig == 8 and n_tab >= 20
+    # document order is the reader's: the input data (appendix A.3) come before the results summary (A.4)
+    keys = re.findall(r'<table id="table-\d+" data-key="([^"]*)"', page)
+    assert keys.index("inputs") < keys.index("summary")
+    figs = re.findall(r'<figure id="figure-\d+">\s*<img src="[^"]*" alt="Figure \d+: ([^"]*)"', page)
+    assert figs.index("Heat-capacity data used") < figs.index("Monte Carlo convergence") < figs.index("Data purchase plan")
+
+
+def test_a_figure_not_drawn_leaves_no_gap(results):
+    """A figure the page cannot embed takes no number and no reference; the others close up (the concise
+    section then shows the output's distribution instead of its missing curve)."""
+    from uqthermo.report.figures.assembly import RenderedFigure, figure_specs
+
+    specs = figure_specs(results)
+    drop = {"cp-data", specs[0].name}
+    fake = [RenderedFigure(s.name, s.section, s.output_index, s.title, s.caption, b"png", b"") for s in specs
+            if s.name not in drop]
+    page = render_html(results, _rendered=fake)
+    _, n_fig = check_report_numbering(page, None, None)
+    assert n_fig == len(specs) - len(drop)
+    assert "Heat-capacity data used" not in page
+    budgets = page.split('<section id="budgets">', 1)[1].split("</section>", 1)[0]
+    assert 'alt="Figure 1: hydrogenation_dH: output distribution"' in budgets
+
+
+USER_TEXT = {
+    "title": "Water-gas shift to NIST-JANAF Table 5 and Figure 2 (table-3)",
+    "source": "ATcT via chemicals; cf NIST-JANAF Table 5 and see Figure 2 of the vendor sheet (table-3)",
+    "reference": "CALC Table 5 rev table-3",
+    "checked_by": "see Figure 2 team",
+    "description": "as in Figure 2 of the vendor sheet, Table 5 and table-3",
+    "output": "table-3",
+}
+
+
+@pytest.fixture(scope="module")
+def user_text_run(tmp_path_factory):
+    """The fast case (conftest) with user text that looks like a table or figure reference in its title,
+    a datum's source, [document] keys, an output's name and description; 1024 trials."""
+    from conftest import BASE_CASE
+
+    text = (BASE_CASE.replace('title = "Water-gas shift at 700 K (test case, published data)"', f'title = "{USER_TEXT["title"]}"', 1)
+            .replace('source = "ATcT via chemicals"', f'source = "{USER_TEXT["source"]}"', 1)
+            .replace('name = "dH_700K"', f'name = "{USER_TEXT["output"]}"\ndescription = "{USER_TEXT["description"]}"', 1))
+    text += f'\n[document]\nreference = "{USER_TEXT["reference"]}"\nchecked_by = "{USER_TEXT["checked_by"]}"\n'
+    base = tmp_path_factory.mktemp("user-text")
+    case = write_case(base, text)
+    out = base / "out"
+    code, _, err = main_in_process("run", case, "--out", out, "--samples", "1024", "--quiet")
+    assert code == 0, err
+    return out
+
+
+def test_user_text_that_looks_like_a_reference_is_printed_as_written(user_text_run):
+    docx = pytest.importorskip("docx")
+    out = user_text_run
+    res = json.loads((out / "results.json").read_text(encoding="utf-8"))
+    assert res["case"]["title"] == USER_TEXT["title"] and res["document"]["reference"] == USER_TEXT["reference"]
+    page = (out / "report.html").read_text(encoding="utf-8")
+    md = (out / "report.md").read_text(encoding="utf-8")
+    d = docx.Document(str(out / "report.docx"))
+    n_tab, n_fig = check_report_numbering(page, md, out / "report.docx", user_text=tuple(USER_TEXT.values()))
+    assert n_tab > 5 and n_fig > 2       # "Table 5", "Figure 2", "table-3" are numbers in use in this report
+    html_text = html.unescape(re.sub(r"<[^>]+>", " ", page.replace("<wbr>", "")))
+    md_text = re.sub(r"\\(.)", r"\1", md)
+    doc_text = "\n".join([p.text for p in d.paragraphs] + [c.text for t in d.tables for r in t.rows for c in r.cells]
+                         + [p.text for p in d.sections[0].header.paragraphs])
+    for key, s in USER_TEXT.items():
+        for name, txt in (("html", html_text), ("md", md_text), ("docx", doc_text)):
+            assert s in txt, (name, key, s)
+    assert f"<h4>{USER_TEXT['output']} " in page and f"#### {USER_TEXT['output']} —" in md
 
 
 # ---------------------------------------------------------------------------

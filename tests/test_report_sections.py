@@ -24,6 +24,7 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
+from conftest import check_report_numbering
 from uqthermo.report import write_report
 from uqthermo.report.sections import budget as bud
 from uqthermo.report.sections.ranking import cut
@@ -326,6 +327,16 @@ def test_docx_holds_what_the_html_holds(demo):
     props = d.core_properties
     assert props.identifier == demo["results"]["document"]["reference"]
     assert demo["results"]["case"]["sha256"] in props.comments
+
+
+def test_demo_reports_number_tables_and_figures_in_document_order(demo):
+    """Both demos render, with tables and figures 1, 2, 3… in reading order in report.html, report.md and
+    report.docx, the same captions in all three, and every figure reference pointing at its figure."""
+    out = demo["out"]
+    docx = out / "report.docx" if (out / "report.docx").is_file() else None
+    n_tab, n_fig = check_report_numbering(demo["page"], (out / "report.md").read_text(encoding="utf-8"), docx)
+    assert n_tab >= 30 and n_fig >= 10
+    assert len(re.findall(r"Figure \d+ \(section 1\.\d+\) shows", demo["page"])) == len(demo["results"]["outputs"])
 
 
 # ---------------------------------------------------------------------------

@@ -421,6 +421,47 @@ flows = { "S(l)" = "%s" }
     assert pt["linear"]["standard_uncertainty"] == pytest.approx(math.hypot(1.5 * 0.1 * math.sqrt(2), 0.080), rel=1e-6)
 
 
+_FEED = ('\n[[output]]\nname = "duty"\nkind = "heat_release"\ntemperature = "320 K"\nextent_rate = { R = "1.5 mol/s" }\n'
+         'feed = [ { temperature = "300 K", flows = %s } ]\n')
+
+
+@pytest.mark.parametrize("output, key, message", [
+    (_FEED % '{ "S(l)" = "-1 mol/s" }', "output.duty.feed[0].flows.S(l)", "a feed flow must not be negative"),
+    (_FEED % '{ "S(l)" = "1 mol/s", "S( l )" = "1 kg/h" }', "output.duty.feed[0].flows.S( l )",
+     "species listed twice in one stream"),
+    (_FEED % "{}", "output.duty.feed[0].flows", "must be a table of flows, e.g. "),
+    (_FEED % '{ "Q(l)" = "1 mol/s" }', "output.duty.feed[0].flows.Q(l)", "unknown species 'Q'"),
+    (_FEED % '{ "S(l)" = "1 mol" }', "output.duty.feed[0].flows.S(l)", "mol/s or kmol/h"),
+    (adiabatic(charge='{ "S(l)" = "-10 mol" }'), "output.rise.charge.S(l)", "amount must not be negative"),
+    (adiabatic(charge='{ "S(l)" = "10 mol", "S( l )" = "1 kg" }'), "output.rise.charge.S( l )", "species listed twice"),
+    (adiabatic(charge="[]"), "output.rise.charge", "must be a table of amounts, e.g. "),
+    (adiabatic(charge='{ "S(x)" = "10 mol" }'), "output.rise.charge.S(x)", "S(x) has no phase data"),
+])
+def test_amounts_of_charges_and_feeds_read_by_one_parser(tmp_path, output, key, message):
+    """The charge of an adiabatic rise and the flows of a feed stream are read by one parser
+    (uqthermo/case/readers/amounts.py): each slip is one line FILE: KEY: message (a species written
+    twice no longer also says that its datum is defined twice)."""
+    path = write_case(tmp_path, case_text(output=output))
+    code, _, err = main_in_process("check", path)
+    lines = [ln for ln in err.splitlines() if ln.strip() and not ln.endswith("problem(s) found")]
+    assert code == 2 and len(lines) == 1 and lines[0].startswith(f"{path}: {key}: "), err
+    assert message in lines[0] and "defined twice" not in err
+
+
+def test_feed_flows_given_as_mass_keep_their_molar_mass_for_candidates(tmp_path):
+    # S is CH4O: 32.042 g/mol (IUPAC standard atomic weights); 3600·M kg/h is 1 mol/s, and a candidate may
+    # state its u as a mass flow like the flow itself (as it may for a charge)
+    from uqthermo.case.loader import load_case
+
+    text = case_text(output=_FEED % f'{{ "S(l)" = {{ value = "{M_CH4O * 3600} kg/h", u = "{M_CH4O * 360} kg/h" }} }}',
+                     extra=f'[[candidate]]\ndatum = "output.duty.feed[0].S.l"\nu = "{M_CH4O * 36} kg/h"\ncost = 1\n')
+    case = load_case(str(write_case(tmp_path, text)))
+    d = case.data["output.duty.feed[0].S.l"]
+    assert d.nominal == pytest.approx(1.0, rel=1e-12) and d.molar_mass == pytest.approx(M_CH4O, rel=1e-4)
+    assert d.distributions[0].std == pytest.approx(0.1, rel=1e-12)
+    assert case.candidates[0].u == pytest.approx(0.01, rel=1e-12)
+
+
 # ---------------------------------------------------------------- constant volume and vessel pressure
 
 def test_constant_volume_rise_and_pressure_against_cantera(tmp_path):

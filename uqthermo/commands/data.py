@@ -118,6 +118,9 @@ def _rows_of(rows, sel, label, ph, q):
             unc = (f"u = {_fmt(q, u.u)} [{u.basis}]" if u.u else "exact") + (" ESTIMATE" if sel.estimate else "")
         elif o.u is not None:
             unc = f"u = {_fmt(q, o.u)} (stated)" if o.u_basis == "stated" else f"u = {_fmt(q, o.u)} ({o.u_basis})"
+        out = next((x for x in u.outliers if x["source"] == o.source.label), None)
+        if out is not None and not chosen:
+            unc = f"outlier: {'+' if out['deviation'] > 0 else '-'}{_fmt(q, abs(out['deviation']))} from ★, left out of u"
         rows.append([label if chosen else "", ph if chosen else "", ("★ " if chosen else "  ") + o.source.label,
                      _fmt(q, o.value), unc])
 

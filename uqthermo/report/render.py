@@ -31,6 +31,7 @@ from .fields import (
     SAFETY_KINDS, check_results, coverage_probability, headline_index, kind_label, num, outputs, point_estimate, point_u,
     points, safety_relevant, slugs, text, unit_with_basis,
 )
+from .numbering import number, table_entry
 from .rounding import (
     fmt_cost, fmt_fixed, fmt_interval, fmt_k, fmt_probability, fmt_sig, fmt_temperature, fmt_u, fmt_value, pct_label,
     uncertainty_decimals,
@@ -40,7 +41,7 @@ from .sections import ranking
 from .sections.concise import concise_context
 from .sections.warnings import grouped as grouped_warnings
 from .tables.design import bounds_table, exceedance_table, limit_text, probability_cell, safety_table
-from .tables.display import DisplayTable, unit_suffix
+from .tables.display import unit_suffix
 from .tables.drivers_whatif import drivers_note
 from .tables.frames import frames
 from .tables.inputs import correlations_table, inputs_table, reactions_table
@@ -142,20 +143,6 @@ def environment(kind: str) -> jinja2.Environment:
 # ---------------------------------------------------------------------------
 # context
 # ---------------------------------------------------------------------------
-
-class _Numbering:
-    def __init__(self) -> None:
-        self.fig = 0
-        self.tab = 0
-
-    def figure(self) -> int:
-        self.fig += 1
-        return self.fig
-
-    def table(self, t: DisplayTable) -> dict:
-        self.tab += 1
-        return {"n": self.tab, "t": t}
-
 
 def _run_method(run: Mapping) -> tuple[bool, bool]:
     m = str(run.get("method") or "both").lower().replace("_", "-")
@@ -352,12 +339,14 @@ def _summary_card(results: Mapping, o: Mapping, p: Mapping) -> dict:
             "details": details, "badge": badge}
 
 
-def _figure_entry(name: str, rendered: Mapping[str, Any] | None, spec_titles: Mapping[str, tuple[str, str]], numbering: _Numbering) -> dict | None:
-    if name not in spec_titles:
+def _figure_entry(name: str, rendered: Mapping[str, Any] | None, spec_titles: Mapping[str, tuple[str, str]]) -> dict | None:
+    """A figure entry, unnumbered (:func:`.numbering.number` numbers it); None when the results have no such
+    figure, or when the page embeds its figures (``rendered``) and this one was not drawn."""
+    if name not in spec_titles or (rendered is not None and name not in rendered):
         return None
     title, caption = spec_titles[name]
-    e = {"name": name, "n": numbering.figure(), "title": title, "caption": caption, "path": f"figures/{name}.png", "src": None}
-    if rendered is not None and name in rendered:
+    e = {"name": name, "n": None, "title": title, "caption": caption, "path": f"figures/{name}.png", "src": None}
+    if rendered is not None:
         e["src"] = "data:image/png;base64," + base64.b64encode(rendered[name].png).decode("ascii")
     return e
 
@@ -368,11 +357,13 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
     ``figures``: include figure entries; ``rendered``: list of
     :class:`~uqthermo.report.figures.assembly.RenderedFigure` to embed (HTML); without it
     the entries carry only their relative path ``figures/NAME.png`` (Markdown).
+
+    Tables and figures are numbered last, in the order the templates print them
+    (:func:`uqthermo.report.numbering.number`), so captions, anchors and references agree.
     """
     from .figures.assembly import figure_specs
 
     check_results(results)
-    numbering = _Numbering()
     specs = figure_specs(results) if figures else []
     spec_titles = {s.name: (s.title, s.caption) for s in specs}
     rmap = {f.name: f for f in rendered} if rendered is not None else None
@@ -393,19 +384,19 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
     used_figures: dict[str, dict] = {}
 
     def concise_figure(name: str) -> dict | None:
-        f = _figure_entry(name, rmap, spec_titles, numbering)
+        f = _figure_entry(name, rmap, spec_titles)
         if f is not None:
             used_figures[name] = f
         return f
 
-    ctx["concise"] = concise_context(results, numbering.table, concise_figure)
-    ctx["summary"] = numbering.table(summary_table(results))
+    ctx["concise"] = concise_context(results, table_entry, concise_figure)
+    ctx["summary"] = table_entry(summary_table(results))
     inp = inputs_table(results)
-    ctx["inputs"] = numbering.table(inp) if inp else None
+    ctx["inputs"] = table_entry(inp) if inp else None
     corr = correlations_table(results)
-    ctx["correlations"] = numbering.table(corr) if corr else None
+    ctx["correlations"] = table_entry(corr) if corr else None
     reac = reactions_table(results)
-    ctx["reactions"] = numbering.table(reac) if reac else None
+    ctx["reactions"] = table_entry(reac) if reac else None
 
     outs = []
     for oi, (o, slug) in enumerate(zip(outputs(results), slugs(results))):
@@ -449,29 +440,29 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
                 if fname in used_figures:       # drawn in the concise section: referred to, not repeated
                     entry["figure_refs"].append(used_figures[fname])
                     continue
-                f = _figure_entry(fname, rmap, spec_titles, numbering)
+                f = _figure_entry(fname, rmap, spec_titles)
                 if f:
                     entry["figures"].append(f)
             for t in (mc_table(results, o, f"mc-{slug}"), linear_table(results, o, f"linear-{slug}"),
                       bounds_table(results, o, f"bounds-{slug}"), exceedance_table(results, o, f"exceedance-{slug}"),
                       safety_table(results, o, f"safety-{slug}")):
                 if t:
-                    entry["tables"].append(numbering.table(t))
+                    entry["tables"].append(table_entry(t))
             entry["drivers_note"] = drivers_note(results, hp)
-            entry["drivers_figure"] = _figure_entry(f"drivers-{slug}", rmap, spec_titles, numbering)
+            entry["drivers_figure"] = _figure_entry(f"drivers-{slug}", rmap, spec_titles)
             if o.get("kind") == "reaction_enthalpy":
                 kt = kh.point_table(o, f"kirchhoff-{slug}")
-                entry["kirchhoff_table"] = numbering.table(kt) if kt else None
+                entry["kirchhoff_table"] = table_entry(kt) if kt else None
             dt = ranking.drivers_table(o, hp, f"drivers-{slug}")
-            entry["drivers_table"] = numbering.table(dt) if dt else None
+            entry["drivers_table"] = table_entry(dt) if dt else None
             wt = ranking.whatif_table(o, hp, f"whatif-{slug}", coverage_probability(results, hp))
-            entry["whatif_table"] = numbering.table(wt) if wt else None
+            entry["whatif_table"] = table_entry(wt) if wt else None
             entry["not_validated"] = [fmt_temperature(p.get("temperature_K")) for p in pts if p.get("linear_validated") is False]
         outs.append(entry)
     ctx["outputs"] = outs
-    ctx["data_figures"] = [f for f in (_figure_entry(s_.name, rmap, spec_titles, numbering) for s_ in specs
+    ctx["data_figures"] = [f for f in (_figure_entry(s_.name, rmap, spec_titles) for s_ in specs
                                        if s_.section == "data") if f]
-    ctx["convergence_figure"] = _figure_entry("convergence", rmap, spec_titles, numbering)
+    ctx["convergence_figure"] = _figure_entry("convergence", rmap, spec_titles)
 
     plan = results.get("plan")
     ctx["plan"] = None
@@ -509,9 +500,9 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
         ctx["plan"] = {
             "lines": lines, "recommendation": rec,
             "method": text(plan.get("method")),
-            "figure": _figure_entry("plan-front", rmap, spec_titles, numbering),
-            "candidates": numbering.table(cand) if cand else None,
-            "front": numbering.table(front) if front else None,
+            "figure": _figure_entry("plan-front", rmap, spec_titles),
+            "candidates": table_entry(cand) if cand else None,
+            "front": table_entry(front) if front else None,
         }
 
     ctx["warnings"] = [text(w) for w in grouped_warnings(results) if text(w)]
@@ -557,6 +548,7 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
     ctx["toc"] = ([{"id": a, "n": f"1.{i + 1}", "label": b} for i, (a, b) in enumerate(part1)]
                   + [{"id": a, "n": f"A.{i + 1}", "label": b} for i, (a, b) in enumerate(part2)])
     ctx["sec"] = {t["id"]: t["n"] for t in ctx["toc"]}
+    number(ctx)         # tables and figures 1, 2, 3… in the order the templates print them
     return ctx
 
 
@@ -580,17 +572,13 @@ def render_html(results: Mapping, figures: bool = True, _rendered: Sequence | No
 
         _rendered = render_figures(results)
     ctx = build_context(results, figures=figures, rendered=_rendered if figures else None)
-    from .document_order import renumber
-
-    return renumber(environment("html").get_template("report.html.j2").render(**ctx), "html")
+    return environment("html").get_template("report.html.j2").render(**ctx)
 
 
 def render_markdown(results: Mapping, figures: bool = True) -> str:
     """The report as Markdown; figures are referenced as ``figures/NAME.png``."""
     ctx = build_context(results, figures=figures, rendered=None)
-    from .document_order import renumber
-
-    return renumber(environment("md").get_template("report.md.j2").render(**ctx), "md")
+    return environment("md").get_template("report.md.j2").render(**ctx)
 
 
 def write_tables(results: Mapping, out_dir: Path) -> dict[str, Path]:

@@ -142,6 +142,8 @@ class CpModel:
     ----------
     kind : str
         ``"constant"``, ``"polynomial"``, ``"shomate"`` or ``"nasa7"``.
+    form : str
+        Name in messages (``"Shomate"``, ``"NASA-7"``...); a library curve held in another model's form sets its own.
     coefficients : numpy.ndarray
         Nominal coefficient vector, shape ``(P,)``, native units of the model.
     coefficient_names : list of str
@@ -157,6 +159,7 @@ class CpModel:
     """
 
     kind: str = "base"
+    form: str = "base"
     _n_terms: int = 0
     _term_names: tuple[str, ...] = ()
 
@@ -314,7 +317,7 @@ class CpModel:
             return None
         Ts = " and ".join(f"T = {format_number(x)} K" for x in bad)
         return (f"{Ts} outside the validity range {format_number(self.t_min)}-{format_number(self.t_max)} K "
-                f"of the {self.kind} heat capacity")
+                f"of the {self.form} heat capacity")
 
     def cp_basis(self, T) -> np.ndarray:
         """Basis of :math:`C_p`: ``cp(T, c) = cp_basis(T) @ c``; shape ``T.shape + (P,)``, J/(mol K) per unit coefficient."""
@@ -462,7 +465,7 @@ class ConstantCp(CpModel):
         Evaluate outside the range instead of raising.
     """
 
-    kind = "constant"
+    kind, form = "constant", "constant"
     _n_terms = 1
     _term_names = ("Cp",)
     _h_monomials = ((1, 1.0),)
@@ -508,7 +511,7 @@ class PolynomialCp(CpModel):
         Evaluate outside the range instead of raising.
     """
 
-    kind = "polynomial"
+    kind, form = "polynomial", "polynomial"
     _n_terms = 5
     _term_names = ("a", "b", "c", "d", "e")
     _h_monomials = ((1, 1.0), (2, 0.5), (3, 1.0 / 3.0), (4, 0.25), (-1, -1.0))
@@ -571,7 +574,7 @@ class ShomateCp(CpModel):
         Evaluate outside the overall range with the nearest range instead of raising.
     """
 
-    kind = "shomate"
+    kind, form = "shomate", "Shomate"
     _n_terms = 5
     _term_names = ("A", "B", "C", "D", "E")
     # 1000·[t, t²/2, t³/3, t⁴/4, -1/t] with t = T/1000, as powers of T
@@ -638,7 +641,7 @@ class Nasa7Cp(CpModel):
         Evaluate outside the overall range with the nearest range instead of raising.
     """
 
-    kind = "nasa7"
+    kind, form = "nasa7", "NASA-7"
     _n_terms = 7
     _term_names = ("a1", "a2", "a3", "a4", "a5", "a6", "a7")
     _h_monomials = ((1, R), (2, R / 2.0), (3, R / 3.0), (4, R / 4.0), (5, R / 5.0), None, None)

@@ -159,9 +159,13 @@ class Selection:
             out.update({"value": c.value * f, "unit": unit, "standard_uncertainty": u.u * f})
             if c.temperature is not None:
                 out["temperature_K"] = c.temperature
+            outlying = {o["source"] for o in u.outliers}
             out["sources"] = [{"source": o.source.label, "value": o.value * f, "unit": unit,
                                "standard_uncertainty": None if o.u is None else o.u * f,
-                               "note": o.note, "estimate": o.estimate} for o in self.considered]
+                               "note": o.note, "estimate": o.estimate, "outlier": o.source.label in outlying}
+                              for o in self.considered]
+            out["outliers"] = [dict(o, unit=unit, **{k: o[k] * f for k in ("value", "selected_value", "deviation", "limit")})
+                               for o in u.outliers]
         return out
 
 

@@ -36,8 +36,13 @@ each temperature of the window where other sources give a Cp (:func:`screen_outl
   when it disagrees with the selected curve by more than :data:`OUTLIER_RELATIVE`; two curves that
   disagree keep their spread.
 
-The selected curve is never screened out (if it is the odd one, the spread stays). An outlier is
-left out of the spread, named with its disagreement in the uncertainty's reason and in
+**Outliers of scalars** (ΔfH°, S°, Tb, ...; :func:`screen_scalar_outliers`), where rule 4 applies
+(not to an exact, stated or estimated value): the same robust rule (:func:`robust_outliers`) on the
+sources' values when there are three or more, with a floor of :data:`OUTLIER_FACTOR` times the
+assumed u of a compilation (:func:`outlier_floor`); two values keep their spread.
+
+The selected curve or value is never screened out (if it is the odd one, the spread stays). An
+outlier is left out of the spread, named with its disagreement in the uncertainty's reason and in
 ``provenance.outliers``, and the run warns naming the datum and both sources.
 
 The basis is recorded with each datum (``exact``, ``stated``, ``published``, ``spread``,
@@ -53,13 +58,19 @@ import numpy as np
 from .candidates import CurveCandidate, ScalarCandidate
 
 __all__ = ["Uncertainty", "ASSUMED", "OUTLIER_RELATIVE", "scalar_uncertainty", "curve_uncertainty", "assumed_value",
-           "screen_outliers", "outlier_text"]
+           "screen_outliers", "outlier_text", "robust_outliers", "OUTLIER_FACTOR", "outlier_floor",
+           "screen_scalar_outliers", "scalar_outlier_text"]
 
 OUTLIER_RELATIVE = 0.10
 """Relative disagreement beyond which a heat capacity is screened as an outlier: five times the 2 %
 assumed for handbook correlations; compilations of Cp near room temperature typically agree within
 a few per cent (common practice), so a 10 % gap points to a transcription or identification error
 rather than to a measurement spread. A rule of our own."""
+
+OUTLIER_FACTOR = 5.0
+"""Floor of the outlier limit of a scalar, in assumed uncertainties of a compilation (:func:`outlier_floor`):
+the same factor as the heat capacities' :data:`OUTLIER_RELATIVE` (10 % = 5 × the 2 % assumed for
+handbook correlations). A rule of our own."""
 
 MAD_TO_SIGMA = 1.4826
 """MAD of a normal sample → its standard deviation (1/Φ⁻¹(3/4); Rousseeuw & Croux, JASA 88 (1993) 1273)."""
@@ -105,8 +116,9 @@ class Uncertainty:
     expanded: float | None = None
     k: float | None = None
     outliers: tuple = ()
-    """Sources left out of the spread (:func:`screen_outliers`): dicts with source, value (J/(mol*K)),
-    temperature_K, deviation_percent (from the selected curve), rule."""
+    """Sources left out of the spread: dicts with source, value, temperature_K, deviation_percent (from
+    the selected value), rule — for a curve (:func:`screen_outliers`) in J/(mol*K), for a scalar
+    (:func:`screen_scalar_outliers`) in SI with deviation and limit besides."""
 
     @property
     def assumed(self) -> bool:
@@ -118,12 +130,12 @@ def assumed_value(quantity: str, kind: str) -> float:
     return ASSUMED.get((quantity, kind), ASSUMED.get((quantity, "compilation"), 0.0))
 
 
-def _fmt(x: float, quantity: str) -> str:
+def _fmt(x: float, quantity: str, digits: int = 3) -> str:
     if quantity in ("formation_enthalpy", "formation_gibbs_energy", "vaporization_enthalpy", "fusion_enthalpy"):
-        return f"{x / 1000:.3g} kJ/mol"
+        return f"{x / 1000:.{digits}g} kJ/mol"
     if quantity in ("standard_entropy", "heat_capacity"):
-        return f"{x:.3g} J/(mol*K)"
-    return f"{x:.3g} K"
+        return f"{x:.{digits}g} J/(mol*K)"
+    return f"{x:.{digits}g} K"
 
 
 def scalar_uncertainty(chosen: ScalarCandidate, others: list[ScalarCandidate], *, exact: bool = False) -> Uncertainty:
@@ -158,15 +170,101 @@ def scalar_uncertainty(chosen: ScalarCandidate, others: list[ScalarCandidate], *
         basis0 = "assumed"
         why0 = (f"no source states an uncertainty; {100 * a:g} % assumed for {chosen.source.kind} data" if rel else
                 f"no source states an uncertainty; {_fmt(a, q)} assumed for {chosen.source.kind} data")
-    vals = [chosen.value] + [o.value for o in others if not o.estimate]
+    measured = [o for o in others if not o.estimate]
+    outliers = screen_scalar_outliers(chosen, measured)
+    dropped = {o["source"] for o in outliers}
+    vals = [chosen.value] + [o.value for o in measured if o.source.label not in dropped]
+    result = Uncertainty(u0, False, basis0, why0)
     if len(vals) >= 2:
         half = 0.5 * (max(vals) - min(vals))
         if half > u0:
-            return Uncertainty(half, False, "spread",
-                               f"half the spread of {len(vals)} sources ({_fmt(min(vals), q)} to {_fmt(max(vals), q)}), "
-                               f"larger than the {basis0} {_fmt(u0, q)}")
-        why0 += f"; larger than half the spread of {len(vals)} sources ({_fmt(half, q)})"
-    return Uncertainty(u0, False, basis0, why0)
+            result = Uncertainty(half, False, "spread",
+                                 f"half the spread of {len(vals)} sources ({_fmt(min(vals), q)} to {_fmt(max(vals), q)}), "
+                                 f"larger than the {basis0} {_fmt(u0, q)}")
+        else:
+            result = Uncertainty(u0, False, basis0, why0 + f"; larger than half the spread of {len(vals)} sources "
+                                                           f"({_fmt(half, q)})")
+    if outliers:
+        from dataclasses import replace
+
+        result = replace(result, reason=f"{result.reason}; {scalar_outlier_text(outliers, chosen)}",
+                         outliers=tuple(outliers))
+    return result
+
+
+def outlier_floor(quantity: str) -> tuple[float, float]:
+    """(relative, absolute) floor of the outlier limit for a scalar quantity: :data:`OUTLIER_FACTOR`
+    times the assumed u of a compilation (:data:`ASSUMED`), relative for the quantities of
+    :data:`RELATIVE` — ΔfH° 5 kJ/mol, S° 2.5 J/(mol K), Tb 1 K, Tm 2.5 K, ΔvapH 5 %, ΔfusH 15 %."""
+    a = OUTLIER_FACTOR * assumed_value(quantity, "compilation")
+    return (a, 0.0) if quantity in RELATIVE else (0.0, a)
+
+
+def screen_scalar_outliers(chosen: ScalarCandidate, others: list[ScalarCandidate]) -> list[dict]:
+    """Other sources whose value of a scalar is an outlier by :func:`robust_outliers` (three or more
+    values, the selected one included; floor :func:`outlier_floor`). Not applied to estimates.
+
+    Returns one record per outlying source: ``source``, ``value``, ``selected_value``, ``deviation``
+    (value − selected value) and ``limit`` in SI units (J/mol, J/(mol K), K), ``temperature_K``
+    (where the value holds, None for a transition temperature), ``deviation_percent`` (from the
+    selected value; None when that is 0) and ``rule``.
+    """
+    if chosen.estimate:
+        return []
+    others = [o for o in others if not o.estimate]
+    relative, absolute = outlier_floor(chosen.quantity)
+    flagged, _, limit = robust_outliers([chosen.value] + [o.value for o in others], relative=relative, absolute=absolute)
+    out = []
+    for i in flagged:
+        o = others[i - 1]
+        dev = o.value - chosen.value
+        out.append({"source": o.source.label, "value": float(o.value), "selected_value": float(chosen.value),
+                    "deviation": float(dev), "limit": float(limit), "temperature_K": o.temperature,
+                    "deviation_percent": float(100.0 * dev / abs(chosen.value)) if chosen.value else None,
+                    "rule": f"median/MAD of {len(others) + 1} sources"})
+    return out
+
+
+def scalar_outlier_text(outliers: list[dict], chosen: ScalarCandidate) -> str:
+    """One clause per scalar outlier for the uncertainty's reason (source, disagreement, what was done)."""
+    q = chosen.quantity
+    return "; ".join(f"{o['source']} disagrees by {'+' if o['deviation'] > 0 else '-'}{_fmt(abs(o['deviation']), q)} "
+                     f"({_fmt(o['value'], q, 4)} against {_fmt(o['selected_value'], q, 4)} from {chosen.source.label}), "
+                     f"treated as an outlier ({o['rule']}, beyond {_fmt(o['limit'], q)} from their median) and left "
+                     f"out of the spread" for o in outliers)
+
+
+def robust_outliers(values, *, relative: float = 0.0, absolute: float = 0.0) -> tuple[list[int], float, float]:
+    """The robust outlier rule shared by curves and scalars: which of ``values[1:]`` lie too far from the median.
+
+    .. math::
+        |x_i - \\tilde x| > \\max\\big(3 \\cdot 1.4826\\,\\mathrm{MAD},\\ r\\,|\\tilde x|,\\ a\\big),
+        \\qquad \\mathrm{MAD} = \\mathrm{median}_i\\,|x_i - \\tilde x|
+
+    with :math:`\\tilde x` the median of all values (1.4826 × MAD estimates a normal standard
+    deviation: a robust 3σ; Rousseeuw & Croux, JASA 88 (1993) 1273) and a floor (``relative`` of the
+    median, or ``absolute``) below which sources count as agreeing whatever the MAD.
+
+    Parameters
+    ----------
+    values : sequence of float
+        The selected source's value first (it is never flagged: if it is the odd one, the spread
+        stays), then one value per other source.
+    relative, absolute : float
+        The floor of the limit, relative to the median and absolute (same unit as the values).
+
+    Returns
+    -------
+    (list of int, float, float)
+        Indices into ``values`` of the outliers (never 0; empty with fewer than three values, where
+        there is no majority), the median and the limit used.
+    """
+    col = np.asarray(values, dtype=float)
+    if col.size < 3:
+        return [], float(np.median(col)) if col.size else float("nan"), float("inf")
+    med = float(np.median(col))
+    limit = max(3.0 * MAD_TO_SIGMA * float(np.median(np.abs(col - med))), relative * abs(med), absolute)
+    return [i for i in range(1, col.size) if abs(col[i] - med) > limit], med, limit
 
 
 def _values_on(o: CurveCandidate, grid: np.ndarray) -> np.ndarray:
@@ -195,9 +293,7 @@ def screen_outliers(chosen: CurveCandidate, others: list[CurveCandidate], grid: 
             continue
         col = np.array([base[j]] + [vals[k][j] for k in present])
         if col.size >= 3:
-            med = float(np.median(col))
-            limit = max(3.0 * MAD_TO_SIGMA * float(np.median(np.abs(col - med))), OUTLIER_RELATIVE * abs(med))
-            flagged = [k for k in present if abs(vals[k][j] - med) > limit]
+            flagged = [present[i - 1] for i in robust_outliers(col, relative=OUTLIER_RELATIVE)[0]]
             rule = f"median/MAD of {col.size} sources"
         else:
             (k,) = present

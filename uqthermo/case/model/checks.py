@@ -49,8 +49,9 @@ def check_model(case: Case, model: Model) -> list[str]:
         elif strict is not None:
             text = strict.message if isinstance(strict, UqthermoError) else str(strict)
             text = text.removesuffix(" (extrapolation not allowed)")
+            datum = f" (datum {strict.key})" if isinstance(strict, UqthermoError) and strict.key else ""
             warnings.append(f"{o.key}: extrapolated beyond a correlation's validity range, as the case allows "
-                            f"(extrapolate = true) — {text}")
+                            f"(extrapolate = true) — {text}{datum}")
     if problems:
         raise InputError(problems)
     y = model.evaluate(x0)

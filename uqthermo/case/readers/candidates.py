@@ -48,7 +48,7 @@ def read_candidates(c: Collector, node: Any, data: dict[str, Datum]) -> list[Can
                    "mol/s": "amount_rate", "1": "dimensionless", "kW": "power", "kJ": "energy",
                    "kJ/kg": "specific_energy", "kPa": "pressure"}[datum.unit]
             # an amount written as a mass where the datum itself may be (extent with extent_species,
-            # a charge, a feed with key): the datum's molar mass converts it
+            # a charge, a feed flow, a feed with key): the datum's molar mass converts it
             val = read_quantity(c, item["u"], f"{key}.u", dim, difference=True, molar_mass=datum.molar_mass
                                 if datum.molar_mass else "this datum has no molar mass to convert a mass with; give u in mol")
             if val is None:

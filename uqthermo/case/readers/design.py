@@ -14,21 +14,11 @@ import math
 from typing import Any
 
 from ...errors import UqthermoError
-from ...thermo.composition import formula_molar_mass
 from ..schema import FeedStream, OutputSpec
+from .amounts import molar_mass, read_species_amounts
 from .fields import Collector, is_table, make_datum, read_uncertain, register, report_unit
 
 LIMIT_SIDES = ("above", "below")
-
-
-def molar_mass(c: Collector | None, sp, key: str) -> float | None:
-    """Molar mass of a species from its formula, kg/mol (IUPAC standard atomic weights), or None."""
-    try:
-        return formula_molar_mass(sp.formula or sp.name)
-    except UqthermoError as e:
-        if c is not None:
-            c.add(key, f"{sp.name}: {e.message}")
-        return None
 
 
 def as_written(node: Any) -> str:
@@ -178,7 +168,7 @@ def read_volume(c: Collector, o: dict, key: str, out: OutputSpec, data: dict) ->
     return True
 
 
-def read_feeds(c: Collector, node: Any, key: str, out: OutputSpec, species: dict, data: dict, species_ref) -> bool:
+def read_feeds(c: Collector, node: Any, key: str, out: OutputSpec, species: dict, data: dict) -> bool:
     """``[[output.feed]]`` streams of an open-system heat_release: temperature and flows (mol/s or kg/h)."""
     if not isinstance(node, list) or not node or not all(is_table(x) for x in node):
         c.add(f"{key}.feed", "must be an array of tables: [[output.feed]] with temperature and flows")
@@ -198,34 +188,11 @@ def read_feeds(c: Collector, node: Any, key: str, out: OutputSpec, species: dict
         tid = f"output.{out.name}.feed[{i}].temperature"
         register(c, data, make_datum(tid, "feed temperature", "temperature", parsed), f"{fk}.temperature")
         stream = FeedStream(key=fk, temperature=parsed[0], temperature_datum=tid if data[tid].uncertain else "")
-        flows = f["flows"]
-        if not is_table(flows) or not flows:
-            c.add(f"{fk}.flows", "must be a table of flows, e.g. { \"CO2(g)\" = \"100 kmol/h\", \"H2O(l)\" = \"900 kg/h\" }")
+        flows = read_species_amounts(c, f["flows"], f"{fk}.flows", species, data, f"output.{out.name}.feed[{i}]", "flow")
+        if flows is None:
             ok = False
             continue
-        for ref, rate in flows.items():
-            rk = f"{fk}.flows.{ref}"
-            sp = species_ref(c, ref, rk, species)
-            if sp is None:
-                ok = False
-                continue
-            m = molar_mass(None, species[sp[0]], rk)
-            pr = read_uncertain(c, rate, rk, "amount_rate", molar_mass=m if m is not None else
-                                "the species' formula has no standard atomic weights, so give the flow in mol/s or kmol/h")
-            if pr is None:
-                ok = False
-                continue
-            if pr[0] < 0:
-                c.add(rk, "a feed flow must not be negative")
-                ok = False
-                continue
-            did = f"output.{out.name}.feed[{i}].{sp[0]}.{sp[1]}"
-            register(c, data, make_datum(did, "feed flow", "amount_rate", pr, species=sp[0], phase=sp[1]), rk)
-            if sp in stream.flows:
-                c.add(rk, "species listed twice in one stream")
-                ok = False
-                continue
-            stream.flows[sp] = did
+        stream.flows.update(flows)
         out.feeds.append(stream)
     return ok
 

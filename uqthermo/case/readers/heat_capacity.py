@@ -29,7 +29,7 @@ from .fields import (
 
 __all__ = ["read_heat_capacity", "CP_KEYS", "CP_MODEL_KEYS", "RANGE_KEYS", "MAX_CP"]
 
-_PRIVATE = {"_assumed", "_dataset", "_provenance", "_estimate", "_label"}
+_PRIVATE = {"_assumed", "_dataset", "_provenance", "_estimate", "_label", "_form"}
 CP_KEYS = {"model", "value", "u", "U", "k", "relative_u", "half_width", "distribution", "dof", "coefficients", "ranges",
            "T", "unit", "correlation", "covariance", "source", "extrapolate", "library", "note", "lower", "upper"}
 _CP_COMMON = {"model", "source", "extrapolate", "library", "note"}
@@ -113,13 +113,18 @@ def read_heat_capacity(c: Collector, node: Any, key: str, sp: str, sym: str, dat
     source = node.get("source", "") if isinstance(node.get("source", ""), str) else ""
     try:
         if model == "constant":
-            return _cp_constant(c, node, key, datum_id, sp, sym, data, extrap, lib_name)
-        if model == "polynomial":
-            return _cp_polynomial(c, node, key, datum_id, sp, sym, data, extrap, source, lib_name)
-        return _cp_ranges(c, node, key, model, datum_id, sp, sym, data, extrap, source, lib_name)
+            cp = _cp_constant(c, node, key, datum_id, sp, sym, data, extrap, lib_name)
+        elif model == "polynomial":
+            cp = _cp_polynomial(c, node, key, datum_id, sp, sym, data, extrap, source, lib_name)
+        else:
+            cp = _cp_ranges(c, node, key, model, datum_id, sp, sym, data, extrap, source, lib_name)
     except UqthermoError as e:
         c.add(key, e.message)
         return None
+    form = (node.get("_provenance") or {}).get("form") or node.get("_form")
+    if cp is not None and isinstance(form, str) and form:
+        cp.form = form     # a library curve held in Shomate form is named by its source's own form
+    return cp
 
 
 def _cp_constant(c, node, key, datum_id, sp, sym, data, extrap, lib_name):

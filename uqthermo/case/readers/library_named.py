@@ -288,6 +288,8 @@ def resolve_heat_capacity(c: Collector, node: dict, key: str, ident: str, sym: s
     out["source"] = source
     out["relative_u"] = node["relative_u"]
     out["_assumed"] = True
+    if ds == "janaf":
+        out["_form"] = "JANAF Cp table (Shomate fit)"
     if "extrapolate" in node:
         out["extrapolate"] = node["extrapolate"]
     return out, label

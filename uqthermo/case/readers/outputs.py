@@ -4,13 +4,13 @@ from __future__ import annotations
 
 import difflib
 import math
-import re
 from typing import Any
 
 import numpy as np
 
 from ..schema import OUTPUT_KINDS, Datum, OutputSpec, Settings
 from . import design
+from .amounts import read_species_amounts, species_ref
 from .fields import (
     Collector,
     check_name,
@@ -22,9 +22,7 @@ from .fields import (
     read_uncertain,
     register,
 )
-from .reactions import resolve_phase
 
-_REF = re.compile(r"^\s*([A-Za-z][A-Za-z0-9_+\-]*)\s*\(\s*([a-z]+)\s*\)\s*$")
 MAX_CURVE_POINTS = 2000
 
 COMMON = {"name", "kind", "description", "design_value", "limit", "limit_side"}
@@ -38,28 +36,6 @@ KEYS = {
                                             "process_temperature", "accumulation", "mtt", "td24", "max_temperature",
                                             "basis", "constant_volume", "initial_pressure"},
 }
-
-
-def _species_ref(c: Collector, text: Any, key: str, species: dict) -> tuple[str, str] | None:
-    if not isinstance(text, str):
-        c.add(key, "write a species with its state, e.g. \"H2O(l)\"")
-        return None
-    m = _REF.match(text)
-    if not m:
-        c.add(key, f"cannot read {text!r}; write a species with its state, e.g. \"H2O(l)\"")
-        return None
-    name, ph = m.group(1), m.group(2)
-    if name not in species and c.has_problem(f"species.{name}"):
-        return None
-    if name not in species:
-        close = difflib.get_close_matches(name, list(species), n=1)
-        c.add(key, f"unknown species {name!r}" + (f" (did you mean {close[0]!r}?)" if close else ""))
-        return None
-    phase = resolve_phase(species[name], ph)
-    if phase not in species[name].phases:
-        c.add(key, f"{name}({ph}) has no phase data; known phases: {', '.join(species[name].phases)}")
-        return None
-    return name, phase
 
 
 def _temperatures(c: Collector, o: dict, key: str, out: OutputSpec, data: dict, allow_uncertain: bool = True) -> bool:
@@ -136,41 +112,6 @@ def _reaction(c: Collector, o: dict, key: str, reactions: dict) -> str | None:
         c.add(f"{key}.reaction", f"unknown reaction {r!r}" + (f" (did you mean {close[0]!r}?)" if close else ""))
         return None
     return r
-
-
-def _amounts(c: Collector, node: Any, key: str, species: dict, data: dict, prefix: str) -> dict[tuple[str, str], str] | None:
-    if not is_table(node) or not node:
-        c.add(key, "must be a table of amounts, e.g. { \"S(l)\" = \"8 mol\" }")
-        return None
-    out: dict[tuple[str, str], str] = {}
-    ok = True
-    for ref, amount in node.items():
-        k = f"{key}.{ref}"
-        sp = _species_ref(c, ref, k, species)
-        if sp is None:
-            ok = False
-            continue
-        m = design.molar_mass(None, species[sp[0]], k)
-        parsed = read_uncertain(c, amount, k, "amount", molar_mass=m if m is not None else
-                                "the species' formula has no standard atomic weights, so give the amount in mol")
-        if parsed is None:
-            ok = False
-            continue
-        if parsed[0] < 0:
-            c.add(k, "amount must not be negative")
-            ok = False
-            continue
-        if parsed[0] > 1e9:
-            c.add(k, "amount is implausibly large (> 1e9 mol); give the charge per batch in mol or kmol")
-            ok = False
-            continue
-        did = f"{prefix}.{sp[0]}.{sp[1]}"
-        register(c, data, make_datum(did, "amount", "amount", parsed, species=sp[0], phase=sp[1], molar_mass=m), k)
-        if sp in out:
-            c.add(k, "species listed twice")
-            ok = False
-        out[sp] = did
-    return out if ok else None
 
 
 def _expand_reaction_lists(c: Collector, node: list, reactions: dict):
@@ -289,12 +230,12 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
         out.temperatures = np.array([t2])
         out.temperature_nominal = t2
         if "species" in o:
-            sp = _species_ref(c, o["species"], f"{key}.species", species)
+            sp = species_ref(c, o["species"], f"{key}.species", species)
             if sp is None:
                 return False
             out.species, out.phase = sp
             return True
-        mix = _amounts(c, o["mixture"], f"{key}.mixture", species, data, f"output.{out.name}.mixture")
+        mix = read_species_amounts(c, o["mixture"], f"{key}.mixture", species, data, f"output.{out.name}.mixture")
         if mix is None:
             return False
         out.mixture = mix
@@ -355,7 +296,7 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
                 out.extent_rates[rname] = [did]
                 out.extent_divisor[rname] = 1.0
         if "feed" in o:
-            ok = design.read_feeds(c, o["feed"], key, out, species, data, _species_ref) and ok
+            ok = design.read_feeds(c, o["feed"], key, out, species, data) and ok
             ok = ok and t and design.check_feed_phases(c, out, species, reactions)
         return ok
     # adiabatic_temperature_rise
@@ -376,7 +317,8 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
     ext = read_uncertain(c, o["extent"], f"{key}.extent", "amount", positive=True, molar_mass=mm) if "extent" in o else None
     if "extent" not in o:
         c.add(f"{key}.extent", "give the extent of reaction in mol (may be uncertain)")
-    charge = _amounts(c, o["charge"], f"{key}.charge", species, data, f"output.{out.name}.charge") if "charge" in o else None
+    charge = (read_species_amounts(c, o["charge"], f"{key}.charge", species, data, f"output.{out.name}.charge")
+              if "charge" in o else None)
     if "charge" not in o:
         c.add(f"{key}.charge", "give the charge that absorbs the heat, e.g. { \"S(l)\" = \"8 mol\" }")
     if r is None or t0 is None or ext is None or charge is None:

@@ -182,9 +182,16 @@ def library_data_warnings(data: dict, used: set[str]) -> list[str]:
             out.append(f"{d.id}: assumed uncertainty, {stated}: {reason} — check it, or give your own value with its "
                        "uncertainty")
         for o in prov.get("outliers") or ():
-            out.append(f"{d.id}: {o['source']} gives {o['value']:.4g} {o['unit']} at {o['temperature_K']:g} K, "
-                       f"{o['deviation_percent']:+.0f} % from {prov.get('selected')}: far beyond the typical deviation "
-                       f"of the sources, treated as an outlier and left out of the uncertainty; check which is right")
+            at = f" at {o['temperature_K']:g} K" if o.get("temperature_K") is not None else ""
+            if o.get("deviation") is not None:     # a scalar: the gap in its unit (and in % where it means something)
+                pct = f" ({o['deviation_percent']:+.0f} %)" if o.get("deviation_percent") is not None else ""
+                gap = (f"{o['deviation']:+.3g} {o['unit']}{pct} from the {o['selected_value']:.4g} {o['unit']} of "
+                       f"{prov.get('selected')}")
+            else:
+                gap = f"{o['deviation_percent']:+.0f} % from {prov.get('selected')}"
+            out.append(f"{d.id}: {o['source']} gives {o['value']:.4g} {o['unit']}{at}, {gap}: far beyond the typical "
+                       f"deviation of the sources, treated as an outlier and left out of the uncertainty; check which "
+                       f"is right")
     est = [d for d in lib if d.provenance.get("estimate")]
     if est:
         out.append(f"ESTIMATES, not measurements: {len(est)} library datum(s) are group-contribution estimates: "

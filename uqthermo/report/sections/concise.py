@@ -227,7 +227,8 @@ def method_parts(results: Mapping) -> Parts:
 
 
 def concise_context(results: Mapping, table: Callable[[DisplayTable], dict], figure: Callable[[str], dict | None]) -> dict:
-    """The concise section's context. ``table`` numbers a DisplayTable, ``figure(name)`` numbers a figure (or None)."""
+    """The concise section's context. ``table`` wraps a DisplayTable as a table entry, ``figure(name)`` gives a figure entry
+    (or None); both are numbered later, in document order (:func:`uqthermo.report.numbering.number`)."""
     tunit = temperature_unit(results)
     ctx: dict[str, Any] = {"tunit": symbol(tunit), "document_rows": document_rows(results)}
     ctx["statements"] = statements(results, tunit)
