@@ -333,7 +333,7 @@ class TrialDesign:
             U = np.clip(U, U_CLIP, 1.0 - U_CLIP)
         out = _scratch("ndtri", (U.shape[1], U.shape[0]))
         for j in range(U.shape[1]):
-            col = np.ascontiguousarray(U[:, j])
+            col = U[:, j]                          # a strided view: both read it without a copy
             if not stratified_scores(col, out[j]):
                 special.ndtri(col, out=out[j])
         return out.T
