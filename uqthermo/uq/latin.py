@@ -44,9 +44,10 @@ import numpy as np
 from scipy import special
 
 from ..errors import StatisticsError
+from .streams import ColumnStreams, column_generator
 
-__all__ = ["LatinScoreStream", "latin_uniform_blocks", "stratum_scores", "LHS_BLOCK", "block_sizes", "column_generator",
-           "stratified_scores", "NET_MIN"]
+__all__ = ["LatinScoreStream", "latin_uniform_blocks", "stratum_scores", "LHS_BLOCK", "block_sizes", "stratified_scores",
+           "NET_MIN"]
 
 #: largest number of points in one Latin-hypercube block
 LHS_BLOCK = 2**18
@@ -134,17 +135,6 @@ def stratum_scores(v: np.ndarray, m: int, start: int = 0) -> np.ndarray:
     return v
 
 
-def column_generator(seed: int, key: tuple[int, ...]) -> np.random.Generator:
-    """The generator of one column of a block: ``SFC64(SeedSequence(seed, spawn_key=key))``.
-
-    SFC64 (Doty-Humphrey's Small Fast Chaotic generator, 256-bit state; numpy's ``SFC64``) passes
-    the PractRand and TestU01 BigCrush batteries and draws a ziggurat normal variate in about
-    0.8 of the time of numpy's default PCG64 here (benchmarks/RESULTS.md §6); streams seeded by
-    distinct spawn keys are independent in the sense of ``SeedSequence.spawn``. It has no
-    jump-ahead, so a stream is positioned by drawing (see ``ScoreStream``)."""
-    return np.random.Generator(np.random.SFC64(np.random.SeedSequence(seed, spawn_key=key)))
-
-
 #: smallest power-of-two column that :func:`stratified_scores` maps through the stratum table
 #: (below about 10⁴ strata the cubic's error bound holds nowhere and every stratum is exact)
 NET_MIN = 2**14
@@ -220,7 +210,7 @@ def latin_uniform_blocks(n: int, d: int, seed: int, position: int) -> Iterator[n
         yield U.T.copy()
 
 
-class LatinScoreStream:
+class LatinScoreStream(ColumnStreams):
     """Latin-hypercube rows (z, v): normal scores and uniforms, one design per ``draw``/``chunks`` call.
 
     Parameters
@@ -231,23 +221,6 @@ class LatinScoreStream:
     skip : int
         Position in the stream; different positions give independent designs.
     """
-
-    def __init__(self, normal, uniform=(), seed: int = 0, skip: int = 0):
-        self.normal = [int(c) for c in normal]
-        self.uniform = [int(c) for c in uniform]
-        labels = self.normal + self.uniform
-        if len(set(labels)) != len(labels) or any(c < 0 for c in labels):
-            raise StatisticsError("column labels of a score stream must be distinct non-negative integers")
-        self.seed = int(seed)
-        _, self.position = _check(0, skip)
-
-    @property
-    def k(self) -> int:
-        return len(self.normal)
-
-    @property
-    def m(self) -> int:
-        return len(self.uniform)
 
     def _blocks(self, n: int) -> Iterator[tuple[np.ndarray, np.ndarray]]:
         start = self.position

@@ -37,7 +37,8 @@ import numpy as np
 from scipy.stats import qmc
 
 from ..errors import StatisticsError
-from .latin import LHS_BLOCK, column_generator, latin_uniform_blocks
+from .latin import LHS_BLOCK, latin_uniform_blocks
+from .streams import ColumnStreams, check_seed, column_generator
 
 __all__ = ["METHODS", "UniformStream", "ScoreStream", "uniform_sample", "iter_uniform_chunks", "LHS_BLOCK",
            "SCORE_BLOCK", "sampling_method"]
@@ -59,18 +60,6 @@ def sampling_method(method: str) -> str:
     if m not in METHODS:
         raise StatisticsError(f"unknown sampling method {method!r} (choose random, latin-hypercube or sobol)")
     return m
-
-
-def _seed(seed) -> int:
-    if seed is None:
-        raise StatisticsError("a seed is required for reproducible sampling")
-    try:
-        s = int(seed)
-    except (TypeError, ValueError):
-        raise StatisticsError(f"seed must be a non-negative integer, got {seed!r}") from None
-    if s < 0 or s != seed:
-        raise StatisticsError(f"seed must be a non-negative integer, got {seed!r}")
-    return s
 
 
 class UniformStream:
@@ -98,7 +87,7 @@ class UniformStream:
             raise StatisticsError(f"skip must be a non-negative integer, got {skip!r}")
         self.d = int(d)
         self.method = sampling_method(method)
-        self.seed = _seed(seed)
+        self.seed = check_seed(seed)
         self.position = int(skip)
         self._engine = None
         if self.d == 0:
@@ -202,7 +191,7 @@ def iter_uniform_chunks(n: int, d: int, method: str = "sobol", seed: int = 0, ch
     yield from UniformStream(d, method, seed, skip).chunks(n, chunk_size)
 
 
-class ScoreStream:
+class ScoreStream(ColumnStreams):
     """A reproducible pseudo-random stream of rows (z, v): standard normal scores and uniforms.
 
     Parameters
@@ -218,7 +207,7 @@ class ScoreStream:
 
     The rows are grouped in blocks of :data:`SCORE_BLOCK`. In block b, column label c draws
     its values one after the other from ``SFC64(SeedSequence(seed, spawn_key=(b, c)))``
-    (:func:`~uqthermo.uq.latin.column_generator`):
+    (:func:`~uqthermo.uq.streams.column_generator`):
     normal scores with ``Generator.standard_normal`` (numpy's ziggurat method, Marsaglia &
     Tsang 2000, J. Stat. Softw. 5(8)), uniforms with ``Generator.random`` ([0, 1) at 2⁻⁵³
     resolution) — independent streams in the sense of numpy's ``SeedSequence.spawn``. A row
@@ -228,25 +217,9 @@ class ScoreStream:
     """
 
     def __init__(self, normal, uniform=(), seed: int = 0, skip: int = 0):
-        if int(skip) != skip or skip < 0:
-            raise StatisticsError(f"skip must be a non-negative integer, got {skip!r}")
-        self.normal = [int(c) for c in normal]
-        self.uniform = [int(c) for c in uniform]
-        if len(set(self.normal + self.uniform)) != len(self.normal) + len(self.uniform) or \
-                any(c < 0 for c in self.normal + self.uniform):
-            raise StatisticsError("column labels of a score stream must be distinct non-negative integers")
-        self.seed = _seed(seed)
-        self.position = int(skip)
+        super().__init__(normal, uniform, seed, skip)
         self._block = -1
         self._gens: list = []
-
-    @property
-    def k(self) -> int:
-        return len(self.normal)
-
-    @property
-    def m(self) -> int:
-        return len(self.uniform)
 
     def _open(self, block: int) -> None:
         """Generators of ``block``, advanced to the current position."""
