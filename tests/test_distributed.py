@@ -65,7 +65,10 @@ def test_same_stream_same_answer(client, model, sampling):
     np.testing.assert_allclose(dis.coverage_interval, loc.coverage_interval, rtol=1e-12, atol=1e-9)
     np.testing.assert_allclose(dis.shortest_interval, loc.shortest_interval, rtol=1e-12, atol=1e-9)
     np.testing.assert_allclose(dis.skewness, loc.skewness, atol=1e-8)
-    np.testing.assert_array_equal(dis.X_kept, loc.X_kept)
+    if sampling == "sobol":     # Φ⁻¹ by the stratum table in whole 2^16 blocks, ndtri in Dask's 20 000-row ones
+        np.testing.assert_allclose(dis.X_kept, loc.X_kept, rtol=4e-15, atol=0)
+    else:
+        np.testing.assert_array_equal(dis.X_kept, loc.X_kept)
     assert seen[-1] == (N, N) and len(seen) == 4
     assert [n for n, _ in dis.convergence[0]] == [20_000, 40_000, 60_000, 80_000]
 

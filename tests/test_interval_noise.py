@@ -74,16 +74,23 @@ def test_endpoint_standard_errors_against_the_exact_normal_and_replicates(n):
 
 
 def test_quantile_standard_error_of_a_lognormal_against_scipy():
+    """The estimate divides the spread of two order statistics ±1 binomial SE apart, so it is
+    itself noisy (about 13 % relative over seeds here): its mean over 8 seeds is checked to
+    10 %, each seed to 45 % (3.5 of its own SDs)."""
     inputs = InputSet([InputVariable("x", "x", Normal(0.0, 1.0))])
     n = 50_000
-    mc = propagate_monte_carlo(lambda X: np.exp(0.5 * X), inputs, samples=n, sampling="random", seed=3)
     dist = stats.lognorm(s=0.5)                     # exact distribution of exp(0.5 X), scipy.stats.lognorm
-    for p, col in ((PL, 0), (PH, 1)):
-        se, g = quantile_standard_error(mc, p)
-        exact = np.sqrt(p * (1 - p) / n) / dist.pdf(dist.ppf(p))
-        assert se[0] == pytest.approx(exact, rel=0.2)
-        # the Monte Carlo endpoint lies within 4 standard errors of the exact quantile
-        assert abs(mc.coverage_interval[0, col] - dist.ppf(p)) <= 4 * se[0]
+    ratios = []
+    for seed in range(8):
+        mc = propagate_monte_carlo(lambda X: np.exp(0.5 * X), inputs, samples=n, sampling="random", seed=seed)
+        for p, col in ((PL, 0), (PH, 1)):
+            se, g = quantile_standard_error(mc, p)
+            exact = np.sqrt(p * (1 - p) / n) / dist.pdf(dist.ppf(p))
+            ratios.append(se[0] / exact)
+            # the Monte Carlo endpoint lies within 4 exact standard errors of the exact quantile
+            assert abs(mc.coverage_interval[0, col] - dist.ppf(p)) <= 4 * exact
+    assert np.mean(ratios) == pytest.approx(1.0, abs=0.1)
+    assert np.all(np.abs(np.asarray(ratios) - 1.0) < 0.45)
 
 
 @pytest.mark.parametrize("n,sampling", [(100, "sobol"), (100, "random"), (50_000, "sobol"), (50_000, "random")])

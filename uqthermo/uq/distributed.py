@@ -64,7 +64,7 @@ import numpy as np
 
 from ..errors import StatisticsError
 from .inputs import InputSet
-from .montecarlo import (adaptive_batch_size, batch_origin, batch_summary, batch_test, cap_warning, check_run_arguments,
+from .montecarlo import (BatchLedger, batch_origin, batch_summary, check_run_arguments,
                          evaluate_batch, trial_design)
 from .montecarlo_result import (HISTOGRAM_BINS, KEEP_VALUES, MAX_STORED_VALUES, Collector, MonteCarloResult,
                                 collected_result, kept_rows, summarised_result)
@@ -424,26 +424,16 @@ def _adaptive(client, n_workers, remote, design, method, seed, p, chunk_size, nd
               stop_columns: int | None = None) -> MonteCarloResult:
     """JCGM 101 §7.9 with batches computed in parallel rounds, stopping rule applied in order."""
     d = len(design.inputs)
-    M_b = int(batch_size) if batch_size is not None else adaptive_batch_size(p, method)
-    if M_b < 2:
-        raise StatisticsError(f"batch size must be at least 2, got {batch_size!r}")
+    ledger = BatchLedger(p, method, batch_size, max_samples, ndigits, check_shortest, stop_columns)
+    M_b = ledger.size
     # batches as in the local engine (montecarlo.batch_sampler): one random stream, or
     # independently scrambled Sobol' nets, with the run's score rotation
     per_round = 4 * n_workers
-    summaries: list[np.ndarray] = []
     collector: Collector | None = None
-    conv_n: list[int] = []
-    conv_u: list[np.ndarray] = []
-    stability: dict = {}
-    converged = False
-    done = 0
-    batches = 0
-    if max_samples < 2 * M_b:
-        raise StatisticsError(f"max_samples = {max_samples} is below two adaptive batches of {M_b} trials "
-                              "(the §7.9 test needs at least two)")
-    while not converged and done + M_b <= max_samples:     # whole batches only: the cap is never passed
-        n_round = min(per_round, (max_samples - done) // M_b)
-        futs = [client.submit(_run_block, remote, batch_origin(method, seed, batches + i, M_b), (batches + i) * M_b,
+    while ledger.room():
+        first = ledger.batches
+        n_round = min(per_round, (max_samples - ledger.done) // M_b)
+        futs = [client.submit(_run_block, remote, batch_origin(method, seed, first + i, M_b), (first + i) * M_b,
                               M_b, min(chunk_size, M_b), keep, True, None, p, pure=False)
                 for i in range(n_round)]
         results = [fu.result() for fu in futs]          # in batch order
@@ -453,26 +443,12 @@ def _adaptive(client, n_workers, remote, design, method, seed, p, chunk_size, nd
             # feed the collector the batch (kept rows come from the first batch's X)
             Xb = br.X_kept if br.X_kept is not None else np.empty((0, d))
             _collector_add(collector, Xb, br.values)
-            done += M_b
-            batches += 1
-            summaries.append(br.summary)
-            u_all = collector.moments.std
-            conv_n.append(done)
-            conv_u.append(u_all.copy())
-            if progress is not None:
-                progress(done, None)
-            if batches < 2:
-                continue
-            stable, spread = batch_test(summaries, u_all, ndigits, check_shortest, stop_columns)
-            if stable or done + M_b > max_samples:
-                converged, stability = stable, spread
+            if ledger.record(br.summary, collector.moments.std, progress):
                 break
-    warnings: list[str] = []
-    if not converged:
-        warnings.append(cap_warning(done, max_samples, M_b, ndigits))
-    return collected_result(collector, d, p, ndigits, warnings, conv_n, conv_u, adaptive=True,
-                            converged=converged, stability=stability, batch_size=M_b, batches=batches,
-                            seed=int(seed), sampling=method, rotated_scores=design.rotation is not None)
+    return collected_result(collector, d, p, ndigits, ledger.warnings(), ledger.conv_n, ledger.conv_u, adaptive=True,
+                            converged=ledger.converged, stability=ledger.stability, batch_size=M_b,
+                            batches=ledger.batches, seed=int(seed), sampling=method,
+                            rotated_scores=design.rotation is not None)
 
 
 def _collector_add(collector: Collector, X_kept: np.ndarray, Y: np.ndarray) -> None:

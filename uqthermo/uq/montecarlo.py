@@ -55,7 +55,7 @@ from .sampling import UniformStream, sampling_method
 from .stats import OrderStatistics, numerical_tolerance
 from .trials import TrialDesign
 
-__all__ = ["cap_warning", "propagate_monte_carlo", "adaptive_batch_size", "batch_summary", "batch_test", "check_run_arguments"]
+__all__ = ["BatchLedger", "cap_warning", "propagate_monte_carlo", "adaptive_batch_size", "batch_summary", "batch_test", "check_run_arguments"]
 
 #: relative size below which a gradient direction (or the new part of a score axis) is
 #: left out of :func:`score_rotation`'s leading columns
@@ -207,6 +207,58 @@ def batch_sampler(inputs: InputSet, method: str, seed: int, batch_size: int,
         own = stream if stream is not None else UniformStream(d, method, seed)
         return lambda b: own.draw(batch_size)
     return lambda b: UniformStream(d, method, *batch_origin(method, seed, b, batch_size)).draw(batch_size)
+
+
+class BatchLedger:
+    """The bookkeeping of an adaptive run (JCGM 101 §7.9), shared by the local and the Dask engine:
+    the batch size, the batches' summaries, the convergence history and the stopping rule.
+
+    ``record`` is called once per batch, in batch order; the run goes on while ``room()``.
+    """
+
+    def __init__(self, p: float, method: str, batch_size: int | None, max_samples: int, ndigits: int,
+                 check_shortest: bool, stop_columns: int | None):
+        self.size = int(batch_size) if batch_size is not None else adaptive_batch_size(p, method)
+        if self.size < 2:
+            raise StatisticsError(f"batch size must be at least 2, got {batch_size!r}")
+        if max_samples < 2 * self.size:
+            raise StatisticsError(f"max_samples = {max_samples} is below two adaptive batches of {self.size} "
+                                  "trials (the §7.9 test needs at least two)")
+        self.max_samples, self.ndigits = int(max_samples), ndigits
+        self.check_shortest, self.stop_columns = check_shortest, stop_columns
+        self.summaries: list[np.ndarray] = []
+        self.conv_n: list[int] = []
+        self.conv_u: list[np.ndarray] = []
+        self.stability: dict = {}
+        self.converged = False
+        self.done = 0
+        self.batches = 0
+
+    def room(self) -> bool:
+        """Whether another whole batch is run (the cap max_samples is never passed)."""
+        return not self.converged and self.done + self.size <= self.max_samples
+
+    def record(self, summary: np.ndarray, u_all: np.ndarray, progress=None) -> bool:
+        """Add a batch (its :func:`batch_summary`, the standard uncertainties over all trials so
+        far); True when the run stops here (stable, or no room for another batch)."""
+        self.done += self.size
+        self.batches += 1
+        self.summaries.append(summary)
+        self.conv_n.append(self.done)
+        self.conv_u.append(np.array(u_all, copy=True))
+        if progress is not None:
+            progress(self.done, None)
+        if self.batches < 2:
+            return False
+        stable, spread = batch_test(self.summaries, u_all, self.ndigits, self.check_shortest, self.stop_columns)
+        if stable or self.done + self.size > self.max_samples:
+            self.converged, self.stability = stable, spread
+            return True
+        return False
+
+    def warnings(self) -> list[str]:
+        """The cap warning when the run stopped before it was stable."""
+        return [] if self.converged else [cap_warning(self.done, self.max_samples, self.size, self.ndigits)]
 
 
 def batch_origin(method: str, seed: int, batch: int, batch_size: int) -> tuple[int, int]:
@@ -437,35 +489,18 @@ def propagate_monte_carlo(
             if progress is not None:
                 progress(done, n_total)
     else:
-        M_b = int(batch_size) if batch_size is not None else adaptive_batch_size(p, method)
-        if M_b < 2:
-            raise StatisticsError(f"batch size must be at least 2, got {batch_size!r}")
+        ledger = BatchLedger(p, method, batch_size, max_samples, ndigits, check_shortest, stop_columns)
+        M_b = ledger.size
         draw_batch = design_batches(design, M_b)
-        summaries: list[np.ndarray] = []
-        converged = False
-        done = 0
-        if max_samples < 2 * M_b:
-            raise StatisticsError(f"max_samples = {max_samples} is below two adaptive batches of {M_b} trials "
-                                  "(the §7.9 test needs at least two)")
-        while not converged and done + M_b <= max_samples:     # whole batches only: the cap is never passed
-            X, Y = evaluate_batch(design, draw_batch(batches), batches * M_b, kp, chunk_size)
+        while ledger.room():
+            b = ledger.batches
+            X, Y = evaluate_batch(design, draw_batch(b), b * M_b, kp, chunk_size)
             collector.add(X, Y)
-            done += M_b
-            batches += 1
-            summaries.append(batch_summary(Y, p))
-            u_all = collector.moments.std
-            conv_n.append(done)
-            conv_u.append(u_all.copy())
-            if progress is not None:
-                progress(done, None)
-            if batches < 2:
-                continue
-            stable, spread = batch_test(summaries, u_all, ndigits, check_shortest, stop_columns)
-            if stable or done + M_b > max_samples:
-                converged, stability = stable, spread
+            if ledger.record(batch_summary(Y, p), collector.moments.std, progress):
                 break
-        if not converged:
-            warnings.append(cap_warning(done, max_samples, M_b, ndigits))
+        warnings += ledger.warnings()
+        conv_n, conv_u, batches = ledger.conv_n, ledger.conv_u, ledger.batches
+        converged, stability = ledger.converged, ledger.stability
 
     assert collector is not None
     return collected_result(collector, d, p, ndigits, warnings, conv_n, conv_u, adaptive=adaptive,

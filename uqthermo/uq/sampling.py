@@ -12,10 +12,11 @@ drawing it at once, whatever the chunk size.
   ``skip`` uses ``fast_forward``. The 30-bit points k·2⁻³⁰ are shifted by half a cell
   (+2⁻³¹) so that no value is exactly 0; at most 2³⁰ points per sequence.
 * ``"latin-hypercube"`` -- random-within-stratum Latin hypercube (McKay, Beckman & Conover
-  1979; the design of ``scipy.stats.qmc.LatinHypercube(scramble=True)``). A design is stratified over the points drawn *together*: one call of
+  1979; the design of ``scipy.stats.qmc.LatinHypercube(scramble=True)``), built by
+  :mod:`uqthermo.uq.latin`. A design is stratified over the points drawn *together*: one call of
   :func:`uniform_sample` (or one ``draw`` of a :class:`UniformStream`) of n points is one
   design, built from ⌈n/2¹⁸⌉ equal blocks of at most 2¹⁸ points (each block an LHS of its
-  own, seeded from ``(seed, skip, block)``) so that memory stays bounded; chunked
+  own, column c seeded from ``(seed, skip, block, c)``) so that memory stays bounded; chunked
   iteration slices these blocks and is therefore chunk-size independent too.
   Different ``skip`` values give independent designs.
 
@@ -36,17 +37,17 @@ import numpy as np
 from scipy.stats import qmc
 
 from ..errors import StatisticsError
+from .latin import LHS_BLOCK, latin_uniform_blocks
+from .streams import ColumnStreams, check_seed, column_generator
 
 __all__ = ["METHODS", "UniformStream", "ScoreStream", "uniform_sample", "iter_uniform_chunks", "LHS_BLOCK",
            "SCORE_BLOCK", "sampling_method"]
 
 METHODS = ("random", "latin-hypercube", "sobol")
-#: largest number of points in one Latin-hypercube block
-LHS_BLOCK = 2**18
 SOBOL_BITS = 30
 SOBOL_MAX = 2**SOBOL_BITS
 #: rows per block of :class:`ScoreStream` (each block has its own generators)
-SCORE_BLOCK = 2**14
+SCORE_BLOCK = 2**16
 
 _ALIASES = {"lhs": "latin-hypercube", "latin_hypercube": "latin-hypercube", "pseudo-random": "random",
             "qmc": "sobol", "sobol'": "sobol"}
@@ -59,18 +60,6 @@ def sampling_method(method: str) -> str:
     if m not in METHODS:
         raise StatisticsError(f"unknown sampling method {method!r} (choose random, latin-hypercube or sobol)")
     return m
-
-
-def _seed(seed) -> int:
-    if seed is None:
-        raise StatisticsError("a seed is required for reproducible sampling")
-    try:
-        s = int(seed)
-    except (TypeError, ValueError):
-        raise StatisticsError(f"seed must be a non-negative integer, got {seed!r}") from None
-    if s < 0 or s != seed:
-        raise StatisticsError(f"seed must be a non-negative integer, got {seed!r}")
-    return s
 
 
 class UniformStream:
@@ -98,7 +87,7 @@ class UniformStream:
             raise StatisticsError(f"skip must be a non-negative integer, got {skip!r}")
         self.d = int(d)
         self.method = sampling_method(method)
-        self.seed = _seed(seed)
+        self.seed = check_seed(seed)
         self.position = int(skip)
         self._engine = None
         if self.d == 0:
@@ -139,7 +128,7 @@ class UniformStream:
                 out = self._engine.random(n)
             out += 2.0 ** -(SOBOL_BITS + 1)
         else:
-            out = np.concatenate(list(_lhs_blocks(n, self.d, self.seed, self.position)), axis=0)
+            out = np.concatenate(list(latin_uniform_blocks(n, self.d, self.seed, self.position)), axis=0)
         self.position += n
         return out
 
@@ -163,7 +152,7 @@ class UniformStream:
         self.position += n
         buf: list[np.ndarray] = []
         have = 0
-        for block in _lhs_blocks(n, self.d, self.seed, start):
+        for block in latin_uniform_blocks(n, self.d, self.seed, start):
             buf.append(block)
             have += len(block)
             while have >= chunk_size:
@@ -173,24 +162,6 @@ class UniformStream:
                 buf, have = ([rest] if len(rest) else []), len(rest)
         if have:
             yield np.concatenate(buf, axis=0) if len(buf) > 1 else buf[0]
-
-
-def _lhs_blocks(n: int, d: int, seed: int, start: int) -> Iterator[np.ndarray]:
-    """Latin-hypercube blocks: u_ij = (π_j(i) + v_ij)/m with an independent random permutation
-    π_j of the m strata per column and v_ij uniform on [0, 1) (McKay, Beckman & Conover 1979;
-    the random-within-stratum form of ``scipy.stats.qmc.LatinHypercube(scramble=True)``),
-    drawn with numpy's ``Generator.permuted`` (Fisher-Yates) on 32-bit stratum indices."""
-    nb = -(-n // LHS_BLOCK)
-    sizes = [n // nb + (1 if b < n % nb else 0) for b in range(nb)]
-    for b, m in enumerate(sizes):
-        gen = np.random.Generator(np.random.PCG64(np.random.SeedSequence(seed, spawn_key=(start, b))))
-        strata = np.empty((d, m), dtype=np.int32)
-        strata[:] = np.arange(m, dtype=np.int32)
-        gen.permuted(strata, axis=1, out=strata)
-        U = gen.random((m, d))
-        U += strata.T
-        U *= 1.0 / m
-        yield U
 
 
 def uniform_sample(n: int, d: int, method: str = "sobol", seed: int = 0, skip: int = 0) -> np.ndarray:
@@ -220,7 +191,7 @@ def iter_uniform_chunks(n: int, d: int, method: str = "sobol", seed: int = 0, ch
     yield from UniformStream(d, method, seed, skip).chunks(n, chunk_size)
 
 
-class ScoreStream:
+class ScoreStream(ColumnStreams):
     """A reproducible pseudo-random stream of rows (z, v): standard normal scores and uniforms.
 
     Parameters
@@ -235,52 +206,33 @@ class ScoreStream:
         Rows to skip at the start of the stream.
 
     The rows are grouped in blocks of :data:`SCORE_BLOCK`. In block b, column label c draws
-    its values one after the other from ``PCG64(SeedSequence(seed, spawn_key=(b, c)))``:
+    its values one after the other from ``SFC64(SeedSequence(seed, spawn_key=(b, c)))``
+    (:func:`~uqthermo.uq.streams.column_generator`):
     normal scores with ``Generator.standard_normal`` (numpy's ziggurat method, Marsaglia &
     Tsang 2000, J. Stat. Softw. 5(8)), uniforms with ``Generator.random`` ([0, 1) at 2⁻⁵³
-    resolution) — independent streams in the sense of numpy's ``SeedSequence.spawn``
-    (O'Neill 2014, PCG). A ziggurat draw consumes a variable number of 64-bit outputs, so a
-    row range that starts inside a block is reached by drawing and discarding that block's
-    earlier rows. ``draw(10)`` then ``draw(20)`` equals ``draw(30)``.
+    resolution) — independent streams in the sense of numpy's ``SeedSequence.spawn``. A row
+    range that starts inside a block is reached by drawing and discarding that block's
+    earlier rows (a ziggurat draw consumes a variable number of 64-bit outputs, and SFC64
+    has no jump-ahead). ``draw(10)`` then ``draw(20)`` equals ``draw(30)``.
     """
 
     def __init__(self, normal, uniform=(), seed: int = 0, skip: int = 0):
-        if int(skip) != skip or skip < 0:
-            raise StatisticsError(f"skip must be a non-negative integer, got {skip!r}")
-        self.normal = [int(c) for c in normal]
-        self.uniform = [int(c) for c in uniform]
-        if len(set(self.normal + self.uniform)) != len(self.normal) + len(self.uniform) or \
-                any(c < 0 for c in self.normal + self.uniform):
-            raise StatisticsError("column labels of a score stream must be distinct non-negative integers")
-        self.seed = _seed(seed)
-        self.position = int(skip)
+        super().__init__(normal, uniform, seed, skip)
         self._block = -1
         self._gens: list = []
 
-    @property
-    def k(self) -> int:
-        return len(self.normal)
-
-    @property
-    def m(self) -> int:
-        return len(self.uniform)
-
     def _open(self, block: int) -> None:
         """Generators of ``block``, advanced to the current position."""
-        self._gens = [np.random.Generator(np.random.PCG64(np.random.SeedSequence(self.seed, spawn_key=(block, c))))
-                      for c in self.normal + self.uniform]
+        self._gens = [column_generator(self.seed, (block, c)) for c in self.normal + self.uniform]
         self._block = block
         lead = self.position - block * SCORE_BLOCK
-        if lead:
-            waste = np.empty(min(lead, 1 << 16))
-            for g in self._gens[:self.k]:
-                todo = lead
-                while todo:
-                    t = min(todo, waste.size)
-                    g.standard_normal(out=waste[:t])
-                    todo -= t
-            for g in self._gens[self.k:]:
-                g.bit_generator.advance(lead)     # one 64-bit output per uniform
+        if lead:                                  # SFC64 has no jump-ahead: draw and discard
+            waste = np.empty(min(lead, SCORE_BLOCK))
+            for i, g in enumerate(self._gens):
+                if i < self.k:
+                    g.standard_normal(out=waste[:lead])
+                else:
+                    g.random(out=waste[:lead])
 
     def draw(self, n: int, out: tuple[np.ndarray, np.ndarray] | None = None) -> tuple[np.ndarray, np.ndarray]:
         """The next ``n`` rows as (Z (n, k), V (n, m)), column-major; ``out``: such arrays to fill instead."""

@@ -5,10 +5,8 @@
   LeVeque (1979/1983) and Pébay (2008, Sandia report SAND2008-6212), so the result does
   not depend on the chunk size beyond rounding.
 * :func:`numerical_tolerance` -- δ of JCGM 101 §7.9.2.
-* :func:`intervals_from_sorted` -- probabilistically symmetric and shortest coverage
-  intervals from sorted model values (JCGM 101 §7.7).
-* :func:`quantile_sorted` -- p-quantile of the JCGM 101 §7.5.2 continuous distribution
-  function (linear interpolation with plotting positions (r − ½)/M; numpy's "hazen").
+* :func:`intervals_from_sorted`, :func:`quantile_sorted`, :class:`OrderStatistics` -- exact
+  coverage intervals and quantiles, from :mod:`uqthermo.uq.order_statistics` (re-exported).
 * :class:`BinLayout`, :class:`BinnedCDF` -- a fixed, fine, mergeable histogram for
   quantiles of very large samples (edges from a pilot sample; equal-width bins over the
   central range so that a value's bin is found by arithmetic, not by search).
@@ -16,12 +14,12 @@
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
 
 from ..errors import StatisticsError
+from .order_statistics import OrderStatistics, intervals_from_sorted, quantile_sorted
 
 __all__ = ["Moments", "numerical_tolerance", "intervals_from_sorted", "quantile_sorted", "OrderStatistics",
            "BinLayout", "BinnedCDF"]
@@ -108,257 +106,6 @@ class Moments:
         with np.errstate(divide="ignore", invalid="ignore"):
             g = (self.m3 / self.n) / (self.m2 / self.n) ** 1.5
         return np.where(self.m2 > 0, g, 0.0)
-
-
-def _q_count(p: float, m: int) -> int:
-    """q of JCGM 101 §7.7.1: q = pM if integer, else the integer part of pM + ½."""
-    pm = p * m
-    r = round(pm)
-    if abs(pm - r) < 1e-9 * max(1.0, pm):
-        return int(r)
-    return int(math.floor(pm + 0.5))
-
-
-def intervals_from_sorted(ys: np.ndarray, p: float) -> tuple[np.ndarray, np.ndarray]:
-    """Probabilistically symmetric and shortest 100p % coverage intervals (JCGM 101 §7.7).
-
-    Parameters
-    ----------
-    ys : array (N, M)
-        Model values sorted along axis 0.
-    p : float
-        Coverage probability.
-
-    Returns
-    -------
-    symmetric, shortest : arrays (M, 2)
-        With q from :func:`_q_count` and 1-based order statistics y_(r):
-        symmetric = [y_(r), y_(r+q)] with r = (N − q)/2 if integer, else ⌊(N − q + 1)/2⌋
-        (§7.7.1); shortest = [y_(r*), y_(r*+q)] with r* minimising y_(r+q) − y_(r),
-        r = 1 … N − q (§7.7.2). When q ≥ N the full range is returned.
-    """
-    n, m = ys.shape
-    q = _q_count(p, n)
-    if q >= n:
-        full = np.stack([ys[0], ys[-1]], axis=1)
-        return full, full.copy()
-    return _intervals_from_tails(ys[: n - q], ys[q:], n, q)
-
-
-def _intervals_from_tails(low: np.ndarray, high: np.ndarray, n: int, q: int) -> tuple[np.ndarray, np.ndarray]:
-    """The two §7.7 intervals from low = y_(1) … y_(N−q) and high = y_(q+1) … y_(N), each (N − q, M).
-
-    y_(r) = low[r − 1] and y_(r+q) = high[r − 1]: every order statistic the two intervals
-    can use lies in these two sorted tails (q < N).
-    """
-    r = (n - q) // 2 if (n - q) % 2 == 0 else (n - q + 1) // 2
-    r = max(r, 1)
-    sym = np.stack([low[r - 1], high[r - 1]], axis=1)
-    widths = high - low  # index i ↔ r = i + 1
-    rstar = np.argmin(widths, axis=0)
-    cols = np.arange(low.shape[1])
-    short = np.stack([low[rstar, cols], high[rstar, cols]], axis=1)
-    return sym, short
-
-
-def quantile_sorted(ys: np.ndarray, p) -> np.ndarray:
-    """p-quantile(s) of sorted values ys (N, M) from the JCGM 101 §7.5.2 distribution function.
-
-    G(y_(r)) = (r − ½)/N with linear interpolation in between; outside [½/N, 1 − ½/N]
-    the extreme values are returned (numpy's ``method="hazen"``). The values are already
-    sorted, so the quantile is read off directly (no partition). Returns shape (M,) for
-    scalar p, else (len(p), M).
-    """
-    i0, i1, frac = _hazen_ranks(ys.shape[0], p)
-    out = ys[i0] + (ys[i1] - ys[i0]) * frac
-    return out[0] if np.ndim(p) == 0 else out
-
-
-def _hazen_ranks(n: int, p) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """0-based ranks i0, i1 and weights (len(p), 1) of the §7.5.2 quantile(s) p of n values."""
-    pa = np.atleast_1d(np.asarray(p, dtype=float))
-    pos = np.clip(pa * n - 0.5, 0.0, n - 1.0)            # 0-based fractional rank
-    i0 = np.minimum(np.floor(pos).astype(np.intp), max(n - 2, 0))
-    i1 = np.minimum(i0 + 1, n - 1)
-    return i0, i1, (pos - i0)[:, None]
-
-
-#: rows at least this long find their tails by thresholds from a pilot (:class:`OrderStatistics`)
-SELECT_MIN = 2**14
-#: pilot values per row, and the probability margin its thresholds leave (about 8 binomial
-#: standard deviations of a pilot quantile near 5 %)
-SELECT_PILOT = 2**14
-SELECT_MARGIN = 0.015
-#: values marked per step of that pass (kept in cache)
-SELECT_BLOCK = 2**15
-
-
-class OrderStatistics:
-    """Exact order statistics of N values per output without sorting them all.
-
-    ``rows`` (M, N), one row per output; with q of JCGM 101 §7.7.1 and a = N − q, the lowest
-    a values and the highest N − q values of each row (every order statistic of the
-    probabilistically symmetric and the shortest 100p % interval, p ≥ ½) are found and
-    sorted, and the median's ranks are placed. Any other rank is selected when asked for
-    (one partition, cached). All results equal those of a full sort exactly.
-
-    How the tails are found. Long rows (N ≥ :data:`SELECT_MIN`): thresholds t_lo, t_hi and a
-    band [m_lo, m_hi] around the median are read off a sorted pilot of every ⌈N/2¹⁴⌉-th value,
-    :data:`SELECT_MARGIN` beyond the probabilities needed; one pass marks the values ≤ t_lo,
-    ≥ t_hi or in the band, and only those (about 7 % + 7 % + 3 % of the row) are gathered and
-    sorted. If fewer than a values lie at or below t_lo — or fewer than N − q at or above
-    t_hi, or the median ranks fall outside the band — the pilot was unlucky and the row is
-    partitioned instead; so the result never depends on the pilot. The rows keep their order.
-    Shorter rows are rearranged in place: ``np.partition`` (introselect) at ranks a − 1, the
-    median's and q, then the two tails are sorted.
-    """
-
-    def __init__(self, rows: np.ndarray, p: float):
-        self.rows = rows
-        self.m, self.n = rows.shape
-        self.q = _q_count(p, self.n)
-        self.a = self.n - self.q
-        self._middle: dict[int, np.ndarray] = {}
-        self._low = self._high = None        # (M, a), (M, N − q), sorted; None: read them from rows
-        if self.q >= self.n or self.a >= self.q or self.n < 256:
-            rows.sort(axis=1)
-            self.a = self.q = self.n
-            self._layout = "sorted"
-            return
-        i0, i1, _ = _hazen_ranks(self.n, 0.5)          # the median's ranks are placed too
-        med = sorted({int(i0[0]), int(i1[0])})
-        if self.n >= SELECT_MIN:
-            self._layout = "selected"
-            self._low = np.empty((self.m, self.a))
-            self._high = np.empty((self.m, self.n - self.q))
-            mid = np.empty((len(med), self.m))
-            for j in range(self.m):
-                got = _select_row(rows[j], self.a, self.n - self.q, med)
-                if got is None:
-                    y = rows[j].copy()
-                    y.partition(sorted({self.a - 1, *med, self.q}))
-                    got = np.sort(y[:self.a]), np.sort(y[self.q:]), y[med]
-                self._low[j], self._high[j], mid[:, j] = got
-            self._middle = {r: mid[k].copy() for k, r in enumerate(med)}
-            return
-        self._layout = "partitioned"                     # rows[:, :a] and rows[:, q:] sorted
-        rows.partition(sorted({self.a - 1, *med, self.q}), axis=1)
-        self._middle = {r: rows[:, r].copy() for r in med}
-        rows[:, :self.a].sort(axis=1)
-        rows[:, self.q:].sort(axis=1)
-
-    @property
-    def low(self) -> np.ndarray:
-        """The a = N − q lowest values of each output, sorted, (M, a)."""
-        return self._low if self._low is not None else self.rows[:, :self.a]
-
-    @property
-    def high(self) -> np.ndarray:
-        """The N − q highest values of each output, sorted, (M, N − q)."""
-        return self._high if self._high is not None else self.rows[:, self.q:]
-
-    def at(self, ranks: np.ndarray) -> np.ndarray:
-        """Order statistics at 0-based ``ranks`` (K,), shape (K, M)."""
-        ranks = np.asarray(ranks, dtype=np.intp)
-        out = np.empty((ranks.size, self.m))
-        for i, r in enumerate(ranks.tolist()):
-            if r < self.a:
-                out[i] = self.low[:, r]
-            elif r >= self.q:
-                out[i] = self.high[:, r - self.q]
-        mid = (ranks >= self.a) & (ranks < self.q)
-        need = sorted({int(r) for r in ranks[mid]} - set(self._middle))
-        if need:
-            if self._layout == "selected":
-                part = np.partition(self.rows, need, axis=1)
-                self._middle.update({r: part[:, r].copy() for r in need})
-            else:
-                part = np.partition(self.rows[:, self.a:self.q], [r - self.a for r in need], axis=1)
-                self._middle.update({r: part[:, r - self.a].copy() for r in need})
-        for i in np.flatnonzero(mid):
-            out[i] = self._middle[int(ranks[i])]
-        return out
-
-    def quantile(self, p) -> np.ndarray:
-        """As :func:`quantile_sorted` of the fully sorted values."""
-        i0, i1, frac = _hazen_ranks(self.n, p)
-        lo, hi = self.at(i0), self.at(i1)
-        out = lo + (hi - lo) * frac
-        return out[0] if np.ndim(p) == 0 else out
-
-    def intervals(self, p: float) -> tuple[np.ndarray, np.ndarray]:
-        """As :func:`intervals_from_sorted` of the fully sorted values. For another p than the
-        one given at construction the rows are sorted in full first."""
-        q = _q_count(p, self.n)
-        if self._layout == "sorted" or q != self.q:
-            if self._layout != "sorted":
-                self.rows.sort(axis=1)
-                self.a = self.q = self.n
-                self._low = self._high = None
-                self._middle = {}
-                self._layout = "sorted"
-            return intervals_from_sorted(self.rows.T, p)
-        return _intervals_from_tails(self.low.T, self.high.T, self.n, q)
-
-    def tail_sums(self, low: np.ndarray, high: np.ndarray, center: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """(Σ_{y ≤ low} (y − c), Σ_{y > high} (y − c)) per output, (M,) each.
-
-        ``low`` (M,) at or below the a-th lowest value and ``high`` (M,) at or above the q-th
-        (the endpoints of the 100p % intervals are), so only the stored tails are read.
-        """
-        c = np.asarray(center, dtype=float)[:, None]
-        lo_v, hi_v = (self.rows, self.rows) if self._layout == "sorted" else (self.low, self.high)
-        s_lo = np.sum(np.where(lo_v <= np.asarray(low, dtype=float)[:, None], lo_v - c, 0.0), axis=1)
-        s_hi = np.sum(np.where(hi_v > np.asarray(high, dtype=float)[:, None], hi_v - c, 0.0), axis=1)
-        return s_lo, s_hi
-
-    def count_at_most(self, limits: np.ndarray) -> np.ndarray:
-        """Number of values ≤ limit per output, (M,)."""
-        return np.count_nonzero(self.rows <= np.asarray(limits, dtype=float)[:, None], axis=1)
-
-
-def _select_row(y: np.ndarray, n_low: int, n_high: int, med: list[int]):
-    """(lowest ``n_low`` sorted, highest ``n_high`` sorted, values at the ranks ``med``) of one
-    row by pilot thresholds (see :class:`OrderStatistics`), or None when the pilot missed."""
-    n = y.size
-    pilot = np.sort(y[::max(1, n // SELECT_PILOT)])
-    k = pilot.size
-
-    def at(prob: float) -> float:
-        return float(pilot[min(k - 1, max(0, int(prob * k)))])
-
-    t_lo, t_hi = at(n_low / n + SELECT_MARGIN), at(1.0 - n_high / n - SELECT_MARGIN)
-    m_lo, m_hi = at(min(med) / n - SELECT_MARGIN), at(max(med) / n + SELECT_MARGIN)
-    if not (t_lo < m_lo and m_hi < t_hi):
-        return None
-    # one marking pass in cache-sized blocks: values ≤ t_lo, ≥ t_hi or in [m_lo, m_hi]
-    size = min(n, SELECT_BLOCK)
-    mark, tmp = np.empty(size, dtype=bool), np.empty(size, dtype=bool)
-    parts, below = [], 0
-    for s in range(0, n, size):
-        v = y[s:s + size]
-        mk, tm = mark[:v.size], tmp[:v.size]
-        np.greater_equal(v, m_lo, out=mk)
-        below += v.size - int(np.count_nonzero(mk))
-        np.less_equal(v, m_hi, out=tm)
-        mk &= tm
-        np.less_equal(v, t_lo, out=tm)
-        mk |= tm
-        np.greater_equal(v, t_hi, out=tm)
-        mk |= tm
-        parts.append(v[np.flatnonzero(mk)])
-    c = np.concatenate(parts)
-    low, high = c[c <= t_lo], c[c >= t_hi]
-    if low.size < n_low or high.size < n_high:
-        return None
-    b = c[(c >= m_lo) & (c <= m_hi)]
-    r = [i - below for i in med]
-    if min(r) < 0 or max(r) >= b.size:
-        return None
-    low.sort()
-    high.sort()
-    b.partition(r)
-    return low[:n_low], high[high.size - n_high:], b[r]
 
 
 #: probability in each open end of the pilot that gets equal-probability bins (see BinLayout)

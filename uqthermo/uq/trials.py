@@ -12,9 +12,10 @@ in the run's stream into model values. Three things decide the cost of a trial:
 * **Coordinates.** A trial is a point of the run's stream: pseudo-random sampling draws the
   normal scores z of the normal and copula-linked inputs directly
   (:class:`~uqthermo.uq.sampling.ScoreStream`, ``Generator.standard_normal``) and uniforms v
-  for the other inputs; Latin-hypercube and Sobol' sampling draw uniforms
-  (:class:`~uqthermo.uq.sampling.UniformStream`) and map the normal ones through
-  z = Φ⁻¹(u) (``scipy.special.ndtri``). With the Sobol' score rotation W every active input
+  for the other inputs; Latin-hypercube sampling draws the same pair as a stratified design
+  (:class:`~uqthermo.uq.latin.LatinScoreStream`: Φ⁻¹ of each stratum from a shared table);
+  Sobol' sampling draws uniforms (:class:`~uqthermo.uq.sampling.UniformStream`) and maps the
+  normal ones through z = Φ⁻¹(u) (``scipy.special.ndtri``). With the Sobol' score rotation W every active input
   is driven by a rotated score s = W z (see :func:`uqthermo.uq.montecarlo.score_rotation`).
   Inputs follow as in :meth:`InputSet.from_uniform`: x = x̂ + u·z for a normal input,
   x = G⁻¹(v) (or G⁻¹(Φ(s))) for another one, z' = z Lᵀ and x = G⁻¹(Φ(z')) in the copula
@@ -34,6 +35,9 @@ in the run's stream into model values. Three things decide the cost of a trial:
 
 Every row depends only on its position in the stream (never on where a chunk or a Dask block
 ends): products of one row are computed as two rows (BLAS rounds a single row differently).
+One exception, at the level of rounding: a Sobol' coordinate is mapped through the stratum
+table when the chunk holds a whole power-of-two block of the sequence and through ``ndtri``
+otherwise, so its normal scores may differ by a few ulp between chunkings.
 """
 
 from __future__ import annotations
@@ -47,6 +51,7 @@ from scipy import special
 from ..errors import StatisticsError
 from .blas import one_blas_thread
 from .inputs import U_CLIP, InputSet, rows_times
+from .latin import LatinScoreStream, stratified_scores
 from .sampling import ScoreStream, UniformStream
 
 __all__ = ["TrialDesign", "fit_affine"]
@@ -114,7 +119,7 @@ class TrialStream:
     """The run's stream of trial coordinates from a given origin (see :meth:`TrialDesign.stream`).
 
     ``draw(n)`` returns the next n trials as a chunk for :meth:`TrialDesign.evaluate`: a
-    (Z, V) pair for pseudo-random sampling, uniforms U otherwise. ``chunks(n, size)`` yields
+    (Z, V) pair for pseudo-random and Latin-hypercube sampling, uniforms U for Sobol'. ``chunks(n, size)`` yields
     them in pieces (a Latin-hypercube design of n points stays one design); those chunks may
     share memory with each other and are valid until the next one is drawn.
     """
@@ -123,6 +128,9 @@ class TrialStream:
         self.design = design
         if design.method == "random":
             self._scores = ScoreStream(design.score_columns, design.uniform_columns, seed, skip)
+            self._uniform = None
+        elif design.method == "latin-hypercube":
+            self._scores = LatinScoreStream(design.score_columns, design.uniform_columns, seed, skip)
             self._uniform = None
         else:
             self._scores = None
@@ -134,8 +142,8 @@ class TrialStream:
         return self._uniform.draw(n)
 
     def chunks(self, n: int, chunk_size: int) -> Iterator:
-        if self._scores is None:
-            yield from self._uniform.chunks(n, chunk_size)
+        if self._scores is None or isinstance(self._scores, LatinScoreStream):
+            yield from (self._uniform or self._scores).chunks(n, chunk_size)
             return
         done = 0
         while done < n:
@@ -285,6 +293,12 @@ class TrialDesign:
         return need, np.ascontiguousarray(A[need]), Jo, c
 
     @property
+    def scored(self) -> bool:
+        """Whether chunks are (Z, V) pairs of normal scores and uniforms (pseudo-random and
+        Latin-hypercube sampling) rather than uniforms U (Sobol')."""
+        return self.method != "sobol"
+
+    @property
     def score_columns(self) -> list[int]:
         """Input columns driven by a normal score (pseudo-random: one score stream each)."""
         return list(self._score_vars)
@@ -302,23 +316,31 @@ class TrialDesign:
     # ------------------------------------------------------------------ chunks
     def rows_of(self, chunk) -> int:
         """Number of trials in a chunk."""
-        return int(chunk[0].shape[0] if self.method == "random" else chunk.shape[0])
+        return int(chunk[0].shape[0] if self.scored else chunk.shape[0])
 
     def slice(self, chunk, a: int, b: int):
         """Trials a … b − 1 of a chunk, as a chunk."""
-        return (chunk[0][a:b], chunk[1][a:b]) if self.method == "random" else chunk[a:b]
+        return (chunk[0][a:b], chunk[1][a:b]) if self.scored else chunk[a:b]
 
     # ------------------------------------------------------------------ evaluation
     @staticmethod
     def _ndtri(U: np.ndarray) -> np.ndarray:
-        """z = Φ⁻¹(u) (u clipped to [2⁻⁵³, 1 − 2⁻⁵³]) into a per-thread array, valid within one evaluation."""
+        """z = Φ⁻¹(u) (u clipped to [2⁻⁵³, 1 − 2⁻⁵³]) into a per-thread column-major array, valid
+        within one evaluation. A column of a power-of-two block of Sobol' points holds one value
+        per stratum and goes through the stratum table (:func:`~uqthermo.uq.latin.stratified_scores`,
+        a few ulp of ``ndtri``); any other column through ``scipy.special.ndtri``."""
         if U.size and (U.min() < U_CLIP or U.max() > 1.0 - U_CLIP):   # two cheap reductions; clip only if needed
             U = np.clip(U, U_CLIP, 1.0 - U_CLIP)
-        return special.ndtri(U, out=_scratch("ndtri", U.shape))
+        out = _scratch("ndtri", (U.shape[1], U.shape[0]))
+        for j in range(U.shape[1]):
+            col = U[:, j]                          # a strided view: both read it without a copy
+            if not stratified_scores(col, out[j]):
+                special.ndtri(col, out=out[j])
+        return out.T
 
     def _coordinates(self, chunk, rows: slice | None = None, need: np.ndarray | None = None):
         """(Z scores of the coordinates ``need`` (all by default), V uniforms) of a chunk's rows."""
-        if self.method == "random":
+        if self.scored:
             Z, V = chunk
             if rows is not None:
                 Z, V = Z[rows], V[rows]
