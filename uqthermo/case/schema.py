@@ -95,6 +95,8 @@ class Datum:
     assumed: bool = False
     provenance: dict | None = None     # library = "auto": where value and uncertainty come from (results.json)
     molar_mass: float | None = None    # kg/mol: an amount (rate) datum that may be written as a mass (rate)
+    as_written: str | None = None      # amounts and flows: the user's text of the value ("881 kg")
+    u_as_written: str | None = None    # ... and of its uncertainty, when given ("50 kg/h", "U = 2 kg (k = 2)")
 
     @property
     def uncertain(self) -> bool:

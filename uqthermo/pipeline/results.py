@@ -82,6 +82,8 @@ def _inputs_table(case: Case) -> list[dict]:
             "n_parameters": len(d.distributions), "library": d.library or None, "assumed": bool(d.assumed),
             "uncertain": d.uncertain,
             **({"provenance": d.provenance} if getattr(d, "provenance", None) else {}),
+            **({"as_written": d.as_written} if d.as_written is not None else {}),
+            **({"u_as_written": d.u_as_written} if d.u_as_written is not None else {}),
         })
     return rows
 
@@ -228,7 +230,7 @@ def assemble(case: Case, model: Model, lin, mc, validation, y0: np.ndarray, warn
             pt["reported"] = ("linear" if "linear" in pt and ("monte_carlo" not in pt or pt["linear_validated"] is None
                                                               and validation is not None) else "monte_carlo")
             if budget_q is not None:
-                pt["budget"] = _point_budget(lin_b, j, budget_q, model.units[i], inputs)
+                pt["budget"] = _written_rows(case, _point_budget(lin_b, j, budget_q, model.units[i], inputs))
             if ranking is not None:
                 pt.update(_driver_rows(ranking.point(j), pt.get("budget")))
             else:
@@ -365,6 +367,17 @@ def _point_budget(lin, j: int, budget_q, unit: str, inputs) -> dict:
     qs, to_rep = budget_q
     c = np.asarray(lin.sensitivity, dtype=float)[j] / to_rep      # output unit per report unit of x_i
     return gum_budget(c, np.asarray(inputs.correlation, dtype=float), qs, unit)
+
+
+def _written_rows(case: Case, budget: dict) -> dict:
+    """Budget rows of amounts and flows carry the user's text beside x_i (``as_written``, ``u_as_written``)."""
+    for r in budget.get("rows") or []:
+        d = case.data.get(r.get("datum"))
+        if d is not None and d.as_written is not None and r.get("quantity") == d.id:
+            r["as_written"] = d.as_written
+            if d.u_as_written is not None:
+                r["u_as_written"] = d.u_as_written
+    return budget
 
 
 def _driver_rows(point: dict, budget: dict | None) -> dict:

@@ -61,6 +61,16 @@ def as_written(text: Any) -> str:
     return s
 
 
+def amount_as_written(row: Mapping) -> str:
+    """An amount or flow as the user wrote it (``as_written`` of an ``inputs[]`` or budget row: "252 kg",
+    "4600 kg/h"), or "" when missing or in the row's own unit ("10 mol" beside mol adds nothing)."""
+    w = as_written(row.get("as_written")) if isinstance(row, Mapping) else ""
+    if not w:
+        return ""
+    unit = re.sub(r"^[\s0-9.eE+\-]+", "", w).strip()
+    return "" if unit == str(row.get("unit") or "") else w
+
+
 def limit_text(output: Mapping, unit: str) -> str:
     """The output's limit, unrounded as the user wrote it when results.json keeps it (``limit.as_written``),
     else ``limit_K`` in the display unit."""
@@ -73,4 +83,4 @@ def limit_text(output: Mapping, unit: str) -> str:
     return fmt_T(value, unit) if value is not None else ""
 
 
-__all__ = ["temperature_unit", "symbol", "from_kelvin", "fmt_T", "as_written", "limit_text"]
+__all__ = ["temperature_unit", "symbol", "from_kelvin", "fmt_T", "as_written", "amount_as_written", "limit_text"]

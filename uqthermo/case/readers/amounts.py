@@ -18,7 +18,7 @@ from ...thermo.composition import formula_molar_mass
 from .fields import Collector, is_table, make_datum, read_uncertain, register
 from .reactions import resolve_phase
 
-__all__ = ["molar_mass", "species_ref", "read_species_amounts", "AMOUNT_KINDS"]
+__all__ = ["molar_mass", "species_ref", "read_species_amounts", "written_texts", "AMOUNT_KINDS"]
 
 _REF = re.compile(r"^\s*([A-Za-z][A-Za-z0-9_+\-]*)\s*\(\s*([a-z]+)\s*\)\s*$")
 
@@ -31,6 +31,25 @@ def molar_mass(c: Collector | None, sp, key: str) -> float | None:
         if c is not None:
             c.add(key, f"{sp.name}: {e.message}")
         return None
+
+
+def _text(x: Any) -> str:
+    return " ".join(x.split()) if isinstance(x, str) else str(x)
+
+
+def written_texts(node: Any, stated: str) -> tuple[str, str | None]:
+    """The user's text of an amount and of its uncertainty (``stated``: :func:`read_uncertain`'s statement).
+
+    ``"881 kg"`` → ``("881 kg", None)``; ``{ value = "4600 kg/h", u = "50 kg/h" }`` → ``("4600 kg/h", "50 kg/h")``.
+    An uncertainty given otherwise than as ``u`` keeps its form, so that it is never read as u:
+    ``"U = 100 kg/h (k = 2)"``, ``"half-width 20 kg"``, ``"relative u = 2 %"``.
+    """
+    if not is_table(node):
+        return _text(node), None
+    value = _text(node.get("value", ""))
+    if "u" in node:
+        return value, _text(node["u"])
+    return value, (stated if stated and stated != "exact" else None)
 
 
 def species_ref(c: Collector, text: Any, key: str, species: dict) -> tuple[str, str] | None:
@@ -118,8 +137,9 @@ def read_species_amounts(c: Collector, node: Any, key: str, species: dict, data:
             ok = False
             continue
         did = f"{prefix}.{sp[0]}.{sp[1]}"
-        register(c, data, make_datum(did, spec["quantity"], spec["dimension"], parsed, species=sp[0], phase=sp[1],
-                                     molar_mass=m), k)
+        datum = make_datum(did, spec["quantity"], spec["dimension"], parsed, species=sp[0], phase=sp[1], molar_mass=m)
+        datum.as_written, datum.u_as_written = written_texts(amount, parsed[2])
+        register(c, data, datum, k)
         out[sp] = did
         total += parsed[0]
     if ok and total == 0.0:

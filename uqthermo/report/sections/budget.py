@@ -37,6 +37,7 @@ import pandas as pd
 from ..fields import num, outputs, points, slugs, text
 from ..rounding import fmt_dof, fmt_fixed, fmt_sig, fmt_u, fmt_value, uncertainty_decimals
 from ..tables.display import DisplayTable
+from ..units import amount_as_written
 from . import numbers as N
 from .numbers import Num
 from .ranking import cut
@@ -77,7 +78,8 @@ def budget_table(output: Mapping, oi: int, k: int, key: str, slug: str, label: s
         est = (Num(fmt_fixed(r.get("estimate"), d), N.path(rp, "estimate")) if d is not None
                else Num(fmt_value(r.get("estimate")), N.path(rp, "estimate")))
         t.rows.append([
-            text(r.get("quantity")) or text(r.get("datum")), est,
+            (text(r.get("quantity")) or text(r.get("datum")))
+            + (f" ({text(amount_as_written(r))})" if amount_as_written(r) else ""), est,
             Num(fmt_u(u), N.path(rp, "standard_uncertainty")) if d is not None else Num("0 (exact)" if u == 0 else "—"),
             text(r.get("unit")) or "1",
             _sig(r.get("sensitivity_coefficient"), N.path(rp, "sensitivity_coefficient")),

@@ -74,7 +74,7 @@ def results_table(results: Mapping) -> pd.DataFrame:
 
 def inputs_frame(results: Mapping) -> pd.DataFrame:
     cols = ["datum", "quantity", "species", "phase", "stated", "distribution", "estimate",
-            "standard_uncertainty", "unit", "source", "n_parameters", "library"]
+            "standard_uncertainty", "unit", "source", "n_parameters", "library", "as_written", "u_as_written"]
     rows = []
     for i in results.get("inputs") or []:
         if isinstance(i, Mapping):

@@ -6,6 +6,7 @@ from collections.abc import Mapping
 
 from ..fields import num, text
 from ..rounding import fmt_fixed, fmt_sig, fmt_u, fmt_value, uncertainty_decimals
+from ..units import amount_as_written
 from .display import DisplayTable
 from .library_notes import provenance_notes
 
@@ -38,6 +39,9 @@ def inputs_table(results: Mapping) -> DisplayTable:
             w = written.get(text(i.get("datum")))
             if w and text(i.get("unit")) == "K" and num(est) is not None:     # the case's own text, unrounded
                 value = f"{fmt_value(est)} ({w})"
+            aw = amount_as_written(i)
+            if aw:                                        # an amount or flow as the user wrote it: "13988 (252 kg)"
+                value = f"{value} ({aw})"
         source = text(i.get("source"))
         lib = i.get("library")
         if lib not in (None, False, ""):
