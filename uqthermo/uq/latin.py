@@ -55,6 +55,8 @@ LHS_BLOCK = 2**18
 _PASS = 32768
 #: smallest probability mapped through Φ⁻¹ (as the engine's clip of uniforms, ``inputs.U_CLIP``)
 U_MIN = 2.0**-53
+#: largest uniform of a design (the largest double below 1)
+U_MAX = 1.0 - 2.0**-53
 #: the cubic is used where its error bound is at most this fraction of |z|
 _REL_TOL = 2.0**-54
 
@@ -157,7 +159,7 @@ def stratified_scores(u: np.ndarray, out: np.ndarray) -> bool:
         return False
     x = u * float(m)
     k = x.astype(np.intp)
-    if k[0] < 0 or np.any(k >= m):                 # u outside [0, 1): not a column of uniforms
+    if k.min() < 0 or k.max() >= m:                # u outside [0, 1) (or NaN): not a column of uniforms
         return False
     x -= k
     s = np.full(m, np.nan)
@@ -186,6 +188,7 @@ def _fill_column(col: np.ndarray, gen: np.random.Generator, scores: bool) -> Non
             seg = col[a:b]
             seg += np.arange(a, b, dtype=float)
             seg *= 1.0 / m
+            np.minimum(seg, U_MAX, out=seg)         # k + v rounds to m for v → 1 in the top stratum
     gen.shuffle(col)
 
 
