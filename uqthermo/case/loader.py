@@ -189,6 +189,9 @@ def parse_case(raw: dict, fname: str, sha: str = "", *, library: bool = True) ->
     from .model.layout import used_data
 
     case.warnings.extend(library_data_warnings(data, used_data(case)))
+    from .readers.boiling_points import liquid_boiling_warnings
+
+    case.warnings.extend(liquid_boiling_warnings(case, library))
     return case
 
 

@@ -28,7 +28,8 @@ from dataclasses import dataclass, field
 from .base import LibraryLookupError
 from .candidates import QUANTITY_UNITS, CurveCandidate, ScalarCandidate
 from .identify import Identity
-from .uncertainty import Uncertainty, curve_uncertainty, outlier_text, scalar_uncertainty
+from .uncertainty import (Uncertainty, copy_groups, curve_uncertainty, outlier_text, scalar_uncertainty,
+                          wide_spread_limit)
 
 __all__ = ["RANK", "Selection", "select_value", "select_curve", "QUANTITY_LABELS", "rank_of"]
 
@@ -154,6 +155,9 @@ class Selection:
                 rows.append(row)
             out["sources"] = rows
             out["outliers"] = [dict(o, unit="J/(mol*K)") for o in u.outliers]
+            wide = wide_spread_limit("heat_capacity", u)
+            out["wide_spread"] = None if wide is None else {"quantity": "heat_capacity", "phase": self.phase,
+                                                            "limit": wide, "unit": "relative"}
         else:
             unit, f = _REPORT[QUANTITY_UNITS[c.quantity]]
             out.update({"value": c.value * f, "unit": unit, "standard_uncertainty": u.u * f})
@@ -166,6 +170,12 @@ class Selection:
                               for o in self.considered]
             out["outliers"] = [dict(o, unit=unit, **{k: o[k] * f for k in ("value", "selected_value", "deviation", "limit")})
                                for o in u.outliers]
+            wide = wide_spread_limit(c.quantity, u, c.value)
+            if wide is not None:
+                used = [o.value for o in self.considered if not o.estimate and o.source.label not in outlying]
+                wide = {"quantity": c.quantity, "phase": self.phase, "limit": wide * f, "unit": unit,
+                        "distinct_values": len(copy_groups(used, c.quantity))}
+            out["wide_spread"] = wide
         return out
 
 

@@ -47,6 +47,13 @@ The selected curve or value is never screened out (if it is the odd one, the spr
 outlier is left out of the spread, named with its disagreement in the uncertainty's reason and in
 ``provenance.outliers``, and the run warns naming the datum and both sources.
 
+**Wide spread without a majority**: where the spread sets u (rule 4, outliers already left out) and
+u is larger than the outlier screen's floor (:func:`wide_spread_limit`: :data:`OUTLIER_FACTOR` times
+the assumed u of a compilation — ΔfH° 5 kJ/mol, a Cp curve 10 %), the sources disagree far beyond
+what compilations usually do and no majority says which is right (two distinct values, or values
+too scattered for the median/MAD screen to single one out). u is then honest but large, and the run
+warns naming the sources and their values (``provenance.wide_spread``). A rule of our own.
+
 The basis is recorded with each datum (``exact``, ``stated``, ``published``, ``spread``,
 ``assumed``), so the report says for every library value where its uncertainty comes from.
 """
@@ -61,7 +68,7 @@ from .candidates import QUANTITY_UNITS, CurveCandidate, ScalarCandidate
 
 __all__ = ["Uncertainty", "ASSUMED", "OUTLIER_RELATIVE", "scalar_uncertainty", "curve_uncertainty", "assumed_value",
            "screen_outliers", "outlier_text", "robust_outliers", "OUTLIER_FACTOR", "outlier_floor",
-           "screen_scalar_outliers", "scalar_outlier_text", "copy_tolerance", "copy_groups"]
+           "screen_scalar_outliers", "scalar_outlier_text", "copy_tolerance", "copy_groups", "wide_spread_limit"]
 
 OUTLIER_RELATIVE = 0.10
 """Relative disagreement beyond which a heat capacity is screened as an outlier: five times the 2 %
@@ -210,6 +217,41 @@ def outlier_floor(quantity: str) -> tuple[float, float]:
     :data:`RELATIVE` — ΔfH° 5 kJ/mol, S° 2.5 J/(mol K), Tb 1 K, Tm 2.5 K, ΔvapH 5 %, ΔfusH 15 %."""
     a = OUTLIER_FACTOR * assumed_value(quantity, "compilation")
     return (a, 0.0) if quantity in RELATIVE else (0.0, a)
+
+
+def wide_spread_limit(quantity: str, uncertainty: Uncertainty, value: float | None = None) -> float | None:
+    """The limit a spread-based uncertainty exceeds, or None: the warning rule for sources that disagree
+    widely without a majority (module docstring).
+
+    .. math::
+        u > \\max(r\\,|x|,\\ a), \\qquad (r, a) = \\text{outlier\\_floor(quantity)}
+
+    i.e. u larger than :data:`OUTLIER_FACTOR` times the uncertainty assumed for a compilation
+    (:data:`ASSUMED`), the same floor as the outlier screen (:func:`outlier_floor`; for a heat-capacity
+    curve :data:`OUTLIER_RELATIVE`, relative). A rule of our own.
+
+    Parameters
+    ----------
+    quantity : str
+        ``formation_enthalpy``, ``heat_capacity``, ...
+    uncertainty : Uncertainty
+        The selected datum's uncertainty (only the basis ``spread`` can exceed).
+    value : float, optional
+        The selected value (SI), for the quantities whose floor is relative (ΔvapH, ΔfusH).
+
+    Returns
+    -------
+    float or None
+        The limit (SI; relative for a curve, like ``uncertainty.u``) when ``uncertainty.u`` exceeds it.
+    """
+    if uncertainty.basis != "spread":
+        return None
+    relative, absolute = outlier_floor(quantity)
+    if uncertainty.relative:
+        limit = relative if relative else OUTLIER_RELATIVE
+    else:
+        limit = max(relative * abs(value or 0.0), absolute)
+    return float(limit) if limit > 0 and uncertainty.u > limit * (1 + 1e-9) else None
 
 
 def screen_scalar_outliers(chosen: ScalarCandidate, others: list[ScalarCandidate]) -> list[dict]:

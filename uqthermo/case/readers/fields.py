@@ -188,12 +188,15 @@ _REPORT = {
 
 
 def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positive: bool = False,
-                   temperature: bool = False, molar_mass: float | str | None = None) -> tuple[float, Any, str, str] | None:
+                   temperature: bool = False, molar_mass: float | str | None = None,
+                   user_u: bool = True) -> tuple[float, Any, str, str] | None:
     """Read an uncertain quantity: a plain string (exact) or a table (contract §2).
 
     Returns ``(estimate, distribution, stated, source)`` in engine units, or ``None``
     after recording the problem. ``molar_mass`` (kg/mol): an amount (rate) may be written
     as a mass (rate), e.g. ``"252 kg"`` or ``"900 kg/h"`` (see :func:`read_quantity`).
+    ``user_u=False``: the uncertainty was set by the data library, not written by the user, so
+    the warning on a u larger than the value (a slip in writing it) does not apply.
     """
     reader = (lambda v, k: read_temperature(c, v, k)) if temperature else (
         lambda v, k: read_quantity(c, v, k, dimension, molar_mass=molar_mass))
@@ -326,7 +329,7 @@ def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positiv
         c.add(key, e.message)
         return None
     sd = float(getattr(d, "std", 0.0))
-    if v != 0 and sd > abs(v):
+    if v != 0 and sd > abs(v) and user_u:
         c.warn(key, f"the standard uncertainty is {100 * sd / abs(v):.0f} % of the value; a relative uncertainty written "
                     "as u (use relative_u = \"… %\"), or a unit slip in u? It is used as stated")
     if temperature and getattr(d, "std", 0.0) > 0:

@@ -192,11 +192,42 @@ def library_data_warnings(data: dict, used: set[str]) -> list[str]:
             out.append(f"{d.id}: {o['source']} gives {o['value']:.4g} {o['unit']}{at}, {gap}: far beyond the typical "
                        f"deviation of the sources, treated as an outlier and left out of the uncertainty; check which "
                        f"is right")
+        if prov.get("wide_spread"):
+            out.append(wide_spread_warning(d.id, prov))
     est = [d for d in lib if d.provenance.get("estimate")]
     if est:
         out.append(f"ESTIMATES, not measurements: {len(est)} library datum(s) are group-contribution estimates: "
                    + ", ".join(d.id for d in est) + " — replace them by measured data where the result matters")
     return out
+
+def wide_spread_warning(datum_id: str, prov: dict) -> str:
+    """The warning for a library datum whose sources disagree widely without a majority
+    (``provenance.wide_spread``, :func:`uqthermo.case.library.uncertainty.wide_spread_limit`): species,
+    phase, datum, each source's value, u against the limit, and what to do."""
+    from ..library.selection import QUANTITY_LABELS
+
+    w = prov["wide_spread"]
+    what = f"{QUANTITY_LABELS.get(w['quantity'], w['quantity'])} of {prov.get('name') or datum_id.split('.')[0]} " \
+           f"({w['phase']})"
+    rows = [r for r in prov.get("sources") or () if not r.get("estimate") and not r.get("outlier")]
+    if w["unit"] == "relative":
+        lo, hi = prov["window_K"]
+        at = f"{lo:g} K" if hi <= lo else f"{lo:g} and {hi:g} K"
+        vals = "; ".join(f"{r['source']} " + ", ".join(f"{v:.4g}" for v in r["cp_J_per_mol_K"].values())
+                         for r in rows if r.get("cp_J_per_mol_K"))
+        return (f"{datum_id}: the sources of the {what} disagree widely — {vals} J/(mol*K) at {at} — so its relative "
+                f"u = {100 * prov['relative_standard_uncertainty']:.2g} % (half their largest spread) is beyond "
+                f"{100 * w['limit']:.3g} % (5 times the uncertainty assumed for a compilation, our rule); check the "
+                "primary literature or measure it")
+    n = w.get("distinct_values", len(rows))
+    why = ("only two independent values, no majority" if n <= 2 else
+           f"{n} independent values, none singled out as an outlier")
+    vals = "; ".join(f"{r['source']} {r['value']:.4g}" for r in rows)
+    return (f"{datum_id}: the sources of the {what} disagree widely ({why}) — {vals} {w['unit']} — so its "
+            f"u = {prov['standard_uncertainty']:.3g} {w['unit']} (half their spread) is beyond {w['limit']:.3g} "
+            f"{w['unit']} (5 times the uncertainty assumed for a compilation, our rule); check the primary literature "
+            "or measure it")
+
 
 def _phase(c: Collector, node: Any, key: str, sp: str, sym: str, formula: str, cas: Any, data: dict,
            settings: Settings, library: bool, lib=None, windows: dict | None = None) -> Phase | None:
@@ -260,7 +291,8 @@ def _register_auto(c: Collector, node: dict, key: str, dimension: str, datum_id:
     """Register a datum resolved by ``library = "auto"`` (private keys consumed here)."""
     prov, assumed, label = node.pop("_provenance"), node.pop("_assumed"), node.pop("_label")
     node.pop("_estimate", None)
-    parsed = read_uncertain(c, node, key, dimension, temperature=dimension == "temperature")
+    parsed = read_uncertain(c, node, key, dimension, temperature=dimension == "temperature",
+                            user_u=(prov or {}).get("uncertainty_basis") == "user")
     if parsed is None:
         return None
     d = make_datum(datum_id, quantity, dimension, parsed, species=sp, phase=transition or sym, library=label)
