@@ -858,7 +858,12 @@ def render(results: dict) -> str:
           "the gathered values once, and keep the whole tails, so the one-sided 5 %/95 % quantiles no longer "
           "partition each row. What is left is numpy's Fisher-Yates shuffle (about 10 ns per value, nearly a "
           "normal variate, which Latin hypercube pays on top of the scores), Φ⁻¹ at about 12 ns per Sobol' "
-          f"coordinate, and the per-output statistics of the multi-point outputs{_unmet(b)}.",
+          f"coordinate, and the per-output statistics of the multi-point outputs{_unmet(b)}. Run-to-run noise on "
+          "this shared VM is large: an earlier run the same day (20:45 UTC, quiet machine, before two small "
+          "changes: Sobol' coordinates read as strided views, LHS uniforms capped below 1) measured tool/floor "
+          "for random / Latin hypercube / Sobol' of 0.98 / 1.65 / 0.86 (issue case), 2.59 / 2.92 / 2.94 "
+          "(dH_window), 1.31 / 2.05 / 2.16 (dH_operating), 1.43 / 1.99 / 3.18 (cooling_duty) and 1.49 / 2.03 / "
+          "2.20 (log10K_window), with the same floor program at 76 ns per trial on the issue case.",
           "- Benchmark 3: a coverage-interval endpoint is an order statistic; its batch-to-batch spread decides "
           "when §7.9 stops. Three things make Sobol' pay off there. (1) Each batch is an independently scrambled "
           "net: consecutive blocks of one sequence are not independent, and an earlier version that used them saw "
