@@ -18,7 +18,7 @@ import numpy as np
 
 from ...thermo.kirchhoff import reaction_enthalpy_terms
 from ..schema import Case
-from .layout import Model, values_decoder
+from .layout import Model, output_temperature, reaction_values, values_decoder
 
 __all__ = ["TermLayout", "kirchhoff_function"]
 
@@ -52,7 +52,7 @@ def kirchhoff_function(case: Case, model: Model) -> tuple[Callable[[np.ndarray],
         o = case.outputs[i]
         temps = o.temperatures if o.temperatures is not None else np.array([o.temperature_nominal])
         probe = reaction_enthalpy_terms(case.reactions[o.reaction], case.species, np.asarray(temps, dtype=float), Tref,
-                                        _values(sv0, ov0, o.reaction))
+                                        reaction_values(sv0, ov0, o.reaction))
         rows = []
         for k, _t in enumerate(temps):
             lay = TermLayout(i, k, ncol, ncol + 1, ncol + 2, reference_temperature=probe.reference_temperature,
@@ -72,11 +72,8 @@ def kirchhoff_function(case: Case, model: Model) -> tuple[Callable[[np.ndarray],
         sv, ov = decode(X)
         for i, rows in plan:
             o = case.outputs[i]
-            if o.temperature_datum:
-                T = ov[o.temperature_datum] if o.temperature_datum in ov else np.full((n, 1), o.temperature_nominal)
-            else:
-                T = np.asarray(o.temperatures, dtype=float)
-            t = reaction_enthalpy_terms(case.reactions[o.reaction], case.species, T, Tref, _values(sv, ov, o.reaction))
+            T = output_temperature(o, ov, n)
+            t = reaction_enthalpy_terms(case.reactions[o.reaction], case.species, T, Tref, reaction_values(sv, ov, o.reaction))
 
             # J/mol -> kJ/mol, or kJ/kg on a mass basis (the output's own unit: the builder divides by the same mass)
             scale = 1e3 * (o.mass_per_unit if getattr(o, "basis", "") == "mass" and getattr(o, "mass_per_unit", None) else 1.0)
@@ -96,11 +93,3 @@ def kirchhoff_function(case: Case, model: Model) -> tuple[Callable[[np.ndarray],
         return out
 
     return f, layout
-
-
-def _values(sv: dict, ov: dict, reaction: str) -> dict:
-    vals = dict(sv)
-    key = f"reaction.{reaction}.measured_enthalpy"
-    if key in ov:
-        vals[key] = ov[key]
-    return vals

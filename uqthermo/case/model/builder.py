@@ -52,7 +52,7 @@ from ...uq.blas import one_blas_thread
 from ..readers.design import molar_mass as design_molar_mass
 from ..schema import Case, OutputSpec
 from . import balances
-from .layout import Aux, Column, Model, build_inputs, output_unit, values_decoder
+from .layout import Aux, Column, Model, build_inputs, output_temperature, output_unit, reaction_values, values_decoder
 from .reaction_table import TABLE_KINDS, ReactionTable, table_requests
 from .sampled_temperature import SampledTemperatureEnthalpy
 
@@ -165,18 +165,6 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
             return ov[did]
         return np.full((n, 1), _nominal(case, did))
 
-    def temperature(o: OutputSpec, ov: dict, n: int):
-        if o.temperature_datum:
-            return ov[o.temperature_datum] if o.temperature_datum in ov else np.full((n, 1), o.temperature_nominal)
-        return o.temperatures
-
-    def reaction_values(sv: dict, ov: dict, reaction: str) -> dict:
-        vals = dict(sv)
-        key = f"reaction.{reaction}.measured_enthalpy"
-        if key in ov:
-            vals[key] = ov[key]
-        return vals
-
     table_index: dict = {}   # (table, reaction, temperature grid) -> (grid, row, columns)
 
     def from_table(tab, reaction: str, temps) -> np.ndarray | None:
@@ -252,7 +240,7 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
                     y = -(dH - o.temperatures * dS) / (GAS_CONSTANT * o.temperatures) / LN10
             elif k in TABLE_KINDS:
                 reaction = case.reactions[o.reaction]
-                T = temperature(o, ov, n)
+                T = output_temperature(o, ov, n)
                 vals = reaction_values(sv, ov, o.reaction)
                 if k == "reaction_enthalpy":
                     y = rx.reaction_enthalpy(reaction, species, T, Tref, vals) / 1e3
@@ -274,7 +262,7 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
                     if o.basis == "mass":
                         y = y / mass
             elif k == "heat_release":
-                T = temperature(o, ov, n)
+                T = output_temperature(o, ov, n)
                 y = 0.0
                 for rname, dids in o.extent_rates.items():
                     rate = value(ov, dids[0], n)

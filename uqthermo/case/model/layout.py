@@ -21,7 +21,8 @@ from ...uq.inputs import InputSet, InputVariable
 from ..schema import Case, OutputSpec
 from .dependence import output_data
 
-__all__ = ["UNITS", "QUANTITY", "Column", "Aux", "Model", "used_data", "build_inputs", "values_decoder", "output_unit"]
+__all__ = ["UNITS", "QUANTITY", "Column", "Aux", "Model", "used_data", "build_inputs", "values_decoder", "output_unit",
+           "reaction_values", "output_temperature"]
 
 UNITS = {
     "reaction_enthalpy": "kJ/mol",
@@ -191,3 +192,24 @@ def output_unit(o: OutputSpec) -> str:
     if o.kind == "heating_enthalpy" and o.mixture:
         return "kJ"
     return UNITS[o.kind]
+
+
+def reaction_values(species_values: dict, output_values: dict, reaction: str) -> dict:
+    """The data values a reaction's Kirchhoff terms read: the species' values, plus the
+    reaction's measured enthalpy (``reaction.NAME.measured_enthalpy``) where the output's
+    values hold it."""
+    vals = dict(species_values)
+    key = f"reaction.{reaction}.measured_enthalpy"
+    if key in output_values:
+        vals[key] = output_values[key]
+    return vals
+
+
+def output_temperature(o: OutputSpec, output_values: dict, n: int):
+    """The temperatures of an output for n rows: its sampled temperature datum (n, 1) — at its
+    nominal value when the datum is not among ``output_values`` — or its exact temperatures (K)."""
+    if o.temperature_datum:
+        if o.temperature_datum in output_values:
+            return output_values[o.temperature_datum]
+        return np.full((n, 1), o.temperature_nominal)
+    return o.temperatures
