@@ -72,6 +72,11 @@ def _t_range(c: Collector, node: Any, key: str) -> tuple[float, float] | None:
     return lo, hi
 
 
+def _stated_range(c: Collector, node: dict, key: str) -> tuple[float, float] | None:
+    """The validity range of a curve from its optional key ``T``: (0, ∞) when absent, None when bad."""
+    return _t_range(c, node["T"], f"{key}.T") if "T" in node else (0.0, math.inf)
+
+
 def read_heat_capacity(c: Collector, node: Any, key: str, sp: str, sym: str, data: dict, settings: Settings,
                        ident: str, library: bool, lib=None, window: tuple | None = None):
     """Read ``[species.SP.SYM.heat_capacity]`` (or its library reference) into a Cp curve; registers
@@ -139,12 +144,10 @@ def _cp_constant(c, node, key, datum_id, sp, sym, data, extrap, lib_name):
     if parsed[0] > MAX_CP:
         c.add(f"{key}.value", f"{parsed[0]:.4g} J/(mol*K) is not a plausible molar heat capacity")
         return None
-    t_lo, t_hi = 0.0, math.inf
-    if "T" in node:
-        tr = _t_range(c, node["T"], f"{key}.T")
-        if tr is None:
-            return None
-        t_lo, t_hi = tr
+    tr = _stated_range(c, node, key)
+    if tr is None:
+        return None
+    t_lo, t_hi = tr
     cp = cpm.ConstantCp(parsed[0], t_min=t_lo, t_max=t_hi, allow_extrapolation=extrap)
     d = make_datum(datum_id, "heat capacity", "molar_entropy", parsed, species=sp, phase=sym, library=lib_name)
     d.kind = "coefficients"
@@ -317,13 +320,11 @@ def _cp_polynomial(c, node, key, datum_id, sp, sym, data, extrap, source, lib_na
                 c.add(f"{key}.coefficients.{t}", f"must be a finite number, got {x!r}")
                 return None
             vec[i] = float(x) * factor
-    t_lo, t_hi = 0.0, math.inf
-    if "T" in node:
-        tr = _t_range(c, node["T"], f"{key}.T")
-        if tr is None:
-            return None
-        t_lo, t_hi = tr
-    else:
+    tr = _stated_range(c, node, key)
+    if tr is None:
+        return None
+    t_lo, t_hi = tr
+    if "T" not in node:
         c.warn(key, "polynomial heat capacity with no stated validity range; it is used at every temperature of the path")
     cp = cpm.PolynomialCp(*vec.tolist(), t_min=t_lo, t_max=t_hi, allow_extrapolation=extrap)
     if math.isfinite(t_hi) or t_lo > 0:
