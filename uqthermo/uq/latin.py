@@ -44,6 +44,7 @@ import numpy as np
 from scipy import special
 
 from ..errors import StatisticsError
+from .inputs import U_CLIP
 from .streams import ColumnStreams, column_generator
 
 __all__ = ["LatinScoreStream", "latin_uniform_blocks", "stratum_scores", "LHS_BLOCK", "block_sizes", "stratified_scores",
@@ -53,10 +54,8 @@ __all__ = ["LatinScoreStream", "latin_uniform_blocks", "stratum_scores", "LHS_BL
 LHS_BLOCK = 2**18
 #: strata evaluated per pass (a slice of the table stays in cache across the columns)
 _PASS = 32768
-#: smallest probability mapped through Φ⁻¹ (as the engine's clip of uniforms, ``inputs.U_CLIP``)
-U_MIN = 2.0**-53
-#: largest uniform of a design (the largest double below 1)
-U_MAX = 1.0 - 2.0**-53
+#: largest uniform of a design (the engine's clip of uniforms, ``inputs.U_CLIP``, below 1)
+U_MAX = 1.0 - U_CLIP
 #: the cubic is used where its error bound is at most this fraction of |z|
 _REL_TOL = 2.0**-54
 
@@ -114,7 +113,7 @@ def stratum_scores(v: np.ndarray, m: int, start: int = 0) -> np.ndarray:
         seg = v[:lo_end - start]
         seg += np.arange(start, lo_end, dtype=float)
         seg /= m
-        np.maximum(seg, U_MIN, out=seg)             # v = 0 in stratum 0: Φ⁻¹(2⁻⁵³), not −∞
+        np.maximum(seg, U_CLIP, out=seg)             # v = 0 in stratum 0: Φ⁻¹(2⁻⁵³), not −∞
         special.ndtri(seg, out=seg)
     hi_start = max(start, m - k0, k0)
     if hi_start < end:                              # upper tail: −Φ⁻¹((m − 1 − k + 1 − v)/m)
