@@ -224,6 +224,26 @@ def test_bin_layout_counts_equal_binary_search_and_read_back():
     np.testing.assert_array_equal(b.counts, c.counts)
 
 
+def test_bin_layout_from_pilot_is_as_fine_as_ndigits_needs():
+    """With ndigits the central bins are just fine enough: width ≤ 0.05 δ(0.8 s) per output
+    (δ of JCGM 101 §7.9.2, s the pilot's standard deviation), the widest output needing the
+    most bins decides their number, which is not more than that needs (and at least 2000)."""
+    from uqthermo.uq.stats import MIN_CENTRAL_BINS, BinLayout, numerical_tolerance
+
+    rng = np.random.default_rng(8)
+    pilot = np.column_stack([3.0 * rng.standard_normal(2**18), 0.003 * rng.lognormal(0.0, 0.5, 2**18),
+                             np.full(2**18, 4.0)])      # the last one constant: u = 0 asks nothing
+    full = BinLayout.from_pilot(pilot, 100_000)
+    lay = BinLayout.from_pilot(pilot, 100_000, ndigits=2)
+    width = 1.0 / lay.inv_width
+    limit = 0.05 * numerical_tolerance(0.8 * pilot.std(axis=0, ddof=1), 2)
+    assert np.all(width[:2] <= limit[:2] * (1 + 1e-12))
+    assert lay.k < full.k and (lay.k == MIN_CENTRAL_BINS or np.any(width[:2] > 0.99 * limit[:2] * (lay.k - 1) / lay.k))
+    assert lay.first == full.first and np.all(np.diff(lay.edges[:2], axis=1) > 0)
+    coarse = BinLayout.from_pilot(pilot[:, :1], 100_000, ndigits=1)
+    assert coarse.k == MIN_CENTRAL_BINS     # one digit of u = 3 (δ = 0.5) needs few bins
+
+
 def test_histogram_mode_known_in_advance_uses_a_small_pilot():
     kw = dict(samples=400_000, sampling="sobol", seed=3)
     exact = propagate_monte_carlo(model, _inputs(), **kw)

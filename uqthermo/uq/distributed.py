@@ -369,7 +369,7 @@ def _fixed(client, n_workers, remote, design, d, method, seed, p, n_total, chunk
             br = fut.result()
             blocks[br.start] = br
         pilot = np.concatenate([blocks[k].values for k in sorted(blocks)], axis=0)
-        layout = BinLayout.from_pilot(pilot, int(min(bins, max(2000, cap // max(1, 2 * m)))))
+        layout = BinLayout.from_pilot(pilot, int(min(bins, max(2000, cap // max(1, 2 * m)))), ndigits=ndigits)
         done = pilot_rows
     offset = done
     layout_remote = client.scatter(layout, broadcast=True, hash=False) if layout is not None else None  # sent once
@@ -439,7 +439,7 @@ def _adaptive(client, n_workers, remote, design, method, seed, p, chunk_size, nd
         results = [fu.result() for fu in futs]          # in batch order
         for br in results:
             if collector is None:
-                collector = Collector(design.n_outputs, d, keep, cap, bins)
+                collector = Collector(design.n_outputs, d, keep, cap, bins, ndigits=ndigits)
             # feed the collector the batch (kept rows come from the first batch's X)
             Xb = br.X_kept if br.X_kept is not None else np.empty((0, d))
             _collector_add(collector, Xb, br.values)

@@ -457,7 +457,7 @@ def propagate_monte_carlo(
     m = design.n_outputs
     kp = kept_rows(keep, d, m)
     collector = Collector(m, d, kp, int(max_stored_values), int(histogram_bins),
-                           expect_rows=None if adaptive else samples)
+                          expect_rows=None if adaptive else samples, ndigits=ndigits)
     conv_n: list[int] = []
     conv_u: list[np.ndarray] = []
     stability: dict = {}

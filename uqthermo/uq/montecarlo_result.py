@@ -11,13 +11,14 @@ by the local engine (:mod:`uqthermo.uq.montecarlo`) and the Dask engine
 and the quantities above are computed exactly from their order statistics
 (:class:`~uqthermo.uq.stats.OrderStatistics`: the same values as a full sort). Beyond that the
 stored values become the pilot of a fixed fine histogram per output
-(:class:`~uqthermo.uq.stats.BinnedCDF`, up to 10⁵ bins: equal-width over the central pilot
-range, equal-probability in the far tails); later chunks only add counts. When a fixed N
-is known to exceed the bound, the pilot is the first :data:`PILOT_ROWS` rows. A quantile
-from it is accurate to within one bin width; ``quantile_resolution`` reports the widest bin
-holding an interval endpoint (~10⁻⁴ u(y) for a normal-like output with 10⁵ bins), far below
-δ, which is at least 0.005 u(y) for two significant digits. A warning is added if it ever
-exceeds δ/10.
+(:class:`~uqthermo.uq.stats.BinnedCDF`: equal-width over the central pilot range,
+equal-probability in the far tails); later chunks only add counts. When a fixed N is known
+to exceed the bound, the pilot is the first :data:`PILOT_ROWS` rows. A quantile from it is
+accurate to within one bin width; ``quantile_resolution`` reports the widest bin holding an
+interval endpoint. The central bins are made no wider than δ/20 for the pilot's spread
+(δ is at least 0.005 u(y) for two significant digits) and no finer than that needs, up to
+10⁵ bins (``histogram_bins``): fewer counters are counted faster. A warning is added if the
+resolution ever exceeds δ/10.
 Mean, u(y) and skewness always use all values (mergeable moments).
 """
 
@@ -175,8 +176,10 @@ class Collector:
     final concatenation, half the peak memory).
     """
 
-    def __init__(self, m: int, d: int, keep: int, cap: int, bins: int, expect_rows: int | None = None):
+    def __init__(self, m: int, d: int, keep: int, cap: int, bins: int, expect_rows: int | None = None,
+                 ndigits: int | None = None):
         self.m = m
+        self.ndigits = ndigits      # the histogram's bins need be no finer than this many digits of u ask
         self.moments = Moments(m)
         self.stored: list[np.ndarray] | None = []    # chunks of shape (M, n)
         self.n_stored = 0
@@ -210,7 +213,8 @@ class Collector:
                 self.n_stored += Y.shape[0]
             else:
                 pilot = self._sorted_rows(extra=Y)
-                self.binned = BinnedCDF(layout=BinLayout.from_pilot(pilot.T, self.bins, is_sorted=True))
+                self.binned = BinnedCDF(layout=BinLayout.from_pilot(pilot.T, self.bins, is_sorted=True,
+                                                                          ndigits=self.ndigits))
                 self.binned.add_sorted(pilot.T)
         else:
             self.binned.add(Y, extremes=(self.moments.min, self.moments.max))
