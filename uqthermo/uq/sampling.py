@@ -38,7 +38,7 @@ from scipy.stats import qmc
 
 from ..errors import StatisticsError
 from .latin import LHS_BLOCK, latin_uniform_blocks
-from .streams import ColumnStreams, check_seed, column_generator
+from .streams import BlockSeeds, ColumnStreams, check_seed, column_generator, seeded_generators
 
 __all__ = ["METHODS", "UniformStream", "ScoreStream", "uniform_sample", "iter_uniform_chunks", "LHS_BLOCK",
            "SCORE_BLOCK", "sampling_method"]
@@ -207,7 +207,8 @@ class ScoreStream(ColumnStreams):
 
     The rows are grouped in blocks of :data:`SCORE_BLOCK`. In block b, column label c draws
     its values one after the other from ``SFC64(SeedSequence(seed, spawn_key=(b, c)))``
-    (:func:`~uqthermo.uq.streams.column_generator`):
+    (:func:`~uqthermo.uq.streams.column_generator`; the states are computed 64 blocks at a
+    time by :class:`~uqthermo.uq.streams.BlockSeeds`, bit for bit the same):
     normal scores with ``Generator.standard_normal`` (numpy's ziggurat method, Marsaglia &
     Tsang 2000, J. Stat. Softw. 5(8)), uniforms with ``Generator.random`` ([0, 1) at 2⁻⁵³
     resolution) — independent streams in the sense of numpy's ``SeedSequence.spawn``. A row
@@ -220,10 +221,15 @@ class ScoreStream(ColumnStreams):
         super().__init__(normal, uniform, seed, skip)
         self._block = -1
         self._gens: list = []
+        self._seeds = BlockSeeds(self.seed, self.normal + self.uniform)
 
     def _open(self, block: int) -> None:
         """Generators of ``block``, advanced to the current position."""
-        self._gens = [column_generator(self.seed, (block, c)) for c in self.normal + self.uniform]
+        states = self._seeds.states(block)
+        if states is None:
+            self._gens = [column_generator(self.seed, (block, c)) for c in self.normal + self.uniform]
+        else:                                     # the same streams, seeded in a vectorised pass
+            self._gens = seeded_generators(states, reuse=self._gens)
         self._block = block
         lead = self.position - block * SCORE_BLOCK
         if lead:                                  # SFC64 has no jump-ahead: draw and discard
