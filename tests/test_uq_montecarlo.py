@@ -242,6 +242,9 @@ def test_bin_layout_from_pilot_is_as_fine_as_ndigits_needs():
     assert lay.first == full.first and np.all(np.diff(lay.edges[:2], axis=1) > 0)
     coarse = BinLayout.from_pilot(pilot[:, :1], 100_000, ndigits=1)
     assert coarse.k == MIN_CENTRAL_BINS     # one digit of u = 3 (δ = 0.5) needs few bins
+    # an unsorted pilot (only its tails get sorted) gives the layout of the sorted one, edge for edge
+    ref = BinLayout.from_pilot(np.sort(pilot, axis=0), 100_000, is_sorted=True, ndigits=2)
+    assert np.array_equal(ref.edges, lay.edges) and ref.k == lay.k
 
 
 def test_histogram_mode_known_in_advance_uses_a_small_pilot():

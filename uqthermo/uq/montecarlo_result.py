@@ -212,10 +212,14 @@ class Collector:
                 self.stored.append(Y.T.copy(order="C"))
                 self.n_stored += Y.shape[0]
             else:
-                pilot = self._sorted_rows(extra=Y)
-                self.binned = BinnedCDF(layout=BinLayout.from_pilot(pilot.T, self.bins, is_sorted=True,
-                                                                          ndigits=self.ndigits))
-                self.binned.add_sorted(pilot.T)
+                # the stored values are the pilot: they place the edges (only their tails are
+                # sorted) and are the first to be counted, block by block (no copy of them all)
+                parts = [q.T for q in self._take_parts()] + [Y]
+                layout = BinLayout.from_pilot(parts, self.bins, ndigits=self.ndigits, spread=self.moments.std)
+                self.binned = BinnedCDF(layout=layout)
+                for q in parts:
+                    for a in range(0, q.shape[0], 65536):
+                        self.binned.add(q[a:a + 65536])
         else:
             self.binned.add(Y, extremes=(self.moments.min, self.moments.max))
 
@@ -224,18 +228,16 @@ class Collector:
             return np.concatenate(self.X_kept, axis=0), np.concatenate(self.Y_kept, axis=0)
         return np.empty((0, d)), np.empty((0, self.m))
 
-    def _take_rows(self, extra: np.ndarray | None = None) -> np.ndarray:
-        """All stored values (plus ``extra`` rows) as one (M, N) array, in no order; releases the store."""
+    def _take_parts(self) -> list[np.ndarray]:
+        """The stored values as blocks (M, n_i), in no order; releases the store."""
         parts = [self.store[:, :self.n_stored]] if self.store is not None else self.stored
-        parts = parts + ([extra.T] if extra is not None else [])
         self.store = self.stored = None
-        return parts[0] if len(parts) == 1 and extra is None else np.concatenate(parts, axis=1)
+        return parts
 
-    def _sorted_rows(self, extra: np.ndarray | None = None) -> np.ndarray:
-        """All stored values (plus ``extra`` rows) as a sorted (M, N) array; releases the store."""
-        ys = self._take_rows(extra)
-        ys.sort(axis=1)
-        return ys
+    def _take_rows(self) -> np.ndarray:
+        """All stored values as one (M, N) array, in no order; releases the store."""
+        parts = self._take_parts()
+        return parts[0] if len(parts) == 1 else np.concatenate(parts, axis=1)
 
     def order_statistics(self, p: float) -> OrderStatistics:
         """All stored values as :class:`OrderStatistics` for coverage probability p; releases the store."""

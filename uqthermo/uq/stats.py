@@ -19,7 +19,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import StatisticsError
-from .order_statistics import OrderStatistics, intervals_from_sorted, quantile_sorted
+from .order_statistics import (SELECT_MIN, OrderStatistics, hazen_ranks, intervals_from_sorted, pilot_positions,
+                               quantile_sorted)
 
 __all__ = ["Moments", "numerical_tolerance", "intervals_from_sorted", "quantile_sorted", "OrderStatistics",
            "BinLayout", "BinnedCDF"]
@@ -121,6 +122,50 @@ U_SHRINK = 0.8
 MIN_CENTRAL_BINS = 2000
 
 
+def _tail_quantile(part: np.ndarray, offset: int, n: int, p: np.ndarray) -> np.ndarray:
+    """:func:`quantile_sorted` of n sorted values at probabilities p, of which ``part`` holds
+    the ranks offset … offset + len(part) − 1 (the ranks p needs must lie there)."""
+    i0, i1, frac = hazen_ranks(n, p)
+    return part[i0 - offset] + (part[i1 - offset] - part[i0 - offset]) * frac
+
+
+def _std(parts: list[np.ndarray]) -> np.ndarray:
+    """Sample standard deviation (n − 1) per column of the rows of all ``parts`` (n_i, M)."""
+    n = sum(q.shape[0] for q in parts)
+    mean = sum(q.sum(axis=0) for q in parts) / n
+    return np.sqrt(sum(((q - mean) ** 2).sum(axis=0) for q in parts) / max(n - 1, 1))
+
+
+def _sorted_tails(parts: list[np.ndarray], count: int) -> tuple[np.ndarray, np.ndarray] | None:
+    """(lowest, highest) ``count`` values of every column of the rows of ``parts`` (n_i, M),
+    each sorted, as (count, M) arrays; None when that would not save a sort. Thresholds come
+    from a sample at random positions (:func:`~uqthermo.uq.order_statistics.pilot_positions`)
+    at about five times the tail's probability; a column with fewer than ``count`` values
+    beyond them (a chance of about one in 10¹⁵) is sorted in full."""
+    n, m = sum(q.shape[0] for q in parts), parts[0].shape[1]
+    if n < 4 * SELECT_MIN or 20 * count > n:
+        return None
+    pos = pilot_positions(n)
+    k = pos.size
+    j_lo = min(k - 1, int(np.ceil(5.0 * count / n * k)) + 10)
+    low, high = [], []
+    for j in range(m):
+        y = parts[0][:, j] if len(parts) == 1 else np.concatenate([q[:, j] for q in parts])
+        sample = np.partition(y[pos], [j_lo, k - 1 - j_lo])
+        t_lo, t_hi = sample[j_lo], sample[k - 1 - j_lo]
+        lo_part, hi_part = y[y <= t_lo], y[y >= t_hi]
+        if lo_part.size < count or hi_part.size < count:
+            lo_part, hi_part = np.sort(y), None
+        lo_part.sort()
+        low.append(lo_part[:count])
+        if hi_part is None:
+            high.append(lo_part[n - count:])
+        else:
+            hi_part.sort()
+            high.append(hi_part[hi_part.size - count:])
+    return np.stack(low, axis=1), np.stack(high, axis=1)
+
+
 @dataclass(frozen=True)
 class BinLayout:
     """Fixed bin edges per output for :class:`BinnedCDF`, with a fast counting rule.
@@ -147,37 +192,48 @@ class BinLayout:
     first: int
 
     @classmethod
-    def from_pilot(cls, pilot: np.ndarray, bins: int = 100_000, *, is_sorted: bool = False,
-                   ndigits: int | None = None) -> "BinLayout":
-        """Layout from a pilot (N_p, M) with at most ``bins`` bins per output.
+    def from_pilot(cls, pilot, bins: int = 100_000, *, is_sorted: bool = False,
+                   ndigits: int | None = None, spread=None) -> "BinLayout":
+        """Layout from a pilot (N_p, M) — or a list of row blocks (n_i, M) that make it up —
+        with at most ``bins`` bins per output. ``is_sorted``: the pilot is one array sorted
+        along axis 0 (else only its two tails are sorted, see :func:`_sorted_tails`).
 
         With ``ndigits`` the central bins are only as fine as the results need: per output
         their width is at most :data:`WIDTH_SHARE` × δ(:data:`U_SHRINK` × s), δ the numerical
-        tolerance of JCGM 101 §7.9.2 and s the pilot's standard deviation (so a final u a
+        tolerance of JCGM 101 §7.9.2 and s the pilot's standard deviation (``spread``, if the
+        caller has it; so a final u a
         little below the pilot's still gets bins far finer than its own δ), and there are no
         more central bins than the output that needs most of them asks for (at least
         :data:`MIN_CENTRAL_BINS`, at most what ``bins`` allows). Fewer counters are counted
         faster; a quantile's error stays within one bin width.
         """
-        ps = np.asarray(pilot, dtype=float)
-        if not is_sorted:
-            ps = np.sort(ps, axis=0)
-        n, m = ps.shape
+        parts = [np.asarray(q, dtype=float) for q in pilot] if isinstance(pilot, list) else [np.asarray(pilot, dtype=float)]
+        parts = [q for q in parts if q.shape[0]] or parts[:1]
+        n, m = sum(q.shape[0] for q in parts), parts[0].shape[1]
+        ps = parts[0] if len(parts) == 1 else None      # the pilot as one array, made only if needed
         bins = int(max(16, bins))
         a = min(0.05, max(TAIL_PROBABILITY, 20.0 / max(n, 1)))
         n_tail = int(min(1000, bins // 10, max(1, round(a * n))))
         k = bins - 2 * n_tail
-        lo_q = quantile_sorted(ps, np.linspace(0.0, a, n_tail + 1))          # (n_tail+1, M)
-        hi_q = quantile_sorted(ps, np.linspace(1.0 - a, 1.0, n_tail + 1))
-        lo_q[0], hi_q[-1] = ps[0], ps[-1]
+        # only the pilot's two tails are read: its lowest and highest values, sorted
+        tails = (ps, ps) if is_sorted and ps is not None else _sorted_tails(parts, int(np.ceil(a * n)) + 2)
+        if tails is None:
+            ps = np.sort(np.concatenate(parts, axis=0), axis=0)
+            tails = (ps, ps)
+        low_v, high_v = tails
+        lo_q = _tail_quantile(low_v, 0, n, np.linspace(0.0, a, n_tail + 1))          # (n_tail+1, M)
+        hi_q = _tail_quantile(high_v, n - high_v.shape[0], n, np.linspace(1.0 - a, 1.0, n_tail + 1))
+        lo_q[0], hi_q[-1] = low_v[0], high_v[-1]
         c_lo, c_hi = lo_q[-1], hi_q[0]
+        first_v, last_v = low_v[0], high_v[-1]
         if ndigits is not None and n > 1 and k > MIN_CENTRAL_BINS:
-            limit = WIDTH_SHARE * np.atleast_1d(numerical_tolerance(U_SHRINK * ps.std(axis=0, ddof=1), ndigits))
+            s = np.asarray(spread, dtype=float) if spread is not None else _std(parts)
+            limit = WIDTH_SHARE * np.atleast_1d(numerical_tolerance(U_SHRINK * s, ndigits))
             ok = limit > 0
             need = int(np.ceil(np.max((c_hi - c_lo)[ok] / limit[ok]))) if np.any(ok) else 0
             k = int(min(k, max(MIN_CENTRAL_BINS, need)))
-        scale = np.maximum(np.maximum(np.abs(ps[0]), np.abs(ps[-1])), 1e-300)
-        tiny = np.maximum(ps[-1] - ps[0], scale * 1e-9) * 1e-12
+        scale = np.maximum(np.maximum(np.abs(first_v), np.abs(last_v)), 1e-300)
+        tiny = np.maximum(last_v - first_v, scale * 1e-9) * 1e-12
         width = np.maximum(c_hi - c_lo, tiny * k) / k
         central = c_lo[None, :] + width[None, :] * np.arange(k + 1)[:, None]  # (k+1, M)
         # tails strictly increasing, meeting the central block exactly (ties in the pilot,
@@ -323,15 +379,21 @@ class BinnedCDF:
     @counts.setter
     def counts(self, value) -> None:
         self._buf, self._n_pending = None, 0
+        self._knot_cache: dict = {}
         self._counts = np.asarray(value, dtype=np.int64)
 
     def _knots(self, j: int) -> tuple[np.ndarray, np.ndarray]:
-        e = self.edges[j]
-        lo = min(self.min[j], e[0])
-        hi = max(self.max[j], e[-1])
-        x = np.concatenate([[lo], e, [hi]])
-        c = np.concatenate([[0], np.cumsum(self.counts[j])]).astype(float) / max(self.n, 1)
-        return x, c
+        """(x, G(x)) of output j's piecewise-linear distribution function; kept until counts change."""
+        key = (j, self.n, self._n_pending, float(self.min[j]), float(self.max[j]), id(self._counts))
+        if self._knot_cache.get(j, (None,))[0] != key:
+            e = self.edges[j]
+            lo = min(self.min[j], e[0])
+            hi = max(self.max[j], e[-1])
+            x = np.concatenate([[lo], e, [hi]])
+            c = np.concatenate([[0], np.cumsum(self.counts[j])]).astype(float) / max(self.n, 1)
+            key = (j, self.n, self._n_pending, float(self.min[j]), float(self.max[j]), id(self._counts))
+            self._knot_cache[j] = (key, x, c)
+        return self._knot_cache[j][1:]
 
     def quantile(self, p) -> np.ndarray:
         """Quantile(s) per output: shape (M,) for scalar p, else (len(p), M).
