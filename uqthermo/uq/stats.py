@@ -260,12 +260,13 @@ class BinLayout:
         nc = self.n_counts
         t = np.ascontiguousarray(Y.T) - self.lo[:, None]    # (M, n): one output per row
         t *= self.inv_width[:, None]
-        np.clip(t, -1.0, float(self.k), out=t)
         flat = np.empty(m * n, dtype=np.int64) if out is None else out
         idx = flat.reshape(m, n)
-        # truncation = floor for t >= 0; values with t < 0 are outside and re-binned below.
-        # int64: what bincount takes without a conversion
-        np.copyto(idx, t, casting="unsafe")
+        # truncation = floor for t >= 0; values with t < 0 or t >= k are outside and re-binned
+        # below, so what the cast makes of them (far out: any int) does not matter, nor does the
+        # wrap-around of adding the offsets to it. int64: what bincount takes without a conversion
+        with np.errstate(invalid="ignore"):
+            np.copyto(idx, t, casting="unsafe")
         idx += (self.first + 1 + np.arange(m, dtype=np.int64) * nc)[:, None]
         outside = np.flatnonzero((t < 0) | (t >= self.k))    # the rare values outside [c_lo, c_hi)
         if outside.size:
