@@ -15,10 +15,9 @@ from uqthermo.uq import (
     StudentT,
     Triangular,
     TruncatedNormal,
-    distribution_from_mapping,
-    from_relative,
-    parse_relative,
 )
+from uqthermo.uq.distribution_specs import distribution_from_mapping, from_relative
+from uqthermo.uq.distributions import parse_relative
 
 P = np.array([1e-12, 1e-6, 0.001, 0.025, 0.3, 0.5, 0.77, 0.975, 0.999, 1 - 1e-9])
 

@@ -14,10 +14,9 @@ from .distributions import (
     StudentT,
     Triangular,
     TruncatedNormal,
-    distribution_from_mapping,
-    from_relative,
-    parse_relative,
 )
+from .distribution_specs import distribution_from_mapping, from_relative
+from .distributions import parse_relative
 from .correlation import check_correlation
 from .inputs import Datum, InputSet, InputVariable
 from .linear import LinearResult, coverage_factor, propagate_linear, welch_satterthwaite

@@ -209,7 +209,7 @@ class BinLayout:
         """
         parts = [np.asarray(q, dtype=float) for q in pilot] if isinstance(pilot, list) else [np.asarray(pilot, dtype=float)]
         parts = [q for q in parts if q.shape[0]] or parts[:1]
-        n, m = sum(q.shape[0] for q in parts), parts[0].shape[1]
+        n = sum(q.shape[0] for q in parts)
         ps = parts[0] if len(parts) == 1 else None      # the pilot as one array, made only if needed
         bins = int(max(16, bins))
         a = min(0.05, max(TAIL_PROBABILITY, 20.0 / max(n, 1)))
