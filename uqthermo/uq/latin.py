@@ -163,7 +163,7 @@ def stratified_scores(u: np.ndarray, out: np.ndarray) -> bool:
     x -= k
     s = np.full(m, np.nan)
     s[k] = x
-    if np.isnan(s).any():                          # a stratum without a value: not stratified
+    if not np.isfinite(np.add.reduce(s)):          # a stratum without a value (NaN): not stratified
         return False
     for a in range(0, m, _PASS):
         stratum_scores(s[a:a + _PASS], m, a)
