@@ -25,7 +25,7 @@ from ..errors import CorrelationError, StatisticsError
 from .correlation import PSD_TOL, check_correlation, normal_score_from_pearson
 from .distributions import Distribution
 
-__all__ = ["InputVariable", "InputSet", "Datum", "rows_times"]
+__all__ = ["InputVariable", "InputSet", "Datum", "rows_times", "cols_times"]
 
 #: uniforms are clipped to [U_CLIP, 1 - U_CLIP] before Φ⁻¹ (2⁻⁵³: the resolution of doubles near 1)
 U_CLIP = 2.0**-53
@@ -53,6 +53,15 @@ def rows_times(Z: np.ndarray, B: np.ndarray) -> np.ndarray:
     if Z.shape[0] == 1:
         return (np.vstack([Z, Z]) @ B)[:1]
     return Z @ B
+
+
+def cols_times(Z: np.ndarray, B: np.ndarray) -> np.ndarray:
+    """(Z @ B)ᵀ as a C-contiguous (M, n) array, computed as Bᵀ Zᵀ: one contiguous row per column
+    of the product (a column of a column-major result), with :func:`rows_times`' guard for a
+    single row."""
+    if Z.shape[0] == 1:
+        return (B.T @ np.vstack([Z, Z]).T)[:, :1].copy()
+    return B.T @ Z.T
 
 
 @dataclass(frozen=True)

@@ -50,7 +50,7 @@ from scipy import special
 
 from ..errors import StatisticsError
 from .blas import one_blas_thread
-from .inputs import U_CLIP, InputSet, rows_times
+from .inputs import U_CLIP, InputSet, cols_times, rows_times
 from .latin import LatinScoreStream, stratified_scores
 from .sampling import ScoreStream, UniformStream
 
@@ -247,6 +247,8 @@ class TrialDesign:
         self._fixed = [j for j in range(d) if j not in driven]
         self._all_normal = self._normal == list(range(d)) and not self._linked
         self._w_sd = None if self.rotation is None or not self._all_normal else self.rotation.T * self._n_sd
+        # rotated scores of the normal columns with u folded in: x = x̂ + (z Wᵀ)[:, pos] ⊙ u in one product
+        self._w_sd_n = None if self.rotation is None else self.rotation.T[:, self._n_pos] * self._n_sd
         self._companion = int(np.random.SeedSequence([self.seed, 0x6B657074]).generate_state(1, np.uint64)[0] >> 1)
         if fitted is not None:
             self.n_outputs = fitted[1].shape[0]
@@ -359,22 +361,36 @@ class TrialDesign:
         if self._all_normal:    # every column an independent normal, in column order: x = x̂ + u ⊙ (W z)
             if self.rotation is None:
                 X = np.multiply(Z, self._n_sd, order="F")
-            else:
-                X = rows_times(Z, self._w_sd)
-            X += self._n_mu
-            return X
+                X += self._n_mu
+                return X
+            with one_blas_thread():     # tall and skinny: one thread (see uq/blas.py)
+                XT = cols_times(Z, self._w_sd)
+            XT += self._n_mu[:, None]
+            return XT.T
         X = np.empty((n, d), order="F")
+        XT = X.T                        # one contiguous row per input column
         est = np.asarray(self.inputs.estimates, dtype=float)
-        for j in self._fixed:
-            X[:, j] = est[j]
-        S = Z if self.rotation is None else rows_times(Z, self.rotation.T)
+        if self._fixed:
+            XT[self._fixed] = est[self._fixed][:, None]
         dists = self.inputs.variables
-        for j, p, u, x0 in zip(self._normal, self._n_pos, self._n_sd, self._n_mu):
-            col = X[:, j]
-            np.multiply(S[:, p], u, out=col)
-            col += x0
-        for j, p in zip(self._s_other, self._s_other_pos):
-            X[:, j] = dists[j].distribution.from_standard_normal(S[:, p])
+        if self.rotation is None:
+            S = Z
+            for j, p, u, x0 in zip(self._normal, self._n_pos, self._n_sd, self._n_mu):
+                col = X[:, j]
+                np.multiply(S[:, p], u, out=col)
+                col += x0
+        else:
+            with one_blas_thread():     # tall and skinny: one thread (see uq/blas.py)
+                if self._normal:
+                    Xn = cols_times(Z, self._w_sd_n)
+                    Xn += self._n_mu[:, None]
+                    XT[self._normal] = Xn
+                # the other rotated scores: all of them for the copula, else only those they drive
+                S = rows_times(Z, self.rotation.T) if self._linked else None
+                so = (S[:, self._s_other_pos] if S is not None
+                      else rows_times(Z, self.rotation.T[:, self._s_other_pos]) if self._s_other else None)
+            for i, j in enumerate(self._s_other):
+                X[:, j] = dists[j].distribution.from_standard_normal(so[:, i])
         for i, j in enumerate(self._o_cols):
             X[:, j] = dists[j].distribution.ppf(np.clip(V[:, i], U_CLIP, 1.0 - U_CLIP))
         if self._linked:
