@@ -529,7 +529,7 @@ def test_pilot_of_sobol_ordered_values_finds_the_tails():
     u = qmc.Sobol(2, scramble=True, rng=np.random.default_rng(5)).random(n)
     y = special.ndtri(u[:, 0]) + 0.1 * special.ndtri(u[:, 1])
     a = n - stats.q_count(0.95, n)
-    got = stats._select_row(y, a, a, [n // 2 - 1, n // 2])
+    got = stats.select_row(y, a, a, [n // 2 - 1, n // 2])
     assert got is not None
     ys = np.sort(y)
     assert got[0].size >= a and got[1].size >= a       # every value beyond the thresholds

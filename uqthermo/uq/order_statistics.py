@@ -13,7 +13,7 @@ import math
 import numpy as np
 
 __all__ = ["q_count", "intervals_from_sorted", "intervals_from_tails", "quantile_sorted", "hazen_ranks",
-           "OrderStatistics", "pilot_positions", "SELECT_MIN", "SELECT_PILOT", "SELECT_MARGIN", "MEDIAN_MARGIN",
+           "OrderStatistics", "pilot_positions", "select_row", "SELECT_MIN", "SELECT_PILOT", "SELECT_MARGIN", "MEDIAN_MARGIN",
            "SELECT_BLOCK"]
 
 
@@ -68,15 +68,17 @@ def intervals_from_tails(low: np.ndarray, high: np.ndarray, n: int, q: int) -> t
     return sym, short
 
 
-def quantile_sorted(ys: np.ndarray, p) -> np.ndarray:
+def quantile_sorted(ys: np.ndarray, p, *, n: int | None = None, first: int = 0) -> np.ndarray:
     """p-quantile(s) of sorted values ys (N, M) from the JCGM 101 §7.5.2 distribution function.
 
     G(y_(r)) = (r − ½)/N with linear interpolation in between; outside [½/N, 1 − ½/N]
     the extreme values are returned (numpy's ``method="hazen"``). The values are already
     sorted, so the quantile is read off directly (no partition). Returns shape (M,) for
-    scalar p, else (len(p), M).
+    scalar p, else (len(p), M). With ``n``, ys holds only the 0-based ranks first …
+    first + len(ys) − 1 of n sorted values (e.g. one tail), which must include the ranks p needs.
     """
-    i0, i1, frac = hazen_ranks(ys.shape[0], p)
+    i0, i1, frac = hazen_ranks(ys.shape[0] if n is None else n, p)
+    i0, i1 = i0 - first, i1 - first
     out = ys[i0] + (ys[i1] - ys[i0]) * frac
     return out[0] if np.ndim(p) == 0 else out
 
@@ -141,7 +143,7 @@ class OrderStatistics:
             lows, highs = [], []
             mid = np.empty((len(med), self.m))
             for j in range(self.m):
-                got = _select_row(rows[j], self.a, self.n - self.q, med)
+                got = select_row(rows[j], self.a, self.n - self.q, med)
                 if got is None:
                     y = rows[j].copy()
                     y.partition(sorted({self.a - 1, *med, self.q}))
@@ -305,17 +307,21 @@ def _select_bands(y: np.ndarray, ranks: list[int]) -> np.ndarray | None:
     return out
 
 
-def _select_row(y: np.ndarray, n_low: int, n_high: int, med: list[int]):
+def select_row(y: np.ndarray, n_low: int, n_high: int, med: list[int]):
     """(lowest values sorted, highest values sorted, values at the ranks ``med``) of one row by
     pilot thresholds (see :class:`OrderStatistics`), or None when the pilot missed. The tails
-    hold at least ``n_low`` and ``n_high`` values: all those at or beyond the thresholds."""
+    hold at least ``n_low`` and ``n_high`` values: all those at or beyond the thresholds.
+    With ``med`` empty only the tails are found."""
     n = y.size
     at = _pilot_quantile(y)
 
     t_lo, t_hi = at(n_low / n + SELECT_MARGIN), at(1.0 - n_high / n - SELECT_MARGIN)
-    m_lo, m_hi = at(min(med) / n - MEDIAN_MARGIN), at(max(med) / n + MEDIAN_MARGIN)
-    if not (t_lo < m_lo and m_hi < t_hi):
-        return None
+    if med:
+        m_lo, m_hi = at(min(med) / n - MEDIAN_MARGIN), at(max(med) / n + MEDIAN_MARGIN)
+        if not (t_lo < m_lo and m_hi < t_hi):
+            return None
+    else:                                   # an empty band: nothing is marked in it
+        m_lo, m_hi = np.inf, -np.inf
     # one marking pass in cache-sized blocks: values ≤ t_lo, ≥ t_hi or in [m_lo, m_hi]
     size = min(n, SELECT_BLOCK)
     mark, tmp = np.empty(size, dtype=bool), np.empty(size, dtype=bool)
@@ -340,6 +346,6 @@ def _select_row(y: np.ndarray, n_low: int, n_high: int, med: list[int]):
     if i_lo < n_low or c.size - i_hi < n_high:
         return None
     r = [i - below for i in med]
-    if min(r) < 0 or max(r) >= b_hi - b_lo:
+    if r and (min(r) < 0 or max(r) >= b_hi - b_lo):
         return None
     return c[:i_lo], c[i_hi:], c[b_lo:b_hi][r]

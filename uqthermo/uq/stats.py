@@ -19,8 +19,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import StatisticsError
-from .order_statistics import (SELECT_MIN, OrderStatistics, hazen_ranks, intervals_from_sorted, pilot_positions,
-                               quantile_sorted)
+from .order_statistics import SELECT_MIN, OrderStatistics, intervals_from_sorted, quantile_sorted, select_row
 
 __all__ = ["Moments", "numerical_tolerance", "intervals_from_sorted", "quantile_sorted", "OrderStatistics",
            "BinLayout", "BinnedCDF"]
@@ -122,47 +121,21 @@ U_SHRINK = 0.8
 MIN_CENTRAL_BINS = 2000
 
 
-def _tail_quantile(part: np.ndarray, offset: int, n: int, p: np.ndarray) -> np.ndarray:
-    """:func:`quantile_sorted` of n sorted values at probabilities p, of which ``part`` holds
-    the ranks offset … offset + len(part) − 1 (the ranks p needs must lie there)."""
-    i0, i1, frac = hazen_ranks(n, p)
-    return part[i0 - offset] + (part[i1 - offset] - part[i0 - offset]) * frac
-
-
-def _std(parts: list[np.ndarray]) -> np.ndarray:
-    """Sample standard deviation (n − 1) per column of the rows of all ``parts`` (n_i, M)."""
-    n = sum(q.shape[0] for q in parts)
-    mean = sum(q.sum(axis=0) for q in parts) / n
-    return np.sqrt(sum(((q - mean) ** 2).sum(axis=0) for q in parts) / max(n - 1, 1))
-
-
 def _sorted_tails(parts: list[np.ndarray], count: int) -> tuple[np.ndarray, np.ndarray] | None:
     """(lowest, highest) ``count`` values of every column of the rows of ``parts`` (n_i, M),
-    each sorted, as (count, M) arrays; None when that would not save a sort. Thresholds come
-    from a sample at random positions (:func:`~uqthermo.uq.order_statistics.pilot_positions`)
-    at about five times the tail's probability; a column with fewer than ``count`` values
-    beyond them (a chance of about one in 10¹⁵) is sorted in full."""
+    each sorted, as (count, M) arrays, by the pilot thresholds of
+    :func:`~uqthermo.uq.order_statistics.select_row` (a column the pilot missed is sorted in
+    full); None for fewer than :data:`~uqthermo.uq.order_statistics.SELECT_MIN` rows."""
     n, m = sum(q.shape[0] for q in parts), parts[0].shape[1]
-    if n < 4 * SELECT_MIN or 20 * count > n:
+    if n < SELECT_MIN:
         return None
-    pos = pilot_positions(n)
-    k = pos.size
-    j_lo = min(k - 1, int(np.ceil(5.0 * count / n * k)) + 10)
     low, high = [], []
     for j in range(m):
         y = parts[0][:, j] if len(parts) == 1 else np.concatenate([q[:, j] for q in parts])
-        sample = np.partition(y[pos], [j_lo, k - 1 - j_lo])
-        t_lo, t_hi = sample[j_lo], sample[k - 1 - j_lo]
-        lo_part, hi_part = y[y <= t_lo], y[y >= t_hi]
-        if lo_part.size < count or hi_part.size < count:
-            lo_part, hi_part = np.sort(y), None
-        lo_part.sort()
+        got = select_row(y, count, count, [])
+        lo_part, hi_part = got[:2] if got is not None else (np.sort(y),) * 2
         low.append(lo_part[:count])
-        if hi_part is None:
-            high.append(lo_part[n - count:])
-        else:
-            hi_part.sort()
-            high.append(hi_part[hi_part.size - count:])
+        high.append(hi_part[hi_part.size - count:])
     return np.stack(low, axis=1), np.stack(high, axis=1)
 
 
@@ -221,13 +194,18 @@ class BinLayout:
             ps = np.sort(np.concatenate(parts, axis=0), axis=0)
             tails = (ps, ps)
         low_v, high_v = tails
-        lo_q = _tail_quantile(low_v, 0, n, np.linspace(0.0, a, n_tail + 1))          # (n_tail+1, M)
-        hi_q = _tail_quantile(high_v, n - high_v.shape[0], n, np.linspace(1.0 - a, 1.0, n_tail + 1))
+        lo_q = quantile_sorted(low_v, np.linspace(0.0, a, n_tail + 1), n=n)          # (n_tail+1, M)
+        hi_q = quantile_sorted(high_v, np.linspace(1.0 - a, 1.0, n_tail + 1), n=n, first=n - high_v.shape[0])
         lo_q[0], hi_q[-1] = low_v[0], high_v[-1]
         c_lo, c_hi = lo_q[-1], hi_q[0]
         first_v, last_v = low_v[0], high_v[-1]
         if ndigits is not None and n > 1 and k > MIN_CENTRAL_BINS:
-            s = np.asarray(spread, dtype=float) if spread is not None else _std(parts)
+            if spread is None:
+                mom = Moments(parts[0].shape[1])
+                for q in parts:
+                    mom.add(q)
+                spread = mom.std
+            s = np.asarray(spread, dtype=float)
             limit = WIDTH_SHARE * np.atleast_1d(numerical_tolerance(U_SHRINK * s, ndigits))
             ok = limit > 0
             need = int(np.ceil(np.max((c_hi - c_lo)[ok] / limit[ok]))) if np.any(ok) else 0
@@ -325,6 +303,7 @@ class BinnedCDF:
         self.min = np.minimum(self.min, ys[0])
         self.max = np.maximum(self.max, ys[-1])
         self.n += n
+        self._knot_cache.clear()
 
     @classmethod
     def from_counts(cls, layout: BinLayout, counts: np.ndarray, n: int, minimum, maximum) -> "BinnedCDF":
@@ -364,6 +343,7 @@ class BinnedCDF:
             extremes = (np.minimum(self.min, YT.min(axis=1)), np.maximum(self.max, YT.max(axis=1)))
         self.min, self.max = extremes
         self.n += Y.shape[0]
+        self._knot_cache.clear()
 
     def _flush(self) -> None:
         if self._n_pending:
@@ -384,17 +364,15 @@ class BinnedCDF:
         self._counts = np.asarray(value, dtype=np.int64)
 
     def _knots(self, j: int) -> tuple[np.ndarray, np.ndarray]:
-        """(x, G(x)) of output j's piecewise-linear distribution function; kept until counts change."""
-        key = (j, self.n, self._n_pending, float(self.min[j]), float(self.max[j]), id(self._counts))
-        if self._knot_cache.get(j, (None,))[0] != key:
+        """(x, G(x)) of output j's piecewise-linear distribution function, kept until values are added."""
+        if j not in self._knot_cache:
             e = self.edges[j]
             lo = min(self.min[j], e[0])
             hi = max(self.max[j], e[-1])
             x = np.concatenate([[lo], e, [hi]])
             c = np.concatenate([[0], np.cumsum(self.counts[j])]).astype(float) / max(self.n, 1)
-            key = (j, self.n, self._n_pending, float(self.min[j]), float(self.max[j]), id(self._counts))
-            self._knot_cache[j] = (key, x, c)
-        return self._knot_cache[j][1:]
+            self._knot_cache[j] = (x, c)
+        return self._knot_cache[j]
 
     def quantile(self, p) -> np.ndarray:
         """Quantile(s) per output: shape (M,) for scalar p, else (len(p), M).

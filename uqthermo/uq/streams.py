@@ -31,7 +31,7 @@ def check_seed(seed) -> int:
 # numpy.random.SeedSequence's hash constants (O'Neill's seed_seq_fe, as numpy implements it)
 _INIT_A, _MULT_A, _INIT_B, _MULT_B = 0x43B0D7E5, 0x931E8875, 0x8B51F9DD, 0x58F38DED
 _MIX_L, _MIX_R = 0xCA01F9DD, 0x4973F715
-_M32, _M64 = 0xFFFFFFFF, 0xFFFFFFFFFFFFFFFF
+_M32 = 0xFFFFFFFF
 _POOL = 4
 
 
@@ -54,8 +54,8 @@ def sfc64_seed_states(seed: int, keys) -> np.ndarray:
     pool size of 4, then the spawn key's words, each hashed in and mixed into every pool word),
     three 64-bit words drawn from the pool (``generate_state(3, uint64)``), the SFC64 state
     (a, b, c, counter 1) and the twelve stirring steps of numpy's ``sfc64_set_seed``. Creating a
-    SeedSequence costs about 30 µs per generator; one pass for 64 blocks of 7 columns about
-    1 µs per generator.
+    SeedSequence and its generator cost about 30 µs; one pass for 64 blocks of 7 columns about
+    2 µs per generator.
     """
     keys = np.asarray(keys, dtype=np.uint64)
     if keys.ndim != 2 or (keys.size and int(keys.max()) > _M32):
@@ -125,8 +125,8 @@ def seeded_generators(states: np.ndarray, reuse: list[np.random.Generator] | Non
 class BlockSeeds:
     """The SFC64 states of the columns ``labels`` of blocks b, b + 1, … of a stream seeded with
     ``seed``: those of ``SFC64(SeedSequence(seed, spawn_key=(b, c)))``, computed
-    :data:`BATCH` blocks at a time by :func:`sfc64_seed_states` (one vectorised pass costs
-    about as much as two SeedSequences)."""
+    :data:`BATCH` blocks at a time by :func:`sfc64_seed_states` (one vectorised pass for 64 blocks
+    of 7 columns costs about 1 ms, as much as 50 SeedSequences; it replaces 448 of them)."""
 
     BATCH = 64
 

@@ -246,7 +246,6 @@ class TrialDesign:
         driven = set(self._score_vars) | set(self._o_cols)
         self._fixed = [j for j in range(d) if j not in driven]
         self._all_normal = self._normal == list(range(d)) and not self._linked
-        self._w_sd = None if self.rotation is None or not self._all_normal else self.rotation.T * self._n_sd
         # rotated scores of the normal columns with u folded in: x = x̂ + (z Wᵀ)[:, pos] ⊙ u in one product
         self._w_sd_n = None if self.rotation is None else self.rotation.T[:, self._n_pos] * self._n_sd
         self._companion = int(np.random.SeedSequence([self.seed, 0x6B657074]).generate_state(1, np.uint64)[0] >> 1)
@@ -364,7 +363,7 @@ class TrialDesign:
                 X += self._n_mu
                 return X
             with one_blas_thread():     # tall and skinny: one thread (see uq/blas.py)
-                XT = cols_times(Z, self._w_sd)
+                XT = cols_times(Z, self._w_sd_n)     # every column normal, in order
             XT += self._n_mu[:, None]
             return XT.T
         X = np.empty((n, d), order="F")
