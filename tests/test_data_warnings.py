@@ -14,6 +14,7 @@ import pytest
 from uqthermo.case.library.identify import identify
 from uqthermo.case.library.selection import select_value
 from uqthermo.case.loader import load_case
+from conftest import write_case
 
 chem = pytest.importorskip("chemicals")
 chem_reaction = pytest.importorskip("chemicals.reaction")
@@ -23,9 +24,7 @@ ROOT = Path(__file__).resolve().parents[1]
 
 
 def _load(tmp_path, text, name="case.toml"):
-    p = tmp_path / name
-    p.write_text(text, encoding="utf-8")
-    return load_case(str(p))
+    return load_case(str(write_case(tmp_path, text, name)))
 
 
 def _wide(case):

@@ -17,16 +17,11 @@ import pytest
 from uqthermo.case.library.identify import identify
 from uqthermo.case.library.selection import select_curve, select_value
 from uqthermo.cli import main
+from conftest import write_case
 
 chem_reaction = pytest.importorskip("chemicals.reaction")
 chem_hc = pytest.importorskip("chemicals.heat_capacity")
 chem_pc = pytest.importorskip("chemicals.phase_change")
-
-
-def _write(tmp_path, text, name="case.toml"):
-    p = tmp_path / name
-    p.write_text(text, encoding="utf-8")
-    return p
 
 
 # ------------------------------------------------------------------ a dozen species written out
@@ -161,7 +156,7 @@ def test_heating_liquid_to_vapour_through_boiling_against_coolprop(tmp_path, flu
     CP = pytest.importorskip("CoolProp.CoolProp")
     T1 = 300.0
     ref = (CP.PropsSI("Hmolar", "T", T2, "P", 101325.0, fluid) - CP.PropsSI("Hmolar", "T", T1, "P", 101325.0, fluid)) / 1e3
-    p = _write(tmp_path, f'''title = "heat {name} through boiling"
+    p = write_case(tmp_path, f'''title = "heat {name} through boiling"
 [species.X]
 name = "{name}"
 [species.X.l]
@@ -214,7 +209,7 @@ name = "{k}"
 kind = "reaction_enthalpy"
 reaction = "{k}"
 temperatures = {{ from = "300 K", to = "1000 K", step = "100 K" }}''' for k in GAS_REACTIONS)
-    p = _write(tmp_path, f'title = "gas reactions from the library"\n[settings]\nmethod = "linear"\n{sp}\n{rx}\n{outs}\n')
+    p = write_case(tmp_path, f'title = "gas reactions from the library"\n[settings]\nmethod = "linear"\n{sp}\n{rx}\n{outs}\n')
     out = tmp_path / "out"
     assert main(["run", str(p), "--out", str(out), "--method", "linear", "--quiet", "--no-report"]) == 0
     res = json.loads((out / "results.json").read_text())
@@ -231,7 +226,7 @@ temperatures = {{ from = "300 K", to = "1000 K", step = "100 K" }}''' for k in G
 def test_formula_filled_in_from_cas_or_name(tmp_path):
     from uqthermo.case.loader import load_case
 
-    p = _write(tmp_path, '''title = "names"
+    p = write_case(tmp_path, '''title = "names"
 [species.toluene]
 cas = "108-88-3"
 [species.toluene.l]
@@ -285,7 +280,7 @@ BAD = {
 @pytest.mark.parametrize("which", sorted(BAD))
 def test_bad_library_input_is_a_keyed_exit_2_error(tmp_path, capsys, which):
     body, key, text = BAD[which]
-    p = _write(tmp_path, f'title = "bad"\n{body}[[output]]\nname = "h"\nkind = "heating_enthalpy"\n'
+    p = write_case(tmp_path, f'title = "bad"\n{body}[[output]]\nname = "h"\nkind = "heating_enthalpy"\n'
                          f'species = "X(l)"\nfrom = "300 K"\nto = "301 K"\n')
     rc = main(["check", str(p)])
     err = capsys.readouterr().err
@@ -359,7 +354,7 @@ def test_joback_estimate_from_smiles_flagged_in_results(tmp_path):
     joback = pytest.importorskip("thermo.group_contribution.joback")
     smiles = "CC(O)CC(=O)OC"   # an intermediate of our own choosing, here with no measured data
     J = joback.Joback(smiles)
-    p = _write(tmp_path, f'''title = "estimate"
+    p = write_case(tmp_path, f'''title = "estimate"
 [species.M]
 smiles = "{smiles}"
 [species.M.g]
@@ -413,7 +408,7 @@ def test_assumed_uncertainty_warnings_per_used_datum_with_reason_and_curve_kind(
     from uqthermo.case.loader import load_case
     from uqthermo.case.starter import starter_case
 
-    case_path = _write(tmp_path, starter_case("C6H5CH3(l) + 3 H2(g) -> C6H11CH3(l)", (423.15,), "150 degC"))
+    case_path = write_case(tmp_path, starter_case("C6H5CH3(l) + 3 H2(g) -> C6H11CH3(l)", (423.15,), "150 degC"))
     case = load_case(str(case_path))
     lines = [w for w in case.warnings if "assumed uncertainty" in w]
     assert lines and all(": assumed uncertainty, " in w for w in lines)
@@ -428,7 +423,7 @@ def test_assumed_uncertainty_warnings_per_used_datum_with_reason_and_curve_kind(
     assert "no source states an uncertainty; 1 % assumed" in h2 and "Shomate" in h2
     # with a Gibbs-energy output the entropies are used, so their assumed u is reported
     text = case_path.read_text().replace('kind = "reaction_enthalpy"', 'kind = "reaction_gibbs_energy"')
-    g = load_case(str(_write(tmp_path, text, "g.toml")))
+    g = load_case(str(write_case(tmp_path, text, "g.toml")))
     assert any(w.startswith("C6H5CH3.l.standard_entropy: assumed uncertainty, u = 0.2 J/(mol*K)") for w in g.warnings)
 
 
@@ -471,7 +466,7 @@ def test_single_point_outlier_does_not_set_the_spread_of_an_evaluated_curve(tmp_
             '[[output]]\nname = "h"\nkind = "heating_enthalpy"\nspecies = "AA(l)"\nfrom = "25 degC"\nto = "340 K"\n')
     from uqthermo.case.loader import load_case
 
-    case = load_case(str(_write(tmp_path, text)))
+    case = load_case(str(write_case(tmp_path, text)))
     line = next(w for w in case.warnings if "outlier" in w)
     assert line.startswith("AA.l.heat_capacity: Poling 5th ed. (2001) gives 124.1 J/(mol*K) at 298.15 K, -34 % from "
                            "Perry-DIPPR 8th ed. (2008)")
@@ -541,7 +536,7 @@ def test_extrapolation_warning_names_the_library_curve_form_and_datum(tmp_path, 
     text = (f'title = "liquid warmed past its Cp range (test)"\n[species.X]\ncas = "{cas}"\n[species.X.l]\n'
             'formation_enthalpy = { library = "auto" }\nheat_capacity = { library = "auto", extrapolate = true }\n'
             f'[[output]]\nname = "h"\nkind = "heating_enthalpy"\nspecies = "X(l)"\nfrom = "298.15 K"\nto = "{T:g} K"\n')
-    case = load_case(str(_write(tmp_path, text)))
+    case = load_case(str(write_case(tmp_path, text)))
     _, warnings = prepare_model(case)
     (line,) = [w for w in warnings if "validity range" in w]
     assert line.startswith("output.h: extrapolated beyond a correlation's validity range")
@@ -615,7 +610,7 @@ def test_scalar_outlier_in_the_shipped_tables_is_left_out_and_warned(tmp_path, c
                       f'heat_capacity = {{ library = "auto" }}\n' for s in ("AcOH", "O2", "CO2", "H2O"))
             + '[reaction.burn]\nequation = "AcOH(g) + 2 O2(g) -> 2 CO2(g) + 2 H2O(g)"\n'
               '[[output]]\nname = "g"\nkind = "reaction_gibbs_energy"\nreaction = "burn"\ntemperature = "298.15 K"\n')
-    case = load_case(str(_write(tmp_path, text)))
+    case = load_case(str(write_case(tmp_path, text)))
     _, warnings = prepare_model(case)
     line = next(w for w in case.warnings + warnings if "outlier" in w)
     assert line.startswith("AcOH.g.standard_entropy: Yaws 2nd ed. (2014) gives 312.3 J/(mol*K) at 298.15 K, "
@@ -668,7 +663,7 @@ def test_extrapolation_warning_names_every_curve_the_output_extrapolates(tmp_pat
                       'heat_capacity = { library = "auto" }\n' for s, c in cas.items())
             + '[reaction.r]\nequation = "EtOH(l) + AcOH(l) -> EtOAc(l) + H2O(l)"\n'
               '[[output]]\nname = "h"\nkind = "reaction_enthalpy"\nreaction = "r"\ntemperature = "413.15 K"\n')
-    case = load_case(str(_write(tmp_path, text)))
+    case = load_case(str(write_case(tmp_path, text)))
     _, warnings = prepare_model(case)
     (line,) = [w for w in warnings if w.startswith("output.h: extrapolated")]
     assert line.startswith("output.h: extrapolated beyond the validity ranges of 3 correlations")

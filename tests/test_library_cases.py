@@ -13,17 +13,12 @@ import pytest
 from uqthermo.case.loader import load_case
 from uqthermo.cli import main
 from uqthermo.errors import InputError
+from conftest import write_case
 
 chem_reaction = pytest.importorskip("chemicals.reaction")
 chem_hc = pytest.importorskip("chemicals.heat_capacity")
 
 CAS = {"CH4": "74-82-8", "CO2": "124-38-9", "H2": "1333-74-0", "H2O": "7732-18-5"}
-
-
-def _write(tmp_path, text, name="case.toml"):
-    p = tmp_path / name
-    p.write_text(text, encoding="utf-8")
-    return p
 
 
 def _atct_u(cas, phase="g"):
@@ -50,7 +45,7 @@ def _case_problems(path, **kw):
 
 
 def test_ch4_by_cas_equals_chemicals_atct(tmp_path):
-    p = _write(tmp_path, """title = "CH4 from the library"
+    p = write_case(tmp_path, """title = "CH4 from the library"
 [species.CH4]
 cas = "74-82-8"
 [species.CH4.g]
@@ -78,7 +73,7 @@ heat_capacity = { library = "shomate", relative_u = "1 %" }
 
 
 def test_water_liquid_atct_and_janaf_entropy(tmp_path):
-    p = _write(tmp_path, """title = "liquid water from the library"
+    p = write_case(tmp_path, """title = "liquid water from the library"
 [species.H2O]
 cas = "7732-18-5"
 [species.H2O.l]
@@ -98,7 +93,7 @@ heat_capacity = { library = "shomate", relative_u = "1 %" }
 
 
 def test_user_uncertainty_replaces_the_datasets(tmp_path):
-    p = _write(tmp_path, """title = "override"
+    p = write_case(tmp_path, """title = "override"
 [species.CH4]
 cas = "74-82-8"
 [species.CH4.g]
@@ -145,7 +140,7 @@ temperatures = { from = "298.15 K", to = "698.15 K", step = "400 K" }
 
 
 def test_methanation_reaction_enthalpy_equals_sum_of_chemicals_atct(tmp_path, capsys):
-    p = _write(tmp_path, METHANATION)
+    p = write_case(tmp_path, METHANATION)
     # Reference: ΔrH°(298.15 K) = Σ ν ΔfH° from chemicals.reaction.Hfg (ATcT 1.112 gas table);
     # u from the same table (± / 2), independent data → root sum of squares.
     hf = {s: chem_reaction.Hfg(c, method="ATCT_G") for s, c in CAS.items()}
@@ -193,7 +188,7 @@ def test_methanation_reaction_enthalpy_equals_sum_of_chemicals_atct(tmp_path, ca
 
 
 def test_ambiguous_formula_exits_2_naming_candidates(tmp_path, capsys):
-    p = _write(tmp_path, """title = "ambiguous"
+    p = write_case(tmp_path, """title = "ambiguous"
 [species.CO2]
 [species.CO2.g]
 formation_enthalpy = { library = "ATcT" }
@@ -210,7 +205,7 @@ formation_enthalpy = { library = "ATcT" }
 
 
 def test_library_problems_listed_with_key_paths(tmp_path, capsys):
-    p = _write(tmp_path, """title = "problems"
+    p = write_case(tmp_path, """title = "problems"
 [species.CH4]
 cas = "74-82-8"
 [species.CH4.g]
@@ -251,7 +246,7 @@ formation_enthalpy = { library = "ATcT", u = "1 kJ/mol" }
 
 
 def test_library_disabled(tmp_path):
-    p = _write(tmp_path, """title = "off"
+    p = write_case(tmp_path, """title = "off"
 [species.CH4]
 cas = "74-82-8"
 [species.CH4.g]
@@ -264,7 +259,7 @@ heat_capacity = { library = "shomate", relative_u = "1 %" }
 
 
 def test_reference_element_is_exact(tmp_path):
-    p = _write(tmp_path, """title = "H2"
+    p = write_case(tmp_path, """title = "H2"
 [species.H2]
 cas = "1333-74-0"
 [species.H2.g]

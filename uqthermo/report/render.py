@@ -389,7 +389,7 @@ def build_context(results: Mapping, figures: bool = True, rendered: Sequence | N
             used_figures[name] = f
         return f
 
-    ctx["concise"] = concise_context(results, table_entry, concise_figure)
+    ctx["concise"] = concise_context(results, concise_figure)
     ctx["summary"] = table_entry(summary_table(results))
     inp = inputs_table(results)
     ctx["inputs"] = table_entry(inp) if inp else None

@@ -77,9 +77,9 @@ def budget_table(output: Mapping, oi: int, k: int, key: str, slug: str, label: s
         d = uncertainty_decimals(u)
         est = (Num(fmt_fixed(r.get("estimate"), d), N.path(rp, "estimate")) if d is not None
                else Num(fmt_value(r.get("estimate")), N.path(rp, "estimate")))
+        written = amount_as_written(r)
         t.rows.append([
-            (text(r.get("quantity")) or text(r.get("datum")))
-            + (f" ({text(amount_as_written(r))})" if amount_as_written(r) else ""), est,
+            (text(r.get("quantity")) or text(r.get("datum"))) + (f" ({text(written)})" if written else ""), est,
             Num(fmt_u(u), N.path(rp, "standard_uncertainty")) if d is not None else Num("0 (exact)" if u == 0 else "—"),
             text(r.get("unit")) or "1",
             _sig(r.get("sensitivity_coefficient"), N.path(rp, "sensitivity_coefficient")),

@@ -21,6 +21,7 @@ from collections.abc import Callable, Mapping
 from typing import Any
 
 from ..fields import coverage_probability, headline_index, kind_label, num, outputs, points, slugs, text
+from ..numbering import table_entry
 from ..rounding import fmt_fixed, pct_label, uncertainty_decimals
 from ..tables.design import limit_text
 from ..tables.display import DisplayTable
@@ -226,16 +227,16 @@ def method_parts(results: Mapping) -> Parts:
     return Parts(parts)
 
 
-def concise_context(results: Mapping, table: Callable[[DisplayTable], dict], figure: Callable[[str], dict | None]) -> dict:
-    """The concise section's context. ``table`` wraps a DisplayTable as a table entry, ``figure(name)`` gives a figure entry
+def concise_context(results: Mapping, figure: Callable[[str], dict | None]) -> dict:
+    """The concise section's context. Tables become table entries, ``figure(name)`` gives a figure entry
     (or None); both are numbered later, in document order (:func:`uqthermo.report.numbering.number`)."""
     tunit = temperature_unit(results)
     ctx: dict[str, Any] = {"tunit": symbol(tunit), "document_rows": document_rows(results)}
     ctx["statements"] = statements(results, tunit)
     dt = design_table(results, "design", tunit)
-    ctx["design"] = table(dt) if dt else None
+    ctx["design"] = table_entry(dt) if dt else None
     kt = kh.concise_table(results, "kirchhoff", tunit)
-    ctx["kirchhoff"] = table(kt) if kt else None
+    ctx["kirchhoff"] = table_entry(kt) if kt else None
     per = []
     for oi, (o, slug) in enumerate(zip(outputs(results), slugs(results))):
         pts = points(o)
@@ -251,7 +252,7 @@ def concise_context(results: Mapping, table: Callable[[DisplayTable], dict], fig
         fig = figure(f"curve-{slug}") if len(pts) > 1 else None
         fig = fig or figure(f"distribution-{slug}")
         per.append({"name": text(o.get("name")), "kind": kind_label(o.get("kind")), "anchor": f"concise-{oi + 1}",
-                    "table": table(tb) if tb else None, "figure": fig})
+                    "table": table_entry(tb) if tb else None, "figure": fig})
     ctx["per_output"] = per
     ctx["method"] = method_parts(results)
     ctx["p_label"] = pct_label(coverage_probability(results))

@@ -6,7 +6,7 @@ from collections.abc import Mapping
 
 from ..fields import num, text
 from ..rounding import fmt_fixed, fmt_sig, fmt_u, fmt_value, uncertainty_decimals
-from ..units import amount_as_written
+from ..units import amount_as_written, as_written
 from .display import DisplayTable
 from .library_notes import provenance_notes
 
@@ -71,8 +71,8 @@ def _as_written(results: Mapping) -> dict[str, str]:
             continue
         for key in ("limit", "mtt", "td24"):
             blk = o.get(key)
-            if isinstance(blk, Mapping) and isinstance(blk.get("as_written"), str) and blk.get("datum"):
-                w = " ".join(blk["as_written"].replace("degC", "°C").replace("degF", "°F").split())
+            if isinstance(blk, Mapping) and blk.get("datum"):
+                w = as_written(blk.get("as_written"))
                 if w and not w.endswith(" K"):
                     out[text(blk["datum"])] = w
     return out
