@@ -201,7 +201,7 @@ def adiabatic_point(case: Case, model, o: OutputSpec, i: int, pt: dict, mc, lin,
         elif y0 is not None:
             bl["tempering_point_reached_at_estimates"] = bool(y0[tc] > 0.5)
         ev = []
-        from ..case.readers.design import molar_mass
+        from ..case.readers.amounts import molar_mass
 
         for a in model.aux:
             if a.output == i and a.name.startswith("evaporated:"):

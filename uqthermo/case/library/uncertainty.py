@@ -60,7 +60,7 @@ The basis is recorded with each datum (``exact``, ``stated``, ``published``, ``s
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -194,13 +194,9 @@ def scalar_uncertainty(chosen: ScalarCandidate, others: list[ScalarCandidate], *
             result = Uncertainty(u0, False, basis0, why0 + f"; larger than half the spread of {len(vals)} sources "
                                                            f"({_fmt(half, q)})")
     if outliers:
-        from dataclasses import replace
-
         result = replace(result, reason=f"{result.reason}; {scalar_outlier_text(outliers, chosen)}",
                          outliers=tuple(outliers))
     elif result.basis == "spread" and len(vals) >= 3:
-        from dataclasses import replace
-
         groups = copy_groups(vals, q)
         if len(groups) < 3:
             srcs = [chosen] + measured
@@ -449,8 +445,6 @@ def curve_uncertainty(chosen: CurveCandidate, others: list[CurveCandidate], wind
         spread = float(np.nanmax(hs)) if np.any(np.isfinite(hs)) else 0.0
     result = _curve_u(chosen, n_used, spread, lo, hi, own_relative_u)
     if outliers:
-        from dataclasses import replace
-
         result = replace(result, reason=f"{result.reason}; {outlier_text(outliers, chosen.source.label)}",
                          outliers=tuple(outliers))
     return result, spread

@@ -49,7 +49,7 @@ import numpy as np
 from ...thermo import reaction as rx
 from ...thermo.cp import R as GAS_CONSTANT
 from ...uq.blas import one_blas_thread
-from ..readers.design import molar_mass as design_molar_mass
+from ..readers.amounts import molar_mass
 from ..schema import Case, OutputSpec
 from . import balances
 from .layout import Aux, Column, Model, build_inputs, output_temperature, output_unit, reaction_values, values_decoder
@@ -157,7 +157,7 @@ def build_model(case: Case, *, batch: bool = True, block_rows: int = BLOCK_ROWS)
     aux_col = {(a.output, a.name, a.point): a.column for a in aux}
     # indicators computed from the finished columns (limits, MTSR against MTT/TD24, classes)
     post = _post_columns(case, datum_cols, col_start, aux_col)
-    molar_masses = {sp: design_molar_mass(None, species[sp], "") for o in case.outputs for sp, _ in o.mixture} \
+    molar_masses = {sp: molar_mass(None, species[sp], "") for o in case.outputs for sp, _ in o.mixture} \
         if any(o.mixture and o.basis == "mass" for o in case.outputs) else {}
 
     def value(ov: dict, did: str, n: int) -> np.ndarray:

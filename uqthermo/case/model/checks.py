@@ -4,6 +4,8 @@ warnings on the result (:func:`check_model`)."""
 
 from __future__ import annotations
 
+import contextlib
+
 import numpy as np
 
 from ...errors import InputError, Problem, UqthermoError, ValidityError
@@ -29,14 +31,8 @@ def check_model(case: Case, model: Model) -> list[str]:
     x0 = np.asarray(model.inputs.estimates, dtype=float)[None, :]
     cps = [(sp, ph, p.cp) for sp, s in case.species.items() for ph, p in s.phases.items() if p.cp is not None]
     # 1) with extrapolation switched off everywhere: what would leave a validity range?
-    saved = [cp.allow_extrapolation for _, _, cp in cps]
-    try:
-        for _, _, cp in cps:
-            cp.allow_extrapolation = False
+    with _extrapolation_off(cps):
         strict_errors = _try_outputs(case, model, x0)
-    finally:
-        for (_, _, cp), a in zip(cps, saved):
-            cp.allow_extrapolation = a
     allowed_errors = _try_outputs(case, model, x0) if strict_errors else {}
     for i, o in enumerate(case.outputs):
         err, key = allowed_errors.get(i, (None, None)) if strict_errors else (None, None)
@@ -71,10 +67,8 @@ def _every_extrapolation(case: Case, model: Model, x0: np.ndarray, i: int, first
     again, and so on (for an output the case allows to extrapolate)."""
     by_key = {f"{sp}.{ph}.heat_capacity": cp for sp, ph, cp in cps}
     sub = Case(**{**case.__dict__, "outputs": [case.outputs[i]]})
-    found, saved = [first], {id(cp): cp.allow_extrapolation for _, _, cp in cps}
-    try:
-        for _, _, cp in cps:
-            cp.allow_extrapolation = False
+    found = [first]
+    with _extrapolation_off(cps):
         e = first
         while isinstance(e, ValidityError) and by_key.get(e.key) is not None and not by_key[e.key].allow_extrapolation:
             by_key[e.key].allow_extrapolation = True
@@ -85,10 +79,21 @@ def _every_extrapolation(case: Case, model: Model, x0: np.ndarray, i: int, first
             if by_key.get(e.key) is not None and by_key[e.key].allow_extrapolation:
                 break       # the same curve again (not expected): stop
             found.append(e)
-    finally:
-        for _, _, cp in cps:
-            cp.allow_extrapolation = saved[id(cp)]
     return found
+
+
+@contextlib.contextmanager
+def _extrapolation_off(cps: list):
+    """Every heat-capacity curve of ``cps`` ((species, phase, curve) triples) without extrapolation
+    inside the block; each curve's own setting back after it."""
+    saved = [cp.allow_extrapolation for _, _, cp in cps]
+    try:
+        for _, _, cp in cps:
+            cp.allow_extrapolation = False
+        yield
+    finally:
+        for (_, _, cp), a in zip(cps, saved):
+            cp.allow_extrapolation = a
 
 
 def _try_outputs(case: Case, model: Model, x0: np.ndarray) -> dict[int, tuple[Exception, str | None]]:

@@ -87,50 +87,49 @@ def _hottest_liquids(case) -> dict[str, tuple[float, str]]:
     return hot
 
 
-def _boiling_point(case, name: str, library: bool) -> tuple[float, str, str] | None:
-    """(Tb in K, where it comes from, CAS number or "") of a species: its l → g transition in the case,
-    else the library's normal boiling point (measured values only)."""
-    cas = ""
-    for d in case.data.values():
-        if d.species == name and isinstance(getattr(d, "provenance", None), dict) and d.provenance.get("cas"):
-            cas = d.provenance["cas"]
-            break
-    raw = ((case.raw or {}).get("species") or {}).get(name)
-    raw = raw if isinstance(raw, dict) else {}
-    sp = case.species[name]
-    for t in sp.transitions:
+def _boiling_point(case, name: str, library: bool) -> tuple[float, str, str | None] | None:
+    """(Tb in K, where it comes from, CAS number, "" when unknown or None when not yet looked up) of a
+    species: its l → g transition in the case, else the library's normal boiling point (measured
+    values only)."""
+    for t in case.species[name].transitions:
         if t.from_phase == "l" and t.to_phase == "g":
-            return float(t.temperature), "the case's transition l → g", cas or _cas(raw, library)
-    cas = cas or _cas(raw, library)
-    if not cas or not library:
+            return float(t.temperature), "the case's transition l → g", None
+    ident = _identity(case, name, library)
+    if ident is None or not ident.cas:
         return None
     from ...errors import InputError
-    from ..library.identify import identify
     from ..library.selection import select_value
 
     try:
-        sel = select_value(identify(cas=cas), "boiling_temperature", "l-g")
+        sel = select_value(ident, "boiling_temperature", "l-g")
     except (InputError, ValueError, KeyError):
         return None
     if sel.estimate:
         return None
-    return float(sel.value), sel.chosen.source.label, cas
+    return float(sel.value), sel.chosen.source.label, ident.cas
 
 
-def _cas(raw: dict, library: bool) -> str:
-    """CAS number of a species the case identifies by ``cas`` or ``name`` (quietly; "" when unknown)."""
+def _identity(case, name: str, library: bool):
+    """The library identity of a species (quietly; None when unknown or without the library): by the
+    CAS number its library data carry, else by the case's ``cas`` or ``name``."""
     if not library:
-        return ""
-    cas, nm = (raw.get(k) if isinstance(raw.get(k), str) and raw.get(k).strip() else None for k in ("cas", "name"))
-    if not (cas or nm):
-        return ""
+        return None
+    cas = next((d.provenance["cas"] for d in case.data.values() if d.species == name
+                and isinstance(getattr(d, "provenance", None), dict) and d.provenance.get("cas")), None)
+    nm = None
+    if cas is None:
+        raw = ((case.raw or {}).get("species") or {}).get(name)
+        raw = raw if isinstance(raw, dict) else {}
+        cas, nm = (raw.get(k) if isinstance(raw.get(k), str) and raw.get(k).strip() else None for k in ("cas", "name"))
+        if not (cas or nm):
+            return None
     from ...errors import InputError
     from ..library.identify import identify
 
     try:
-        return identify(cas=cas, name=nm).cas or ""
+        return identify(cas=cas, name=nm)
     except (InputError, ValueError, KeyError):
-        return ""
+        return None
 
 
 def liquid_boiling_warnings(case, library: bool = True) -> list[str]:
@@ -147,6 +146,9 @@ def liquid_boiling_warnings(case, library: bool = True) -> list[str]:
         Tb, where, cas = tb
         if not T > Tb + MARGIN:
             continue
+        if cas is None:                 # Tb from the case: the CAS number only now, for the vapour pressure
+            ident = _identity(case, name, library)
+            cas = ident.cas if ident is not None else ""
         normal = "boiling point" if where.startswith("the case") else "normal boiling point"
         psat = None
         if cas and library:

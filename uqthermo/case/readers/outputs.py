@@ -10,7 +10,7 @@ import numpy as np
 
 from ..schema import OUTPUT_KINDS, Datum, OutputSpec, Settings
 from . import design
-from .amounts import read_species_amounts, species_ref, written_texts
+from .amounts import molar_mass, read_species_amounts, species_ref, written_texts
 from .fields import (
     Collector,
     check_name,
@@ -271,7 +271,7 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
                         ok = False
                         continue
                     divisor = abs(nus[kref])
-                    mm = design.molar_mass(None, species[kref], rk) or "give the feed in mol/s or kmol/h"
+                    mm = molar_mass(None, species[kref], rk) or "give the feed in mol/s or kmol/h"
                 feed = read_uncertain(c, rate["feed"], f"{rk}.feed", "amount_rate", positive=True, molar_mass=mm)
                 conv = read_uncertain(c, rate.get("conversion", 1.0), f"{rk}.conversion", "dimensionless")
                 if feed is None or conv is None:
@@ -312,7 +312,7 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
         es = o["extent_species"]
         name = es.split("(")[0].strip() if isinstance(es, str) else None
         nus = [p.nu for p in reactions[r].participants if p.species == name]
-        m = design.molar_mass(c, species[name], f"{key}.extent_species") if nus else None
+        m = molar_mass(c, species[name], f"{key}.extent_species") if nus else None
         if not nus:
             c.add(f"{key}.extent_species", f"{es!r} does not take part in reaction {r}")
         elif m is not None and sum(nus) != 0:

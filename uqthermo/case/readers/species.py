@@ -200,13 +200,16 @@ def library_data_warnings(data: dict, used: set[str]) -> list[str]:
                    + ", ".join(d.id for d in est) + " — replace them by measured data where the result matters")
     return out
 
+
 def wide_spread_warning(datum_id: str, prov: dict) -> str:
     """The warning for a library datum whose sources disagree widely without a majority
     (``provenance.wide_spread``, :func:`uqthermo.case.library.uncertainty.wide_spread_limit`): species,
     phase, datum, each source's value, u against the limit, and what to do."""
     from ..library.selection import QUANTITY_LABELS
+    from ..library.uncertainty import OUTLIER_FACTOR
 
     w = prov["wide_spread"]
+    rule = f"{OUTLIER_FACTOR:g} times the uncertainty assumed for a compilation, our rule"
     what = f"{QUANTITY_LABELS.get(w['quantity'], w['quantity'])} of {prov.get('name') or datum_id.split('.')[0]} " \
            f"({w['phase']})"
     rows = [r for r in prov.get("sources") or () if not r.get("estimate") and not r.get("outlier")]
@@ -217,7 +220,7 @@ def wide_spread_warning(datum_id: str, prov: dict) -> str:
                          for r in rows if r.get("cp_J_per_mol_K"))
         return (f"{datum_id}: the sources of the {what} disagree widely — {vals} J/(mol*K) at {at} — so its relative "
                 f"u = {100 * prov['relative_standard_uncertainty']:.2g} % (half their largest spread) is beyond "
-                f"{100 * w['limit']:.3g} % (5 times the uncertainty assumed for a compilation, our rule); check the "
+                f"{100 * w['limit']:.3g} % ({rule}); check the "
                 "primary literature or measure it")
     n = w.get("distinct_values", len(rows))
     why = ("only two independent values, no majority" if n <= 2 else
@@ -225,7 +228,7 @@ def wide_spread_warning(datum_id: str, prov: dict) -> str:
     vals = "; ".join(f"{r['source']} {r['value']:.4g}" for r in rows)
     return (f"{datum_id}: the sources of the {what} disagree widely ({why}) — {vals} {w['unit']} — so its "
             f"u = {prov['standard_uncertainty']:.3g} {w['unit']} (half their spread) is beyond {w['limit']:.3g} "
-            f"{w['unit']} (5 times the uncertainty assumed for a compilation, our rule); check the primary literature "
+            f"{w['unit']} ({rule}); check the primary literature "
             "or measure it")
 
 
