@@ -20,7 +20,7 @@ from functools import lru_cache
 
 import pint
 
-__all__ = ["Dimension", "DIMENSIONS", "parse_quantity", "ureg", "UnitProblem", "format_unit"]
+__all__ = ["Dimension", "DIMENSIONS", "parse_quantity", "ureg", "UnitProblem", "MissingUnit", "format_unit"]
 
 
 @lru_cache(maxsize=1)
@@ -68,6 +68,10 @@ _REPLACEMENTS = (
 
 class UnitProblem(ValueError):
     """A value that cannot be read as the expected quantity (message is one line)."""
+
+
+class MissingUnit(UnitProblem):
+    """A plain number where a quantity with a unit is expected."""
 
 
 def _normalise(text: str) -> str:
@@ -127,7 +131,7 @@ def parse_quantity(value: object, dimension: str, *, difference: bool = False) -
             return magnitude
         first, *more = re.split(r",\s*|\s+or\s+", dim.example)
         also = f" (or {', '.join(more)})" if more else ""
-        raise UnitProblem(f"{value!r} has no unit; write it with a unit of {dim.name}, e.g. \"{magnitude:g} {first}\"{also}")
+        raise MissingUnit(f"{value!r} has no unit; write it with a unit of {dim.name}, e.g. \"{magnitude:g} {first}\"{also}")
     if difference:
         unit_text = re.sub(r"\bdeg(C|F)\b", r"delta_deg\1", unit_text)
         unit_text = re.sub(r"\b(celsius|fahrenheit)\b", r"delta_\1", unit_text)

@@ -20,7 +20,7 @@ import numpy as np
 from ...errors import InputError, Problem, UqthermoError
 from ..limits import MAX_NAME_LENGTH, short_key
 from ..schema import Datum
-from ..units import UnitProblem, parse_quantity
+from ..units import DIMENSIONS, MissingUnit, UnitProblem, parse_quantity
 from . import distributions as dist
 
 __all__ = ["Collector", "PHASE_SYMBOLS", "PHASE_ALIASES", "QUANTITY_KEYS", "DISTRIBUTIONS", "CP_MODELS", "POLY_TERMS",
@@ -106,9 +106,9 @@ def read_quantity(c: Collector, value: Any, key: str, dimension: str, *, differe
                     return None
                 return m / molar_mass
         msg = str(e)
-        if dimension in MASS_OF and isinstance(molar_mass, (int, float)) and "has no unit" in msg:
-            unit = "kg" if MASS_OF[dimension] == "mass" else "kg/h"
-            msg += f"; a mass{' flow' if unit == 'kg/h' else ''} such as \"{value if isinstance(value, (int, float)) else str(value).strip()} {unit}\" is converted with the molar mass"
+        if dimension in MASS_OF and isinstance(molar_mass, (int, float)) and isinstance(e, MissingUnit):
+            unit = DIMENSIONS[MASS_OF[dimension]].example.split(",")[0]      # "kg", "kg/h"
+            msg += f"; a mass{' flow' if MASS_OF[dimension] == 'mass_rate' else ''} such as \"{value if isinstance(value, (int, float)) else str(value).strip()} {unit}\" is converted with the molar mass"
         c.add(key, msg)
         return None
 
