@@ -15,10 +15,11 @@ from typing import Any
 
 from ...errors import UqthermoError
 from ...thermo.composition import formula_molar_mass
+from ..schema import Datum
 from .fields import Collector, is_table, make_datum, read_uncertain, register
 from .reactions import resolve_phase
 
-__all__ = ["molar_mass", "species_ref", "read_species_amounts", "written_texts", "AMOUNT_KINDS"]
+__all__ = ["molar_mass", "species_ref", "read_species_amounts", "written_texts", "written_datum", "AMOUNT_KINDS"]
 
 _REF = re.compile(r"^\s*([A-Za-z][A-Za-z0-9_+\-]*)\s*\(\s*([a-z]+)\s*\)\s*$")
 
@@ -50,6 +51,14 @@ def written_texts(node: Any, stated: str) -> tuple[str, str | None]:
     if "u" in node:
         return value, _text(node["u"])
     return value, (stated if stated and stated != "exact" else None)
+
+
+def written_datum(node: Any, id: str, quantity: str, dimension: str, parsed: tuple, **kw) -> Datum:
+    """:func:`~uqthermo.case.readers.fields.make_datum` of an amount or flow read from ``node``, keeping
+    the user's text of it (``as_written``, ``u_as_written``: :func:`written_texts`)."""
+    datum = make_datum(id, quantity, dimension, parsed, **kw)
+    datum.as_written, datum.u_as_written = written_texts(node, parsed[2])
+    return datum
 
 
 def species_ref(c: Collector, text: Any, key: str, species: dict) -> tuple[str, str] | None:
@@ -137,9 +146,8 @@ def read_species_amounts(c: Collector, node: Any, key: str, species: dict, data:
             ok = False
             continue
         did = f"{prefix}.{sp[0]}.{sp[1]}"
-        datum = make_datum(did, spec["quantity"], spec["dimension"], parsed, species=sp[0], phase=sp[1], molar_mass=m)
-        datum.as_written, datum.u_as_written = written_texts(amount, parsed[2])
-        register(c, data, datum, k)
+        register(c, data, written_datum(amount, did, spec["quantity"], spec["dimension"], parsed, species=sp[0],
+                                        phase=sp[1], molar_mass=m), k)
         out[sp] = did
         total += parsed[0]
     if ok and total == 0.0:

@@ -10,7 +10,7 @@ import numpy as np
 
 from ..schema import OUTPUT_KINDS, Datum, OutputSpec, Settings
 from . import design
-from .amounts import molar_mass, read_species_amounts, species_ref, written_texts
+from .amounts import molar_mass, read_species_amounts, species_ref, written_datum
 from .fields import (
     Collector,
     check_name,
@@ -281,9 +281,8 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
                     c.add(f"{rk}.conversion", f"conversion must lie in [0, 1], got {conv[0]:g}")
                     ok = False
                     continue
-                fd = make_datum(f"{did}.feed", "feed rate", "amount_rate", feed, molar_mass=mm)
-                fd.as_written, fd.u_as_written = written_texts(rate["feed"], feed[2])
-                register(c, data, fd, f"{rk}.feed")
+                register(c, data, written_datum(rate["feed"], f"{did}.feed", "feed rate", "amount_rate", feed,
+                                                molar_mass=mm), f"{rk}.feed")
                 register(c, data, make_datum(f"{did}.conversion", "conversion", "dimensionless", conv), f"{rk}.conversion")
                 out.extent_rates[rname] = [f"{did}.feed", f"{did}.conversion"]
                 out.extent_divisor[rname] = divisor
@@ -293,9 +292,7 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
                 if parsed is None:
                     ok = False
                     continue
-                xd = make_datum(did, "extent rate", "amount_rate", parsed)
-                xd.as_written, xd.u_as_written = written_texts(rate, parsed[2])
-                register(c, data, xd, rk)
+                register(c, data, written_datum(rate, did, "extent rate", "amount_rate", parsed), rk)
                 out.extent_rates[rname] = [did]
                 out.extent_divisor[rname] = 1.0
         if "feed" in o:
@@ -330,9 +327,8 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
     out.temperatures = np.array([t0])
     out.temperature_nominal = t0
     did = f"output.{out.name}.extent"
-    ed = make_datum(did, "extent of reaction", "amount", ext, molar_mass=mm)
-    ed.as_written, ed.u_as_written = written_texts(o["extent"], ext[2])
-    register(c, data, ed, f"{key}.extent")
+    register(c, data, written_datum(o["extent"], did, "extent of reaction", "amount", ext, molar_mass=mm),
+             f"{key}.extent")
     out.extent_datum = did
     for k in ("process_temperature", "max_temperature"):
         if k in o:
