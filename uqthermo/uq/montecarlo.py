@@ -60,6 +60,9 @@ __all__ = ["BatchLedger", "cap_warning", "propagate_monte_carlo", "adaptive_batc
 #: relative size below which a gradient direction (or the new part of a score axis) is
 #: left out of :func:`score_rotation`'s leading columns
 ROTATION_CUTOFF = 1e-3
+#: with an affine model's exact score gradients, every gradient direction whose singular value
+#: exceeds this fraction of the first leads in :func:`score_rotation` (below it: rounding)
+SPAN_FLOOR = 1e-10
 
 
 def adaptive_batch_size(coverage: float, sampling: str = "random") -> int:
@@ -97,7 +100,7 @@ def batch_seed(seed: int, batch: int) -> int:
 
 
 def score_rotation(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet,
-                   columns: np.ndarray | None = None) -> np.ndarray | None:
+                   columns: np.ndarray | None = None, gradients: np.ndarray | None = None) -> np.ndarray | None:
     """Orthogonal matrix W (K, K) that points the leading Sobol' coordinates along the model's
     linear directions in the space of the K independent normal input scores.
 
@@ -136,7 +139,18 @@ def score_rotation(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet,
     ``columns``: the uncertain input columns to rotate (those the model depends on, see
     :class:`~uqthermo.uq.trials.TrialDesign`); W is then (len(columns), len(columns)) over
     their scores, in that order, and the other scores stay 0. Default: all uncertain columns.
+
+    ``gradients``: (K, M) the exact score gradients of a model that is affine in its inputs
+    (its map in score space, g_jk = ∂y_k/∂s_j, as :class:`~uqthermo.uq.trials.TrialDesign`
+    folds it), used instead of the central differences. An affine model has no nonlinear part
+    for the completion to place, so then every direction of the gradients' span leads (singular
+    value above :data:`SPAN_FLOOR` times the first, not :data:`ROTATION_CUTOFF`) and the
+    completion columns are orthogonal to every output's gradient: no output moves with them,
+    and the trials need only rank(G) Sobol' coordinates (4 of 7 for ΔrH over a temperature
+    window of the demo, where three combinations of formation enthalpies cancel in every output).
     """
+    if gradients is not None:
+        return _rotation_from(np.asarray(gradients, dtype=float), 0.0, SPAN_FLOOR)
     unc = np.flatnonzero(np.asarray(inputs.stds) > 0)
     pos = np.arange(len(unc)) if columns is None else np.searchsorted(unc, np.asarray(columns, dtype=np.intp))
     k = len(pos)
@@ -153,15 +167,24 @@ def score_rotation(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet,
     G = 0.5 * (Y[:k] - Y[k:])
     if not np.all(np.isfinite(G)):
         return None
+    return _rotation_from(G, 1e-9 * np.abs(Y).max(axis=0), ROTATION_CUTOFF)
+
+
+def _rotation_from(G: np.ndarray, floor, cutoff: float) -> np.ndarray | None:
+    """:func:`score_rotation`'s W from the score gradients G (K, M): outputs with ‖g_k‖ above
+    ``floor`` (scalar or (M,)) count; the SVD's directions with a singular value above ``cutoff`` times the
+    first lead, the score axes by linear importance complete the basis."""
+    k = G.shape[0]
     norm = np.linalg.norm(G, axis=0)
-    live = norm > 1e-9 * np.abs(Y).max(axis=0)   # below that, the difference is rounding of an even function
+    live = norm > floor   # below that, the difference is rounding of an even function
     if not np.any(live):
         return None
     Gs = G[:, live] / norm[live]
     V, sv, _ = np.linalg.svd(Gs, full_matrices=False)
-    # directions with a singular value below 10⁻³ of the first carry under 10⁻⁶ of the linear
-    # variance and are ill-determined by rounding: leave them to the completion below
-    cols = [V[:, i] for i in range(int(np.sum(sv > ROTATION_CUTOFF * sv[0])))]
+    # from central differences, directions with a singular value below 10⁻³ of the first carry
+    # under 10⁻⁶ of the linear variance and are ill-determined by rounding: leave them to the
+    # completion below (exact gradients of an affine model: only rounding is left out)
+    cols = [V[:, i] for i in range(int(np.sum(sv > cutoff * sv[0])))]
     # the rest of the basis: the score axes by decreasing linear importance, each made
     # orthogonal to the columns before it (Gram-Schmidt, twice), so that what the leading
     # directions leave of the important inputs (their nonlinear part) sits on the next
@@ -350,7 +373,8 @@ def check_run_arguments(inputs, samples, sampling, seed, coverage, ndigits, chun
 def trial_design(f, inputs: InputSet, method: str, seed: int, rotate: bool, affine: bool,
                  depends_on) -> TrialDesign:
     """The run's :class:`~uqthermo.uq.trials.TrialDesign` (with the Sobol' score rotation when asked)."""
-    rotation = (lambda cols: score_rotation(f, inputs, cols)) if method == "sobol" and rotate else None
+    rotation = ((lambda cols, grads=None: score_rotation(f, inputs, cols, grads))
+                if method == "sobol" and rotate else None)
     return TrialDesign(f, inputs, method, seed, rotation=rotation, affine=affine, depends_on=depends_on)
 
 

@@ -163,8 +163,9 @@ class TrialDesign:
     method : {"random", "latin-hypercube", "sobol"}
     seed : int
         The run's seed (also seeds the companion stream of the kept rows' inactive inputs).
-    rotation : callable(active columns) -> W or None, optional
-        The Sobol' score rotation over the active inputs (``score_rotation``), or None.
+    rotation : callable(active columns, gradients=None) -> W or None, optional
+        The Sobol' score rotation over the active inputs (``score_rotation``), or None. For a
+        model found affine it is asked again with the model's exact score gradients.
     affine : bool
         The caller declares f exactly affine in X; the map is fitted and checked
         (:func:`fit_affine`) and trials are evaluated from it (f is then not called per trial).
@@ -255,7 +256,15 @@ class TrialDesign:
             with np.errstate(all="ignore"):
                 y = np.asarray(f(est[None, :] if d else np.zeros((1, 0))), dtype=float)
             self.n_outputs = 1 if y.ndim == 1 else int(y.shape[1])
-        self._fold = self._folded(fitted) if fitted is not None else None
+        B = self._score_map(fitted[1]) if fitted is not None else None
+        if B is not None and self.rotation is not None:
+            # an affine model's exact gradients: the rotation's leading columns span them all,
+            # so the trials need only rank(B) Sobol' coordinates (see score_rotation)
+            W = rotation(self.active, B)
+            if W is not None:
+                self.rotation = np.asarray(W, dtype=float)
+                self._w_sd_n = self.rotation.T[:, self._n_pos] * self._n_sd
+        self._fold = self._folded(fitted, B) if B is not None else None
         self.affine = self._fold is not None
 
     def _unchanged_without(self, f, columns: list[int]) -> bool:
@@ -274,18 +283,26 @@ class TrialDesign:
             return False
 
     # ------------------------------------------------------------------ affine map
-    def _folded(self, fitted):
-        """(needed coordinates, A (k, M), J of the uniform-driven inputs (k_o, M), y0 − J_o x̂_o) or None."""
-        y0, J = fitted
+    def _score_map(self, J: np.ndarray) -> np.ndarray | None:
+        """B (n_scores, M), ∂y/∂s of an affine model with map J (M, D) over the score variables:
+        u_j J_j for an independent normal input, Lᵀ diag(u) Jᵀ over the copula's variables;
+        None when an input is driven by a score through G⁻¹(Φ(s)), not affine in it."""
         dists = [v.distribution for v in self.inputs.variables]
         if self._s_other or any(dists[j].kind != "normal" for j in self._linked):
-            return None          # G⁻¹(Φ(s)) is not affine in the scores
-        est, sd = np.asarray(self.inputs.estimates, dtype=float), np.asarray(self.inputs.stds, dtype=float)
+            return None
+        sd = np.asarray(self.inputs.stds, dtype=float)
         B = np.zeros((self.n_scores, J.shape[0]))
         if self._normal:
             B[self._n_pos] = sd[self._normal][:, None] * J[:, self._normal].T
         if self._linked:
             B[self._l_pos] = self._L.T @ (sd[self._linked][:, None] * J[:, self._linked].T)
+        return B
+
+    def _folded(self, fitted, B: np.ndarray):
+        """(needed coordinates, A (k, M), J of the uniform-driven inputs (k_o, M), y0 − J_o x̂_o)
+        of an affine model (y0, J) with score map B (:meth:`_score_map`)."""
+        y0, J = fitted
+        est = np.asarray(self.inputs.estimates, dtype=float)
         A = B if self.rotation is None else self.rotation.T @ B
         norm = np.linalg.norm(A, axis=0)
         need = np.flatnonzero(np.any(np.abs(A) > DROP_TOL * norm[None, :], axis=1))
