@@ -224,6 +224,26 @@ def test_bin_layout_counts_equal_binary_search_and_read_back():
     np.testing.assert_array_equal(b.counts, c.counts)
 
 
+def test_bin_slots_far_from_zero_and_of_odd_values():
+    """Outputs far from zero relative to their spread (c_lo/w beyond 2⁴⁰ takes the subtract-first
+    rule), with non-finite values and values on the central range's edges: every value lands in
+    the bin a binary search of the edges gives, except at rounding distance (10⁻⁴ of a bin) from
+    an edge."""
+    from uqthermo.uq.stats import BinLayout
+
+    rng = np.random.default_rng(12)
+    for offset, spread in [(0.0, 1.0), (-4.2e5, 3.0), (1e9, 1e-3), (7e13, 1.0)]:
+        layout = BinLayout.from_pilot(offset + spread * rng.standard_normal((40_000, 2)), 50_000, ndigits=2)
+        Y = offset + spread * rng.standard_t(3, (3001, 2))
+        Y[:5, 0] = [np.nan, np.inf, -np.inf, layout.lo[0], layout.edges[0, -1]]
+        flat = layout.indices(np.asfortranarray(Y)).reshape(2, -1)
+        for j in range(2):
+            ref = j * layout.n_counts + np.searchsorted(layout.edges[j], Y[:, j], side="right")
+            off = np.flatnonzero(flat[j] != ref)
+            gap = np.min(np.abs(layout.edges[j][None, :] - Y[off, j][:, None]), axis=1, initial=np.inf)
+            assert np.all(gap <= 1e-4 / layout.inv_width[j]), (offset, j, off)
+
+
 def test_bin_layout_from_pilot_is_as_fine_as_ndigits_needs():
     """With ndigits the central bins are just fine enough: width ≤ 0.05 δ(0.8 s) per output
     (δ of JCGM 101 §7.9.2, s the pilot's standard deviation), the widest output needing the
