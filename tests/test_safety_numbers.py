@@ -361,6 +361,11 @@ cost = 100
      "looks like a kelvin value"),
     ('start_temperature = "300 K"', 'start_temperature = "300 K"\nlimit = { value = "120 degC", relative_u = "1 %" }',
      "output.rise.limit.relative_u", "of the absolute value"),
+    # 10 ± 4 mol (normal): P(n < 0) = Φ(−2.5) = 0.62 % (scipy.stats.norm.cdf(-2.5) = 0.00621)
+    ('charge = { "S(l)" = "10 mol" }', 'charge = { "S(l)" = { value = "10 mol", u = "4 mol" } }', "output.rise.charge.S(l)",
+     "puts 0.62 % of its probability below 0, where an amount cannot lie"),
+    ('charge = { "S(l)" = "10 mol" }', 'charge = { "S(l)" = "10 mol", "A(l)" = { value = "0 mol", u = "0.1 mol" } }',
+     "output.rise.charge.A(l)", "a value at its bound with an uncertainty around it"),
 ])
 def test_8_dubious_input_warnings(tmp_path, old, new, key, slip):
     text = case_text(output=adiabatic())
@@ -369,6 +374,25 @@ def test_8_dubious_input_warnings(tmp_path, old, new, key, slip):
     code, out, err = main_in_process("check", write_case(tmp_path, text))
     joined = " ".join(out.split())
     assert f"warning: {key}: " in joined and slip in joined, out + err
+
+
+def test_8_distributions_outside_the_physical_range():
+    """P(outside) against scipy.stats: a conversion 0.98 ± 0.02 (normal) is above 1 with
+    probability norm.sf(1) = 15.9 %; rectangular 0.95 ± 0.1 (half-width) is above 1 with 25 %;
+    a feed 5 ± 1 (normal) is below 0 with norm.cdf(-5) = 2.9e-7, no warning."""
+    import math
+
+    from scipy import stats
+
+    from uqthermo.case.readers.distributions import normal, rectangular
+    from uqthermo.case.readers.fields import outside_bounds_warning
+
+    note = outside_bounds_warning(normal(0.98, 0.02), 0.98, (0.0, 1.0), "a conversion")
+    assert f"puts {100 * stats.norm.sf(1.0):.2g} % of its probability above 1, where a conversion cannot lie" in note
+    assert "truncated-normal" in note
+    note = outside_bounds_warning(rectangular(0.95, 0.1), 0.95, (0.0, 1.0), "a conversion")
+    assert "puts 25 % of its probability above 1" in note
+    assert outside_bounds_warning(normal(5.0, 1.0), 5.0, (0.0, math.inf), "a feed flow") == ""
 
 
 def test_8_formation_enthalpy_in_J_and_a_backward_reaction(tmp_path):

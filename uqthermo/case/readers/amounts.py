@@ -10,6 +10,7 @@ One parser serves the charge of an adiabatic rise and the mixture of a heating e
 from __future__ import annotations
 
 import difflib
+import math
 import re
 from typing import Any
 
@@ -87,13 +88,13 @@ def species_ref(c: Collector, text: Any, key: str, species: dict) -> tuple[str, 
 #: what each kind of table reads: dimension, datum quantity, and its messages (the largest plausible
 #: value in mol or mol/s, None: no check)
 AMOUNT_KINDS = {
-    "amount": {"dimension": "amount", "quantity": "amount",
+    "amount": {"dimension": "amount", "quantity": "amount", "what": "an amount",
                "table": "must be a table of amounts, e.g. { \"S(l)\" = \"8 mol\" }",
                "no_mass": "the species' formula has no standard atomic weights, so give the amount in mol",
                "negative": "amount must not be negative", "twice": "species listed twice",
              "all_zero": "every amount is 0: give what is present (in mol, kmol or kg)",
                "largest": (1e9, "amount is implausibly large (> 1e9 mol); give the charge per batch in mol or kmol")},
-    "flow": {"dimension": "amount_rate", "quantity": "feed flow",
+    "flow": {"dimension": "amount_rate", "quantity": "feed flow", "what": "a feed flow",
              "table": "must be a table of flows, e.g. { \"CO2(g)\" = \"100 kmol/h\", \"H2O(l)\" = \"900 kg/h\" }",
              "no_mass": "the species' formula has no standard atomic weights, so give the flow in mol/s or kmol/h",
              "negative": "a feed flow must not be negative", "twice": "species listed twice in one stream",
@@ -129,7 +130,8 @@ def read_species_amounts(c: Collector, node: Any, key: str, species: dict, data:
             ok = False
             continue
         m = molar_mass(None, species[sp[0]], k)
-        parsed = read_uncertain(c, amount, k, spec["dimension"], molar_mass=m if m is not None else spec["no_mass"])
+        parsed = read_uncertain(c, amount, k, spec["dimension"], molar_mass=m if m is not None else spec["no_mass"],
+                                bounds=(0.0, math.inf), what=spec["what"])
         if parsed is None:
             ok = False
             continue

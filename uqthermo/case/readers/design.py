@@ -158,7 +158,8 @@ def read_volume(c: Collector, o: dict, key: str, out: OutputSpec, data: dict) ->
         if not cv:
             c.add(f"{key}.initial_pressure", "the final pressure is computed for a closed vessel: add constant_volume = true")
             return False
-        parsed = read_uncertain(c, o["initial_pressure"], f"{key}.initial_pressure", "pressure", positive=True)
+        parsed = read_uncertain(c, o["initial_pressure"], f"{key}.initial_pressure", "pressure", positive=True,
+                                bounds=(0.0, math.inf), what="a pressure")
         if parsed is None:
             return False
         did = f"output.{out.name}.initial_pressure"

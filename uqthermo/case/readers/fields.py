@@ -25,7 +25,7 @@ from . import distributions as dist
 
 __all__ = ["Collector", "PHASE_SYMBOLS", "PHASE_ALIASES", "QUANTITY_KEYS", "DISTRIBUTIONS", "CP_MODELS", "POLY_TERMS",
            "POLY_POWERS", "MASS_OF", "is_table", "read_quantity", "read_temperature", "read_percent",
-           "fraction_value", "read_fraction", "read_uncertain", "check_name", "report_unit", "make_datum", "register", "matrix"]
+           "fraction_value", "read_fraction", "read_uncertain", "outside_bounds_warning", "OUTSIDE_WARN", "check_name", "report_unit", "make_datum", "register", "matrix"]
 
 PHASE_SYMBOLS = ("g", "l", "s", "cr", "aq")
 PHASE_ALIASES = {"s": "cr", "cr": "s", "c": "cr"}
@@ -187,9 +187,14 @@ _REPORT = {
 }
 
 
+#: probability outside a quantity's physical bounds above which its distribution is warned about
+OUTSIDE_WARN = 1e-3
+
+
 def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positive: bool = False,
                    temperature: bool = False, molar_mass: float | str | None = None,
-                   user_u: bool = True) -> tuple[float, Any, str, str] | None:
+                   user_u: bool = True, bounds: tuple[float, float] | None = None,
+                   what: str = "") -> tuple[float, Any, str, str] | None:
     """Read an uncertain quantity: a plain string (exact) or a table (contract §2).
 
     Returns ``(estimate, distribution, stated, source)`` in engine units, or ``None``
@@ -197,6 +202,9 @@ def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positiv
     as a mass (rate), e.g. ``"252 kg"`` or ``"900 kg/h"`` (see :func:`read_quantity`).
     ``user_u=False``: the uncertainty was set by the data library, not written by the user, so
     the warning on a u larger than the value (a slip in writing it) does not apply.
+    ``bounds`` (engine units): the physical range of the quantity (``what``: its name, e.g. "an
+    amount"); a distribution with more than :data:`OUTSIDE_WARN` of its probability outside is
+    warned about (the trials draw such values as they are), see :func:`outside_bounds_warning`.
     """
     reader = (lambda v, k: read_temperature(c, v, k)) if temperature else (
         lambda v, k: read_quantity(c, v, k, dimension, molar_mass=molar_mass))
@@ -332,6 +340,10 @@ def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positiv
     if v != 0 and sd > abs(v) and user_u:
         c.warn(key, f"the standard uncertainty is {100 * sd / abs(v):.0f} % of the value; a relative uncertainty written "
                     "as u (use relative_u = \"… %\"), or a unit slip in u? It is used as stated")
+    if bounds is not None and sd > 0:
+        note = outside_bounds_warning(d, v, bounds, what)
+        if note:
+            c.warn(key, note)
     if temperature and getattr(d, "std", 0.0) > 0:
         lo = float(np.asarray(d.ppf(np.array([1e-9])), dtype=float).reshape(-1)[0])
         if not lo > 0:
@@ -339,6 +351,32 @@ def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positiv
                        "give a smaller uncertainty, or a bounded one (rectangular, or truncated-normal with lower)")
             return None
     return v, d, stated, source
+
+
+def outside_bounds_warning(d, v: float, bounds: tuple[float, float], what: str) -> str:
+    """The warning for a distribution ``d`` (estimate ``v``) of a quantity that lies in ``bounds``
+    = (lo, hi) by its nature, when P(x < lo) + P(x > hi) exceeds :data:`OUTSIDE_WARN`; "" otherwise.
+
+    A probability density should hold only values the quantity can take (the principle behind
+    the choice of distributions in JCGM 101:2008 §6.4); Monte Carlo trials take every drawn value
+    as it is, so a negative amount or a conversion above 1 enters the results.
+    """
+    lo, hi = bounds
+    p_lo = float(np.asarray(d.cdf(np.array([lo]))).reshape(-1)[0]) if math.isfinite(lo) else 0.0
+    p_hi = 1.0 - float(np.asarray(d.cdf(np.array([hi]))).reshape(-1)[0]) if math.isfinite(hi) else 0.0
+    if not p_lo + p_hi > OUTSIDE_WARN:
+        return ""
+    side = (f"below {_fmt(lo)}" if p_hi <= OUTSIDE_WARN / 10 else f"above {_fmt(hi)}" if p_lo <= OUTSIDE_WARN / 10
+            else f"outside [{_fmt(lo)}, {_fmt(hi)}]")
+    if v == lo or v == hi:
+        fix = (f"a value at its bound with an uncertainty around it draws impossible values half the time; if it lies "
+               f"in a range next to the bound, write the middle of that range with distribution = \"rectangular\" and "
+               f"half_width = half of it")
+    else:
+        fix = ("if it is known to stay inside, give a bounded distribution (truncated-normal with lower/upper at the "
+               "bounds, rectangular or triangular inside them, or lognormal for a positive quantity)")
+    return (f"this distribution puts {100 * (p_lo + p_hi):.2g} % of its probability {side}, where {what} cannot lie; "
+            f"the Monte Carlo trials use such values as drawn; {fix}")
 
 
 def check_name(c: Collector, name: str, key: str) -> bool:

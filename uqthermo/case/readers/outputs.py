@@ -272,8 +272,10 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
                         continue
                     divisor = abs(nus[kref])
                     mm = molar_mass(None, species[kref], rk) or "give the feed in mol/s or kmol/h"
-                feed = read_uncertain(c, rate["feed"], f"{rk}.feed", "amount_rate", positive=True, molar_mass=mm)
-                conv = read_uncertain(c, rate.get("conversion", 1.0), f"{rk}.conversion", "dimensionless")
+                feed = read_uncertain(c, rate["feed"], f"{rk}.feed", "amount_rate", positive=True, molar_mass=mm,
+                                      bounds=(0.0, math.inf), what="a feed flow")
+                conv = read_uncertain(c, rate.get("conversion", 1.0), f"{rk}.conversion", "dimensionless",
+                                      bounds=(0.0, 1.0), what="a conversion")
                 if feed is None or conv is None:
                     ok = False
                     continue
