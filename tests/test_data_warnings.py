@@ -82,6 +82,19 @@ def test_dinitrotoluene_gas_formation_enthalpy_two_values_no_majority_warns(tmp_
     assert select_value(identify(cas="121-14-2"), "formation_enthalpy", "s").provenance()["wide_spread"] is None
 
 
+def test_data_command_marks_the_wide_spread(capsys):
+    """``uqthermo data 121-14-2`` shows the same rule on the chosen gas-phase ΔfH° row (two independent
+    values, chemicals.reaction.Hfg WEBBOOK/CRC 33.2 against YAWS -64.2 kJ/mol), and not on the solid's."""
+    from uqthermo.cli import main
+
+    assert main(["data", "121-14-2", "--limit", "1"]) == 0
+    out = capsys.readouterr().out
+    assert out.count("WIDE SPREAD (u > 5 kJ/mol)") == 1
+    note = " ".join(out[out.index("WIDE SPREAD: "):].split())
+    assert note.startswith("WIDE SPREAD: the sources disagree widely without a majority, so u (half their spread) is "
+                           "beyond 5 times the uncertainty assumed for a compilation (our rule)")
+
+
 def test_well_agreeing_methane_formation_enthalpy_does_not_warn(tmp_path):
     """Methane ΔfH°(g): chemicals' ATcT, JANAF, CRC, WebBook, API-TDB and Yaws values lie within
     0.4 kJ/mol (chemicals.reaction.Hfg). ATcT states its uncertainty; with CRC named, the spread rule

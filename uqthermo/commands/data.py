@@ -109,13 +109,26 @@ def _scalar_rows(ident, window) -> list[list[str]]:
     return rows
 
 
+#: appended to the chosen source's uncertainty when the sources disagree widely without a majority
+#: (``library.uncertainty.wide_spread_limit``); :data:`_WIDE_NOTE` is printed under the table
+_WIDE = " WIDE SPREAD (u > {})"
+_WIDE_NOTE = ("WIDE SPREAD: the sources disagree widely without a majority, so u (half their spread) is beyond "
+              "{:g} times the uncertainty assumed for a compilation (our rule); check the primary literature or "
+              "measure it before relying on this datum")
+
+
 def _rows_of(rows, sel, label, ph, q):
+    from ..case.library.uncertainty import wide_spread_limit
+
     u = sel.uncertainty
     for o in sel.considered:
         chosen = o is sel.chosen
         unc = ""
         if chosen:
             unc = (f"u = {_fmt(q, u.u)} [{u.basis}]" if u.u else "exact") + (" ESTIMATE" if sel.estimate else "")
+            wide = wide_spread_limit(q, u, o.value)
+            if wide is not None:
+                unc += _WIDE.format(_fmt(q, wide))
         elif o.u is not None:
             unc = f"u = {_fmt(q, o.u)} (stated)" if o.u_basis == "stated" else f"u = {_fmt(q, o.u)} ({o.u_basis})"
         out = next((x for x in u.outliers if x["source"] == o.source.label), None)
@@ -129,6 +142,7 @@ def _curve_rows(ident, window) -> list[list[str]]:
     from ..case.library.base import LibraryLookupError
     from ..case.library.selection import select_curve
     from ..case.library.sources import curve_candidates
+    from ..case.library.uncertainty import wide_spread_limit
 
     lo, hi = window
     rows = []
@@ -155,6 +169,9 @@ def _curve_rows(ident, window) -> list[list[str]]:
                 pick.source.key, pick.form, pick.t_min, pick.t_max)
             u = (f"u = {100 * unc.u:.2g} % [{unc.basis}]" if star else
                  (f"{100 * c.relative_u:.2g} % ({c.u_basis})" if c.relative_u else ""))
+            wide = wide_spread_limit("heat_capacity", unc) if star else None
+            if wide is not None:
+                u += _WIDE.format(f"{100 * wide:.3g} %")
             out = next((o for o in (unc.outliers if unc is not None else ()) if o["source"] == c.source.label), None)
             if out is not None and not star:
                 u = f"outlier: {out['deviation_percent']:+.0f} % from ★, left out of u"
@@ -292,9 +309,11 @@ def execute(args) -> int:
                    title_justify="left", header_style="bold")
         for col in ("quantity", "phase", "source", "value", "uncertainty"):
             st.add_column(col)
-        for row in _scalar_rows(ident, window):
+        srow = _scalar_rows(ident, window)
+        for row in srow:
             st.add_row(*(markup(x) for x in row))      # "[assumed]" is text, not rich markup
         console.print(st)
+        wide = any("WIDE SPREAD" in row[-1] for row in srow)
         ct = Table(title=f"heat-capacity curves: which ranges cover {wtxt} (--T sets the window)",
                    title_justify="left", header_style="bold")
         for col in ("phase", "source", "equation", "range", f"covers {wtxt}", "Cp J/(mol*K) at window ends", "u"):
@@ -304,6 +323,10 @@ def execute(args) -> int:
             ct.add_row(*(markup(x) for x in row))
         if crow:
             console.print(ct)
+        if wide or any("WIDE SPREAD" in row[-1] for row in crow):
+            from ..case.library.uncertainty import OUTLIER_FACTOR
+
+            console.print(_WIDE_NOTE.format(OUTLIER_FACTOR), markup=False)
     if len(matches) > DETAILED:
         console.print(f"(values shown for the first {DETAILED}; search by CAS number for the others)")
     console.print(f"sources via chemicals {chemicals_version()}; uncertainty basis: stated by the source, published for "
