@@ -146,8 +146,8 @@ def score_rotation(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet,
     for the completion to place, so then every direction of the gradients' span leads (singular
     value above :data:`SPAN_FLOOR` times the first, not :data:`ROTATION_CUTOFF`) and the
     completion columns are orthogonal to every output's gradient: no output moves with them,
-    and the trials need only rank(G) Sobol' coordinates (4 of 7 for ΔrH over a temperature
-    window of the demo, where three combinations of formation enthalpies cancel in every output).
+    and the trials need only rank(G) Sobol' coordinates (5 of the demo's 7 for ΔrH over a
+    temperature window: two combinations of its inputs move no output).
     """
     if gradients is not None:
         return _rotation_from(np.asarray(gradients, dtype=float), 0.0, SPAN_FLOOR)

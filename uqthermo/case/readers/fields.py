@@ -357,9 +357,9 @@ def outside_bounds_warning(d, v: float, bounds: tuple[float, float], what: str) 
     """The warning for a distribution ``d`` (estimate ``v``) of a quantity that lies in ``bounds``
     = (lo, hi) by its nature, when P(x < lo) + P(x > hi) exceeds :data:`OUTSIDE_WARN`; "" otherwise.
 
-    A probability density should hold only values the quantity can take (the principle behind
-    the choice of distributions in JCGM 101:2008 §6.4); Monte Carlo trials take every drawn value
-    as it is, so a negative amount or a conversion above 1 enters the results.
+    A probability density assigned to an input should hold only values the quantity can take
+    (JCGM 101:2008 clause 6 assigns it from what is known about the quantity); Monte Carlo trials
+    take every drawn value as it is, so a negative amount or a conversion above 1 enters the results.
     """
     lo, hi = bounds
     p_lo = float(np.asarray(d.cdf(np.array([lo]))).reshape(-1)[0]) if math.isfinite(lo) else 0.0
@@ -369,9 +369,9 @@ def outside_bounds_warning(d, v: float, bounds: tuple[float, float], what: str) 
     side = (f"below {_fmt(lo)}" if p_hi <= OUTSIDE_WARN / 10 else f"above {_fmt(hi)}" if p_lo <= OUTSIDE_WARN / 10
             else f"outside [{_fmt(lo)}, {_fmt(hi)}]")
     if v == lo or v == hi:
-        fix = (f"a value at its bound with an uncertainty around it draws impossible values half the time; if it lies "
-               f"in a range next to the bound, write the middle of that range with distribution = \"rectangular\" and "
-               f"half_width = half of it")
+        fix = ("a value at its bound with an uncertainty around it draws impossible values half the time; if it lies "
+               "in a range next to the bound, write the middle of that range with distribution = \"rectangular\" and "
+               "half_width = half of it")
     else:
         fix = ("if it is known to stay inside, give a bounded distribution (truncated-normal with lower/upper at the "
                "bounds, rectangular or triangular inside them, or lognormal for a positive quantity)")
