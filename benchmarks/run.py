@@ -551,6 +551,10 @@ def _run_json(args: list[str]) -> dict:
     return json.loads(proc.stdout.strip().splitlines()[-1])
 
 
+#: rounds of benchmark 6 (each program's time is the best of them); ``--repeats`` sets it
+SIDE_REPEATS = 4
+
+
 def bench_side_by_side(quick: bool) -> dict:
     """Marginal cost per trial of the tool, the hand-written scripts and the random-number floor."""
     import random
@@ -558,7 +562,7 @@ def bench_side_by_side(quick: bool) -> dict:
 
     n1, n2 = (100_000, 1_000_000) if quick else (200_000, 4_000_000)
     q1, q2 = (20, 100) if quick else (100, 600)
-    repeats = 2 if quick else 4
+    repeats = 2 if quick else SIDE_REPEATS
     folder = Path(tempfile.mkdtemp(prefix="uqthermo-bench6-"))
     cases = side_by_side_cases(folder)
     jobs = []
@@ -912,11 +916,14 @@ def render(results: dict) -> str:
 
 
 def main(argv=None) -> int:
+    global SIDE_REPEATS
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("--quick", action="store_true", help="smaller sizes (smoke run); prints only")
     ap.add_argument("--write", action="store_true", help="write benchmarks/RESULTS.md also with --quick")
     ap.add_argument("--only", default="", help="comma-separated subset, e.g. 1,2")
     ap.add_argument("--render", action="store_true", help="only rewrite RESULTS.md from benchmarks/results.json")
+    ap.add_argument("--repeats", type=int, default=SIDE_REPEATS,
+                    help=f"rounds of benchmark 6, each time the best of them (default {SIDE_REPEATS}; more on a noisy machine)")
     ap.add_argument("--memory-child", type=int, default=0, help=argparse.SUPPRESS)
     args = ap.parse_args(argv)
     if args.render:
@@ -926,6 +933,7 @@ def main(argv=None) -> int:
     if args.memory_child:
         memory_child(args.memory_child)
         return 0
+    SIDE_REPEATS = max(1, int(args.repeats))
     only = set(args.only.split(",")) if args.only else {"1", "2", "3", "4", "5", "6"}
     results = {"machine": machine(), "quick": args.quick}
     steps = [("1", "1_naive", bench_naive), ("2", "2_rng_floor", bench_rng_floor), ("3", "3_adaptive", bench_adaptive),
