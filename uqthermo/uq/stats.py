@@ -257,8 +257,8 @@ class BinLayout:
         """Flat counts index j·n_counts + b (output j, bin b) of every value of Y[n, M].
 
         Returns shape (M·n,) int64, written into ``out`` when given (a 1-D int64 array of that size).
-        A value's central bin is i = ⌊t⌋, t = y/w − c_lo/w (or (y − c_lo)/w where |c_lo/w| ≥ 2⁴⁰,
-        so that rounding stays below 10⁻⁴ of a bin). ⌊t⌋ is taken as round(t − ½) by adding
+        A value's central bin is i = ⌊t⌋, t = y/w − c_lo/w (or (y − c_lo)/w where |c_lo/w| ≥ 2³⁶,
+        so that the three roundings stay below 10⁻⁴ of a bin). ⌊t⌋ is taken as round(t − ½) by adding
         1.5·2⁵² and reading the double's bits as an integer, two vectorised passes where a
         float-to-int64 cast is one scalar conversion per value on AVX2 (a value exactly on an edge
         may go to the bin below: rounding distance). An i outside [0, k) marks a value outside
@@ -270,7 +270,7 @@ class BinLayout:
         nc = self.n_counts
         t = _scratch("t", size, np.float64).reshape(m, n)
         c = self.lo * self.inv_width
-        if np.all(np.abs(c) < 2.0**40):
+        if np.all(np.abs(c) < 2.0**36):
             np.multiply(Y.T, self.inv_width[:, None], out=t)
             t -= (c + 0.5)[:, None]
         else:

@@ -31,7 +31,11 @@ in the run's stream into model values. Three things decide the cost of a trial:
   no output uses) or zero up to rounding (after the rotation, score directions orthogonal to
   every output's gradient: below 2⁻⁴⁵ of the output's ‖A‖) are dropped and never mapped
   through Φ⁻¹; what they would add is below 10⁻¹² u(y). Inputs with other distributions keep
-  their own term v ↦ G⁻¹(v) in x, still one product with J.
+  their own term v ↦ G⁻¹(v) in x, still one product with J. Under Sobol' sampling the rotation
+  of an affine model is built from this exact map (every direction of its span leads, see
+  :func:`~uqthermo.uq.montecarlo.score_rotation`), not from central differences of f: with
+  several outputs an affine run and a run through f therefore use different, equally valid
+  rotations (one output: the same).
 
 Every row depends only on its position in the stream (never on where a chunk or a Dask block
 ends): products of one row are computed as two rows (BLAS rounds a single row differently).
@@ -182,7 +186,7 @@ class TrialDesign:
     """
 
     def __init__(self, f: Callable[[np.ndarray], np.ndarray], inputs: InputSet, method: str, seed: int, *,
-                 rotation: Callable[[np.ndarray], np.ndarray | None] | None = None, affine: bool = False,
+                 rotation: Callable[..., np.ndarray | None] | None = None, affine: bool = False,
                  depends_on: Sequence[int] | None = None):
         self.f = f
         self.inputs = inputs
@@ -260,7 +264,9 @@ class TrialDesign:
         if B is not None and self.rotation is not None:
             # an affine model's exact gradients: the rotation's leading columns span them all,
             # so the trials need only rank(B) Sobol' coordinates (see score_rotation)
-            W = rotation(self.active, B)
+            # an output whose linear part is rounding of its value (below 10⁻¹² of it) does not steer W
+            live = np.linalg.norm(B, axis=0) > 1e-12 * np.abs(fitted[0])
+            W = rotation(self.active, np.where(live[None, :], B, 0.0))
             if W is not None:
                 self.rotation = np.asarray(W, dtype=float)
                 self._w_sd_n = self.rotation.T[:, self._n_pos] * self._n_sd
