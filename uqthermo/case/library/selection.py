@@ -28,7 +28,7 @@ from dataclasses import dataclass, field
 from .base import LibraryLookupError
 from .candidates import QUANTITY_UNITS, CurveCandidate, ScalarCandidate
 from .identify import Identity
-from .uncertainty import (Uncertainty, copy_groups, curve_uncertainty, outlier_text, scalar_uncertainty,
+from .uncertainty import (Uncertainty, curve_uncertainty, outlier_text, scalar_uncertainty,
                           wide_spread_limit)
 
 __all__ = ["RANK", "Selection", "select_value", "select_curve", "QUANTITY_LABELS", "rank_of"]
@@ -172,9 +172,8 @@ class Selection:
                                for o in u.outliers]
             wide = wide_spread_limit(c.quantity, u, c.value)
             if wide is not None:
-                used = [o.value for o in self.considered if not o.estimate and o.source.label not in outlying]
                 wide = {"quantity": c.quantity, "phase": self.phase, "limit": wide * f, "unit": unit,
-                        "distinct_values": len(copy_groups(used, c.quantity))}
+                        "distinct_values": u.distinct_values}
             out["wide_spread"] = wide
         return out
 

@@ -116,6 +116,9 @@ class Uncertainty:
         One sentence for the report.
     expanded, k : float or None
         The source's expanded uncertainty and coverage factor, when that is how it states it.
+    distinct_values : int or None
+        Of a scalar from several sources: how many distinct values (:func:`copy_groups`) the measured
+        sources that count give, the selected one included; None where that was not counted.
     """
 
     u: float
@@ -128,6 +131,7 @@ class Uncertainty:
     """Sources left out of the spread: dicts with source, value, temperature_K, deviation_percent (from
     the selected value), rule — for a curve (:func:`screen_outliers`) in J/(mol*K), for a scalar
     (:func:`screen_scalar_outliers`) in SI with deviation and limit besides."""
+    distinct_values: int | None = None
 
     @property
     def assumed(self) -> bool:
@@ -193,11 +197,12 @@ def scalar_uncertainty(chosen: ScalarCandidate, others: list[ScalarCandidate], *
         else:
             result = Uncertainty(u0, False, basis0, why0 + f"; larger than half the spread of {len(vals)} sources "
                                                            f"({_fmt(half, q)})")
+    groups = copy_groups(vals, q)
+    result = replace(result, distinct_values=len(groups))
     if outliers:
         result = replace(result, reason=f"{result.reason}; {scalar_outlier_text(outliers, chosen)}",
                          outliers=tuple(outliers))
     elif result.basis == "spread" and len(vals) >= 3:
-        groups = copy_groups(vals, q)
         if len(groups) < 3:
             srcs = [chosen] + measured
             same = "; ".join(", ".join(srcs[i].source.label for i in g) for g in groups if len(g) > 1)

@@ -340,7 +340,7 @@ def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positiv
     if v != 0 and sd > abs(v) and user_u:
         c.warn(key, f"the standard uncertainty is {100 * sd / abs(v):.0f} % of the value; a relative uncertainty written "
                     "as u (use relative_u = \"… %\"), or a unit slip in u? It is used as stated")
-    if bounds is not None and sd > 0:
+    if bounds is not None and sd > 0 and bounds[0] <= v <= bounds[1]:   # a value outside is the caller's error
         note = outside_bounds_warning(d, v, bounds, what)
         if note:
             c.warn(key, note)
@@ -366,16 +366,20 @@ def outside_bounds_warning(d, v: float, bounds: tuple[float, float], what: str) 
     p_hi = 1.0 - float(np.asarray(d.cdf(np.array([hi]))).reshape(-1)[0]) if math.isfinite(hi) else 0.0
     if not p_lo + p_hi > OUTSIDE_WARN:
         return ""
-    side = (f"below {_fmt(lo)}" if p_hi <= OUTSIDE_WARN / 10 else f"above {_fmt(hi)}" if p_lo <= OUTSIDE_WARN / 10
-            else f"outside [{_fmt(lo)}, {_fmt(hi)}]")
+    if p_hi <= OUTSIDE_WARN / 10:
+        p, side = p_lo, f"below {_fmt(lo)}"
+    elif p_lo <= OUTSIDE_WARN / 10:
+        p, side = p_hi, f"above {_fmt(hi)}"
+    else:
+        p, side = p_lo + p_hi, f"outside [{_fmt(lo)}, {_fmt(hi)}]"
     if v == lo or v == hi:
         fix = ("a value at its bound with an uncertainty around it draws impossible values half the time; if it lies "
                "in a range next to the bound, write the middle of that range with distribution = \"rectangular\" and "
                "half_width = half of it")
     else:
         fix = ("if it is known to stay inside, give a bounded distribution (truncated-normal with lower/upper at the "
-               "bounds, rectangular or triangular inside them, or lognormal for a positive quantity)")
-    return (f"this distribution puts {100 * (p_lo + p_hi):.2g} % of its probability {side}, where {what} cannot lie; "
+               "bounds, rectangular or triangular inside them" + (", or lognormal" if not math.isfinite(hi) else "") + ")")
+    return (f"this distribution puts {min(100 * p, 99.9):.3g} % of its probability {side}, where {what} cannot lie; "
             f"the Monte Carlo trials use such values as drawn; {fix}")
 
 

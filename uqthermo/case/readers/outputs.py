@@ -316,7 +316,8 @@ def _read_kind(c, o, key, out: OutputSpec, species, reactions, data) -> bool:
             c.add(f"{key}.extent_species", f"{es!r} does not take part in reaction {r}")
         elif m is not None and sum(nus) != 0:
             mm = abs(sum(nus)) * m          # mass of the species converted per mol of extent
-    ext = read_uncertain(c, o["extent"], f"{key}.extent", "amount", positive=True, molar_mass=mm) if "extent" in o else None
+    ext = (read_uncertain(c, o["extent"], f"{key}.extent", "amount", positive=True, molar_mass=mm,
+                          bounds=(0.0, math.inf), what="an extent of reaction") if "extent" in o else None)
     if "extent" not in o:
         c.add(f"{key}.extent", "give the extent of reaction in mol (may be uncertain)")
     charge = (read_species_amounts(c, o["charge"], f"{key}.charge", species, data, f"output.{out.name}.charge")

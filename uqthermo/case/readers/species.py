@@ -222,7 +222,7 @@ def wide_spread_warning(datum_id: str, prov: dict) -> str:
                 f"u = {100 * prov['relative_standard_uncertainty']:.2g} % (half their largest spread) is beyond "
                 f"{100 * w['limit']:.3g} % ({rule}); check the "
                 "primary literature or measure it")
-    n = w.get("distinct_values", len(rows))
+    n = w.get("distinct_values") or len(rows)
     why = ("only two independent values, no majority" if n <= 2 else
            f"{n} independent values, none singled out as an outlier")
     vals = "; ".join(f"{r['source']} {r['value']:.4g}" for r in rows)
