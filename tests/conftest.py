@@ -191,12 +191,62 @@ def demo_runs(tmp_path_factory):
 @pytest.fixture(scope="session")
 def fast_run(tmp_path_factory):
     """The fast case run once in-process through the CLI with the report (exit code, out folder, results)."""
-    base = tmp_path_factory.mktemp("fast")
-    case = write_case(base, BASE_CASE)
+    return run_written_case(tmp_path_factory.mktemp("fast"), BASE_CASE, "--samples", "20000", "--quiet")
+
+
+def run_written_case(base: Path, text: str, *args, name: str = "case.toml") -> dict:
+    """Write ``text`` as ``base/name``, run it in-process through the CLI into ``base/out`` with ``args``;
+    ``{"code", "stdout", "stderr", "out", "case", "results"}`` (results: the parsed results.json, or None)."""
+    case = write_case(base, text, name)
     out = base / "out"
-    code, stdout, stderr = main_in_process("run", case, "--out", out, "--samples", "20000", "--quiet")
+    code, stdout, stderr = main_in_process("run", case, "--out", out, *args)
     res = json.loads((out / "results.json").read_text(encoding="utf-8")) if (out / "results.json").exists() else None
     return {"code": code, "stdout": stdout, "stderr": stderr, "out": out, "case": case, "results": res}
+
+
+# --------------------------------------------------------------------------- an invented reaction case
+
+INVENTED_HEAD = '''title = "{title} (test, invented data)"
+[settings]
+samples = {samples}
+seed = 11
+what_if = false
+sensitivity = "{sens}"
+'''
+INVENTED_SPECIES = '''
+[species.A]
+formula = "C2H4O"
+[species.A.l]
+formation_enthalpy = {{ value = "-100 kJ/mol", u = "{uA}" }}
+heat_capacity = {{ model = "constant", value = "90 J/(mol*K)", T = ["250 K", "400 K"] }}
+[species.P]
+formula = "C2H4O"
+[species.P.l]
+formation_enthalpy = {{ value = "{hP}", u = "0.1 kJ/mol" }}
+heat_capacity = {{ model = "constant", value = "90 J/(mol*K)", T = ["250 K", "400 K"] }}
+[species.S]
+formula = "CH4O"
+[species.S.l]
+formation_enthalpy = "-239 kJ/mol"
+heat_capacity = {{ model = "constant", value = "80 J/(mol*K)", T = ["{s_lo}", "400 K"] }}
+[species.S.g]
+heat_capacity = {{ model = "constant", value = "45 J/(mol*K)", T = ["250 K", "600 K"] }}
+[[species.S.transition]]
+from = "l"
+to = "g"
+temperature = "350 K"
+enthalpy = "35 kJ/mol"
+[reaction.R]
+equation = "A(l) -> P(l)"
+'''
+
+
+def invented_case_text(*, title="rise", samples=20000, sens="linear", uA="0.1 kJ/mol", hP="-180 kJ/mol",
+                       s_lo="250 K", output="", extra="") -> str:
+    """A case of invented data: A(l) -> P(l) (ΔrH(298 K) = −80 kJ/mol, ΔrCp = 0) and a solvent S that boils at
+    350 K, with ``output`` and ``extra`` (TOML) appended; used by the safety-number and amounts tests."""
+    return (INVENTED_HEAD.format(title=title, samples=samples, sens=sens)
+            + INVENTED_SPECIES.format(uA=uA, hP=hP, s_lo=s_lo) + output + extra)
 
 
 # --------------------------------------------------------------------------- report numbering

@@ -13,7 +13,7 @@ import json
 
 import pytest
 
-from conftest import main_in_process, write_case
+from conftest import invented_case_text, run_written_case
 
 chemicals_elements = pytest.importorskip("chemicals.elements")
 
@@ -23,31 +23,7 @@ def _M(formula: str) -> float:
     return chemicals_elements.molecular_weight(chemicals_elements.nested_formula_parser(formula)) / 1e3
 
 
-CASE = '''title = "amounts as written (test, invented data)"
-[settings]
-samples = 400
-seed = 3
-what_if = false
-sensitivity = "linear"
-
-[species.A]
-formula = "C2H4O"
-[species.A.l]
-formation_enthalpy = { value = "-100 kJ/mol", u = "0.1 kJ/mol" }
-heat_capacity = { model = "constant", value = "90 J/(mol*K)", T = ["250 K", "400 K"] }
-[species.P]
-formula = "C2H4O"
-[species.P.l]
-formation_enthalpy = { value = "-180 kJ/mol", u = "0.1 kJ/mol" }
-heat_capacity = { model = "constant", value = "90 J/(mol*K)", T = ["250 K", "400 K"] }
-[species.S]
-formula = "CH4O"
-[species.S.l]
-formation_enthalpy = "-239 kJ/mol"
-heat_capacity = { model = "constant", value = "80 J/(mol*K)", T = ["250 K", "400 K"] }
-[reaction.R]
-equation = "A(l) -> P(l)"
-
+CASE = invented_case_text(title="amounts as written", samples=400, output='''
 [[output]]
 name = "rise"
 kind = "adiabatic_temperature_rise"
@@ -71,17 +47,14 @@ extent_rate = { R = "1.5 mol/s" }
 [[output.feed]]
 temperature = "300 K"
 flows = { "A(l)" = { value = "4600 kg/h", U = "100 kg/h", k = 2 }, "S(l)" = "12 kmol/h" }
-'''
+''')
 
 
 @pytest.fixture(scope="module")
 def run_dir(tmp_path_factory):
-    tmp = tmp_path_factory.mktemp("asw")
-    path = write_case(tmp, CASE)
-    out = tmp / "out"
-    code, _, err = main_in_process("run", str(path), "--out", str(out), "--samples", "400", "--force")
-    assert code == 0, err
-    return out
+    got = run_written_case(tmp_path_factory.mktemp("asw"), CASE, "--samples", "400", "--force")
+    assert got["code"] == 0, got["stderr"]
+    return got["out"]
 
 
 def _inputs(out) -> dict:

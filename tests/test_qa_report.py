@@ -6,11 +6,9 @@ references. Where a number is compared here, its source is named beside the chec
 
 from __future__ import annotations
 
-import json
-
 import pytest
 
-from conftest import check_report_numbering, main_in_process, write_case
+from conftest import check_report_numbering, run_written_case
 
 # An ammonia-synthesis case of our own (data from the shipped library, `library = "auto"`),
 # with a limit on log10 K and a cooling capacity on a heat-release output.
@@ -72,12 +70,9 @@ key = "N2"
 
 
 def _run(base, *extra):
-    case = write_case(base, NH3_CASE, "nh3.toml")
-    out = base / "out"
-    code, stdout, stderr = main_in_process("run", case, "--out", out, *extra)
-    assert code == 0, stderr
-    return {"stdout": stdout, "out": out, "results": json.loads((out / "results.json").read_text(encoding="utf-8")),
-            "md": (out / "report.md").read_text(encoding="utf-8")}
+    got = run_written_case(base, NH3_CASE, *extra, name="nh3.toml")
+    assert got["code"] == 0, got["stderr"]
+    return dict(got, md=(got["out"] / "report.md").read_text(encoding="utf-8"))
 
 
 @pytest.fixture(scope="module")
