@@ -890,8 +890,12 @@ def render(results: dict) -> str:
           "Sobol' trials start at 1.2-1.4 times the floor before the model and the statistics, and several "
           "output points (9 for dH_window, 5 for log10K_window) or a nonlinear model add 40-100 ns per trial. "
           "Where Sobol' is meant to pay, it does: in the adaptive runs of benchmark 3 it needs 3.6-26x fewer "
-          f"trials than pseudo-random sampling{_unmet(b)}. Run-to-run noise on this shared VM is large: the "
-          "same floor program measured 77 to 106 ns per trial within the hour before this run.",
+          f"trials than pseudo-random sampling{_unmet(b)}. Run-to-run noise on this shared VM is large, "
+          "largest for the memory-bound parts (the shuffle, the Sobol' scatter and gather): on 2026-12-04 four "
+          "runs of this benchmark (best of 4, 4, 4 and 8 rounds) gave the cooling duty under Sobol' 517, 448, "
+          "485 and 434 ns per trial, where the same code for that output measured 318 ns the evening before; "
+          "cProfile of the trials of both versions gives the same CPU work (325 and 323 ns per trial), and "
+          "alternating runs of the two measured within each other's noise (±40 ns). The table is the 8-round run.",
           "- Benchmark 3: a coverage-interval endpoint is an order statistic; its batch-to-batch spread decides "
           "when §7.9 stops. Three things make Sobol' pay off there. (1) Each batch is an independently scrambled "
           "net: consecutive blocks of one sequence are not independent, and an earlier version that used them saw "
