@@ -13,7 +13,6 @@ N(x̂, diag(u) R diag(u))).
 from __future__ import annotations
 
 import math
-import threading
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
@@ -24,26 +23,12 @@ from scipy import special
 from ..errors import CorrelationError, StatisticsError
 from .correlation import PSD_TOL, check_correlation, normal_score_from_pearson
 from .distributions import Distribution
+from .scratch import scratch
 
 __all__ = ["InputVariable", "InputSet", "Datum", "rows_times", "cols_times"]
 
 #: uniforms are clipped to [U_CLIP, 1 - U_CLIP] before Φ⁻¹ (2⁻⁵³: the resolution of doubles near 1)
 U_CLIP = 2.0**-53
-
-
-_SCRATCH = threading.local()
-
-
-def _scratch(shape: tuple[int, ...]) -> np.ndarray:
-    """A reusable float array of ``shape`` for temporaries that never leave a call (one per
-    thread): a fresh multi-megabyte array per chunk costs more here than the arithmetic on it.
-    Each thread keeps the largest buffer it has needed (a chunk's worth inside the engines)."""
-    n = int(np.prod(shape))
-    buf = getattr(_SCRATCH, "buf", None)
-    if buf is None or buf.size < n:
-        buf = np.empty(n)
-        _SCRATCH.buf = buf
-    return buf[:n].reshape(shape)
 
 
 def rows_times(Z: np.ndarray, B: np.ndarray) -> np.ndarray:
@@ -419,7 +404,7 @@ class InputSet:
             Uz = U[:, :k]
             if Uz.size and (Uz.min() < U_CLIP or Uz.max() > 1.0 - U_CLIP):
                 Uz = np.clip(Uz, U_CLIP, 1.0 - U_CLIP)
-            Z = special.ndtri(Uz, out=_scratch(Uz.shape))   # z never leaves this call
+            Z = special.ndtri(Uz, out=scratch("scores", Uz.shape))   # z never leaves this call
             nz, mu, sd = plan["normal"]
             if plan["z_columns"] is Ellipsis and len(nz) == d:   # every input normal and independent:
                 X = rows_times(Z, W.T * sd)                       # x = x̂ + u ⊙ (W z), u folded into W

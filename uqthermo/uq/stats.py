@@ -14,13 +14,13 @@
 
 from __future__ import annotations
 
-import threading
 from dataclasses import dataclass
 
 import numpy as np
 
 from ..errors import StatisticsError
 from .order_statistics import SELECT_MIN, OrderStatistics, intervals_from_sorted, quantile_sorted, select_row
+from .scratch import scratch
 
 __all__ = ["Moments", "numerical_tolerance", "intervals_from_sorted", "quantile_sorted", "OrderStatistics",
            "BinLayout", "BinnedCDF"]
@@ -50,22 +50,8 @@ def numerical_tolerance(z, ndigits: int = 2):
     return out if out.ndim else float(out)
 
 
-_SCRATCH = threading.local()
-
-
 #: largest scratch buffer kept between calls (elements); larger ones are made per call
 SCRATCH_KEEP = 1 << 22
-
-
-def _scratch(name: str, size: int, dtype) -> np.ndarray:
-    """A 1-D buffer of ``size`` elements, reused by this thread's later calls up to :data:`SCRATCH_KEEP`."""
-    if size > SCRATCH_KEEP:
-        return np.empty(size, dtype=dtype)
-    buf = getattr(_SCRATCH, name, None)
-    if buf is None or buf.size < size:
-        buf = np.empty(size, dtype=dtype)
-        setattr(_SCRATCH, name, buf)
-    return buf[:size]
 
 
 #: adding 1.5·2⁵² rounds a double |t| < 2⁵¹ to an integer held in its low mantissa bits
@@ -268,7 +254,7 @@ class BinLayout:
         n, m = Y.shape
         size = m * n
         nc = self.n_counts
-        t = _scratch("t", size, np.float64).reshape(m, n)
+        t = scratch("bin_t", (m, n), keep=SCRATCH_KEEP)
         c = self.lo * self.inv_width
         if np.all(np.abs(c) < 2.0**36):
             np.multiply(Y.T, self.inv_width[:, None], out=t)
@@ -280,7 +266,7 @@ class BinLayout:
         t += _ROUND
         bin_ = t.view(np.int64)
         bin_ -= _ROUND_BITS                 # i, in place (garbage, never in [0, k), for |t| ≥ 2⁵¹ or NaN)
-        mask = _scratch("mask", size, np.bool_).reshape(m, n)
+        mask = scratch("bin_mask", (m, n), np.bool_, keep=SCRATCH_KEEP)
         np.greater_equal(bin_.view(np.uint64), self.k, out=mask)
         flat = np.empty(size, dtype=np.int64) if out is None else out
         np.add(bin_, (self.first + 1 + np.arange(m, dtype=np.int64) * nc)[:, None], out=flat.reshape(m, n))

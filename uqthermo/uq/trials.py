@@ -46,7 +46,6 @@ otherwise, so its normal scores may differ by a few ulp between chunkings.
 
 from __future__ import annotations
 
-import threading
 from collections.abc import Callable, Iterator, Sequence
 
 import numpy as np
@@ -57,6 +56,7 @@ from .blas import one_blas_thread
 from .inputs import U_CLIP, InputSet, cols_times, rows_times
 from .latin import LatinScoreStream, stratified_scores
 from .sampling import ScoreStream, UniformStream
+from .scratch import scratch
 
 __all__ = ["TrialDesign", "fit_affine"]
 
@@ -67,20 +67,6 @@ AFFINE_CHECK_ROWS = 4
 AFFINE_RTOL = 1e-9
 #: a coordinate is dropped from the folded map when all its |A_km| ≤ DROP_TOL·‖A_:m‖₂
 DROP_TOL = 2.0**-45
-
-_SCRATCH = threading.local()
-
-
-def _scratch(name: str, shape: tuple[int, int]) -> np.ndarray:
-    """A per-thread reusable C-contiguous array (fresh multi-megabyte arrays per chunk cost
-    more on this kind of machine than the arithmetic on them). Valid until the next call."""
-    n = shape[0] * shape[1]
-    buf = getattr(_SCRATCH, name, None)
-    if buf is None or buf.size < n:
-        buf = np.empty(max(n, 1))
-        setattr(_SCRATCH, name, buf)
-    return buf[:n].reshape(shape)
-
 
 def fit_affine(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet) -> tuple[np.ndarray, np.ndarray] | None:
     """(y0 = f(x̂) (M,), J (M, D)) of a model that is affine in its inputs, f(x) = y0 + J (x − x̂).
@@ -152,7 +138,7 @@ class TrialStream:
         done = 0
         while done < n:
             t = min(chunk_size, n - done)
-            yield self._scores.draw(t, out=(_scratch("z", (self._scores.k, t)).T, _scratch("v", (self._scores.m, t)).T))
+            yield self._scores.draw(t, out=(scratch("z", (self._scores.k, t)).T, scratch("v", (self._scores.m, t)).T))
             done += t
 
 
@@ -355,7 +341,7 @@ class TrialDesign:
         a few ulp of ``ndtri``); any other column through ``scipy.special.ndtri``."""
         if U.size and (U.min() < U_CLIP or U.max() > 1.0 - U_CLIP):   # two cheap reductions; clip only if needed
             U = np.clip(U, U_CLIP, 1.0 - U_CLIP)
-        out = _scratch("ndtri", (U.shape[1], U.shape[0]))
+        out = scratch("ndtri", (U.shape[1], U.shape[0]))
         for j in range(U.shape[1]):
             col = U[:, j]                          # a strided view: both read it without a copy
             if not stratified_scores(col, out[j]):
