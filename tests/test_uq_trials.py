@@ -100,7 +100,7 @@ def test_sobol_trials_of_an_affine_model_need_only_the_rank_of_its_gradients():
     s = InputSet([InputVariable(f"x{i}", f"x{i}", Normal(xs[i], us[i])) for i in range(6)])
     f = lambda X: X @ C
     design = TrialDesign(f, s, "sobol", 5, affine=True,
-                         rotation=lambda cols, grads=None: score_rotation(f, s, cols, grads))
+                         rotation=lambda cols, grads=None, values=None: score_rotation(f, s, cols, grads, values))
     assert design.affine and len(design._fold[0]) == 3
     W = design.rotation
     np.testing.assert_allclose(W.T @ W, np.eye(6), atol=1e-12)

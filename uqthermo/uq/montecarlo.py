@@ -100,7 +100,8 @@ def batch_seed(seed: int, batch: int) -> int:
 
 
 def score_rotation(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet,
-                   columns: np.ndarray | None = None, gradients: np.ndarray | None = None) -> np.ndarray | None:
+                   columns: np.ndarray | None = None, gradients: np.ndarray | None = None,
+                   values: np.ndarray | None = None) -> np.ndarray | None:
     """Orthogonal matrix W (K, K) that points the leading Sobol' coordinates along the model's
     linear directions in the space of the K independent normal input scores.
 
@@ -147,10 +148,13 @@ def score_rotation(f: Callable[[np.ndarray], np.ndarray], inputs: InputSet,
     value above :data:`SPAN_FLOOR` times the first, not :data:`ROTATION_CUTOFF`) and the
     completion columns are orthogonal to every output's gradient: no output moves with them,
     and the trials need only rank(G) Sobol' coordinates (5 of the demo's 7 for ΔrH over a
-    temperature window: two combinations of its inputs move no output).
+    temperature window: two combinations of its inputs move no output). ``values`` (M,): the
+    model's values at the estimates; an output whose gradient is below 10⁻¹² of its value (its
+    linear part is rounding) does not steer W.
     """
     if gradients is not None:
-        return _rotation_from(np.asarray(gradients, dtype=float), 0.0, SPAN_FLOOR)
+        floor = 0.0 if values is None else 1e-12 * np.abs(np.asarray(values, dtype=float))
+        return _rotation_from(np.asarray(gradients, dtype=float), floor, SPAN_FLOOR)
     unc = np.flatnonzero(np.asarray(inputs.stds) > 0)
     pos = np.arange(len(unc)) if columns is None else np.searchsorted(unc, np.asarray(columns, dtype=np.intp))
     k = len(pos)
@@ -373,7 +377,7 @@ def check_run_arguments(inputs, samples, sampling, seed, coverage, ndigits, chun
 def trial_design(f, inputs: InputSet, method: str, seed: int, rotate: bool, affine: bool,
                  depends_on) -> TrialDesign:
     """The run's :class:`~uqthermo.uq.trials.TrialDesign` (with the Sobol' score rotation when asked)."""
-    rotation = ((lambda cols, grads=None: score_rotation(f, inputs, cols, grads))
+    rotation = ((lambda cols, grads=None, values=None: score_rotation(f, inputs, cols, grads, values))
                 if method == "sobol" and rotate else None)
     return TrialDesign(f, inputs, method, seed, rotation=rotation, affine=affine, depends_on=depends_on)
 

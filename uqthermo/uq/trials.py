@@ -153,9 +153,10 @@ class TrialDesign:
     method : {"random", "latin-hypercube", "sobol"}
     seed : int
         The run's seed (also seeds the companion stream of the kept rows' inactive inputs).
-    rotation : callable(active columns, gradients=None) -> W or None, optional
+    rotation : callable(active columns, gradients=None, values=None) -> W or None, optional
         The Sobol' score rotation over the active inputs (``score_rotation``), or None. For a
-        model found affine it is asked again with the model's exact score gradients.
+        model found affine it is asked again with the model's exact score gradients and its
+        values at the estimates.
     affine : bool
         The caller declares f exactly affine in X; the map is fitted and checked
         (:func:`fit_affine`) and trials are evaluated from it (f is then not called per trial).
@@ -237,8 +238,6 @@ class TrialDesign:
         driven = set(self._score_vars) | set(self._o_cols)
         self._fixed = [j for j in range(d) if j not in driven]
         self._all_normal = self._normal == list(range(d)) and not self._linked
-        # rotated scores of the normal columns with u folded in: x = x̂ + (z Wᵀ)[:, pos] ⊙ u in one product
-        self._w_sd_n = None if self.rotation is None else self.rotation.T[:, self._n_pos] * self._n_sd
         self._companion = int(np.random.SeedSequence([self.seed, 0x6B657074]).generate_state(1, np.uint64)[0] >> 1)
         if fitted is not None:
             self.n_outputs = fitted[1].shape[0]
@@ -248,14 +247,13 @@ class TrialDesign:
             self.n_outputs = 1 if y.ndim == 1 else int(y.shape[1])
         B = self._score_map(fitted[1]) if fitted is not None else None
         if B is not None and self.rotation is not None:
-            # an affine model's exact gradients: the rotation's leading columns span them all,
-            # so the trials need only rank(B) Sobol' coordinates (see score_rotation)
-            # an output whose linear part is rounding of its value (below 10⁻¹² of it) does not steer W
-            live = np.linalg.norm(B, axis=0) > 1e-12 * np.abs(fitted[0])
-            W = rotation(self.active, np.where(live[None, :], B, 0.0))
+            # an affine model's exact gradients: the rotation's leading columns span them all, so the
+            # trials need only rank(B) Sobol' coordinates (see score_rotation)
+            W = rotation(self.active, B, fitted[0])
             if W is not None:
                 self.rotation = np.asarray(W, dtype=float)
-                self._w_sd_n = self.rotation.T[:, self._n_pos] * self._n_sd
+        # rotated scores of the normal columns with u folded in: x = x̂ + (z Wᵀ)[:, pos] ⊙ u in one product
+        self._w_sd_n = None if self.rotation is None else self.rotation.T[:, self._n_pos] * self._n_sd
         self._fold = self._folded(fitted, B) if B is not None else None
         self.affine = self._fold is not None
 
