@@ -35,7 +35,11 @@ in the run's stream into model values. Three things decide the cost of a trial:
   of an affine model is built from this exact map (every direction of its span leads, see
   :func:`~uqthermo.uq.montecarlo.score_rotation`), not from central differences of f: with
   several outputs an affine run and a run through f therefore use different, equally valid
-  rotations (one output: the same).
+  rotations (one output: the same). Its leading rank(B) coordinates are then the only ones the
+  outputs move with, so the Sobol' stream is of that dimension (one for one output; the points
+  of a lower-dimensional sequence, so other trials than a run through f draws); the kept rows
+  take the completion's coordinates from a companion pseudo-random stream (by global row), so
+  each of them is still a draw of the joint input distribution with its own model values.
 
 Every row depends only on its position in the stream (never on where a chunk or a Dask block
 ends): products of one row are computed as two rows (BLAS rounds a single row differently).
@@ -124,7 +128,7 @@ class TrialStream:
             self._uniform = None
         else:
             self._scores = None
-            self._uniform = UniformStream(design.dimension, design.method, seed, skip)
+            self._uniform = UniformStream(design.stream_dimension, design.method, seed, skip)
 
     def draw(self, n: int):
         if self._scores is not None:
@@ -170,6 +174,8 @@ class TrialDesign:
     n_outputs : M
     affine : bool, whether trials go through the folded affine map
     dimension : coordinates per trial (Sobol', Latin hypercube)
+    stream_dimension : coordinates per trial drawn from the run's stream: ``dimension``, or for an
+        affine model under the Sobol' rotation the rank of its score map (the leading coordinates)
     """
 
     def __init__(self, f: Callable[[np.ndarray], np.ndarray], inputs: InputSet, method: str, seed: int, *,
@@ -256,6 +262,15 @@ class TrialDesign:
         self._w_sd_n = None if self.rotation is None else self.rotation.T[:, self._n_pos] * self._n_sd
         self._fold = self._folded(fitted, B) if B is not None else None
         self.affine = self._fold is not None
+        # Sobol' coordinates drawn per trial: under the rotation an affine model reads only the
+        # leading rank(B) ones (its span); the completion's coordinates, which move no output, are
+        # drawn for the kept rows alone, from a companion pseudo-random stream
+        self.stream_dimension = self.dimension
+        if self.method == "sobol" and self.affine and self.rotation is not None and self._z_identity:
+            need = self._fold[0]
+            if 0 < len(need) < self.dimension and np.array_equal(need, np.arange(len(need))):
+                self.stream_dimension = len(need)
+        self._padding = int(np.random.SeedSequence([self.seed, 0x70616464]).generate_state(1, np.uint64)[0] >> 1)
 
     def _unchanged_without(self, f, columns: list[int]) -> bool:
         """Whether f gives bit for bit the same values when ``columns`` move from their estimates
@@ -405,6 +420,17 @@ class TrialDesign:
                 X[:, j] = dists[j].distribution.from_standard_normal(Zl[:, i])
         return X
 
+    def _padded(self, chunk, t: int, row0: int):
+        """The chunk's first t trials with every coordinate: a Sobol' chunk of the leading
+        ``stream_dimension`` coordinates gets the completion's from the companion pseudo-random
+        stream, by global row (each kept row is then still a draw of the joint input distribution,
+        and its model values are those of the chunk: no output moves with those coordinates)."""
+        first = self.slice(chunk, 0, t)
+        if self.scored or self.stream_dimension == self.dimension:
+            return first
+        rest = UniformStream(self.dimension - self.stream_dimension, "random", self._padding, skip=row0).draw(t)
+        return np.hstack([first, rest])
+
     def _fill_inactive(self, X: np.ndarray, row0: int) -> None:
         """Kept rows: draw the inactive inputs from the companion stream, by global row."""
         if len(self.inactive) and X.shape[0]:
@@ -422,7 +448,10 @@ class TrialDesign:
         t = int(max(0, min(n, keep_rows - row0)))
         if self._fold is not None:
             need, A, Jo, c = self._fold
-            Z, V = self._coordinates(chunk, need=None if len(need) == self.n_scores else need)
+            if self.stream_dimension < self.dimension:      # Sobol': the chunk holds the needed coordinates only
+                Z, V = self._ndtri(chunk), chunk[:, :0]
+            else:
+                Z, V = self._coordinates(chunk, need=None if len(need) == self.n_scores else need)
             M = A.shape[1]
             YT = np.empty((M, n))
             with one_blas_thread():     # tall and skinny: one thread (see uq/blas.py)
@@ -438,7 +467,7 @@ class TrialDesign:
                     for i, j in enumerate(self._o_cols):
                         Xo[:, i] = self.inputs.variables[j].distribution.ppf(np.clip(V[:, i], U_CLIP, 1.0 - U_CLIP))
                     YT += rows_times(Xo, Jo).T
-            Xk = self._inputs(*self._coordinates(chunk, slice(0, t))) if t else np.empty((0, len(self.inputs)))
+            Xk = self._inputs(*self._coordinates(self._padded(chunk, t, row0))) if t else np.empty((0, len(self.inputs)))
             self._fill_inactive(Xk, row0)
             return Xk, YT.T
         X = self._inputs(*self._coordinates(chunk))
