@@ -15,6 +15,10 @@
 5. A batch of 1000 reactions over 20 temperatures with 10^5 samples, sharing 200
    synthetic species (NASA-7 data, built programmatically), through the shared species
    table and the stoichiometric matrix; compared with reaction-by-reaction evaluation.
+6. Side by side with a hand-written numpy script and the random-number floor (issue 19):
+   marginal cost per trial of each output of the demo and the issue's case, every sampling scheme.
+7. What a trial costs at least: the per-element cost of each building block (generators,
+   shuffle, Sobol' points, Φ⁻¹, per-value statistics) and the lower bound it sets per output.
 
 The benchmark case is the methanation reaction of the demo ``inputs/methanation_reactor.toml``
 (published species data; its Cp uncertainties are the demo's assumptions). The synthetic
@@ -621,6 +625,35 @@ def bench_side_by_side(quick: bool) -> dict:
 
 # ----------------------------------------------------------------------------- report
 
+
+# ----------------------------------------------------------------------------- 7. what a trial costs at least
+
+def bench_element_costs(quick: bool) -> dict:
+    """Per-element costs of the building blocks of a trial (``side_by_side/element_costs.py``) and the
+    lower bound they set on the cost per trial of each output of benchmark 6, model left out."""
+    import tempfile
+
+    costs = _run_json([str(SIDE / "element_costs.py"), "3" if quick else "12"])
+    folder = Path(tempfile.mkdtemp(prefix="uqthermo-bench7-"))
+    out = {"costs_ns": costs, "cases": {}}
+    for c in side_by_side_cases(folder):
+        case = load_case(c["case"])
+        m = build_model(case)
+        tool = {"affine": m.affine, "depends_on": model_columns(case, m.inputs)}
+        d = trial_design(m.f, m.inputs, "sobol", 7, True, **tool)
+        phi = d.stream_dimension if d.affine else d.n_scores      # coordinates mapped through Φ⁻¹
+        k, u, mo = c["normals"], c["uniforms"], d.n_outputs
+        stats = mo * (costs["moments"] + costs["histogram"])
+        floor = k * costs["normal_pcg64"] + u * costs["uniform_pcg64"]
+        bound = {"random": k * costs["normal_sfc64"] + u * costs["uniform_sfc64"] + stats,
+                 "latin-hypercube": (k + u) * costs["lhs_score"] + stats,
+                 "sobol": d.stream_dimension * costs["sobol_point"] + phi * costs["sobol_phi"] + stats}
+        out["cases"][c["key"]] = {"label": c["label"].split(" (")[0], "normals": k, "uniforms": u, "outputs": mo,
+                                  "sobol_coordinates": d.stream_dimension, "sobol_phi": phi, "floor_ns": floor,
+                                  "statistics_ns": stats, "bound_ns": bound,
+                                  "bound_vs_floor": {s: v / floor for s, v in bound.items()}}
+    return out
+
 def fmt(x, digits=3):
     if isinstance(x, float):
         return f"{x:.{digits}g}"
@@ -810,6 +843,43 @@ def render(results: dict) -> str:
                          f"| {x['quad_over_pipeline']:.0f} | {x['peak_rss_MiB'][0]:.0f}, {x['peak_rss_MiB'][1]:.0f} "
                          f"| {x['mean_difference_in_se']:.1f} |")
         L += [""]
+    b = results.get("7_element_costs")
+    if b:
+        mach7 = results.get("machine_by_benchmark", {}).get("7_element_costs", results["machine"])
+        c = b["costs_ns"]
+        L += ["## 7. What a trial costs at least", "",
+              f"Measured {mach7['date']} (load average at start {mach7['load_average_at_start']}). Each building "
+              "block of a trial timed alone (`benchmarks/side_by_side/element_costs.py`: CPU time, the blocks "
+              "interleaved, best of the rounds), in ns per element:", "",
+              "| block | ns |", "|---|---|",
+              f"| normal variate, numpy's default generator (PCG64; the floor's unit) | {c['normal_pcg64']:.1f} |",
+              f"| uniform, PCG64 | {c['uniform_pcg64']:.1f} |",
+              f"| normal variate, SFC64 (the tool's score streams) | {c['normal_sfc64']:.1f} |",
+              f"| uniform, SFC64 | {c['uniform_sfc64']:.1f} |",
+              f"| numpy's Fisher-Yates shuffle, per value of a 2^18 column | {c['shuffle']:.1f} |",
+              f"| Latin-hypercube normal score (uniform, Φ⁻¹ by the stratum table, shuffle) | {c['lhs_score']:.1f} |",
+              f"| scrambled Sobol' coordinate (`scipy.stats.qmc.Sobol`) | {c['sobol_point']:.1f} |",
+              f"| Φ⁻¹ of a Sobol' coordinate (stratum table or `ndtri`, the cheaper) | {c['sobol_phi']:.1f} |",
+              f"| running moments, per output value | {c['moments']:.1f} |",
+              f"| fixed histogram (bins as fine as two digits need), per output value | {c['histogram']:.1f} |", "",
+              "Lower bound of a trial of each output of benchmark 6 with these blocks and no model at all: its "
+              "coordinates (random: K normal variates on SFC64 and its uniforms; Latin hypercube: K + U scores; "
+              "Sobol': the coordinates drawn, each with its Φ⁻¹) plus M output values of statistics; floor as in "
+              "benchmark 6 (K normal variates and U uniforms on PCG64). A bound above 2x the floor (in bold) means "
+              "the target of benchmark 6 cannot be met with numpy's and scipy's generators, shuffle and Φ⁻¹ and "
+              "numpy-level statistics, whatever the rest of the tool does.", "",
+              "| output | K + U | M | Sobol' coordinates | floor ns | statistics ns | bound random (x floor) | "
+              "bound Latin hypercube | bound Sobol' |", "|---|---|---|---|---|---|---|---|---|"]
+        for r in b["cases"].values():
+            cells = []
+            for sch in SCHEMES:
+                ratio = r["bound_vs_floor"][sch]
+                txt = f"{r['bound_ns'][sch]:.0f} ({ratio:.2f})"
+                cells.append(f"**{txt}**" if ratio > 2.0 else txt)
+            L.append(f"| {r['label']} | {r['normals']}" + (f" + {r['uniforms']}" if r["uniforms"] else "")
+                     + f" | {r['outputs']} | {r['sobol_coordinates']} | {r['floor_ns']:.0f} | "
+                     f"{r['statistics_ns']:.0f} | " + " | ".join(cells) + " |")
+        L += [""]
     L += ["## Notes", "",
           "- Profile first (cProfile on `build_model(...).evaluate` of the demo case, 65536 rows): before this "
           "work the model spent most of its time in `thermo/cp.py::_contract` and `species.py` (two contractions per "
@@ -938,10 +1008,11 @@ def main(argv=None) -> int:
         memory_child(args.memory_child)
         return 0
     SIDE_REPEATS = max(1, int(args.repeats))
-    only = set(args.only.split(",")) if args.only else {"1", "2", "3", "4", "5", "6"}
+    only = set(args.only.split(",")) if args.only else {"1", "2", "3", "4", "5", "6", "7"}
     results = {"machine": machine(), "quick": args.quick}
     steps = [("1", "1_naive", bench_naive), ("2", "2_rng_floor", bench_rng_floor), ("3", "3_adaptive", bench_adaptive),
-             ("4", "4_memory", bench_memory), ("5", "5_batch", bench_batch), ("6", "6_side_by_side", bench_side_by_side)]
+             ("4", "4_memory", bench_memory), ("5", "5_batch", bench_batch), ("6", "6_side_by_side", bench_side_by_side),
+             ("7", "7_element_costs", bench_element_costs)]
     for key, name, fn in steps:
         if key not in only:
             continue
@@ -988,6 +1059,10 @@ def main(argv=None) -> int:
             print(f"  6. [{r['label']}] script {r['script_ns']:.0f} ns, floor {r['floor_ns']:.0f} ns per trial; " +
                   ", ".join(f"{s} {r[s]['pipeline_ns']:.0f} ns = {r[s]['vs_script']:.2f}x script, "
                             f"{r[s]['vs_floor']:.2f}x floor" for s in SCHEMES))
+    if "7_element_costs" in results:
+        for r in results["7_element_costs"]["cases"].values():
+            print(f"  7. [{r['label']}] lower bound per trial without the model: " +
+                  ", ".join(f"{s} {r['bound_vs_floor'][s]:.2f}x floor" for s in SCHEMES))
     if "5_batch" in results:
         r = results["5_batch"]
         print(f"  5. batch model {r['model_values_per_s']:.3g} values/s, "
