@@ -8,16 +8,19 @@ of this process, one BLAS thread: the shared machine's load hits all alike). Blo
 
 * ``normal_pcg64``, ``uniform_pcg64``: numpy's default generator (the floor of benchmark 6);
 * ``normal_sfc64``, ``uniform_sfc64``: the same on SFC64, the tool's score streams;
-* ``shuffle``: numpy's Fisher-Yates ``Generator.shuffle`` of a 2^18 column (a Latin-hypercube
-  column needs a uniformly random permutation; numpy has no cheaper one);
+* ``shuffle``: a uniform and numpy's Fisher-Yates ``Generator.shuffle`` per value of a 2^18
+  column (a Latin-hypercube column of uniforms needs a uniformly random permutation; numpy
+  has no cheaper one);
 * ``lhs_score``: one Latin-hypercube normal score as the tool builds it (uniform, Φ⁻¹ by the
   stratum table, shuffle; ``uqthermo.uq.latin``);
 * ``sobol_point``: one coordinate of a scrambled Sobol' point (``scipy.stats.qmc.Sobol``, 8
   dimensions, 2^16 points);
 * ``sobol_phi``: Φ⁻¹ of one such coordinate, the cheaper of the stratum table
   (``uqthermo.uq.latin.stratified_scores``) and ``scipy.special.ndtri``;
-* ``moments``, ``histogram``: the per-output JCGM 101 statistics per value (running moments;
-  the fixed histogram of ``uqthermo.uq.stats`` with bins as fine as two digits need), 9 outputs.
+* ``moments``, ``histogram``, ``exact``: the per-output JCGM 101 statistics per value, 9 outputs
+  (running moments; the fixed histogram of ``uqthermo.uq.stats`` with bins as fine as two
+  digits need; or the values stored and the intervals and median taken as exact order
+  statistics, ``uqthermo.uq.order_statistics``, 2^20 values per output).
 """
 import os
 
@@ -35,6 +38,7 @@ from scipy.stats import qmc  # noqa: E402
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 from uqthermo.uq import latin  # noqa: E402
+from uqthermo.uq.order_statistics import OrderStatistics  # noqa: E402
 from uqthermo.uq.stats import BinLayout, BinnedCDF, Moments  # noqa: E402
 
 rounds = int(sys.argv[1]) if len(sys.argv) > 1 else 10
@@ -51,6 +55,17 @@ pilot = rng.standard_normal((2**18, n_out)) * scale
 layout = BinLayout.from_pilot(pilot, 100_000, ndigits=2)
 Y = np.asfortranarray(rng.standard_normal((m, n_out)) * scale)
 hist, mom = BinnedCDF(layout=layout), Moments(n_out)
+n_exact = 2**20
+values = rng.standard_normal((n_exact, n_out)) * scale
+store = np.empty((n_out, n_exact))
+
+
+def exact():
+    for a in range(0, n_exact, m):                 # stored chunk by chunk, as the collector does
+        store[:, a:a + m] = values[a:a + m].T
+    order = OrderStatistics(store, 0.95)
+    order.intervals(0.95)
+    order.quantile(0.5)
 
 
 def phi():
@@ -63,13 +78,14 @@ blocks = {
     "uniform_pcg64": (lambda: pcg.random(out=col), m),
     "normal_sfc64": (lambda: sfc.standard_normal(out=col), m),
     "uniform_sfc64": (lambda: sfc.random(out=col), m),
-    "shuffle": (lambda: sfc.shuffle(col_lhs), m_lhs),
+    "shuffle": (lambda: (sfc.random(out=col_lhs), sfc.shuffle(col_lhs)), m_lhs),
     "lhs_score": (lambda: latin._fill_column(col_lhs, gen, True), m_lhs),
     "sobol_point": (lambda: qmc.Sobol(8, seed=1).random(m), 8 * m),
     "sobol_phi_table": (phi, m),
     "sobol_phi_ndtri": (lambda: special.ndtri(U[:, 3], out=out), m),
     "moments": (lambda: mom.add(Y), m * n_out),
     "histogram": (lambda: (hist.add(Y, extremes=(hist.min, hist.max)), hist.counts), m * n_out),
+    "exact": (exact, n_exact * n_out),
 }
 best = {k: float("inf") for k in blocks}
 for _ in range(rounds):
