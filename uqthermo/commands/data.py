@@ -111,8 +111,9 @@ def _scalar_rows(ident, window) -> list[list[str]]:
 
 #: appended to the chosen source's uncertainty when the sources disagree widely without a majority
 #: (``library.uncertainty.wide_spread_limit``); :data:`_WIDE_NOTE` is printed under the table
-_WIDE = " WIDE SPREAD (u > {})"
-_WIDE_NOTE = ("WIDE SPREAD: the sources disagree widely without a majority, so u (half their spread) is beyond "
+_WIDE_MARK = "WIDE SPREAD"
+_WIDE = " " + _WIDE_MARK + " (u > {})"
+_WIDE_NOTE = (_WIDE_MARK + ": the sources disagree widely without a majority, so u (half their spread) is beyond "
               "{:g} times the uncertainty assumed for a compilation (our rule); check the primary literature or "
               "measure it before relying on this datum")
 
@@ -313,7 +314,7 @@ def execute(args) -> int:
         for row in srow:
             st.add_row(*(markup(x) for x in row))      # "[assumed]" is text, not rich markup
         console.print(st)
-        wide = any("WIDE SPREAD" in row[-1] for row in srow)
+        wide = any(_WIDE_MARK in row[-1] for row in srow)       # the uncertainty cell carries the mark
         ct = Table(title=f"heat-capacity curves: which ranges cover {wtxt} (--T sets the window)",
                    title_justify="left", header_style="bold")
         for col in ("phase", "source", "equation", "range", f"covers {wtxt}", "Cp J/(mol*K) at window ends", "u"):
@@ -323,7 +324,7 @@ def execute(args) -> int:
             ct.add_row(*(markup(x) for x in row))
         if crow:
             console.print(ct)
-        if wide or any("WIDE SPREAD" in row[-1] for row in crow):
+        if wide or any(_WIDE_MARK in row[-1] for row in crow):
             from ..case.library.uncertainty import OUTLIER_FACTOR
 
             console.print(_WIDE_NOTE.format(OUTLIER_FACTOR), markup=False)
