@@ -847,10 +847,10 @@ def render(results: dict) -> str:
                          f"| {x['quad_over_pipeline']:.0f} | {x['peak_rss_MiB'][0]:.0f}, {x['peak_rss_MiB'][1]:.0f} "
                          f"| {x['mean_difference_in_se']:.1f} |")
         L += [""]
-    b = results.get("7_element_costs")
-    if b:
+    b7 = results.get("7_element_costs")
+    if b7:
         mach7 = results.get("machine_by_benchmark", {}).get("7_element_costs", results["machine"])
-        c = b["costs_ns"]
+        c = b7["costs_ns"]
         L += ["## 7. What a trial costs at least", "",
               f"Measured {mach7['date']} (load average at start {mach7['load_average_at_start']}). Each building "
               "block of a trial timed alone (`benchmarks/side_by_side/element_costs.py`: CPU time, the blocks "
@@ -877,7 +877,7 @@ def render(results: dict) -> str:
               "numpy-level statistics, whatever the rest of the tool does.", "",
               "| output | K + U | M | Sobol' coordinates | floor ns | statistics ns | bound random (x floor) | "
               "bound Latin hypercube | bound Sobol' |", "|---|---|---|---|---|---|---|---|---|"]
-        for r in b["cases"].values():
+        for r in b7["cases"].values():
             cells = []
             for sch in SCHEMES:
                 ratio = r["bound_vs_floor"][sch]
