@@ -967,7 +967,7 @@ def render(results: dict) -> str:
           "gathered for any u measured no faster). So Latin-hypercube and "
           "Sobol' trials start at 1.2-1.4 times the floor before the model and the statistics, and several "
           "output points (9 for dH_window, 5 for log10K_window) or a nonlinear model add 40-100 ns per trial. "
-          "Where Sobol' is meant to pay, it does: in the adaptive runs of benchmark 3 it needs 3.6-26x fewer "
+          "Where Sobol' is meant to pay, it does: in the adaptive runs of benchmark 3 it needs 3.6-25x fewer "
           f"trials than pseudo-random sampling{_unmet(b)}. Run-to-run noise on this shared VM is large, "
           "largest for the memory-bound parts (the shuffle, the Sobol' scatter and gather): on 2026-12-04 four "
           "runs of this benchmark (best of 4, 4, 4 and 8 rounds) gave the cooling duty under Sobol' 517, 448, "
@@ -986,7 +986,10 @@ def render(results: dict) -> str:
           "taken: a numba prototype of numpy's own Fisher-Yates on SFC64 (the same permutation bit for bit) "
           "took about 7 ns per value against numpy's 10 (its rejection loop's branches bound it, not memory), "
           "and a fused bin-and-count kernel 1.6 against 3.9 ns per output value; not enough for every "
-          "Latin-hypercube row, for about 200 MB of numba and llvmlite and seconds of compilation on first use.",
+          "Latin-hypercube row, for about 200 MB of numba and llvmlite and seconds of compilation on first use. "
+          "The table above is an 8-round run of 2026-12-04 03:44 UTC: its pseudo-random rows, whose code this "
+          "pass did not touch, measured from 6 % below to 27 % above the previous night's (dH_window 165 → 202, "
+          "log10K_window 169 → 214 ns per trial), which is this machine's noise; compare rows within one run.",
           "- Benchmark 3: a coverage-interval endpoint is an order statistic; its batch-to-batch spread decides "
           "when §7.9 stops. Three things make Sobol' pay off there. (1) Each batch is an independently scrambled "
           "net: consecutive blocks of one sequence are not independent, and an earlier version that used them saw "
