@@ -143,3 +143,29 @@ def test_bad_arguments_raise_before_starting_a_cluster(model):
         propagate_monte_carlo_dask(model.f, model.inputs, samples=1)
     with pytest.raises(StatisticsError):
         propagate_monte_carlo_dask(model.f, model.inputs, samples=100, coverage=1.5)
+
+
+def test_affine_sobol_stream_of_the_span_same_answer(client):
+    """An affine model of rank 2 in 5 normal inputs under Sobol': the stream has 2 coordinates
+    (the span of the outputs' gradients) and the kept rows take the other 3 from the companion
+    stream by global row, so Dask blocks give the local engine's answer, kept rows included."""
+    from uqthermo.uq import InputSet, InputVariable, Normal
+
+    rng = np.random.default_rng(4)
+    C = rng.normal(size=(5, 2)) @ rng.normal(size=(2, 3))          # (5 inputs, 3 outputs), rank 2
+    s = InputSet([InputVariable(f"x{i}", f"x{i}", Normal(float(i), 0.5 + 0.1 * i)) for i in range(5)])
+
+    def f(X):
+        return X @ C
+
+    from uqthermo.uq.montecarlo import trial_design
+
+    assert trial_design(f, s, "sobol", 5, True, True, None).stream_dimension == 2
+    kw = dict(samples=N, sampling="sobol", seed=5, affine=True)
+    loc = propagate_monte_carlo(f, s, **kw)
+    dis = propagate_monte_carlo_dask(f, s, scheduler=client, block_rows=BLOCK, **kw)
+    np.testing.assert_allclose(dis.mean, loc.mean, rtol=1e-12, atol=1e-12)
+    np.testing.assert_allclose(dis.coverage_interval, loc.coverage_interval, rtol=1e-12, atol=1e-12)
+    np.testing.assert_allclose(dis.X_kept, loc.X_kept, rtol=4e-15, atol=1e-15)
+    np.testing.assert_allclose(dis.Y_kept, f(dis.X_kept), rtol=1e-12, atol=1e-12)
+    assert np.linalg.matrix_rank(np.cov(loc.X_kept.T)) == 5          # every input varies in the kept rows
