@@ -370,7 +370,9 @@ class TrialDesign:
             return (Z if need is None else Z[:, need]), V
         U = chunk if rows is None else chunk[rows]
         at = self._z_at if need is None else self._z_at[need]
-        Uz = U if len(at) == U.shape[1] and self._z_identity and need is None else U[:, at]
+        # columns in order (a need of sorted coordinates, as many as the chunk has: all of them, or
+        # the leading ones a chunk of the stream_dimension holds) are the chunk itself
+        Uz = U if len(at) == U.shape[1] and self._z_identity else U[:, at]
         return self._ndtri(Uz), U[:, self._o_at]
 
     def _inputs(self, Z: np.ndarray, V: np.ndarray) -> np.ndarray:
@@ -448,10 +450,7 @@ class TrialDesign:
         t = int(max(0, min(n, keep_rows - row0)))
         if self._fold is not None:
             need, A, Jo, c = self._fold
-            if self.stream_dimension < self.dimension:      # Sobol': the chunk holds the needed coordinates only
-                Z, V = self._ndtri(chunk), chunk[:, :0]
-            else:
-                Z, V = self._coordinates(chunk, need=None if len(need) == self.n_scores else need)
+            Z, V = self._coordinates(chunk, need=None if len(need) == self.n_scores else need)
             M = A.shape[1]
             YT = np.empty((M, n))
             with one_blas_thread():     # tall and skinny: one thread (see uq/blas.py)
