@@ -89,6 +89,14 @@ class Distribution:
         """Cumulative distribution function G(x), vectorised."""
         raise NotImplementedError
 
+    def ppf_at(self, p: float) -> float:
+        """G⁻¹(p) at one probability, as a float."""
+        return float(np.asarray(self.ppf(np.array([p])), dtype=float).reshape(-1)[0])
+
+    def cdf_at(self, x: float) -> float:
+        """G(x) at one value, as a float."""
+        return float(np.asarray(self.cdf(np.array([x])), dtype=float).reshape(-1)[0])
+
     def isf(self, q: np.ndarray) -> np.ndarray:
         """Inverse survival function: the x with P(X > x) = q (accurate for small q)."""
         return self.ppf(1.0 - np.asarray(q, dtype=float))

@@ -66,7 +66,7 @@ def _marginal(case, inputs, datums=None, scenario: str = "", key_of=None) -> lis
         d = case.data.get(v.datum)
         unit = d.unit if d is not None else ""
         for p in (TAIL_PROBABILITY, 1.0 - TAIL_PROBABILITY):
-            t = float(np.asarray(v.distribution.ppf(np.array([p])), dtype=float).reshape(-1)[0])
+            t = v.distribution.ppf_at(p)
             if not np.isfinite(t):
                 continue
             x = x0.copy()

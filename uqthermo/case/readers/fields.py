@@ -345,7 +345,7 @@ def read_uncertain(c: Collector, node: Any, key: str, dimension: str, *, positiv
         if note:
             c.warn(key, note)
     if temperature and getattr(d, "std", 0.0) > 0:
-        lo = float(np.asarray(d.ppf(np.array([1e-9])), dtype=float).reshape(-1)[0])
+        lo = d.ppf_at(1e-9)
         if not lo > 0:
             c.add(key, f"this distribution reaches {_fmt(lo)} K (at probability 1e-9), at or below absolute zero; "
                        "give a smaller uncertainty, or a bounded one (rectangular, or truncated-normal with lower)")
@@ -362,8 +362,8 @@ def outside_bounds_warning(d, v: float, bounds: tuple[float, float], what: str) 
     take every drawn value as it is, so a negative amount or a conversion above 1 enters the results.
     """
     lo, hi = bounds
-    p_lo = float(np.asarray(d.cdf(np.array([lo]))).reshape(-1)[0]) if math.isfinite(lo) else 0.0
-    p_hi = 1.0 - float(np.asarray(d.cdf(np.array([hi]))).reshape(-1)[0]) if math.isfinite(hi) else 0.0
+    p_lo = d.cdf_at(lo) if math.isfinite(lo) else 0.0
+    p_hi = 1.0 - d.cdf_at(hi) if math.isfinite(hi) else 0.0
     if not p_lo + p_hi > OUTSIDE_WARN:
         return ""
     if p_hi <= OUTSIDE_WARN / 10:
