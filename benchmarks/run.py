@@ -96,6 +96,12 @@ def machine() -> dict:
 
 # ----------------------------------------------------------------------------- cases
 
+def run_options(case, m) -> dict:
+    """The propagation options `uqthermo run` gives model ``m`` of ``case`` (``pipeline/job.py``):
+    its affine map when it has one, and the input columns it depends on."""
+    return {"affine": m.affine, "depends_on": model_columns(case, m.inputs)}
+
+
 def demo_case(outputs: list[dict], *, exact_entropies: bool = False):
     """The methanation demo with its species and reactions and the given outputs only."""
     raw = tomllib.loads(DEMO.read_text(encoding="utf-8"))
@@ -216,7 +222,7 @@ def bench_rng_floor(quick: bool) -> dict:
                                     ("one point, entropies exact", POINT, True)):
         case = demo_case(outputs, exact_entropies=exact_s)
         m = build_model(case)
-        tool = {"affine": m.affine, "depends_on": model_columns(case, m.inputs)}   # as `uqthermo run` does
+        tool = run_options(case, m)
         d = len(trial_design(m.f, m.inputs, "random", 4, False, **tool).active)  # the inputs the run samples
         rng = np.random.default_rng(3)
 
@@ -315,7 +321,7 @@ def bench_adaptive(quick: bool) -> dict:
     for label, make in ADAPTIVE_CASES:
         case = make()
         m = build_model(case)
-        tool = {"affine": m.affine, "depends_on": model_columns(case, m.inputs)}   # as `uqthermo run` does
+        tool = run_options(case, m)
         rows = {"inputs": len(m.inputs), "outputs": m.n_reported}
         for rule, kw in (("JCGM 101 §7.9.4 rule: y, u(y), probabilistically symmetric interval",
                           {"check_shortest": False}),
@@ -510,7 +516,7 @@ def side_by_side_cases(folder: Path) -> list[dict]:
         """'D uncertain inputs declared in the file, K sampled by `uqthermo run`'."""
         case = load_case(path)
         m = build_model(case)
-        design = trial_design(m.f, m.inputs, "random", 1, False, m.affine, model_columns(case, m.inputs))
+        design = trial_design(m.f, m.inputs, "random", 1, False, **run_options(case, m))
         declared = sum(len(d.distributions) for d in case.data.values() if d.uncertain)
         return f"{declared} uncertain inputs declared, {len(design.active)} sampled"
 
@@ -641,7 +647,7 @@ def bench_element_costs(quick: bool) -> dict:
     for c in side_by_side_cases(folder):
         case = load_case(c["case"])
         m = build_model(case)
-        tool = {"affine": m.affine, "depends_on": model_columns(case, m.inputs)}
+        tool = run_options(case, m)
         d = trial_design(m.f, m.inputs, "sobol", 7, True, **tool)
         phi = d.stream_dimension if d.affine else d.n_scores      # coordinates mapped through Φ⁻¹
         k, u, mo = c["normals"], c["uniforms"], d.n_outputs
